@@ -1,0 +1,22 @@
+# Builds and runs tests/consumer against nkit: either installed into a
+# temporary prefix (MODE=find_package) or embedded (MODE=add_subdirectory).
+file(REMOVE_RECURSE ${WORK_DIR})
+file(MAKE_DIRECTORY ${WORK_DIR})
+
+function(run)
+  execute_process(COMMAND ${ARGN} RESULT_VARIABLE result OUTPUT_VARIABLE output ERROR_VARIABLE output)
+  if(NOT result EQUAL 0)
+    message(FATAL_ERROR "command failed (${result}): ${ARGN}\n${output}")
+  endif()
+  message(STATUS "${output}")
+endfunction()
+
+set(configure_args -S ${NKIT_SOURCE_DIR}/tests/consumer -B ${WORK_DIR}/build -DCMAKE_CXX_COMPILER=${CXX_COMPILER}
+                   -DNKIT_CONSUMER_MODE=${MODE} -DNKIT_SOURCE_DIR=${NKIT_SOURCE_DIR})
+if(MODE STREQUAL "find_package")
+  run(${CMAKE_COMMAND} --install ${NKIT_BINARY_DIR} --prefix ${WORK_DIR}/prefix)
+  list(APPEND configure_args -DCMAKE_PREFIX_PATH=${WORK_DIR}/prefix)
+endif()
+run(${CMAKE_COMMAND} ${configure_args})
+run(${CMAKE_COMMAND} --build ${WORK_DIR}/build)
+run(${WORK_DIR}/build/consumer)
