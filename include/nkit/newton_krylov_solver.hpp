@@ -327,10 +327,7 @@ class newton_krylov_solver {
     if (m_report.residual_evaluations >= m_settings.residual_evaluation_budget) {
       throw detail::stop_signal{outcome::residual_evaluation_budget};
     }
-    if (m_settings.cancellation_flag != nullptr && m_settings.cancellation_flag->load(std::memory_order_relaxed)) {
-      throw detail::stop_signal{outcome::cancelled};
-    }
-    if (m_clock.seconds() > m_settings.wall_time_limit_seconds) throw detail::stop_signal{outcome::wall_time_limit};
+    check_cancellation_and_clock();
     const auto expected = x.size();
     const auto start = detail::clock_type::now();
     problem(x, r);
@@ -348,15 +345,28 @@ class newton_krylov_solver {
     }
   }
 
+  /// Stops the solve when the cancellation flag is raised or the wall-clock
+  /// limit has passed. Both are rank-local facts, so they are combined with a
+  /// collective OR (any_of) on distributed spaces; nothing is checked, and no
+  /// communication happens, when neither is configured.
+  void check_cancellation_and_clock() {
+    const std::atomic<bool>* flag = m_settings.cancellation_flag;
+    if (flag != nullptr && any_of(m_space, flag->load(std::memory_order_relaxed))) {
+      throw detail::stop_signal{outcome::cancelled};
+    }
+    if (std::isfinite(m_settings.wall_time_limit_seconds) &&
+        any_of(m_space, m_clock.seconds() > m_settings.wall_time_limit_seconds)) {
+      throw detail::stop_signal{outcome::wall_time_limit};
+    }
+  }
+
   /// out = R'(u) v at the current state (analytic / AD product when the
   /// problem has one, finite differences otherwise).
   template <class Problem>
   void apply_jacobian(Problem& problem, const vector_type& v, vector_type& out) {
     const auto start = detail::clock_type::now();
     if constexpr (has_jacobian_product_v<Problem, vector_type>) {
-      if (m_settings.cancellation_flag != nullptr && m_settings.cancellation_flag->load(std::memory_order_relaxed)) {
-        throw detail::stop_signal{outcome::cancelled};
-      }
+      check_cancellation_and_clock();
       const auto expected = v.size();
       problem.jacobian_product(static_cast<const vector_type&>(m_state), v, out);
       if (out.size() != expected) {

@@ -31,9 +31,15 @@
 ///     void copy(const_view from, state_view to) const                            to = from
 ///     void fill(scalar_type value, state_view x) const                           x = value
 ///     void multiply(const_view weights, state_view x) const                      x_i *= w_i
-///   optional (detected at compile time; a loop over `dot` is the fallback)
+///   optional (detected at compile time)
 ///     void dot_many(const vector_type* basis, int count, const_view w,
 ///                   scalar_type* out) const       out[i] = dot(basis[i], w), one reduction
+///                                                 (fallback: a loop over dot)
+///     bool any_of(bool local) const               collective logical OR, so that
+///                                                 decisions taken from rank-local facts
+///                                                 (wall clock, cancellation flag) agree
+///                                                 on every rank (fallback: `local`)
+///   vector_type must have size() giving the local length.
 ///
 /// GMRES, the Jacobian-vector products and the Newton driver use only these
 /// members; small dense objects (Hessenberg matrix, rotations) are ordinary
@@ -89,6 +95,12 @@ struct has_dot_many<
                std::declval<const typename Space::vector_type&>(), std::declval<typename Space::scalar_type*>()))>>
     : std::true_type {};
 
+template <class Space, class = void>
+struct has_any_of : std::false_type {};
+
+template <class Space>
+struct has_any_of<Space, std::void_t<decltype(std::declval<const Space&>().any_of(true))>> : std::true_type {};
+
 }  // namespace detail
 
 /// True when `Space` provides every required member of the vector-space concept.
@@ -104,6 +116,17 @@ void dot_many(const Space& space, const typename Space::vector_type* basis, int 
     space.dot_many(basis, count, w, out);
   } else {
     for (int i = 0; i < count; ++i) out[i] = space.dot(basis[i], w);
+  }
+}
+
+/// Collective OR of a rank-local fact (the fact itself on a serial space).
+template <class Space>
+bool any_of(const Space& space, bool local) {
+  if constexpr (detail::has_any_of<Space>::value) {
+    return space.any_of(local);
+  } else {
+    static_cast<void>(space);
+    return local;
   }
 }
 
