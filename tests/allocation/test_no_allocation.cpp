@@ -6,7 +6,9 @@
 #include <atomic>
 #include <cstddef>
 #include <cstdlib>
+#include <memory>
 #include <new>
+#include <vector>
 
 namespace allocation_counters {
 std::atomic<bool> counting{false};
@@ -21,13 +23,15 @@ std::atomic<long> eigen_heap_requests{0};
 #include <catch2/catch.hpp>
 #include <nkit/nkit.hpp>
 
-void* operator new(std::size_t size) {
+// noinline: the pairing of new with malloc and delete with free is deliberate;
+// inlining would let the compiler flag it as a mismatch.
+[[gnu::noinline]] void* operator new(std::size_t size) {
   if (allocation_counters::counting) ++allocation_counters::operator_new_calls;
   if (void* p = std::malloc(size == 0 ? 1 : size)) return p;
   throw std::bad_alloc();
 }
-void operator delete(void* p) noexcept { std::free(p); }
-void operator delete(void* p, std::size_t) noexcept { std::free(p); }
+[[gnu::noinline]] void operator delete(void* p) noexcept { std::free(p); }
+[[gnu::noinline]] void operator delete(void* p, std::size_t) noexcept { std::free(p); }
 
 namespace {
 
