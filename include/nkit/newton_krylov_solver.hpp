@@ -214,17 +214,25 @@ class newton_krylov_solver {
     return run.report();
   }
 
-  /// Bytes of workspace held now (vectors, GMRES, preconditioner, history).
+  /// Bytes of workspace held now: Newton vectors, bounds and scales, GMRES,
+  /// difference workspace, the assembled Jacobian (values, indices and row
+  /// offsets as allocated), the preconditioner's memory_bytes() and the
+  /// history capacity.
   std::size_t workspace_bytes() const {
     std::size_t entries = 0;
     for (const vector_type* v :
          {&m_state, &m_residual, &m_step, &m_trial_state, &m_trial_residual, &m_best_state, &m_product, &m_cauchy,
-          &m_cauchy_product, &m_physical, &m_physical_direction, &m_weights, &m_shift}) {
+          &m_cauchy_product, &m_physical, &m_physical_direction, &m_weights, &m_shift, &m_lower_bound, &m_upper_bound,
+          &m_scaled_lower, &m_scaled_upper, &m_variable_scale, &m_residual_scale}) {
       entries += static_cast<std::size_t>(v->size());
     }
+    using index_type = sparse_matrix::StorageIndex;
+    const std::size_t jacobian_bytes =
+        static_cast<std::size_t>(m_jacobian.data().allocatedSize()) * (sizeof(double) + sizeof(index_type)) +
+        (m_jacobian.outerSize() > 0 ? static_cast<std::size_t>(m_jacobian.outerSize() + 1) : 0) * sizeof(index_type) +
+        (m_jacobian.isCompressed() ? 0 : static_cast<std::size_t>(m_jacobian.outerSize()) * sizeof(index_type));
     return sizeof(scalar_type) * entries + m_gmres.workspace_bytes() + m_difference.workspace_bytes() +
-           preconditioner_memory_bytes(m_preconditioner) +
-           sizeof(double) * static_cast<std::size_t>(m_jacobian.nonZeros()) * 2 +
+           preconditioner_memory_bytes(m_preconditioner) + jacobian_bytes +
            m_report.history.capacity() * sizeof(newton_step_record);
   }
 
@@ -340,8 +348,7 @@ class newton_krylov_solver {
     m_report.wall_seconds = m_clock.seconds();
     m_report.median_residual_seconds = m_residual_samples.median();
     phase_seconds& t = m_report.time;
-    t.other = 0.0;
-    t.other = std::max(0.0, m_report.wall_seconds - t.total());
+    t.other = m_report.wall_seconds - t.measured();
     m_report.workspace_bytes = workspace_bytes();
   }
 
@@ -367,7 +374,8 @@ class newton_krylov_solver {
     if (k >= m_settings.max_newton_steps) return outcome::newton_step_limit;
     newton_step_record record;
     record.step = k + 1;
-    const auto step_start = detail::clock_type::now();
+    const nested_phase_timer step_timer(*this, &phase_seconds::newton_update, &phase_calls::newton_update);
+    const auto step_start = step_timer.start;
 
     outcome early = outcome::in_progress;
     if (m_pseudo_transient) {
@@ -414,6 +422,7 @@ class newton_krylov_solver {
     record.residual_evaluations = m_report.residual_evaluations;
     m_report.history.push_back(record);
     m_report.final_residual_norm = new_norm;
+    const monitor_decision decision = notify_timed(monitor, record);
     if (m_trace != nullptr) {
       const auto now = detail::clock_type::now();
       m_trace->record(trace_phase::newton_step, step_start, now, record.step);
@@ -425,7 +434,7 @@ class newton_krylov_solver {
       if (record.trust_radius > 0.0) m_trace->record_counter(trace_counter::trust_radius, now, record.trust_radius);
     }
 
-    if (detail::notify_newton_step(monitor, record) == monitor_decision::stop_now) return outcome::stopped_by_monitor;
+    if (decision == monitor_decision::stop_now) return outcome::stopped_by_monitor;
     if (const outcome converged = convergence(); converged != outcome::in_progress) return converged;
     if (m_settings.step_tolerance > 0.0 &&
         record.step_norm <= m_settings.step_tolerance * (1.0 + m_space.norm(m_state))) {
@@ -794,13 +803,63 @@ class newton_krylov_solver {
     bool changes_between_applications() const { return nkit::changes_between_applications(solver->m_preconditioner); }
   };
 
+  /// Adds to `field` the wall time of its own scope minus the time of the
+  /// phases measured inside it (the remainder phases krylov_update and
+  /// newton_update); counts one call. Works on every exit path.
+  struct nested_phase_timer {
+    newton_krylov_solver& solver;
+    double phase_seconds::*field;
+    std::int64_t phase_calls::*calls;
+    detail::clock_type::time_point start = detail::clock_type::now();
+    double measured_before = solver.m_report.time.measured();
+    nested_phase_timer(newton_krylov_solver& s, double phase_seconds::*f, std::int64_t phase_calls::*c)
+        : solver(s), field(f), calls(c) {}
+    nested_phase_timer(const nested_phase_timer&) = delete;
+    nested_phase_timer& operator=(const nested_phase_timer&) = delete;
+    ~nested_phase_timer() {
+      const double wall = detail::seconds_between(start, detail::clock_type::now());
+      phase_seconds& time = solver.m_report.time;
+      time.*field += wall - (time.measured() - measured_before);
+      ++(solver.m_report.calls.*calls);
+    }
+  };
+
+  /// Calls the monitor after a Newton step, timed as the monitor phase
+  /// (the default null_monitor is neither called nor timed).
+  template <class Monitor>
+  monitor_decision notify_timed(Monitor& monitor, const newton_step_record& record) {
+    if constexpr (std::is_same_v<std::decay_t<Monitor>, null_monitor>) {
+      static_cast<void>(monitor);
+      static_cast<void>(record);
+      return monitor_decision::keep_going;
+    } else {
+      const auto start = detail::clock_type::now();
+      const monitor_decision decision = detail::notify_newton_step(monitor, record);
+      account_monitor(start, record.step);
+      return decision;
+    }
+  }
+  /// `step`: the 1-based Newton step the call belongs to.
+  void account_monitor(detail::clock_type::time_point start, int step) {
+    const auto stop = detail::clock_type::now();
+    if (m_trace != nullptr) m_trace->record(trace_phase::monitor, start, stop, step);
+    m_report.time.monitor += detail::seconds_between(start, stop);
+    ++m_report.calls.monitor;
+  }
+
   template <class Problem, class Monitor>
   linear_solve_result solve_linear(Problem& problem, Monitor& monitor, double eta, std::int64_t budget_left) {
     jacobian_operator<Problem> op{this, &problem};
     const std::int64_t used_before = m_report.linear_iterations;
     auto observer = [&](int iteration, double relative) {
       m_report.linear_iterations = used_before + iteration;
-      if (detail::notify_linear_iteration(monitor, iteration, relative) == monitor_decision::stop_now) {
+      monitor_decision decision = monitor_decision::keep_going;
+      if constexpr (detail::watches_linear_iterations_v<std::remove_reference_t<Monitor>>) {
+        const auto start = detail::clock_type::now();
+        decision = detail::notify_linear_iteration(monitor, iteration, relative);
+        account_monitor(start, m_report.newton_steps + 1);
+      }
+      if (decision == monitor_decision::stop_now) {
         m_monitor_stopped = true;
         return false;
       }
@@ -813,6 +872,7 @@ class newton_krylov_solver {
     const bool trust_region = m_settings.globalization == globalization_strategy::trust_region && !m_pseudo_transient;
     m_gmres.capture_cauchy_point(trust_region ? &m_cauchy : nullptr);
     linear_solve_result result;
+    const double measured_before = m_report.time.measured();
     const auto start = detail::clock_type::now();
     if constexpr (std::is_same_v<Preconditioner, identity_preconditioner>) {
       result = m_gmres.solve(op, m_preconditioner, m_residual, m_step, eta, initial_guess::zero, observer);
@@ -820,12 +880,13 @@ class newton_krylov_solver {
       timed_preconditioner preconditioner{this};
       result = m_gmres.solve(op, preconditioner, m_residual, m_step, eta, initial_guess::zero, observer);
     }
-    if (m_trace != nullptr) {
-      m_trace->record(trace_phase::linear_solve, start, detail::clock_type::now(), m_report.newton_steps + 1);
-    }
+    const auto stop = detail::clock_type::now();
+    if (m_trace != nullptr) m_trace->record(trace_phase::linear_solve, start, stop, m_report.newton_steps + 1);
     m_report.linear_iterations = used_before + result.iterations;
     m_report.time.orthogonalization += result.orthogonalization_seconds;
     m_report.calls.orthogonalization += result.iterations;
+    m_report.time.krylov_update += detail::seconds_between(start, stop) - (m_report.time.measured() - measured_before);
+    ++m_report.calls.krylov_update;
     return result;
   }
 

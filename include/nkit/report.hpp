@@ -15,13 +15,33 @@
 
 namespace nkit {
 
-/// Wall time per phase, seconds. `residual` covers evaluations of R at
-/// iterates and trial points; residual evaluations made inside
-/// finite-difference J·v products count under `jacobian_vector`;
-/// `globalization` is line-search / trust-region / pseudo-time work other
-/// than residual evaluations and J·v products; `other` is the rest of the
-/// wall time (vector updates, bookkeeping, monitors), so the phases add up to
-/// the total by construction.
+/// Wall time per phase, seconds. Every field except `other` is measured:
+///   residual             evaluations of R at iterates and trial points
+///   jacobian_vector      J·v products (the residual evaluations inside
+///                        finite-difference products count here)
+///   jacobian_assembly    assembling R'(u) for a preconditioner
+///   preconditioner_setup building the preconditioner (assembly excluded)
+///   preconditioner_apply z = M⁻¹ r
+///   orthogonalization    Arnoldi Gram–Schmidt passes
+///   krylov_update        the rest of each GMRES call: normalising basis
+///                        vectors, Givens rotations, x += M⁻¹ V y, restart
+///                        residuals (the call's wall time minus the phases
+///                        nested in it)
+///   globalization        line search / trust region / pseudo-time work
+///                        other than residual evaluations and J·v products
+///   newton_update        the rest of each Newton step: forcing term, state
+///                        and residual swaps and copies, keeping the best
+///                        iterate, writing u, step norms, stopping tests,
+///                        trace recording (the step's wall time minus the
+///                        phases nested in it)
+///   monitor              the monitor's callbacks (user code)
+///   other                the remainder of the wall time: setting up and
+///                        finishing the solve (workspace allocation on a
+///                        first solve, copying u in and out) and, in a
+///                        caller-driven loop, the caller's time between
+///                        advance() calls.
+/// The phases add up to the solve's wall time by construction (other is the
+/// remainder); on a solve where R dominates, other is a small fraction.
 struct phase_seconds {
   double residual = 0.0;
   double jacobian_vector = 0.0;
@@ -29,15 +49,21 @@ struct phase_seconds {
   double preconditioner_setup = 0.0;
   double preconditioner_apply = 0.0;
   double orthogonalization = 0.0;
+  double krylov_update = 0.0;
   double globalization = 0.0;
+  double newton_update = 0.0;
+  double monitor = 0.0;
   double other = 0.0;
-  double total() const {
+  /// Sum of the measured phases (all but `other`).
+  double measured() const {
     return residual + jacobian_vector + jacobian_assembly + preconditioner_setup + preconditioner_apply +
-           orthogonalization + globalization + other;
+           orthogonalization + krylov_update + globalization + newton_update + monitor;
   }
+  double total() const { return measured() + other; }
 };
 
-/// Calls per phase (orthogonalization counts Arnoldi steps).
+/// Calls per phase: orthogonalization counts Arnoldi steps, krylov_update
+/// GMRES calls, newton_update Newton steps (attempted), monitor callbacks.
 struct phase_calls {
   std::int64_t residual = 0;
   std::int64_t jacobian_vector = 0;
@@ -45,7 +71,10 @@ struct phase_calls {
   std::int64_t preconditioner_setup = 0;
   std::int64_t preconditioner_apply = 0;
   std::int64_t orthogonalization = 0;
+  std::int64_t krylov_update = 0;
   std::int64_t globalization = 0;
+  std::int64_t newton_update = 0;
+  std::int64_t monitor = 0;
 };
 
 /// One completed Newton step. Norms are Euclidean norms of the residual as
@@ -94,7 +123,11 @@ struct solve_report {
   phase_calls calls;
   /// Median wall time of one residual evaluation in this solve.
   double median_residual_seconds = 0.0;
-  /// Workspace held by the solver (Krylov basis, Newton vectors, preconditioner, history), bytes.
+  /// Workspace held by the solver at the end of the solve, bytes: Newton
+  /// and GMRES vectors, Hessenberg matrix and rotations, difference
+  /// workspace, bounds and scales, the assembled Jacobian, the
+  /// preconditioner's own count (its memory_bytes(), 0 if it has none) and
+  /// the history capacity. Not counted: the user's problem and state.
   std::size_t workspace_bytes = 0;
 
   /// Total time in units of one residual evaluation (the field's

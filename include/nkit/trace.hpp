@@ -4,7 +4,7 @@
 /// \file trace.hpp
 /// A timeline of one or more solves: one event per phase call (residual,
 /// J·v, Jacobian assembly, preconditioner setup and apply,
-/// orthogonalisation, globalisation), per Newton step and per linear
+/// orthogonalisation, globalisation, monitor), per Newton step and per linear
 /// iteration, plus counters (residual norms, forcing terms, pseudo-time step,
 /// trust radius). Attach a recorder with newton_krylov_solver::record_trace
 /// (or gmres_solver::record_trace); with none attached the cost is one
@@ -28,6 +28,7 @@ enum class trace_phase {
   preconditioner_apply,
   orthogonalization,
   globalization,
+  monitor,
   linear_iteration,
   linear_solve,
   newton_step
@@ -49,6 +50,8 @@ constexpr std::string_view name(trace_phase phase) {
       return "orthogonalization";
     case trace_phase::globalization:
       return "globalization";
+    case trace_phase::monitor:
+      return "monitor";
     case trace_phase::linear_iteration:
       return "linear_iteration";
     case trace_phase::linear_solve:
