@@ -6,6 +6,7 @@
 /// (as monitors). Output goes only to the std::ostream you pass; nkit never
 /// prints by itself.
 
+#include <cstddef>
 #include <cstdio>
 #include <ostream>
 #include <string>
@@ -39,16 +40,61 @@ inline void table_row(std::ostream& os, const newton_step_record& r) {
   os << line;
 }
 
-inline void percent_line(std::ostream& os, const char* label, double seconds, long long calls, double total) {
-  char line[160];
-  std::snprintf(line, sizeof line, "  %-22s %10.4f s %6.1f %%  %12lld calls\n", label, seconds,
-                total > 0.0 ? 100.0 * seconds / total : 0.0, calls);
+inline void breakdown_line(std::ostream& os, const char* label, double seconds, long long calls, double total,
+                           double residual_seconds) {
+  char line[200];
+  const int written = std::snprintf(line, sizeof line, "  %-21s %11.4f %6.1f %%", label, seconds,
+                                    total > 0.0 ? 100.0 * seconds / total : 0.0);
+  if (calls >= 0) {
+    std::snprintf(line + written, sizeof line - static_cast<std::size_t>(written), " %12lld %13.3e", calls,
+                  calls > 0 ? seconds / static_cast<double>(calls) : 0.0);
+  } else {
+    std::snprintf(line + written, sizeof line - static_cast<std::size_t>(written), " %12s %13s", "", "");
+  }
+  os << line;
+  if (residual_seconds > 0.0) {
+    std::snprintf(line, sizeof line, " %12.1f\n", seconds / residual_seconds);
+  } else {
+    std::snprintf(line, sizeof line, " %12s\n", "-");
+  }
   os << line;
 }
 
 }  // namespace detail
 
-/// Prints the per-step table, the outcome, the counts and the time per phase.
+/// Prints where the solve's wall time went: seconds, share, calls, seconds
+/// per call and work units (seconds ÷ median seconds of one residual
+/// evaluation) for every phase of phase_seconds, which add up to the wall
+/// time; then the workspace held by the solver. Phase meanings: report.hpp.
+inline void print_cost_breakdown(std::ostream& os, const solve_report& report) {
+  char line[256];
+  std::snprintf(line, sizeof line,
+                "cost: wall %.4f s = %.1f work units (one residual evaluation %.3e s), workspace %.2f MiB\n",
+                report.wall_seconds, report.work_units(), report.median_residual_seconds,
+                static_cast<double>(report.workspace_bytes) / (1024.0 * 1024.0));
+  os << line;
+  std::snprintf(line, sizeof line, "  %-21s %11s %8s %12s %13s %12s\n", "phase", "seconds", "share", "calls",
+                "s per call", "work units");
+  os << line;
+  const double total = report.wall_seconds;
+  const double unit = report.median_residual_seconds;
+  const phase_seconds& t = report.time;
+  const phase_calls& c = report.calls;
+  detail::breakdown_line(os, "residual", t.residual, c.residual, total, unit);
+  detail::breakdown_line(os, "Jacobian-vector", t.jacobian_vector, c.jacobian_vector, total, unit);
+  detail::breakdown_line(os, "Jacobian assembly", t.jacobian_assembly, c.jacobian_assembly, total, unit);
+  detail::breakdown_line(os, "preconditioner setup", t.preconditioner_setup, c.preconditioner_setup, total, unit);
+  detail::breakdown_line(os, "preconditioner apply", t.preconditioner_apply, c.preconditioner_apply, total, unit);
+  detail::breakdown_line(os, "orthogonalization", t.orthogonalization, c.orthogonalization, total, unit);
+  detail::breakdown_line(os, "Krylov update", t.krylov_update, c.krylov_update, total, unit);
+  detail::breakdown_line(os, "globalization", t.globalization, c.globalization, total, unit);
+  detail::breakdown_line(os, "Newton update", t.newton_update, c.newton_update, total, unit);
+  detail::breakdown_line(os, "monitor", t.monitor, c.monitor, total, unit);
+  detail::breakdown_line(os, "other", t.other, -1, total, unit);
+  detail::breakdown_line(os, "total (wall)", total, -1, total, unit);
+}
+
+/// Prints the per-step table, the outcome, the counts and the cost breakdown.
 inline void print_convergence_table(std::ostream& os, const solve_report& report) {
   detail::table_header(os);
   char line[256];
@@ -64,22 +110,7 @@ inline void print_convergence_table(std::ostream& os, const solve_report& report
                 static_cast<long long>(report.jacobian_vector_products),
                 static_cast<long long>(report.preconditioner_setups));
   os << line;
-  std::snprintf(line, sizeof line,
-                "wall time %.4f s = %.1f work units (one residual evaluation = %.3e s), workspace %.2f MiB\n",
-                report.wall_seconds, report.work_units(), report.median_residual_seconds,
-                static_cast<double>(report.workspace_bytes) / (1024.0 * 1024.0));
-  os << line;
-  const double total = report.wall_seconds;
-  const phase_seconds& t = report.time;
-  const phase_calls& c = report.calls;
-  detail::percent_line(os, "residual", t.residual, c.residual, total);
-  detail::percent_line(os, "Jacobian-vector", t.jacobian_vector, c.jacobian_vector, total);
-  detail::percent_line(os, "Jacobian assembly", t.jacobian_assembly, c.jacobian_assembly, total);
-  detail::percent_line(os, "preconditioner setup", t.preconditioner_setup, c.preconditioner_setup, total);
-  detail::percent_line(os, "preconditioner apply", t.preconditioner_apply, c.preconditioner_apply, total);
-  detail::percent_line(os, "orthogonalization", t.orthogonalization, c.orthogonalization, total);
-  detail::percent_line(os, "globalization", t.globalization, c.globalization, total);
-  detail::percent_line(os, "other", t.other, 0, total);
+  print_cost_breakdown(os, report);
 }
 
 /// Column names of the history CSV, in order.
