@@ -16,7 +16,12 @@ if(NKIT_SANITIZE)
 endif()
 
 # nkit_add_program(<name> <sources...>): an executable linked to nkit with the options above.
+# With NKIT_USE_OPENMP=ON the programs link nkit::openmp instead (same headers,
+# OpenMP vector operations).
 function(nkit_add_program name)
   add_executable(${name} ${ARGN})
   target_link_libraries(${name} PRIVATE nkit::nkit nkit_compile_options)
+  if(NKIT_USE_OPENMP)
+    target_link_libraries(${name} PRIVATE nkit::openmp)
+  endif()
 endfunction()
