@@ -45,3 +45,127 @@ TEST_CASE("a traced solve records one event per phase call, Newton step and line
   solver.solve(residual, u);
   CHECK(recorder.events().size() == before);
 }
+
+#if NKIT_HAS_JSON
+#include <nlohmann/json.hpp>
+
+#include "model_problem/model_problem.hpp"
+
+namespace {
+/// Jacobi from the assembled model Jacobian: the trace then has assembly,
+/// setup and apply events too.
+struct traced_jacobi {
+  Eigen::VectorXd inverse_diagonal;
+  void setup(const nkit::preconditioner_context<>& context) {
+    inverse_diagonal = context.assembled_jacobian().diagonal().cwiseInverse();
+  }
+  void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) const { z = inverse_diagonal.cwiseProduct(r); }
+};
+
+struct span {
+  double begin, end;  // microseconds
+  int index;
+  bool contains(const span& inner) const {
+    // Timestamps and durations are printed with 3 decimals (nanoseconds);
+    // each end is rounded separately, so allow 2 ns.
+    return inner.begin >= begin - 0.002 && inner.end <= end + 0.002;
+  }
+};
+}  // namespace
+
+TEST_CASE("the trace file parses as JSON, counts every call and nests phases inside their Newton step",
+          "[trace][json]") {
+  nkit_examples::heat_conduction_model_problem problem(16);
+  Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
+  nkit::trace_recorder recorder;
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, traced_jacobi> solver;
+  solver.record_trace(&recorder);
+  int monitor_calls = 0;
+  const auto report = solver.solve(problem, t, [&](const nkit::newton_step_record&) { ++monitor_calls; });
+  REQUIRE(report.converged());
+
+  std::ostringstream os;
+  nkit::write_trace_json(os, recorder, "model problem 16x16");
+  const nlohmann::json trace = nlohmann::json::parse(os.str());  // throws on malformed text
+  REQUIRE(trace.at("traceEvents").is_array());
+
+  std::map<std::string, std::vector<span>> phases;
+  std::map<std::string, long> counters;
+  for (const auto& event : trace.at("traceEvents")) {
+    const std::string kind = event.at("ph");
+    if (kind == "X") {
+      const double begin = event.at("ts");
+      phases[event.at("name")].push_back({begin, begin + event.at("dur").get<double>(), event.at("args").at("index")});
+    } else if (kind == "C") {
+      ++counters[event.at("name")];
+      CHECK(event.at("args").at("value").is_number());
+    } else {
+      CHECK(kind == "M");
+    }
+  }
+  // One event per call of every phase, per Newton step and per linear iteration.
+  CHECK(phases["residual"].size() == static_cast<std::size_t>(report.residual_evaluations));
+  CHECK(phases["jacobian_vector"].size() == static_cast<std::size_t>(report.jacobian_vector_products));
+  CHECK(phases["jacobian_assembly"].size() == static_cast<std::size_t>(report.jacobian_assemblies));
+  CHECK(phases["preconditioner_setup"].size() == static_cast<std::size_t>(report.preconditioner_setups));
+  CHECK(phases["preconditioner_apply"].size() == static_cast<std::size_t>(report.preconditioner_applications));
+  CHECK(phases["orthogonalization"].size() == static_cast<std::size_t>(report.linear_iterations));
+  CHECK(phases["linear_iteration"].size() == static_cast<std::size_t>(report.linear_iterations));
+  CHECK(phases["linear_solve"].size() == static_cast<std::size_t>(report.calls.krylov_update));
+  CHECK(phases["globalization"].size() == static_cast<std::size_t>(report.calls.globalization));
+  CHECK(phases["monitor"].size() == static_cast<std::size_t>(monitor_calls));
+  CHECK(phases["newton_step"].size() == static_cast<std::size_t>(report.newton_steps));
+  // Counters: R(u0) and one per step; a forcing term per step; a relative
+  // linear residual per linear iteration.
+  CHECK(counters["residual_norm"] == report.newton_steps + 1);
+  CHECK(counters["forcing_term"] == report.newton_steps);
+  CHECK(counters["relative_linear_residual"] == report.linear_iterations);
+
+  // Nesting. Newton steps are disjoint and numbered 1, 2, ...
+  const std::vector<span>& steps = phases["newton_step"];
+  for (std::size_t k = 0; k < steps.size(); ++k) {
+    CHECK(steps[k].index == static_cast<int>(k + 1));
+    if (k > 0) CHECK(steps[k - 1].end <= steps[k].begin + 0.002);
+  }
+  const auto step_containing = [&](const span& inner) -> int {
+    for (const span& step : steps) {
+      if (step.contains(inner)) return step.index;
+    }
+    return 0;
+  };
+  // Every phase event lies inside a Newton step, except the evaluation of R(u0).
+  int outside = 0;
+  for (const auto& [phase, events] : phases) {
+    if (phase == "newton_step") continue;
+    for (const span& event : events) {
+      CAPTURE(phase, event.begin, event.end);
+      const int step = step_containing(event);
+      if (step == 0) {
+        ++outside;
+        CHECK(phase == "residual");
+        CHECK(event.end <= steps.front().begin + 0.002);
+      }
+      // Events that carry their Newton step's number lie inside that step.
+      if (phase == "linear_solve" || phase == "preconditioner_setup" || phase == "globalization") {
+        CHECK(step == event.index);
+      }
+    }
+  }
+  CHECK(outside == 1);
+  // Inside a step: Arnoldi work inside a linear solve, and each forward
+  // difference J·v holds exactly one residual evaluation.
+  for (const char* inner : {"orthogonalization", "linear_iteration", "preconditioner_apply"}) {
+    for (const span& event : phases[inner]) {
+      bool found = false;
+      for (const span& solve : phases["linear_solve"]) found = found || solve.contains(event);
+      CAPTURE(inner, event.begin);
+      CHECK(found);
+    }
+  }
+  for (const span& product : phases["jacobian_vector"]) {
+    int inside = 0;
+    for (const span& evaluation : phases["residual"]) inside += product.contains(evaluation) ? 1 : 0;
+    CHECK(inside == 1);
+  }
+}
+#endif
