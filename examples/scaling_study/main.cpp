@@ -1,0 +1,96 @@
+// How Newton–GMRES cost grows with the mesh on the heat-conduction model
+// problem (shared references §15): a scaling study over cells per side,
+// with fitted exponents, a CSV of the rows and fits, and a log–log plot.
+//
+//   scaling_study [cells_per_side ...]        default: 32 64 128 256
+//
+// Writes, in the current directory:
+//   scaling_study.csv        one row per size (nkit::write_scaling_study_csv)
+//   scaling_study_fits.csv   the fitted power laws
+//   scaling_study.gp         a gnuplot script for the log–log plot
+//   scaling_study.png        the plot, when gnuplot is installed
+#include <cstdio>
+#include <cstdlib>
+#include <fstream>
+#include <iostream>
+#include <nkit/nkit.hpp>
+#include <nkit/scaling_study.hpp>
+#include <string>
+
+#include "model_problem/model_problem.hpp"
+
+namespace {
+
+// Gnuplot script: wall time and linear iterations per Newton step against
+// unknowns, on log–log axes, with the fitted laws as lines.
+void write_gnuplot_script(const nkit::scaling_study_result& result) {
+  std::ofstream script("scaling_study.gp");
+  script << "set terminal pngcairo size 900,600\n"
+            "set output 'scaling_study.png'\n"
+            "set datafile separator ','\n"
+            "set logscale xy\n"
+            "set key bottom right\n"
+            "set xlabel 'unknowns N'\n"
+            "set ylabel 'wall seconds / linear iterations per Newton step'\n"
+            "set title 'Newton-GMRES on the heat-conduction model problem'\n";
+  const auto law = [](const nkit::power_law_fit& fit) {
+    char text[96];
+    std::snprintf(text, sizeof text, "%.10g*x**%.10g", fit.coefficient, fit.exponent);
+    return std::string(text);
+  };
+  char title[160];
+  script << "plot 'scaling_study.csv' every ::1 using 2:7 with points pointtype 7 title 'wall seconds'";
+  if (result.wall_seconds.valid()) {
+    std::snprintf(title, sizeof title, "time fit: N^{%.2f}", result.wall_seconds.exponent);
+    script << ", " << law(result.wall_seconds) << " with lines title '" << title << "'";
+  }
+  script << ", 'scaling_study.csv' every ::1 using 2:6 with points pointtype 5 title 'linear iterations per step'";
+  if (result.linear_iterations_per_newton_step.valid()) {
+    std::snprintf(title, sizeof title, "iterations fit: N^{%.2f}", result.linear_iterations_per_newton_step.exponent);
+    script << ", " << law(result.linear_iterations_per_newton_step) << " with lines title '" << title << "'";
+  }
+  script << '\n';
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  nkit::scaling_study_settings study;
+  for (int k = 1; k < argc; ++k) study.size_parameters.push_back(std::atoll(argv[k]));
+  if (study.size_parameters.empty()) study.size_parameters = {32, 64, 128, 256};
+  study.stop_after_seconds = 120.0;  // do not start a larger size after a solve this slow
+
+  nkit::newton_settings settings;
+  settings.relative_tolerance = 1e-8;  // §15's convergence criterion
+  settings.linear.restart_length = 50;
+  settings.linear.max_iterations = 20000;
+
+  const nkit::scaling_study_result result = nkit::run_scaling_study(study, [&](long long cells_per_side) {
+    nkit_examples::heat_conduction_model_problem problem(static_cast<int>(cells_per_side));
+    Eigen::VectorXd temperature = Eigen::VectorXd::Zero(problem.unknowns());
+    nkit::newton_krylov_solver<> solver(settings);
+    nkit::solve_report report = solver.solve(problem, temperature);
+    std::cout << "  " << cells_per_side << " x " << cells_per_side << ": " << nkit::name(report.result) << " in "
+              << report.wall_seconds << " s\n";
+    return nkit::scaling_sample{problem.unknowns(), std::move(report)};
+  });
+
+  std::cout << "\nNewton-GMRES, no preconditioner, heat-conduction model problem\n";
+  nkit::print_scaling_study(std::cout, result);
+  std::ofstream csv("scaling_study.csv");
+  nkit::write_scaling_study_csv(csv, result);
+  std::ofstream fits("scaling_study_fits.csv");
+  nkit::write_scaling_fits_csv(fits, result);
+  csv.close();
+  fits.close();
+  write_gnuplot_script(result);
+
+  if (std::system("gnuplot --version > /dev/null 2>&1") == 0 && std::system("gnuplot scaling_study.gp") == 0) {
+    std::cout << "wrote scaling_study.csv, scaling_study_fits.csv and the plot scaling_study.png\n";
+  } else {
+    std::cout << "wrote scaling_study.csv and scaling_study_fits.csv; gnuplot was not found, so no plot.\n"
+                 "To plot: install gnuplot and run `gnuplot scaling_study.gp`, or plot columns unknowns (2)\n"
+                 "against wall_seconds (7) and linear_iterations_per_newton_step (6) on log-log axes.\n";
+  }
+  return result.rows.empty() || !result.rows.back().converged() ? 1 : 0;
+}
