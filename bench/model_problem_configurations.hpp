@@ -1,0 +1,202 @@
+// The configurations of the model-problem suite and the child-process side
+// that runs one of them: builds the problem at size n, times one residual
+// evaluation (the work unit), solves, and prints "key value" lines.
+#ifndef NKIT_BENCH_MODEL_PROBLEM_CONFIGURATIONS_HPP
+#define NKIT_BENCH_MODEL_PROBLEM_CONFIGURATIONS_HPP
+
+#include <Eigen/SparseCholesky>
+#include <Eigen/SparseLU>
+#include <algorithm>
+#include <cstdio>
+#include <cstdlib>
+#include <cstring>
+#include <functional>
+#include <new>
+#include <nkit/nkit.hpp>
+#include <string>
+#include <vector>
+
+#if NKIT_BENCH_HAS_UMFPACK
+#include <Eigen/UmfPackSupport>
+#endif
+#if NKIT_BENCH_HAS_ODEINT
+#include "explicit_marching.hpp"
+#endif
+#if defined(NKIT_USE_OPENMP)
+#include <omp.h>
+#endif
+
+#include "fresh_process.hpp"
+#include "model_problem_baselines.hpp"
+
+namespace nkit_bench {
+
+/// Prints one result line "key value" for the parent.
+inline void emit(const char* key, double value) { std::printf("%s %.17g\n", key, value); }
+inline void emit_text(const char* key, const std::string& value) {
+  std::string single_line = value;
+  std::replace(single_line.begin(), single_line.end(), '\n', ' ');
+  std::printf("%s %s\n", key, single_line.c_str());
+}
+
+/// Median wall time of one residual evaluation at this size (11 evaluations
+/// on T = 0.3, after one to warm the caches): the work unit.
+inline double residual_seconds(const model& problem) {
+  Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.unknowns(), 0.3), r(problem.unknowns());
+  problem(t, r);
+  std::vector<double> samples;
+  for (int k = 0; k < 11; ++k) {
+    wall_clock clock;
+    problem(t, r);
+    samples.push_back(clock.seconds());
+  }
+  std::nth_element(samples.begin(), samples.begin() + 5, samples.end());
+  return samples[5];
+}
+
+/// Newton–GMRES settings for every nkit configuration: §15's tolerance,
+/// Eisenstat–Walker forcing (the default), GMRES(30) (the default restart).
+inline nkit::newton_settings suite_newton_settings(double time_cap) {
+  nkit::newton_settings settings;
+  settings.relative_tolerance = target_reduction;
+  settings.max_newton_steps = 100;
+  settings.linear.max_iterations = 20000;
+  settings.wall_time_limit_seconds = time_cap;
+  return settings;
+}
+
+/// Solves with nkit and prints the report's figures.
+template <class Preconditioner, class Problem>
+void run_nkit(Problem& problem, Eigen::Index unknowns, double time_cap) {
+  Eigen::VectorXd t = Eigen::VectorXd::Zero(unknowns);
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, Preconditioner> solver(suite_newton_settings(time_cap));
+  const nkit::solve_report report = solver.solve(problem, t);
+  emit("reached", report.converged() ? 1 : 0);
+  emit("solve_seconds", report.wall_seconds);
+  emit("relative_residual", report.final_residual_norm / report.initial_residual_norm);
+  emit("iterations", report.newton_steps);
+  emit("linear_iterations", static_cast<double>(report.linear_iterations));
+  emit("residual_evaluations", static_cast<double>(report.residual_evaluations));
+  emit("preconditioner_setups", static_cast<double>(report.preconditioner_setups));
+  emit("workspace_bytes", static_cast<double>(report.workspace_bytes));
+  emit("solver_work_units", report.work_units());
+  emit("unattributed_fraction", report.time.other / report.wall_seconds);
+  emit("orthogonalization_fraction", report.time.orthogonalization / report.wall_seconds);
+  emit("preconditioner_fraction",
+       (report.time.preconditioner_setup + report.time.preconditioner_apply + report.time.jacobian_assembly) /
+           report.wall_seconds);
+  if (!report.converged()) emit_text("failure", std::string(nkit::name(report.result)));
+}
+
+/// Prints a baseline's figures.
+inline void emit_baseline(const baseline_result& result, double seconds) {
+  emit("reached", result.reached ? 1 : 0);
+  emit("solve_seconds", seconds);
+  emit("relative_residual", result.relative_residual);
+  emit("iterations", static_cast<double>(result.iterations));
+  emit("residual_evaluations", static_cast<double>(result.residual_evaluations));
+  emit("factorizations", static_cast<double>(result.factorizations));
+  if (result.projected_seconds > 0.0) emit("projected_seconds", result.projected_seconds);
+  if (!result.reached) emit_text("failure", result.failure);
+}
+
+template <class Baseline>
+void run_baseline(const model& problem, double time_cap, Baseline&& baseline) {
+  Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
+  wall_clock clock;
+  const baseline_result result = baseline(problem, t, time_cap);
+  emit_baseline(result, clock.seconds());
+}
+
+/// One configuration of the suite.
+struct configuration {
+  const char* name;
+  bool available;
+  const char* unavailable_reason;
+  bool uses_threads;  ///< worth running at more than one OpenMP thread
+  std::function<void(const model&, double)> run;
+};
+
+inline const std::vector<configuration>& configurations() {
+  using lu = Eigen::SparseLU<column_matrix, Eigen::COLAMDOrdering<int>>;
+  using ldlt = Eigen::SimplicialLDLT<column_matrix>;
+  static const std::vector<configuration> list = {
+    {"newton_gmres_none", true, "", true,
+     [](const model& problem, double cap) {
+       model copy = problem;
+       run_nkit<nkit::identity_preconditioner>(copy, problem.unknowns(), cap);
+     }},
+    // Algebraic multigrid (hypre BoomerAMG) comes from the distributed branch.
+    {"newton_gmres_algebraic_multigrid", false, "not built: the BoomerAMG preconditioner is not in this tree yet", true,
+     nullptr},
+    {"exact_newton_sparse_lu", true, "", false,
+     [](const model& problem, double cap) { run_baseline(problem, cap, exact_newton<lu>); }},
+#if NKIT_BENCH_HAS_UMFPACK
+    {"exact_newton_umfpack", true, "", false,
+     [](const model& problem, double cap) {
+       run_baseline(problem, cap, exact_newton<Eigen::UmfPackLU<column_matrix>>);
+     }},
+#else
+    {"exact_newton_umfpack", false, "not built: UMFPACK (libsuitesparse-dev) not found", false, nullptr},
+#endif
+    {"picard_sparse_lu", true, "", false,
+     [](const model& problem, double cap) { run_baseline(problem, cap, picard<lu>); }},
+    {"picard_ldlt", true, "", false,
+     [](const model& problem, double cap) { run_baseline(problem, cap, picard<ldlt>); }},
+#if NKIT_BENCH_HAS_ODEINT
+    {"explicit_rk4", true, "", false,
+     [](const model& problem, double cap) { run_baseline(problem, cap, explicit_runge_kutta4); }},
+    {"explicit_dopri5", true, "", false,
+     [](const model& problem, double cap) { run_baseline(problem, cap, explicit_dormand_prince); }},
+#else
+    {"explicit_rk4", false, "not built: Boost.Odeint not found", false, nullptr},
+    {"explicit_dopri5", false, "not built: Boost.Odeint not found", false, nullptr},
+#endif
+  };
+  return list;
+}
+
+/// Child side: --run-configuration=<name> --size=<n> --time-cap=<s>
+/// --threads=<t> --memory-limit-gib=<g>. Prints the results and returns 0;
+/// 2 on bad arguments.
+inline int run_configuration_in_child(int argc, char** argv) {
+  const double start_rss = status_bytes("VmRSS:");
+  std::string name;
+  int n = 0, threads = 1;
+  double cap = 600.0, memory = 22.0;
+  for (int k = 1; k < argc; ++k) {
+    const char* a = argv[k];
+    if (std::strncmp(a, "--run-configuration=", 20) == 0) name = a + 20;
+    if (std::strncmp(a, "--size=", 7) == 0) n = std::atoi(a + 7);
+    if (std::strncmp(a, "--time-cap=", 11) == 0) cap = std::atof(a + 11);
+    if (std::strncmp(a, "--threads=", 10) == 0) threads = std::atoi(a + 10);
+    if (std::strncmp(a, "--memory-limit-gib=", 19) == 0) memory = std::atof(a + 19);
+  }
+  const auto found = std::find_if(configurations().begin(), configurations().end(),
+                                  [&](const configuration& c) { return name == c.name; });
+  if (found == configurations().end() || !found->available || n < 2) {
+    emit_text("error", "unknown or unavailable configuration '" + name + "' or bad size");
+    return 2;
+  }
+#if defined(NKIT_USE_OPENMP)
+  omp_set_num_threads(threads);
+#else
+  static_cast<void>(threads);
+#endif
+  limit_address_space(memory);
+  const model problem(n);
+  try {
+    emit("residual_seconds", residual_seconds(problem));
+    found->run(problem, cap);
+  } catch (const std::bad_alloc&) {
+    emit("reached", 0);
+    emit_text("failure", "out of memory (address-space limit)");
+  }
+  emit("peak_rss_bytes", status_bytes("VmHWM:"));
+  emit("start_rss_bytes", start_rss);
+  return 0;
+}
+
+}  // namespace nkit_bench
+
+#endif  // NKIT_BENCH_MODEL_PROBLEM_CONFIGURATIONS_HPP
