@@ -74,7 +74,7 @@ void run_nkit(Problem& problem, Eigen::Index unknowns, double time_cap) {
   emit("reached", report.converged() ? 1 : 0);
   emit("solve_seconds", report.wall_seconds);
   emit("relative_residual", report.final_residual_norm / report.initial_residual_norm);
-  emit("iterations", report.newton_steps);
+  emit("steps", report.newton_steps);
   emit("linear_iterations", static_cast<double>(report.linear_iterations));
   emit("residual_evaluations", static_cast<double>(report.residual_evaluations));
   emit("preconditioner_setups", static_cast<double>(report.preconditioner_setups));
@@ -93,7 +93,7 @@ inline void emit_baseline(const baseline_result& result, double seconds) {
   emit("reached", result.reached ? 1 : 0);
   emit("solve_seconds", seconds);
   emit("relative_residual", result.relative_residual);
-  emit("iterations", static_cast<double>(result.iterations));
+  emit("steps", static_cast<double>(result.iterations));
   emit("residual_evaluations", static_cast<double>(result.residual_evaluations));
   emit("factorizations", static_cast<double>(result.factorizations));
   if (result.projected_seconds > 0.0) emit("projected_seconds", result.projected_seconds);
