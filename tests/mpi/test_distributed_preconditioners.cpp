@@ -7,6 +7,7 @@
 #include <nkit/preconditioners/additive_schwarz.hpp>
 
 #include "distributed_heat/solve_strip_problem.hpp"
+#include "model_problem/model_problem.hpp"
 #include "mpi/mpi_support.hpp"
 #include "support/matchers.hpp"
 
@@ -171,4 +172,25 @@ TEST_CASE("every multigrid option gives a working preconditioner", "[mpi][multig
   INFO("GMRES iterations per Newton step: " << per_step(result.report) << " with AMG, " << per_step(plain.report)
                                             << " without");
   CHECK(per_step(result.report) < per_step(plain.report) / 3.0);
+}
+
+TEST_CASE("the BoomerAMG adapter works in a serial code with the plain Eigen space", "[multigrid]") {
+  // The serial model problem (references §15, examples/model_problem) with
+  // nkit's default vector space and the adapter on MPI_COMM_SELF, against the
+  // strip problem solved on one rank: same discretisation, so the same
+  // solution to the solver tolerance (see test_distributed_heat.cpp).
+  const int n = 40;
+  nkit::newton_settings settings = nkit_examples::strip_default_settings();
+  settings.relative_tolerance = 1e-12;
+  nkit_examples::heat_conduction_model_problem problem(n);
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::algebraic_multigrid_preconditioner> solver(
+      settings, {}, nkit::algebraic_multigrid_preconditioner(MPI_COMM_SELF));
+  Eigen::VectorXd temperature = Eigen::VectorXd::Zero(problem.unknowns());
+  const nkit::solve_report report = solver.solve(problem, temperature);
+  REQUIRE(report.converged());
+  const auto strip = nkit_examples::solve_strip_problem(
+      MPI_COMM_SELF, n, nkit_examples::strip_preconditioner::algebraic_multigrid, settings);
+  CHECK((temperature - strip.local_temperature).norm() <= 1e-10 * strip.local_temperature.norm());
+  CHECK(report.newton_steps == strip.report.newton_steps);
+  CHECK(report.preconditioner_setups == report.newton_steps);
 }
