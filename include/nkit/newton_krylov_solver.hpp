@@ -148,7 +148,8 @@ class newton_krylov_solver {
   void start(Problem& problem, state_view u) {
     static_assert(is_residual_v<Problem, vector_type>,
                   "nkit: the residual must be callable as residual(const vector_type& u, vector_type& r)");
-    if (u.size() == 0) throw std::invalid_argument("nkit: the state vector u is empty");
+    // Collective: a rank may own no unknowns; only a globally empty state is an error.
+    if (m_space.global_size(u) == 0) throw std::invalid_argument("nkit: the state vector u is empty");
     if (!m_space.all_finite(u)) throw std::invalid_argument("nkit: the initial guess u0 contains NaN or Inf entries");
 
     m_clock.restart();
