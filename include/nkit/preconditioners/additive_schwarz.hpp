@@ -121,7 +121,7 @@ class additive_schwarz_preconditioner {
     }
   }
 
-  /// Bytes of the local block and (for ILUT, whose factor size is known) its factors.
+  /// Bytes of the extracted local block(s); Eigen does not report the size of its factors.
   std::size_t memory_bytes() const {
     const auto bytes = [](const auto& matrix) {
       return static_cast<std::size_t>(matrix.nonZeros()) * (sizeof(double) + sizeof(int)) +
