@@ -13,7 +13,8 @@
 ///
 /// Collective members (every rank of the communicator must call them, in the
 /// same order, and every rank receives the same value): dot, norm, all_finite,
-/// global_size, first_global_index, dot_many, any_of. Element-wise members
+/// global_size, first_global_index, max_step_to_bounds, within_bounds,
+/// dot_many, any_of. Element-wise members
 /// touch only local data and never communicate.
 ///
 /// Every rank takes the same branch in nkit's solvers because every decision
@@ -36,6 +37,8 @@
 #include <cmath>
 #include <cstdint>
 #include <memory>
+
+#include "eigen_vector_space.hpp"  // detail::local_max_step_to_bounds
 
 namespace nkit {
 
@@ -111,6 +114,22 @@ class mpi_vector_space {
   void copy(const_view from, state_view to) const { to = from; }
   void fill(double value, state_view x) const { x.setConstant(value); }
   void multiply(const_view weights, state_view x) const { x.array() *= weights.array(); }
+  void divide(const_view weights, state_view x) const { x.array() /= weights.array(); }
+  void add_product(const_view weights, const_view x, state_view y) const { y.array() += weights.array() * x.array(); }
+
+  /// Largest t >= 0 with lower <= x + t d <= upper on every rank: the local
+  /// ratio test, then a global minimum. Collective.
+  double max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
+    double local = detail::local_max_step_to_bounds(x, d, lower, upper);
+    double global = 0.0;
+    ++*m_reductions;
+    MPI_Allreduce(&local, &global, 1, MPI_DOUBLE, MPI_MIN, m_communicator);
+    return global;
+  }
+  /// lower_i <= x_i <= upper_i for every entry on every rank. Collective.
+  bool within_bounds(const_view x, const_view lower, const_view upper) const {
+    return all((x.array() >= lower.array()).all() && (x.array() <= upper.array()).all());
+  }
 
  private:
   double sum(double local) const {

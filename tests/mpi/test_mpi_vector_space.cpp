@@ -59,6 +59,27 @@ TEST_CASE("MPI space reductions equal the serial reductions of the whole vector"
   CHECK(space.all_finite(x));
 }
 
+TEST_CASE("bound ratio tests and bound checks are global", "[mpi][space]") {
+  // Reference: the serial space on the whole vectors (the definition of the
+  // ratio test: the smallest distance to the bound each d_i points at, over
+  // |d_i|). Exact: a minimum of the same quotients, no rounding differs.
+  const nkit::mpi_vector_space space(MPI_COMM_WORLD);
+  const nkit::eigen_vector_space<double> serial;
+  const int n = 50;
+  const Eigen::VectorXd x_global = 0.5 * global_test_vector(n, 0.0);
+  const Eigen::VectorXd d_global = global_test_vector(n, 1.0);
+  const Eigen::VectorXd lower_global = Eigen::VectorXd::Constant(n, -1.0);
+  Eigen::VectorXd upper_global = Eigen::VectorXd::Constant(n, 1.0);
+  upper_global(n - 1) = x_global(n - 1) + 1e-3 * std::abs(d_global(n - 1));  // the binding bound is on the last rank
+  const auto slice = [](const Eigen::VectorXd& v) { return local_slice(MPI_COMM_WORLD, v); };
+  CHECK(space.max_step_to_bounds(slice(x_global), slice(d_global), slice(lower_global), slice(upper_global)) ==
+        serial.max_step_to_bounds(x_global, d_global, lower_global, upper_global));
+  CHECK(space.within_bounds(slice(x_global), slice(lower_global), slice(upper_global)));
+  Eigen::VectorXd outside = x_global;
+  outside(n - 1) = 2.0;  // above its upper bound, on the last rank only
+  CHECK_FALSE(space.within_bounds(slice(outside), slice(lower_global), slice(upper_global)));
+}
+
 TEST_CASE("dot_many does k dots in one reduction and matches dot", "[mpi][space]") {
   const nkit::mpi_vector_space space(MPI_COMM_WORLD);
   const Eigen::VectorXd w = local_slice(MPI_COMM_WORLD, global_test_vector(100, 2.0));
