@@ -51,6 +51,19 @@ struct has_first_global_index<Space, std::void_t<decltype(std::declval<const Spa
                                          std::declval<const typename Space::vector_type&>()))>> : std::true_type {};
 }  // namespace detail
 
+/// Global index of local entry 0 of vectors laid out like `prototype`.
+/// Collective on a distributed space (one exclusive prefix sum); 0 on a serial one.
+template <class Space>
+std::int64_t first_global_row(const Space& space, const typename Space::vector_type& prototype) {
+  if constexpr (detail::has_first_global_index<Space>::value) {
+    return space.first_global_index(prototype);
+  } else {
+    static_cast<void>(space);
+    static_cast<void>(prototype);
+    return 0;
+  }
+}
+
 /// The partition of vectors laid out like `prototype`. Collective on a
 /// distributed space (two reductions); a serial space gives first_row = 0.
 template <class Space>
@@ -58,9 +71,7 @@ row_partition row_partition_of(const Space& space, const typename Space::vector_
   row_partition partition;
   partition.local_rows = static_cast<std::int64_t>(prototype.size());
   partition.global_rows = space.global_size(prototype);
-  if constexpr (detail::has_first_global_index<Space>::value) {
-    partition.first_row = space.first_global_index(prototype);
-  }
+  partition.first_row = first_global_row(space, prototype);
   return partition;
 }
 
