@@ -57,7 +57,7 @@ class bordered_vector_space {
     m_space.allocate_like(target.state, prototype.state);
   }
   /// Same, from a state of the inner space. Not collective.
-  void allocate_like_state(vector_type& target, const inner_vector_type& prototype) const {
+  void allocate_like_state(vector_type& target, typename Space::const_view prototype) const {
     m_space.allocate_like(target.state, prototype);
   }
 

@@ -32,7 +32,9 @@
 /// a few extra corrector solves give λ_fold to about the solver tolerance.
 ///
 /// Allocation: vectors are allocated at the start of a run and reused by the
-/// next run of the same size; the point list grows by appending.
+/// next run of the same size. A run allocates its report (points reserved up
+/// to 1024, folds up to 8) and validates settings (message strings); points
+/// themselves allocate nothing (checked in tests/allocation).
 
 #include <algorithm>
 #include <cmath>
@@ -116,6 +118,7 @@ class continuation_solver {
     const detail::stopwatch clock;
     m_report = continuation_report{};
     m_report.points.reserve(static_cast<std::size_t>(std::min(s.max_points, 1024)));
+    m_report.folds.reserve(8);
     for (bordered_type* v : {&m_point, &m_tangent, &m_candidate, &m_candidate_tangent, &m_fold_trial,
                              &m_fold_trial_tangent, &m_fold_point, &m_prediction}) {
       m_space.allocate_like_state(*v, u);
@@ -325,7 +328,10 @@ class continuation_solver {
   template <class Residual>
   bool correct(Residual& residual, bordered_type& x, effort& spent) {
     const std::int64_t extra_before = residual.extra_evaluations();
-    const solve_report solve = m_corrector.solve(residual, x);
+    auto run = m_corrector.begin(residual, x);  // the caller-driven loop: no copy of the step history
+    while (run.advance() == outcome::in_progress) {
+    }
+    const solve_report& solve = run.report();
     m_last_initial_residual_norm = solve.initial_residual_norm;
     if (solve.preconditioner_setups > 0) m_preconditioner_ready = true;
     spent.newton_steps = solve.newton_steps;  // of the latest solve: the accepted one when it converged

@@ -58,7 +58,7 @@ class tangent_solver {
     m_gmres.configure(linear);
     m_difference.configure(jacobian);
   }
-  void allocate_like(const typename Space::vector_type& prototype) {
+  void allocate_like(typename Space::const_view prototype) {
     for (bordered_type* v : {&m_base_residual, &m_right_hand_side, &m_product}) {
       m_space.allocate_like_state(*v, prototype);
     }
