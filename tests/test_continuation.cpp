@@ -160,17 +160,11 @@ TEST_CASE("the bordering preconditioner inverts the bordered Jacobian when P = R
   bordered r{Eigen::VectorXd(31), 0.0};
   residual(x, r);
 
-  nkit::sparse_matrix jacobian;
-  problem.assemble_jacobian(x.state, x.parameter, jacobian);
-  struct assembled final : nkit::jacobian_source {
-    const nkit::sparse_matrix* matrix;
-    const nkit::sparse_matrix& assembled_jacobian() override { return *matrix; }
-  } source;
-  source.matrix = &jacobian;
+  // The preconditioner takes R_u from the residual (the problem's assemble_jacobian(u, λ, J)).
   nkit::bordered_preconditioner<nkit_test::sparse_lu_preconditioner, space> preconditioner;
   preconditioner.attach(&residual);
   REQUIRE(preconditioner.setup(nkit::preconditioner_context<nkit::bordered_vector_space<space>>{
-              bordered_space, x, r, 0, nullptr, &source}) == nkit::setup_status::ready);
+              bordered_space, x, r, 0, nullptr, nullptr}) == nkit::setup_status::ready);
 
   const bordered y{Eigen::VectorXd::LinSpaced(31, 1.0, -2.0), 0.8};
   bordered z{Eigen::VectorXd(31), 0.0}, jz{Eigen::VectorXd(31), 0.0};

@@ -31,6 +31,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <limits>
+#include <stdexcept>
 #include <type_traits>
 
 #include "bordered_vector_space.hpp"
@@ -57,6 +58,10 @@ class bordering_source {
   virtual scalar_type constraint_derivative(const vector_type& v) const = 0;
   /// c_λ.
   virtual scalar_type constraint_parameter_coefficient() const = 0;
+  /// Whether assembled_state_jacobian() can deliver R_u.
+  virtual bool can_assemble_state_jacobian() const = 0;
+  /// R_u(u, λ) at x, assembled by the problem (λ fixed). Allocates on the first call only.
+  virtual const sparse_matrix& assembled_state_jacobian(const vector_type& x) = 0;
 };
 
 /// The residual [R(u, λ); σN(u, λ)] of a parametrised problem. Holds pointers
@@ -109,11 +114,22 @@ class bordered_residual final : public bordering_source<Space> {
     jv.parameter = constraint_derivative(v);
   }
 
-  /// R_u(u, λ), the state block only; present only when the problem can assemble it.
-  template <class Matrix, class P = Problem,
-            std::enable_if_t<has_parametrised_assemble_jacobian_v<P, inner_vector_type, scalar_type, Matrix>, int> = 0>
-  void assemble_jacobian(const vector_type& x, Matrix& jacobian) {
-    m_problem->assemble_jacobian(static_cast<const inner_vector_type&>(x.state), x.parameter, jacobian);
+  static constexpr bool assembles =
+      has_parametrised_assemble_jacobian_v<Problem, inner_vector_type, scalar_type, sparse_matrix>;
+  bool can_assemble_state_jacobian() const override { return assembles; }
+  /// R_u only, for preconditioners of the state block. (No assemble_jacobian()
+  /// member on purpose: the Newton driver's assembled Jacobian would be that
+  /// of the whole bordered system.)
+  const sparse_matrix& assembled_state_jacobian(const vector_type& x) override {
+    if constexpr (assembles) {
+      m_problem->assemble_jacobian(static_cast<const inner_vector_type&>(x.state), x.parameter, m_jacobian);
+    } else {
+      static_cast<void>(x);
+      throw std::logic_error(
+          "nkit: the state preconditioner needs an assembled Jacobian, but the parametrised problem has no "
+          "assemble_jacobian(u, parameter, matrix)");
+    }
+    return m_jacobian;
   }
 
   /// σN(x) alone. Collective in arclength mode.
@@ -172,6 +188,7 @@ class bordered_residual final : public bordering_source<Space> {
   scalar_type m_constraint_scale = 1;
   std::int64_t m_extra_evaluations = 0;
   inner_vector_type m_zero;
+  sparse_matrix m_jacobian;
 };
 
 namespace detail {
@@ -203,7 +220,8 @@ struct has_parametrised_setup<
 /// J M⁻¹ = I.
 ///
 /// Setup: the user's setup receives the state part of the context (u,
-/// R(u, λ), the assembled R_u when the problem has assemble_jacobian(u, λ, J));
+/// R(u, λ), the assembled R_u when the problem has assemble_jacobian(u, λ, J);
+/// a pseudo-time shift, if the corrector uses one, on the state block only));
 /// a P that builds from the state alone and needs λ may declare
 ///   setup(const preconditioner_context<Space>& context, scalar_type parameter)
 /// which is preferred when present. Then R_λ (one residual evaluation, or
@@ -225,13 +243,14 @@ class bordered_preconditioner {
 
   setup_status setup(const preconditioner_context<space_type>& context) {
     NKIT_ASSERT(m_source != nullptr, "bordered_preconditioner::attach() must be called before setup()");
+    state_jacobian jacobian(*m_source, context.state);
     const preconditioner_context<Space> state_context{
         context.space.inner(),
         context.state.state,
         context.residual.state,
         context.newton_step,
         context.diagonal_shift != nullptr ? &context.diagonal_shift->state : nullptr,
-        context.jacobian};
+        m_source->can_assemble_state_jacobian() ? &jacobian : nullptr};
     using state_context_type = preconditioner_context<Space>;
     setup_status status = setup_status::ready;
     if constexpr (detail::has_parametrised_setup<Preconditioner, state_context_type, scalar_type>::value) {
@@ -280,6 +299,21 @@ class bordered_preconditioner {
   const Preconditioner& state_preconditioner() const { return m_state_preconditioner; }
 
  private:
+  /// R_u from the bordered residual, assembled on the first request.
+  class state_jacobian final : public jacobian_source {
+   public:
+    state_jacobian(bordering_source<Space>& source, const vector_type& at) : m_source(source), m_at(at) {}
+    const sparse_matrix& assembled_jacobian() override {
+      if (m_matrix == nullptr) m_matrix = &m_source.assembled_state_jacobian(m_at);
+      return *m_matrix;
+    }
+
+   private:
+    bordering_source<Space>& m_source;
+    const vector_type& m_at;
+    const sparse_matrix* m_matrix = nullptr;
+  };
+
   Preconditioner m_state_preconditioner;
   bordering_source<Space>* m_source = nullptr;
   const Space* m_space = nullptr;  ///< the solver's space, from the last setup

@@ -17,6 +17,7 @@
 /// contiguous array of inner vectors, so the solvers fall back to separate
 /// dots (one reduction each on a distributed space).
 
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
 #include <utility>
@@ -99,6 +100,27 @@ class bordered_vector_space {
   void multiply(const_view weights, state_view x) const {
     m_space.multiply(weights.state, x.state);
     x.parameter *= weights.parameter;
+  }
+  void divide(const_view weights, state_view x) const {
+    m_space.divide(weights.state, x.state);
+    x.parameter /= weights.parameter;
+  }
+  void add_product(const_view weights, const_view x, state_view y) const {
+    m_space.add_product(weights.state, x.state, y.state);
+    y.parameter += weights.parameter * x.parameter;
+  }
+
+  /// Largest t >= 0 with lower <= x + t d <= upper, parameter included. Collective.
+  scalar_type max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
+    scalar_type step = m_space.max_step_to_bounds(x.state, d.state, lower.state, upper.state);
+    if (d.parameter > 0) step = std::min(step, (upper.parameter - x.parameter) / d.parameter);
+    if (d.parameter < 0) step = std::min(step, (lower.parameter - x.parameter) / d.parameter);
+    return std::max<scalar_type>(step, 0);
+  }
+  /// Collective.
+  bool within_bounds(const_view x, const_view lower, const_view upper) const {
+    return m_space.within_bounds(x.state, lower.state, upper.state) && x.parameter >= lower.parameter &&
+           x.parameter <= upper.parameter;
   }
 
   /// Collective OR, forwarded to the inner space.

@@ -140,39 +140,17 @@ class tangent_solver {
   }
 
  private:
-  /// Gives a preconditioner set up here the assembled R_u on demand.
-  template <class Residual>
-  class assembled_state_block final : public jacobian_source {
-   public:
-    assembled_state_block(Residual& residual, const bordered_type& at, sparse_matrix& storage)
-        : m_residual(residual), m_at(at), m_storage(storage) {}
-    const sparse_matrix& assembled_jacobian() override {
-      m_residual.assemble_jacobian(m_at, m_storage);
-      return m_storage;
-    }
-
-   private:
-    Residual& m_residual;
-    const bordered_type& m_at;
-    sparse_matrix& m_storage;
-  };
-
   template <class Residual, class Preconditioner>
   setup_status set_up(Residual& residual, const bordered_type& at, Preconditioner& preconditioner) {
-    using context_type = preconditioner_context<bordered_space_type>;
-    if constexpr (detail::has_assemble_jacobian<Residual, sparse_matrix, bordered_type>::value) {
-      assembled_state_block<Residual> source(residual, at, m_jacobian);
-      return setup_preconditioner(preconditioner, context_type{m_space, at, m_base_residual, 0, nullptr, &source});
-    } else {
-      return setup_preconditioner(preconditioner, context_type{m_space, at, m_base_residual, 0, nullptr, nullptr});
-    }
+    static_cast<void>(residual);  // the bordered preconditioner reads R_u and R_λ from the residual itself
+    return setup_preconditioner(
+        preconditioner, preconditioner_context<bordered_space_type>{m_space, at, m_base_residual, 0, nullptr, nullptr});
   }
 
   bordered_space_type m_space;
   gmres_solver<bordered_space_type> m_gmres;
   finite_difference_jacobian<bordered_space_type> m_difference;
   bordered_type m_base_residual, m_right_hand_side, m_product;
-  sparse_matrix m_jacobian;
 };
 
 }  // namespace nkit
