@@ -84,15 +84,16 @@ nkit::continuation_settings bratu_settings() {
   return settings;
 }
 
-/// Runs pseudo-arclength continuation from u = 0 at λ = 1 until the first
-/// fold is located; returns λ at the fold.
+/// Runs pseudo-arclength continuation from u = 0 at λ = start (the Newton
+/// solve from u = 0 lands on the lower branch) until the first fold is
+/// located; returns its record.
 template <class Solver, class Problem>
-nkit::fold_record first_fold(Solver& solver, Problem&& problem, Eigen::Index unknowns) {
+nkit::fold_record first_fold(Solver& solver, Problem&& problem, Eigen::Index unknowns, double start = 1.0) {
   Eigen::VectorXd u = Eigen::VectorXd::Zero(unknowns);
   auto stop_after_fold = [](const nkit::continuation_point& point, const Eigen::VectorXd&) {
     return point.kind == nkit::point_kind::fold ? nkit::monitor_decision::stop_now : nkit::monitor_decision::keep_going;
   };
-  const nkit::continuation_report report = solver.trace_branch(problem, u, 1.0, stop_after_fold);
+  const nkit::continuation_report report = solver.trace_branch(problem, u, start, stop_after_fold);
   REQUIRE(report.result == nkit::continuation_outcome::stopped_by_callback);
   REQUIRE(report.folds.size() == 1);
   return report.folds.front();
@@ -430,7 +431,7 @@ double bratu_2d_discrete_fold(int nodes_per_side) {
   nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit_test::sparse_lu_preconditioner> solver(
       bratu_settings());
   const nkit_examples::bratu_2d problem(nodes_per_side);
-  const nkit::fold_record fold = first_fold(solver, problem, problem.unknowns());
+  const nkit::fold_record fold = first_fold(solver, problem, problem.unknowns(), 5.0);  // fewer points than from 1
   CHECK(fold.located);
   return fold.point.parameter;
 }

@@ -12,6 +12,7 @@
 /// practice; state_weight = N gives Keller's plain Euclidean metric). In
 /// natural-parameter continuation the step is |δλ| itself.
 
+#include <cmath>
 #include <cstdint>
 #include <limits>
 #include <ostream>
@@ -58,6 +59,9 @@ struct continuation_settings {
   /// Newton steps, Δs ← Δs · clamp(target_corrector_steps / max(k, 1),
   /// 1 / maximum_step_growth, maximum_step_growth); after a failure,
   /// Δs ← Δs · step_reduction_after_failure and the step is retried.
+  /// 5 suits the default inexact corrector: with Eisenstat–Walker forcing
+  /// (η_0 = 0.5) even a very good predictor takes about 4 Newton steps to the
+  /// tolerance (measured on 1D Bratu), so a target of 4 never lets the step grow.
   int target_corrector_steps = 5;
   double maximum_step_growth = 2.0;
   double step_reduction_after_failure = 0.5;
