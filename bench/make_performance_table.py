@@ -34,6 +34,7 @@ NAMES = {
     "newton_gmres_ilut": "nkit Newton-GMRES + ILUT",
     "newton_gmres_sparse_lu": "nkit Newton-GMRES + SparseLU (exact-Jacobian preconditioner)",
     "newton_gmres_algebraic_multigrid": "nkit Newton-GMRES + algebraic multigrid (BoomerAMG)",
+    "newton_gmres_algebraic_multigrid_lagged": "nkit Newton-GMRES + algebraic multigrid (BoomerAMG), lagged",
     "exact_newton_sparse_lu": "exact Newton + Eigen SparseLU",
     "exact_newton_umfpack": "exact Newton + UMFPACK",
     "picard_sparse_lu": "Picard (frozen k) + Eigen SparseLU",

@@ -25,6 +25,11 @@
 #if defined(NKIT_USE_OPENMP)
 #include <omp.h>
 #endif
+#if NKIT_BENCH_HAS_HYPRE
+#include <mpi.h>
+
+#include <nkit/hypre_algebraic_multigrid.hpp>
+#endif
 
 #include "fresh_process.hpp"
 #include "model_problem_baselines.hpp"
@@ -65,12 +70,8 @@ inline nkit::newton_settings suite_newton_settings(double time_cap) {
   return settings;
 }
 
-/// Solves with nkit and prints the report's figures.
-template <class Preconditioner, class Problem>
-void run_nkit(Problem& problem, Eigen::Index unknowns, double time_cap) {
-  Eigen::VectorXd t = Eigen::VectorXd::Zero(unknowns);
-  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, Preconditioner> solver(suite_newton_settings(time_cap));
-  const nkit::solve_report report = solver.solve(problem, t);
+/// Prints the figures of an nkit solve report.
+inline void emit_report(const nkit::solve_report& report) {
   emit("reached", report.converged() ? 1 : 0);
   emit("solve_seconds", report.wall_seconds);
   emit("relative_residual", report.final_residual_norm / report.initial_residual_norm);
@@ -87,6 +88,35 @@ void run_nkit(Problem& problem, Eigen::Index unknowns, double time_cap) {
            report.wall_seconds);
   if (!report.converged()) emit_text("failure", std::string(nkit::name(report.result)));
 }
+
+/// Solves the model problem with nkit from T0 = 0 and prints the figures.
+template <class Preconditioner>
+void run_nkit(const model& problem, const nkit::newton_settings& settings, Preconditioner preconditioner = {}) {
+  model copy = problem;
+  Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, Preconditioner> solver(settings, {},
+                                                                                      std::move(preconditioner));
+  emit_report(solver.solve(copy, t));
+}
+
+/// Lagged preconditioner: kept for up to 4 Newton steps, rebuilt sooner
+/// when the last linear solve needed more than 30 iterations.
+inline nkit::newton_settings lagged(nkit::newton_settings settings) {
+  settings.preconditioner_reuse.rebuild_every_newton_steps = 4;
+  settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 30;
+  return settings;
+}
+
+#if NKIT_BENCH_HAS_HYPRE
+/// nkit with BoomerAMG on MPI_COMM_SELF: a serial AMG in a serial code.
+inline void run_algebraic_multigrid(const model& problem, const nkit::newton_settings& settings) {
+  int initialised = 0;
+  MPI_Initialized(&initialised);
+  if (!initialised) MPI_Init(nullptr, nullptr);
+  run_nkit(problem, settings, nkit::algebraic_multigrid_preconditioner(MPI_COMM_SELF));
+  MPI_Finalize();
+}
+#endif
 
 /// Prints a baseline's figures.
 inline void emit_baseline(const baseline_result& result, double seconds) {
@@ -123,12 +153,20 @@ inline const std::vector<configuration>& configurations() {
   static const std::vector<configuration> list = {
     {"newton_gmres_none", true, "", true,
      [](const model& problem, double cap) {
-       model copy = problem;
-       run_nkit<nkit::identity_preconditioner>(copy, problem.unknowns(), cap);
+       run_nkit(problem, suite_newton_settings(cap), nkit::identity_preconditioner{});
      }},
-    // Algebraic multigrid (hypre BoomerAMG) comes from the distributed branch.
-    {"newton_gmres_algebraic_multigrid", false, "not built: the BoomerAMG preconditioner is not in this tree yet", true,
+#if NKIT_BENCH_HAS_HYPRE
+    // hypre BoomerAMG (one V-cycle per application, hypre's defaults) from the
+    // analytic Jacobian, rebuilt every Newton step or lagged.
+    {"newton_gmres_algebraic_multigrid", true, "", true,
+     [](const model& problem, double cap) { run_algebraic_multigrid(problem, suite_newton_settings(cap)); }},
+    {"newton_gmres_algebraic_multigrid_lagged", true, "", true,
+     [](const model& problem, double cap) { run_algebraic_multigrid(problem, lagged(suite_newton_settings(cap))); }},
+#else
+    {"newton_gmres_algebraic_multigrid", false, "not built: MPI and hypre (nkit::hypre) not found", true, nullptr},
+    {"newton_gmres_algebraic_multigrid_lagged", false, "not built: MPI and hypre (nkit::hypre) not found", true,
      nullptr},
+#endif
     {"exact_newton_sparse_lu", true, "", false,
      [](const model& problem, double cap) { run_baseline(problem, cap, exact_newton<lu>); }},
 #if NKIT_BENCH_HAS_UMFPACK
