@@ -7,8 +7,11 @@
 /// array binds with zero copy.
 
 #include <Eigen/Core>
+#include <cmath>
 #include <cstdint>
 #include <limits>
+
+#include "detail/parallel_loops.hpp"
 
 namespace nkit {
 
@@ -34,6 +37,12 @@ typename X::Scalar local_max_step_to_bounds(const X& x, const D& d, const L& low
 
 /// Vector space over Eigen::Matrix<Scalar, Dynamic, 1>. Serial: its
 /// "reductions" are plain local reductions. Stateless and cheap to copy.
+/// With NKIT_USE_OPENMP defined (CMake target nkit::openmp), members on
+/// vectors of at least detail::parallel_length_threshold entries run on the
+/// OpenMP team, one contiguous chunk per thread; reductions then add chunk
+/// results in a fixed order, so they are reproducible for a given thread
+/// count (detail/parallel_loops.hpp). Without it the code is the serial
+/// Eigen expressions, unchanged.
 template <class Scalar = double>
 class eigen_vector_space {
  public:
@@ -47,11 +56,67 @@ class eigen_vector_space {
     if (target.size() != prototype.size()) target.resize(prototype.size());
   }
 
-  Scalar dot(const_view x, const_view y) const { return x.dot(y); }
-  Scalar norm(const_view x) const { return x.norm(); }
-  bool all_finite(const_view x) const { return x.allFinite(); }
+  Scalar dot(const_view x, const_view y) const {
+#if defined(NKIT_USE_OPENMP)
+    if (detail::run_in_parallel(x.size())) {
+      return detail::sum_over_chunks<Scalar>(x.size(), [&](Eigen::Index begin, Eigen::Index count) {
+        return x.segment(begin, count).dot(y.segment(begin, count));
+      });
+    }
+#endif
+    return x.dot(y);
+  }
+  Scalar norm(const_view x) const {
+#if defined(NKIT_USE_OPENMP)
+    if (detail::run_in_parallel(x.size())) {
+      using std::sqrt;
+      return sqrt(detail::sum_over_chunks<Scalar>(
+          x.size(), [&](Eigen::Index begin, Eigen::Index count) { return x.segment(begin, count).squaredNorm(); }));
+    }
+#endif
+    return x.norm();
+  }
+  bool all_finite(const_view x) const {
+#if defined(NKIT_USE_OPENMP)
+    if (detail::run_in_parallel(x.size())) {
+      return detail::all_chunks(
+          x.size(), [&](Eigen::Index begin, Eigen::Index count) { return x.segment(begin, count).allFinite(); });
+    }
+#endif
+    return x.allFinite();
+  }
   std::int64_t global_size(const_view x) const { return static_cast<std::int64_t>(x.size()); }
 
+#if defined(NKIT_USE_OPENMP)
+  // Element-wise members: one contiguous chunk per thread for long vectors.
+  void add_scaled(Scalar alpha, const_view x, state_view y) const {
+    chunked(y.size(), [&](auto b, auto c) { y.segment(b, c).noalias() += alpha * x.segment(b, c); });
+  }
+  void combine(Scalar a, const_view x, Scalar b, const_view y, state_view out) const {
+    chunked(out.size(),
+            [&](auto s, auto c) { out.segment(s, c).noalias() = a * x.segment(s, c) + b * y.segment(s, c); });
+  }
+  void scale(Scalar alpha, state_view x) const {
+    chunked(x.size(), [&](auto b, auto c) { x.segment(b, c) *= alpha; });
+  }
+  void copy(const_view from, state_view to) const {
+    chunked(to.size(), [&](auto b, auto c) { to.segment(b, c) = from.segment(b, c); });
+  }
+  void fill(Scalar value, state_view x) const {
+    chunked(x.size(), [&](auto b, auto c) { x.segment(b, c).setConstant(value); });
+  }
+  void multiply(const_view weights, state_view x) const {
+    chunked(x.size(), [&](auto b, auto c) { x.segment(b, c).array() *= weights.segment(b, c).array(); });
+  }
+  void divide(const_view weights, state_view x) const {
+    chunked(x.size(), [&](auto b, auto c) { x.segment(b, c).array() /= weights.segment(b, c).array(); });
+  }
+  void add_product(const_view weights, const_view x, state_view y) const {
+    chunked(y.size(), [&](auto b, auto c) {
+      y.segment(b, c).array() += weights.segment(b, c).array() * x.segment(b, c).array();
+    });
+  }
+#else
   void add_scaled(Scalar alpha, const_view x, state_view y) const { y.noalias() += alpha * x; }
   void combine(Scalar a, const_view x, Scalar b, const_view y, state_view out) const { out.noalias() = a * x + b * y; }
   void scale(Scalar alpha, state_view x) const { x *= alpha; }
@@ -60,6 +125,7 @@ class eigen_vector_space {
   void multiply(const_view weights, state_view x) const { x.array() *= weights.array(); }
   void divide(const_view weights, state_view x) const { x.array() /= weights.array(); }
   void add_product(const_view weights, const_view x, state_view y) const { y.array() += weights.array() * x.array(); }
+#endif
 
   /// Largest t >= 0 with lower <= x + t d <= upper (+inf if unbounded along d).
   Scalar max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
@@ -68,6 +134,20 @@ class eigen_vector_space {
   bool within_bounds(const_view x, const_view lower, const_view upper) const {
     return (x.array() >= lower.array()).all() && (x.array() <= upper.array()).all();
   }
+
+#if defined(NKIT_USE_OPENMP)
+ private:
+  /// body(begin, count) over the whole length: in parallel chunks when long
+  /// enough, else once, serially.
+  template <class Body>
+  static void chunked(Eigen::Index length, Body&& body) {
+    if (detail::run_in_parallel(length)) {
+      detail::for_each_chunk(length, body);
+    } else {
+      body(Eigen::Index(0), length);
+    }
+  }
+#endif
 };
 
 }  // namespace nkit
