@@ -35,6 +35,8 @@ NAMES = {
     "newton_gmres_sparse_lu": "nkit Newton-GMRES + SparseLU (exact-Jacobian preconditioner)",
     "newton_gmres_algebraic_multigrid": "nkit Newton-GMRES + algebraic multigrid (BoomerAMG)",
     "newton_gmres_algebraic_multigrid_lagged": "nkit Newton-GMRES + algebraic multigrid (BoomerAMG), lagged",
+    "newton_gmres_algebraic_multigrid_lagged_aggressive":
+        "nkit Newton-GMRES + algebraic multigrid (BoomerAMG), lagged, aggressive coarsening",
     "exact_newton_sparse_lu": "exact Newton + Eigen SparseLU",
     "exact_newton_umfpack": "exact Newton + UMFPACK",
     "picard_sparse_lu": "Picard (frozen k) + Eigen SparseLU",
