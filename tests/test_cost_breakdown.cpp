@@ -54,7 +54,8 @@ TEST_CASE("the phases add up to the wall time for every globalisation", "[report
   const auto strategy =
       GENERATE(nkit::globalization_strategy::line_search, nkit::globalization_strategy::full_step,
                nkit::globalization_strategy::trust_region, nkit::globalization_strategy::pseudo_transient);
-  CAPTURE(nkit::name(strategy));
+  const std::string strategy_name(nkit::name(strategy));
+  CAPTURE(strategy_name);
   nkit_examples::heat_conduction_model_problem problem(16);
   Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
   nkit::newton_settings settings;
