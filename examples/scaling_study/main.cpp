@@ -77,6 +77,13 @@ int main(int argc, char** argv) {
 
   std::cout << "\nNewton-GMRES, no preconditioner, heat-conduction model problem\n";
   nkit::print_scaling_study(std::cout, result);
+  // Reading the fits: linear iterations per Newton step that grow with N mean
+  // the preconditioner (here none) does not scale; a multigrid-class one
+  // keeps them flat and the time close to N^1.
+  if (result.linear_iterations_per_newton_step.valid() && result.linear_iterations_per_newton_step.exponent > 0.2) {
+    std::printf("linear iterations per Newton step grow like N^%.2f: the solve needs a preconditioner that scales\n",
+                result.linear_iterations_per_newton_step.exponent);
+  }
   std::ofstream csv("scaling_study.csv");
   nkit::write_scaling_study_csv(csv, result);
   std::ofstream fits("scaling_study_fits.csv");
