@@ -48,6 +48,7 @@
 #include "report.hpp"
 #include "residual.hpp"
 #include "settings.hpp"
+#include "sparse_jacobian.hpp"
 #include "vector_space.hpp"
 
 namespace nkit {
@@ -128,7 +129,17 @@ class newton_krylov_solver {
     const std::size_t n = static_cast<std::size_t>(m_state.size());
     const std::size_t newton_vectors = 7;  // state, residual, step, trial state, trial residual, best, product
     return sizeof(scalar_type) * newton_vectors * n + m_gmres.workspace_bytes() + m_difference.workspace_bytes() +
-           preconditioner_memory_bytes(m_preconditioner) + m_report.history.capacity() * sizeof(newton_step_record);
+           preconditioner_memory_bytes(m_preconditioner) + m_report.history.capacity() * sizeof(newton_step_record) +
+           assembled_jacobian_bytes();
+  }
+
+  /// Bytes held for the assembled Jacobian (values, indices, coloring workspace).
+  std::size_t assembled_jacobian_bytes() const {
+    const auto matrix_bytes = [](auto const& matrix) {
+      return static_cast<std::size_t>(matrix.nonZeros()) * (sizeof(double) + sizeof(int)) +
+             static_cast<std::size_t>(matrix.outerSize() + 1) * sizeof(int);
+    };
+    return matrix_bytes(m_jacobian) + matrix_bytes(m_column_major_jacobian) + m_colored.workspace_bytes();
   }
 
  private:
@@ -441,7 +452,10 @@ class newton_krylov_solver {
     return policy.rebuild_after_linear_failure && m_last_linear_failed;
   }
 
-  /// Gives preconditioners the problem's assembled Jacobian on demand.
+  /// Gives preconditioners the problem's assembled Jacobian on demand: the
+  /// user's assemble_jacobian (column-major converted), or colored finite
+  /// differences from jacobian_pattern() through the counted evaluate(), so
+  /// budgets hold; either way the time counts as jacobian_assembly.
   template <class Problem>
   class problem_jacobian final : public jacobian_source {
    public:
@@ -449,7 +463,20 @@ class newton_krylov_solver {
     const sparse_matrix& assembled_jacobian() override {
       if (!m_assembled) {
         const auto start = detail::clock_type::now();
-        m_problem.assemble_jacobian(static_cast<const vector_type&>(m_solver.m_state), m_solver.m_jacobian);
+        const vector_type& state = m_solver.m_state;
+        if constexpr (assembles_row_major_jacobian_v<Problem, vector_type>) {
+          m_problem.assemble_jacobian(state, m_solver.m_jacobian);
+        } else if constexpr (assembles_column_major_jacobian_v<Problem, vector_type>) {
+          m_problem.assemble_jacobian(state, m_solver.m_column_major_jacobian);
+          m_solver.m_jacobian = m_solver.m_column_major_jacobian;
+        } else {
+          m_solver.m_colored.configure(m_solver.m_settings.jacobian);
+          m_solver.m_colored.prepare(m_problem.jacobian_pattern());
+          auto evaluate = [this](const vector_type& x, vector_type& r) {
+            m_solver.evaluate(m_problem, x, r, phase::none);
+          };
+          m_solver.m_colored.assemble(evaluate, state, m_solver.m_residual, m_solver.m_jacobian);
+        }
         m_solver.m_report.time.jacobian_assembly += detail::seconds_between(start, detail::clock_type::now());
         ++m_solver.m_report.calls.jacobian_assembly;
         ++m_solver.m_report.jacobian_assemblies;
@@ -469,7 +496,7 @@ class newton_krylov_solver {
     const auto start = detail::clock_type::now();
     const double assembly_before = m_report.time.jacobian_assembly;
     setup_status status;
-    if constexpr (detail::has_assemble_jacobian<Problem, sparse_matrix, vector_type>::value) {
+    if constexpr (can_assemble_jacobian_v<Problem, vector_type>) {
       problem_jacobian<Problem> source(*this, problem);
       preconditioner_context<Space> context{m_space, m_state, m_residual, k, nullptr, &source};
       status = setup_preconditioner(m_preconditioner, context);
@@ -500,6 +527,8 @@ class newton_krylov_solver {
 
   vector_type m_state, m_residual, m_step, m_trial_state, m_trial_residual, m_best_state, m_product;
   sparse_matrix m_jacobian;
+  column_major_sparse_matrix m_column_major_jacobian;  // only for problems that assemble column-major
+  colored_difference_jacobian m_colored;               // only for problems that offer jacobian_pattern()
 
   solve_report m_report;
   std::size_t m_history_capacity = 0;
