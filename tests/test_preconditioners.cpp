@@ -167,6 +167,29 @@ TEST_CASE("an iterative preconditioner needs flexible GMRES", "[preconditioner][
   const double true_relative = (b - a * y).norm() / b.norm();
   INFO("standard GMRES: status " << nkit::name(invalid.status) << ", true relative residual " << true_relative);
   CHECK(true_relative > 1e-6);
+
+  // Declared through make_varying_preconditioner, the lambda gets flexible GMRES again.
+  auto declared =
+      nkit::make_varying_preconditioner([&inner](const Eigen::VectorXd& r, Eigen::VectorXd& z) { inner.apply(r, z); });
+  STATIC_REQUIRE(decltype(declared)::changes_between_applications);
+  Eigen::VectorXd w = Eigen::VectorXd::Zero(b.size());
+  nkit::gmres_solver<> again(settings);
+  CHECK(again.solve(op, declared, b, w, 1e-8, nkit::initial_guess::zero).converged());
+  CHECK((b - a * w).norm() <= 2e-8 * b.norm());
+}
+
+TEST_CASE("the built-in preconditioners satisfy the concept", "[preconditioner][concept]") {
+  using vector = Eigen::VectorXd;
+  STATIC_REQUIRE(nkit::is_preconditioner_v<nkit::jacobi_preconditioner, vector>);
+  STATIC_REQUIRE(nkit::is_preconditioner_v<nkit::block_jacobi_preconditioner, vector>);
+  STATIC_REQUIRE(nkit::is_preconditioner_v<nkit::ilu_zero_preconditioner, vector>);
+  STATIC_REQUIRE(nkit::is_preconditioner_v<nkit::incomplete_lut_preconditioner, vector>);
+  STATIC_REQUIRE(nkit::is_preconditioner_v<nkit::sparse_direct_preconditioner, vector>);
+  STATIC_REQUIRE(nkit::is_preconditioner_v<nkit::inner_gmres_preconditioner<>, vector>);
+  STATIC_REQUIRE(nkit::is_preconditioner_v<nkit::any_preconditioner<>, vector>);
+  STATIC_REQUIRE_FALSE(nkit::is_preconditioner_v<int, vector>);
+  STATIC_REQUIRE(nkit::has_setup_v<nkit::ilu_zero_preconditioner, nkit::eigen_vector_space<double>>);
+  CHECK_FALSE(nkit::changes_between_applications(nkit::ilu_zero_preconditioner{}));
 }
 
 TEST_CASE("any_preconditioner chooses a built-in preconditioner at run time", "[preconditioner][type_erased]") {
