@@ -33,7 +33,8 @@ namespace nkit {
 
 class block_jacobi_preconditioner {
  public:
-  explicit block_jacobi_preconditioner(int block_size = 1) : m_block(block_size) {
+  block_jacobi_preconditioner() : block_jacobi_preconditioner(1) {}
+  explicit block_jacobi_preconditioner(int block_size) : m_block(block_size) {
     if (block_size < 1 || block_size > max_block_size) {
       throw std::invalid_argument("nkit: block_jacobi_preconditioner block_size must be in [1, 64] (got " +
                                   std::to_string(block_size) + ")");

@@ -12,8 +12,9 @@
 /// inserted when missing, diagonal positions, value map) runs only when the
 /// pattern of J changes; each setup then refreshes values and factorises,
 /// O(Σ_rows nnz(row) · nnz(row)) time, no allocation after the first setup
-/// of a pattern. Storage: nnz doubles + nnz + 2n ints (L and U share one
-/// array; the unit diagonal of L is implicit).
+/// of a pattern. Storage: the factor in J's row layout (nnz doubles, kept
+/// for refreshes) and again split into L and U rows for apply (nnz − n
+/// doubles and ints), plus O(n) ints; the unit diagonal of L is implicit.
 /// Apply: one forward and one backward sweep over the factor, 2·nnz
 /// multiply-adds; allocates nothing (z must already have r's size, as
 /// GMRES guarantees; otherwise it is resized once).
@@ -82,6 +83,7 @@ class ilu_zero_preconditioner {
       pivot = jacobi_preconditioner::safe_pivot(pivot, row_max, m_replaced);
       m_inverse_pivot[static_cast<std::size_t>(i)] = 1.0 / pivot;
     }
+    split_factors();
     return m_replaced == 0 ? setup_status::ready : setup_status::ready_with_fallback;
   }
 
@@ -95,31 +97,26 @@ class ilu_zero_preconditioner {
     const int n = static_cast<int>(m_inverse_pivot.size());
     if (z.size() != r.size()) z.resize(r.size());
     double* x = z.data();
-    const double* values = m_values.data();
-    const int* columns = m_columns.data();
+    const double* rhs = r.data();
+    const int* lower_starts = m_lower_starts.data();
+    const int* lower_columns = m_lower_columns.data();
+    const double* lower_values = m_lower_values.data();
     for (int i = 0; i < n; ++i) {  // L y = r, unit diagonal
-      double sum = r(i);
-      for (int p = m_row_starts[static_cast<std::size_t>(i)]; p < m_diagonal[static_cast<std::size_t>(i)]; ++p) {
-        sum -= values[p] * x[columns[p]];
-      }
+      double sum = rhs[i];
+      for (int p = lower_starts[i]; p < lower_starts[i + 1]; ++p) sum -= lower_values[p] * x[lower_columns[p]];
       x[i] = sum;
     }
+    const int* upper_starts = m_upper_starts.data();
+    const int* upper_columns = m_upper_columns.data();
+    const double* upper_values = m_upper_values.data();
+    const double* inverse_pivot = m_inverse_pivot.data();
     for (int i = n - 1; i >= 0; --i) {  // U z = y
       double sum = x[i];
-      for (int p = m_diagonal[static_cast<std::size_t>(i)] + 1; p < m_row_starts[static_cast<std::size_t>(i) + 1];
-           ++p) {
-        sum -= values[p] * x[columns[p]];
-      }
-      x[i] = sum * m_inverse_pivot[static_cast<std::size_t>(i)];
+      for (int p = upper_starts[i]; p < upper_starts[i + 1]; ++p) sum -= upper_values[p] * x[upper_columns[p]];
+      x[i] = sum * inverse_pivot[i];
     }
   }
 
-  std::size_t memory_bytes() const {
-    return sizeof(double) * (m_values.size() + m_inverse_pivot.size()) +
-           sizeof(int) * (m_row_starts.size() + m_columns.size() + m_diagonal.size() + m_position_in_row.size() +
-                          m_value_map.size()) +
-           m_structure.bytes();
-  }
   /// The factors for inspection, L (strictly lower, unit diagonal implied)
   /// and U (upper, with the pivots used) in one matrix; allocates.
   sparse_matrix factors() const {
@@ -141,6 +138,45 @@ class ilu_zero_preconditioner {
   std::int64_t symbolic_analyses() const { return m_analyses; }
 
  private:
+  /// Copies the strictly lower and strictly upper parts into separate
+  /// compressed rows, so each sweep of apply() streams only what it uses
+  /// (the sweeps are memory bound). Allocates only when the pattern changed.
+  void split_factors() {
+    const int n = static_cast<int>(m_inverse_pivot.size());
+    m_lower_starts.resize(static_cast<std::size_t>(n) + 1);
+    m_upper_starts.resize(static_cast<std::size_t>(n) + 1);
+    const std::size_t lower_count = m_values.size() - static_cast<std::size_t>(n) - upper_entries();
+    m_lower_columns.resize(lower_count);
+    m_lower_values.resize(lower_count);
+    m_upper_columns.resize(m_values.size() - static_cast<std::size_t>(n) - lower_count);
+    m_upper_values.resize(m_upper_columns.size());
+    int lower = 0, upper = 0;
+    for (int i = 0; i < n; ++i) {
+      m_lower_starts[static_cast<std::size_t>(i)] = lower;
+      m_upper_starts[static_cast<std::size_t>(i)] = upper;
+      const int diagonal = m_diagonal[static_cast<std::size_t>(i)];
+      for (int p = m_row_starts[static_cast<std::size_t>(i)]; p < m_row_starts[static_cast<std::size_t>(i) + 1]; ++p) {
+        const auto from = static_cast<std::size_t>(p);
+        if (p < diagonal) {
+          m_lower_columns[static_cast<std::size_t>(lower)] = m_columns[from];
+          m_lower_values[static_cast<std::size_t>(lower++)] = m_values[from];
+        } else if (p > diagonal) {
+          m_upper_columns[static_cast<std::size_t>(upper)] = m_columns[from];
+          m_upper_values[static_cast<std::size_t>(upper++)] = m_values[from];
+        }
+      }
+    }
+    m_lower_starts[static_cast<std::size_t>(n)] = lower;
+    m_upper_starts[static_cast<std::size_t>(n)] = upper;
+  }
+  std::size_t upper_entries() const {
+    std::size_t count = 0;
+    for (std::size_t i = 0; i < m_diagonal.size(); ++i) {
+      count += static_cast<std::size_t>(m_row_starts[i + 1] - m_diagonal[i] - 1);
+    }
+    return count;
+  }
+
   /// Pattern of J plus the diagonal, diagonal positions and the value map.
   void analyze(const sparse_matrix& matrix) {
     const int n = static_cast<int>(matrix.rows());
@@ -182,6 +218,9 @@ class ilu_zero_preconditioner {
   sparse_matrix m_compressed;
   std::vector<int> m_row_starts, m_columns, m_diagonal, m_position_in_row, m_value_map;
   std::vector<double> m_values, m_inverse_pivot;
+  // The factors split for apply(): strictly lower (L) and strictly upper (U) rows.
+  std::vector<int> m_lower_starts, m_lower_columns, m_upper_starts, m_upper_columns;
+  std::vector<double> m_lower_values, m_upper_values;
   std::int64_t m_replaced = 0;
   std::int64_t m_analyses = 0;
 };

@@ -46,7 +46,8 @@ struct incomplete_lut_settings {
 
 class incomplete_lut_preconditioner {
  public:
-  explicit incomplete_lut_preconditioner(incomplete_lut_settings settings = {}) : m_settings(settings) {
+  incomplete_lut_preconditioner() : incomplete_lut_preconditioner(incomplete_lut_settings{}) {}
+  explicit incomplete_lut_preconditioner(incomplete_lut_settings settings) : m_settings(settings) {
     m_settings.validate();
   }
 

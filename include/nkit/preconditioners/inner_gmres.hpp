@@ -48,7 +48,8 @@ class inner_gmres_preconditioner {
  public:
   static constexpr bool changes_between_applications = true;
 
-  explicit inner_gmres_preconditioner(inner_gmres_settings settings = {}, Inner inner = {})
+  inner_gmres_preconditioner() : inner_gmres_preconditioner(inner_gmres_settings{}) {}
+  explicit inner_gmres_preconditioner(inner_gmres_settings settings, Inner inner = Inner{})
       : m_settings((settings.validate(), settings)),
         m_inner(std::move(inner)),
         m_gmres(inner_gmres_options(settings)) {}
