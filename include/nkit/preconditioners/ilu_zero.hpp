@@ -30,16 +30,38 @@
 #include <cmath>
 #include <cstddef>
 #include <cstdint>
+#include <string>
 #include <vector>
 
+#include "../detail/checks.hpp"
 #include "../detail/sparse_helpers.hpp"
 #include "../preconditioner.hpp"
 #include "jacobi.hpp"
 
 namespace nkit {
 
+struct ilu_zero_settings {
+  /// Fraction ω of the fill-in that ILU(0) drops which is added to the
+  /// pivot of its row instead: 0 gives ILU(0); 1 gives modified ILU(0)
+  /// (MILU), whose factors keep the row sums of J, (LU)·1 = J·1
+  /// (I. Gustafsson, "A class of first order factorization methods", BIT 18
+  /// (1978) 142–156); in between is relaxed ILU (O. Axelsson & G. Lindskog,
+  /// Numer. Math. 48 (1986) 479–498). For diffusion-dominated problems MILU
+  /// lowers the growth of GMRES iterations with mesh refinement; it relies on
+  /// near-M-matrix structure, so values just below 1 are the safer choice.
+  double row_sum_compensation = 0.0;
+
+  void validate(const std::string& prefix = "ilu_zero_settings") const {
+    detail::require_closed_interval(prefix + ".row_sum_compensation", row_sum_compensation, 0.0, 1.0);
+  }
+};
+
 class ilu_zero_preconditioner {
  public:
+  ilu_zero_preconditioner() = default;
+  explicit ilu_zero_preconditioner(ilu_zero_settings settings) : m_settings(settings) { m_settings.validate(); }
+  const ilu_zero_settings& settings() const { return m_settings; }
+
   setup_status build(const sparse_matrix& matrix) {
     detail::require_square(matrix, "ilu_zero_preconditioner");
     if (!matrix.isCompressed()) {  // the value map needs compressed storage
@@ -65,6 +87,7 @@ class ilu_zero_preconditioner {
         m_position_in_row[static_cast<std::size_t>(m_columns[static_cast<std::size_t>(p)])] = p;
       }
       const int diagonal = m_diagonal[static_cast<std::size_t>(i)];
+      double dropped = 0.0;                     // fill-in outside the pattern (row-sum compensation)
       for (int p = first; p < diagonal; ++p) {  // k = column < i, increasing
         const int k = m_columns[static_cast<std::size_t>(p)];
         double& multiplier = m_values[static_cast<std::size_t>(p)];
@@ -72,13 +95,19 @@ class ilu_zero_preconditioner {
         for (int q = m_diagonal[static_cast<std::size_t>(k)] + 1; q < m_row_starts[static_cast<std::size_t>(k) + 1];
              ++q) {
           const int at = m_position_in_row[static_cast<std::size_t>(m_columns[static_cast<std::size_t>(q)])];
-          if (at >= 0) m_values[static_cast<std::size_t>(at)] -= multiplier * m_values[static_cast<std::size_t>(q)];
+          const double update = multiplier * m_values[static_cast<std::size_t>(q)];
+          if (at >= 0) {
+            m_values[static_cast<std::size_t>(at)] -= update;
+          } else {
+            dropped -= update;
+          }
         }
       }
       for (int p = first; p < last; ++p) {
         m_position_in_row[static_cast<std::size_t>(m_columns[static_cast<std::size_t>(p)])] = -1;
       }
       double& pivot = m_values[static_cast<std::size_t>(diagonal)];
+      pivot += m_settings.row_sum_compensation * dropped;
       if (!std::isfinite(pivot)) pivot = 0.0;
       pivot = jacobi_preconditioner::safe_pivot(pivot, row_max, m_replaced);
       m_inverse_pivot[static_cast<std::size_t>(i)] = 1.0 / pivot;
@@ -115,6 +144,16 @@ class ilu_zero_preconditioner {
       for (int p = upper_starts[i]; p < upper_starts[i + 1]; ++p) sum -= upper_values[p] * x[upper_columns[p]];
       x[i] = sum * inverse_pivot[i];
     }
+  }
+
+  /// Bytes held: the factor in J's row layout, its split copy, indices and
+  /// the structure fingerprint.
+  std::size_t memory_bytes() const {
+    return sizeof(double) * (m_values.size() + m_inverse_pivot.size() + m_lower_values.size() + m_upper_values.size()) +
+           sizeof(int) * (m_row_starts.size() + m_columns.size() + m_diagonal.size() + m_position_in_row.size() +
+                          m_value_map.size() + m_lower_starts.size() + m_lower_columns.size() + m_upper_starts.size() +
+                          m_upper_columns.size()) +
+           m_structure.bytes() + static_cast<std::size_t>(m_compressed.nonZeros()) * (sizeof(double) + sizeof(int));
   }
 
   /// The factors for inspection, L (strictly lower, unit diagonal implied)
@@ -214,6 +253,7 @@ class ilu_zero_preconditioner {
     ++m_analyses;
   }
 
+  ilu_zero_settings m_settings;
   detail::structure_fingerprint m_structure;
   sparse_matrix m_compressed;
   std::vector<int> m_row_starts, m_columns, m_diagonal, m_position_in_row, m_value_map;
