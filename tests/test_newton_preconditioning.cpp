@@ -93,8 +93,8 @@ TEST_CASE("exact Newton: the direct preconditioner makes GMRES converge in one i
 }
 
 TEST_CASE("every preconditioner reaches the exact-Newton solution", "[newton][preconditioner]") {
-  std::vector<std::string> names{"none",           "jacobi",        "block_jacobi", "ilu_zero",
-                                 "incomplete_lut", "sparse_direct", "inner_gmres"};
+  std::vector<std::string> names{"none",      "jacobi",         "block_jacobi",  "ilu_zero",
+                                 "milu_zero", "incomplete_lut", "sparse_direct", "inner_gmres"};
 #if NKIT_HAS_SUITESPARSE
   names.insert(names.end(), {"umfpack", "klu"});
 #endif
@@ -103,6 +103,7 @@ TEST_CASE("every preconditioner reaches the exact-Newton solution", "[newton][pr
   if (choice == "jacobi") chosen = nkit::jacobi_preconditioner{};
   if (choice == "block_jacobi") chosen = nkit::block_jacobi_preconditioner{1};
   if (choice == "ilu_zero") chosen = nkit::ilu_zero_preconditioner{};
+  if (choice == "milu_zero") chosen = nkit::ilu_zero_preconditioner{nkit::ilu_zero_settings{1.0}};
   if (choice == "incomplete_lut") chosen = nkit::incomplete_lut_preconditioner{};
   if (choice == "sparse_direct") chosen = nkit::sparse_direct_preconditioner{};
   if (choice == "inner_gmres") chosen = nkit::inner_gmres_preconditioner<>{};
