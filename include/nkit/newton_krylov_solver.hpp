@@ -58,6 +58,7 @@
 #include "residual.hpp"
 #include "row_partition.hpp"
 #include "settings.hpp"
+#include "sparse_jacobian.hpp"
 #include "trace.hpp"
 #include "trust_region.hpp"
 #include "vector_space.hpp"
@@ -226,9 +227,17 @@ class newton_krylov_solver {
       entries += static_cast<std::size_t>(v->size());
     }
     return sizeof(scalar_type) * entries + m_gmres.workspace_bytes() + m_difference.workspace_bytes() +
-           preconditioner_memory_bytes(m_preconditioner) +
-           sizeof(double) * static_cast<std::size_t>(m_jacobian.nonZeros()) * 2 +
-           m_report.history.capacity() * sizeof(newton_step_record);
+           preconditioner_memory_bytes(m_preconditioner) + m_report.history.capacity() * sizeof(newton_step_record) +
+           assembled_jacobian_bytes();
+  }
+
+  /// Bytes held for the assembled Jacobian (values, indices, coloring workspace).
+  std::size_t assembled_jacobian_bytes() const {
+    const auto matrix_bytes = [](auto const& matrix) {
+      return static_cast<std::size_t>(matrix.nonZeros()) * (sizeof(double) + sizeof(int)) +
+             static_cast<std::size_t>(matrix.outerSize() + 1) * sizeof(int);
+    };
+    return matrix_bytes(m_jacobian) + matrix_bytes(m_column_major_jacobian) + m_colored.workspace_bytes();
   }
 
  private:
@@ -319,7 +328,12 @@ class newton_krylov_solver {
     m_monitor_stopped = false;
     m_last_linear_iterations = 0;
     m_last_linear_failed = false;
-    m_preconditioner_current = false;
+    if (m_settings.preconditioner_reuse.rebuild_at_solve_start || m_last_setup_step < 0 ||
+        m_preconditioner_size != u.size()) {
+      m_preconditioner_current = false;
+    } else {
+      m_last_setup_step = 0;  // carried over from the previous solve
+    }
     m_trust_radius = m_settings.trust_region.initial_radius;
 
     evaluate(problem, m_state, m_residual, phase::residual);
@@ -845,7 +859,11 @@ class newton_krylov_solver {
   }
 
   /// Gives preconditioners the problem's assembled Jacobian on demand, in the
-  /// solver's scaled variables and with the pseudo-time shift included.
+  /// solver's scaled variables and with the pseudo-time shift included: the
+  /// user's assemble_jacobian (row- or column-major), or colored finite
+  /// differences from jacobian_pattern() through the counted evaluate(), so
+  /// budgets hold and the perturbed states respect bounds and admissibility.
+  /// Either way the time counts as jacobian_assembly.
   template <class Problem>
   class problem_jacobian final : public jacobian_source {
    public:
@@ -854,9 +872,36 @@ class newton_krylov_solver {
       if (!m_assembled) {
         newton_krylov_solver& s = m_solver;
         const auto start = detail::clock_type::now();
-        m_problem.assemble_jacobian(s.physical_state(s.m_state), s.m_jacobian);
-        if (s.m_residual_scaling) s.m_jacobian = s.m_residual_scale.cwiseInverse().asDiagonal() * s.m_jacobian;
-        if (s.m_variable_scaling) s.m_jacobian = s.m_jacobian * s.m_variable_scale.asDiagonal();
+        if constexpr (assembles_row_major_jacobian_v<Problem, vector_type> ||
+                      assembles_column_major_jacobian_v<Problem, vector_type>) {
+          if constexpr (assembles_row_major_jacobian_v<Problem, vector_type>) {
+            m_problem.assemble_jacobian(s.physical_state(s.m_state), s.m_jacobian);
+          } else {
+            m_problem.assemble_jacobian(s.physical_state(s.m_state), s.m_column_major_jacobian);
+            s.m_jacobian = s.m_column_major_jacobian;
+          }
+          // The user's matrix is in physical units: J̃ = D_r⁻¹ J D_u.
+          if (s.m_residual_scaling) s.m_jacobian = s.m_residual_scale.cwiseInverse().asDiagonal() * s.m_jacobian;
+          if (s.m_variable_scaling) s.m_jacobian = s.m_jacobian * s.m_variable_scale.asDiagonal();
+        } else {
+          // Differences of the scaled residual in scaled variables give J̃ directly.
+          s.m_colored.configure(s.m_settings.jacobian);
+          s.m_colored.prepare(m_problem.jacobian_pattern());
+          auto evaluate = [this](const vector_type& x, vector_type& r) {
+            m_solver.evaluate(m_problem, x, r, phase::none);
+          };
+          auto admissible = [this](const vector_type& x) {
+            if (m_solver.m_has_bounds && !m_solver.m_space.within_bounds(x, m_solver.lower(), m_solver.upper())) {
+              return false;
+            }
+            if constexpr (detail::has_is_admissible<Problem, vector_type>::value) {
+              return m_solver.admissible(m_problem, x);
+            } else {
+              return true;
+            }
+          };
+          s.m_colored.assemble(evaluate, s.m_state, s.m_residual, s.m_jacobian, admissible);
+        }
         if (s.m_pseudo_transient) {
           detail::add_to_diagonal(s.m_jacobian, s.m_shift, first_global_row(s.m_space, s.m_state));
         }
@@ -882,7 +927,7 @@ class newton_krylov_solver {
     const double assembly_before = m_report.time.jacobian_assembly;
     const vector_type* shift = m_pseudo_transient ? &m_shift : nullptr;
     setup_status status;
-    if constexpr (detail::has_assemble_jacobian<Problem, sparse_matrix, vector_type>::value) {
+    if constexpr (can_assemble_jacobian_v<Problem, vector_type>) {
       problem_jacobian<Problem> source(*this, problem);
       preconditioner_context<Space> context{m_space, m_state, m_residual, k, shift, &source};
       status = setup_preconditioner(m_preconditioner, context);
@@ -899,6 +944,7 @@ class newton_krylov_solver {
     ++m_report.preconditioner_setups;
     if (status == setup_status::ready_with_fallback) ++m_report.preconditioner_fallbacks;
     m_last_setup_step = k;
+    m_preconditioner_size = m_state.size();
     m_rebuild_requested = false;
     m_preconditioner_current = status != setup_status::failed;
     return status;
@@ -921,6 +967,8 @@ class newton_krylov_solver {
   vector_type m_lower_bound, m_upper_bound, m_scaled_lower, m_scaled_upper;
   vector_type m_variable_scale, m_residual_scale;
   sparse_matrix m_jacobian;
+  column_major_sparse_matrix m_column_major_jacobian;  // only for problems that assemble column-major
+  colored_difference_jacobian m_colored;               // only for problems that offer jacobian_pattern()
 
   solve_report m_report;
   std::size_t m_history_capacity = 0;
@@ -947,6 +995,7 @@ class newton_krylov_solver {
   bool m_rebuild_requested = false;
   bool m_preconditioner_current = false;
   int m_last_setup_step = -1;
+  Eigen::Index m_preconditioner_size = -1;
   int m_last_linear_iterations = 0;
   bool m_last_linear_failed = false;
 };

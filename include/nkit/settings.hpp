@@ -56,6 +56,10 @@ struct preconditioner_reuse_settings {
   int rebuild_when_linear_iterations_exceed = 0;
   /// Also rebuild after a linear solve that did not converge.
   bool rebuild_after_linear_failure = true;
+  /// Rebuild at the first step of every solve. Set false to carry a
+  /// preconditioner across solves (implicit time steps, continuation): it is
+  /// then treated as built at step 0 of the new solve.
+  bool rebuild_at_solve_start = true;
 
   void validate(std::string_view prefix = "preconditioner_reuse_settings") const {
     const std::string p(prefix);
