@@ -318,6 +318,10 @@ class newton_krylov_solver {
     m_preconditioner_current = false;
     m_trust_radius = m_settings.trust_region.initial_radius;
 
+    // Until R(u0) is known the norms are unknown (NaN), not those of an earlier
+    // solve: a time limit or cancellation can stop the run before it is evaluated.
+    m_norm = m_best_norm = std::numeric_limits<double>::quiet_NaN();
+    m_report.initial_residual_norm = m_report.final_residual_norm = m_norm;
     evaluate(problem, m_state, m_residual, phase::residual);
     m_norm = m_space.norm(m_residual);
     m_report.initial_residual_norm = m_report.final_residual_norm = m_norm;
