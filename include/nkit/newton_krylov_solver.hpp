@@ -32,6 +32,8 @@
 /// vectors, history capacity) is allocated on the first solve and kept, so a
 /// later solve of the same size allocates nothing in its iterations; solve()
 /// allocates once at the end, to copy the history into the returned report.
+/// (History room is reserved for min(max_newton_steps, 1024) steps; a solve
+/// longer than that grows it once, and the larger capacity is kept.)
 
 #include <algorithm>
 #include <cmath>
@@ -234,6 +236,9 @@ class newton_krylov_solver {
 
   enum class phase { residual, none };
 
+  /// History records reserved up front (about 130 bytes each).
+  static constexpr int max_reserved_history = 1024;
+
   static const newton_settings& validated(const newton_settings& settings) {
     settings.validate();
     return settings;
@@ -262,7 +267,10 @@ class newton_krylov_solver {
     m_report = solve_report{};
     m_report.history = std::move(history);
     m_report.history.clear();
-    m_history_capacity = std::max(m_history_capacity, static_cast<std::size_t>(m_settings.max_newton_steps));
+    // Capped: max_newton_steps = INT_MAX ("no limit") must not reserve ~250 GB.
+    // Longer solves grow the history once; the capacity is kept for later solves.
+    m_history_capacity = std::max(m_history_capacity, static_cast<std::size_t>(std::min(
+                                                          m_settings.max_newton_steps, max_reserved_history)));
     m_report.history.reserve(m_history_capacity);
     m_residual_samples.clear();
 
