@@ -156,13 +156,18 @@ class newton_krylov_solver {
       throw std::invalid_argument("nkit: set_bounds: lower has " + std::to_string(lower.size()) +
                                   " entries but upper has " + std::to_string(upper.size()));
     }
+    // Checked before anything is stored: a rejected call leaves the old bounds
+    // in force. NaN fails every comparison, so x <= x is false only for NaN.
+    if (!m_space.within_bounds(lower, lower, lower) || !m_space.within_bounds(upper, upper, upper)) {
+      throw std::invalid_argument("nkit: set_bounds: lower or upper contains NaN (use -inf/+inf for no bound)");
+    }
+    if (!m_space.within_bounds(lower, lower, upper)) {
+      throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
+    }
     m_space.allocate_like(m_lower_bound, lower);
     m_space.allocate_like(m_upper_bound, upper);
     m_space.copy(lower, m_lower_bound);
     m_space.copy(upper, m_upper_bound);
-    if (!m_space.within_bounds(m_lower_bound, m_lower_bound, m_upper_bound)) {
-      throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
-    }
     m_has_bounds = true;
   }
   void clear_bounds() { m_has_bounds = false; }
