@@ -801,7 +801,13 @@ class newton_krylov_solver {
     newton_krylov_solver* solver;
     void apply(const vector_type& r, vector_type& z) {
       const auto start = detail::clock_type::now();
+      const auto expected = r.size();
       solver->m_preconditioner.apply(r, z);
+      if (z.size() != expected) {
+        throw std::invalid_argument("nkit: the preconditioner's apply() wrote a vector of size " +
+                                    std::to_string(z.size()) + ", expected " + std::to_string(expected) +
+                                    "; it must write into z without resizing it");
+      }
       const auto stop = detail::clock_type::now();
       if (solver->m_trace != nullptr) solver->m_trace->record(trace_phase::preconditioner_apply, start, stop);
       solver->m_report.time.preconditioner_apply += detail::seconds_between(start, stop);
