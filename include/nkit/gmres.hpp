@@ -277,9 +277,14 @@ class gmres_solver {
       if (cycle == 0 && m_cauchy_target != nullptr && guess == initial_guess::zero && columns > 0) {
         cauchy_point(preconditioner, columns, beta, flexible, result);
       }
-      update_solution(preconditioner, columns, flexible, x, result);
+      const bool updated = update_solution(preconditioner, columns, flexible, x, result);
       result.iterations = total;
       ++cycle;
+      if (!updated) {  // M⁻¹ V y was not finite: x keeps the iterate of the cycle start
+        result.status = linear_solve_status::non_finite;
+        result.final_residual_norm = beta;
+        break;
+      }
 
       if (estimate <= target && columns > 0) {
         result.status = linear_solve_status::converged;
@@ -396,16 +401,20 @@ class gmres_solver {
       if constexpr (!std::is_same_v<std::decay_t<Preconditioner>, identity_preconditioner>) {
         preconditioner.apply(static_cast<const vector_type&>(m_update), target);
         ++result.preconditioner_applications;
+        if (!m_space.all_finite(target)) return;  // no Cauchy point rather than a NaN one
       }
     }
     m_cauchy_written = true;
   }
 
-  /// x += M⁻¹ V y (standard) or x += Z y (flexible), y from the triangular system.
+  /// x += M⁻¹ V y (standard) or x += Z y (flexible), y from the triangular
+  /// system. Returns false, leaving x unchanged, when the preconditioner turns
+  /// V y into NaN/Inf (one reduction per restart cycle); the columns of Z
+  /// passed through the operator already, so their finiteness is known.
   template <class Preconditioner>
-  void update_solution(Preconditioner& preconditioner, int columns, bool flexible, vector_type& x,
+  bool update_solution(Preconditioner& preconditioner, int columns, bool flexible, vector_type& x,
                        linear_solve_result& result) {
-    if (columns == 0) return;
+    if (columns == 0) return true;
     for (int i = columns - 1; i >= 0; --i) {  // back substitution, upper-triangular H
       double sum = m_least_squares_rhs(i);
       for (int k = i + 1; k < columns; ++k) sum -= m_hessenberg(i, k) * m_coefficients(k);
@@ -415,7 +424,7 @@ class gmres_solver {
       for (int i = 0; i < columns; ++i) {
         m_space.add_scaled(m_coefficients(i), m_preconditioned[static_cast<std::size_t>(i)], x);
       }
-      return;
+      return true;
     }
     m_space.combine(m_coefficients(0), m_basis[0], 0, m_basis[0], m_update);
     for (int i = 1; i < columns; ++i)
@@ -425,8 +434,10 @@ class gmres_solver {
     } else {
       preconditioner.apply(static_cast<const vector_type&>(m_update), m_work);
       ++result.preconditioner_applications;
+      if (!m_space.all_finite(m_work)) return false;
       m_space.add_scaled(1, m_work, x);
     }
+    return true;
   }
 
   Space m_space;

@@ -767,6 +767,10 @@ class newton_krylov_solver {
       m_space.fill(0, out);
       return;
     }
+    if (!std::isfinite(direction_norm)) {  // never evaluate the residual at a non-finite state
+      m_space.fill(std::numeric_limits<scalar_type>::quiet_NaN(), out);
+      return;
+    }
     double step = m_difference.step_for(direction_norm);
     if (m_has_bounds) {
       const double forward_room = m_space.max_step_to_bounds(m_state, v, lower(), upper());
