@@ -19,12 +19,14 @@
 /// whose projections use one fused reduction per pass (dot_many) on a
 /// distributed space.
 ///
-/// Memory: (restart_length + 3) vectors, plus restart_length more for the
-/// flexible variant, plus O(restart_length²) doubles. All of it is allocated
+/// Memory: (m + 3) vectors, plus m more for the flexible variant, plus O(m²)
+/// doubles, where m = min(restart_length, max_iterations) (a cycle never
+/// uses more than max_iterations vectors). All of it is allocated
 /// on the first solve (or allocate_like()) and reused while the size stays
 /// the same: later solves allocate nothing.
 
 #include <Eigen/Core>
+#include <algorithm>
 #include <cmath>
 #include <cstddef>
 #include <limits>
@@ -95,8 +97,8 @@ class gmres_solver {
 
   /// Allocates the workspace for vectors shaped like `prototype`.
   void allocate_like(const vector_type& prototype, bool flexible = false) {
-    const int m = m_settings.restart_length;
-    if (static_cast<int>(m_basis.size()) != m + 1) m_basis.resize(static_cast<std::size_t>(m + 1));
+    const int m = cycle_length();
+    if (m_basis.size() != static_cast<std::size_t>(m) + 1) m_basis.resize(static_cast<std::size_t>(m) + 1);
     for (auto& v : m_basis) m_space.allocate_like(v, prototype);
     m_space.allocate_like(m_work, prototype);
     m_space.allocate_like(m_update, prototype);
@@ -104,12 +106,13 @@ class gmres_solver {
       if (static_cast<int>(m_preconditioned.size()) != m) m_preconditioned.resize(static_cast<std::size_t>(m));
       for (auto& v : m_preconditioned) m_space.allocate_like(v, prototype);
     }
-    if (m_hessenberg.rows() != m + 1 || m_hessenberg.cols() != m) {
-      m_hessenberg.resize(m + 1, m);
-      m_least_squares_rhs.resize(m + 1);
+    const Eigen::Index rows = Eigen::Index{m} + 1;
+    if (m_hessenberg.rows() != rows || m_hessenberg.cols() != m) {
+      m_hessenberg.resize(rows, m);
+      m_least_squares_rhs.resize(rows);
       m_first_row.resize(m);
       m_coefficients.resize(m);
-      m_projections.resize(m + 1);
+      m_projections.resize(rows);
       m_rotations.assign(static_cast<std::size_t>(m), detail::givens_rotation{});
     }
   }
@@ -160,7 +163,7 @@ class gmres_solver {
     allocate_like(b, flexible);
 
     linear_solve_result result;
-    const int m = m_settings.restart_length;
+    const int m = cycle_length();
     const double b_norm = m_space.norm(b);
     result.right_hand_side_norm = b_norm;
     if (!std::isfinite(b_norm)) {
@@ -328,6 +331,11 @@ class gmres_solver {
   }
 
  private:
+  /// Krylov vectors per restart cycle: restart_length, but never more than
+  /// max_iterations (so a huge restart_length does not allocate what no
+  /// cycle can use).
+  int cycle_length() const { return std::min(m_settings.restart_length, m_settings.max_iterations); }
+
   /// Orthogonalises basis[j+1] against basis[0..j]; writes H(0..j, j);
   /// returns the norm of what remains.
   double orthogonalize(int j) {
