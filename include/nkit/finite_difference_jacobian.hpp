@@ -37,6 +37,7 @@ struct jacobian_settings {
 
   void validate(std::string_view prefix = "jacobian_settings") const {
     const std::string p(prefix);
+    detail::require_enumerator(p + ".formula", formula, difference_formula::central, "forward, central");
     if (!(residual_relative_noise >= 0.0 && residual_relative_noise < 1.0)) {
       detail::throw_invalid_setting(p + ".residual_relative_noise", "in [0, 1)", residual_relative_noise);
     }

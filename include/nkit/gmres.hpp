@@ -69,6 +69,12 @@ struct gmres_settings {
     const std::string p(prefix);
     detail::require_at_least(p + ".restart_length", restart_length, 1);
     detail::require_at_least(p + ".max_iterations", max_iterations, 1);
+    detail::require_enumerator(p + ".variant", variant, gmres_variant::flexible, "standard, flexible");
+    detail::require_enumerator(p + ".orthogonalization", orthogonalization,
+                               orthogonalization_method::classical_gram_schmidt_twice,
+                               "modified_gram_schmidt, classical_gram_schmidt_twice");
+    detail::require_enumerator(p + ".reorthogonalization", reorthogonalization, reorthogonalization_policy::always,
+                               "never, when_needed, always");
   }
 };
 
