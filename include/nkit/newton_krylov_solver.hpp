@@ -274,8 +274,8 @@ class newton_krylov_solver {
     m_report.history.clear();
     // Capped: max_newton_steps = INT_MAX ("no limit") must not reserve ~250 GB.
     // Longer solves grow the history once; the capacity is kept for later solves.
-    m_history_capacity = std::max(m_history_capacity, static_cast<std::size_t>(std::min(
-                                                          m_settings.max_newton_steps, max_reserved_history)));
+    m_history_capacity = std::max(
+        m_history_capacity, static_cast<std::size_t>(std::min(m_settings.max_newton_steps, max_reserved_history)));
     m_report.history.reserve(m_history_capacity);
     m_residual_samples.clear();
 
