@@ -209,37 +209,6 @@ TEST_CASE("an admissibility predicate is never violated at an evaluated state", 
   CHECK(report.inadmissible_trials >= 1);
 }
 
-TEST_CASE("bad bounds and scales are rejected", "[globalization][input]") {
-  nkit::newton_krylov_solver<> solver;
-  CHECK_THROWS_WITH(solver.set_bounds(Eigen::VectorXd::Ones(3), Eigen::VectorXd::Zero(3)),
-                    "nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
-  CHECK_THROWS_WITH(solver.set_bounds(Eigen::VectorXd::Ones(3), Eigen::VectorXd::Ones(2)),
-                    "nkit: set_bounds: lower has 3 entries but upper has 2");
-  solver.set_bounds(Eigen::VectorXd::Zero(2), Eigen::VectorXd::Ones(2));
-  auto linear = [](const Eigen::VectorXd& x, Eigen::VectorXd& r) { r = x.array() - 0.5; };
-  Eigen::VectorXd outside = Eigen::VectorXd::Constant(2, 2.0);
-  CHECK_THROWS_WITH(solver.solve(linear, outside),
-                    "nkit: the initial guess u0 violates the bounds given to set_bounds");
-  Eigen::VectorXd wrong_size = Eigen::VectorXd::Constant(3, 0.2);
-  CHECK_THROWS_WITH(solver.solve(linear, wrong_size), "nkit: the lower bound has 2 entries but the state has 3");
-  Eigen::VectorXd scale = Eigen::VectorXd::Ones(2);
-  scale(1) = 0.0;
-  CHECK_THROWS_WITH(solver.set_scaling(scale, Eigen::VectorXd()),
-                    "nkit: set_scaling: every entry of variable_scale must be finite and > 0");
-  nkit::newton_settings settings;
-  settings.pseudo_transient.growth_limit = 1.0;
-  CHECK_THROWS_WITH(solver.configure(settings),
-                    "nkit: newton_settings.pseudo_transient.growth_limit must be > 1 (got 1)");
-  settings = {};
-  settings.trust_region.shrink_factor = 1.5;
-  CHECK_THROWS_WITH(solver.configure(settings),
-                    "nkit: newton_settings.trust_region.shrink_factor must be in (0, 1) (got 1.5)");
-  settings = {};
-  settings.bounds.boundary_fraction = 1.0;
-  CHECK_THROWS_WITH(solver.configure(settings),
-                    "nkit: newton_settings.bounds.boundary_fraction must be in (0, 1) (got 1)");
-}
-
 TEST_CASE("scaling makes the solve independent of the unit system", "[globalization][scaling]") {
   // System A: a coupled nonlinear system (Broyden tridiagonal form, MGH 1981
   // problem 30, shifted so the root is nontrivial). System B is the same physics

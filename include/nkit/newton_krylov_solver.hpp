@@ -32,6 +32,8 @@
 /// vectors, history capacity) is allocated on the first solve and kept, so a
 /// later solve of the same size allocates nothing in its iterations; solve()
 /// allocates once at the end, to copy the history into the returned report.
+/// (History room is reserved for min(max_newton_steps, 1024) steps; a solve
+/// longer than that grows it once, and the larger capacity is kept.)
 
 #include <algorithm>
 #include <cmath>
@@ -158,13 +160,18 @@ class newton_krylov_solver {
       throw std::invalid_argument("nkit: set_bounds: lower has " + std::to_string(lower.size()) +
                                   " entries but upper has " + std::to_string(upper.size()));
     }
+    // Checked before anything is stored: a rejected call leaves the old bounds
+    // in force. NaN fails every comparison, so x <= x is false only for NaN.
+    if (!m_space.within_bounds(lower, lower, lower) || !m_space.within_bounds(upper, upper, upper)) {
+      throw std::invalid_argument("nkit: set_bounds: lower or upper contains NaN (use -inf/+inf for no bound)");
+    }
+    if (!m_space.within_bounds(lower, lower, upper)) {
+      throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
+    }
     m_space.allocate_like(m_lower_bound, lower);
     m_space.allocate_like(m_upper_bound, upper);
     m_space.copy(lower, m_lower_bound);
     m_space.copy(upper, m_upper_bound);
-    if (!m_space.within_bounds(m_lower_bound, m_lower_bound, m_upper_bound)) {
-      throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
-    }
     m_has_bounds = true;
   }
   void clear_bounds() { m_has_bounds = false; }
@@ -246,6 +253,9 @@ class newton_krylov_solver {
 
   enum class phase { residual, none };
 
+  /// History records reserved up front (about 130 bytes each).
+  static constexpr int max_reserved_history = 1024;
+
   static const newton_settings& validated(const newton_settings& settings) {
     settings.validate();
     return settings;
@@ -275,7 +285,10 @@ class newton_krylov_solver {
     m_report = solve_report{};
     m_report.history = std::move(history);
     m_report.history.clear();
-    m_history_capacity = std::max(m_history_capacity, static_cast<std::size_t>(m_settings.max_newton_steps));
+    // Capped: max_newton_steps = INT_MAX ("no limit") must not reserve ~250 GB.
+    // Longer solves grow the history once; the capacity is kept for later solves.
+    m_history_capacity = std::max(
+        m_history_capacity, static_cast<std::size_t>(std::min(m_settings.max_newton_steps, max_reserved_history)));
     m_report.history.reserve(m_history_capacity);
     m_residual_samples.clear();
 
@@ -336,6 +349,10 @@ class newton_krylov_solver {
     }
     m_trust_radius = m_settings.trust_region.initial_radius;
 
+    // Until R(u0) is known the norms are unknown (NaN), not those of an earlier
+    // solve: a time limit or cancellation can stop the run before it is evaluated.
+    m_norm = m_best_norm = std::numeric_limits<double>::quiet_NaN();
+    m_report.initial_residual_norm = m_report.final_residual_norm = m_norm;
     evaluate(problem, m_state, m_residual, phase::residual);
     m_norm = m_space.norm(m_residual);
     m_report.initial_residual_norm = m_report.final_residual_norm = m_norm;
@@ -768,6 +785,10 @@ class newton_krylov_solver {
       m_space.fill(0, out);
       return;
     }
+    if (!std::isfinite(direction_norm)) {  // never evaluate the residual at a non-finite state
+      m_space.fill(std::numeric_limits<scalar_type>::quiet_NaN(), out);
+      return;
+    }
     double step = m_difference.step_for(direction_norm);
     if (m_has_bounds) {
       const double forward_room = m_space.max_step_to_bounds(m_state, v, lower(), upper());
@@ -802,7 +823,13 @@ class newton_krylov_solver {
     newton_krylov_solver* solver;
     void apply(const vector_type& r, vector_type& z) {
       const auto start = detail::clock_type::now();
+      const auto expected = r.size();
       solver->m_preconditioner.apply(r, z);
+      if (z.size() != expected) {
+        throw std::invalid_argument("nkit: the preconditioner's apply() wrote a vector of size " +
+                                    std::to_string(z.size()) + ", expected " + std::to_string(expected) +
+                                    "; it must write into z without resizing it");
+      }
       const auto stop = detail::clock_type::now();
       if (solver->m_trace != nullptr) solver->m_trace->record(trace_phase::preconditioner_apply, start, stop);
       solver->m_report.time.preconditioner_apply += detail::seconds_between(start, stop);

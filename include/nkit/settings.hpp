@@ -219,6 +219,8 @@ struct newton_settings {
     detail::require_positive("newton_settings.wall_time_limit_seconds", wall_time_limit_seconds, true);
     detail::require_at_least("newton_settings.stagnation_window", stagnation_window, 1);
     detail::require_open_interval("newton_settings.stagnation_factor", stagnation_factor, 0.0, 1.0);
+    detail::require_enumerator("newton_settings.globalization", globalization, globalization_strategy::pseudo_transient,
+                               "line_search, full_step, trust_region, pseudo_transient");
     forcing.validate("newton_settings.forcing");
     line_search.validate("newton_settings.line_search");
     trust_region.validate("newton_settings.trust_region");
