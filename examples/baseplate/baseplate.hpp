@@ -45,6 +45,8 @@
 #include <type_traits>
 #include <vector>
 
+#include "common/harmonic_face.hpp"
+
 namespace nkit_examples {
 
 /// Invented material model: k(T) = reference (T_ref/T)^exponent (1 + slope (T − T_ref)).
@@ -181,14 +183,12 @@ class baseplate_conduction {
         const Eigen::Index p = index(i, j);
         const double kp = m_conductivity(p);
         if (i + 1 < m_nx) {
-          const double kq = m_conductivity(p + 1);
-          const double flux = gx * 2.0 * kp * kq / (kp + kq) * (t(p) - t(p + 1));
+          const double flux = harmonic_face(gx, t(p), t(p + 1), kp, m_conductivity(p + 1), 0.0, 0.0).flux;
           r(p) += flux;
           r(p + 1) -= flux;
         }
         if (j + 1 < m_ny) {
-          const double kq = m_conductivity(p + nx);
-          const double flux = gy * 2.0 * kp * kq / (kp + kq) * (t(p) - t(p + nx));
+          const double flux = harmonic_face(gy, t(p), t(p + nx), kp, m_conductivity(p + nx), 0.0, 0.0).flux;
           r(p) += flux;
           r(p + nx) -= flux;
         }
@@ -252,14 +252,11 @@ class baseplate_conduction {
     // One face between p and q with geometric factor g: its flux F = g k_f (T_p − T_q)
     // adds +F to R_p and −F to R_q.
     auto face = [&](Eigen::Index p, Eigen::Index q, double g) {
-      const double kp = m_conductivity(p), kq = m_conductivity(q), sum = kp + kq;
-      const double kf = 2.0 * kp * kq / sum;
-      double dfdp = g * kf, dfdq = -g * kf;
-      if (jacobian) {
-        const double difference = t(p) - t(q);
-        dfdp += g * 2.0 * kq * kq / (sum * sum) * m_conductivity_derivative(p) * difference;
-        dfdq += g * 2.0 * kp * kp / (sum * sum) * m_conductivity_derivative(q) * difference;
-      }
+      const face_flux f =
+          harmonic_face(g, t(p), t(q), m_conductivity(p), m_conductivity(q),
+                        jacobian ? m_conductivity_derivative(p) : 0.0, jacobian ? m_conductivity_derivative(q) : 0.0);
+      const double dfdp = jacobian ? f.derivative_p : f.frozen_conductance;
+      const double dfdq = jacobian ? f.derivative_q : -f.frozen_conductance;
       diagonal(p) += dfdp;
       diagonal(q) -= dfdq;
       m_triplets.push_back(triplet(static_cast<int>(p), static_cast<int>(q), dfdq));
