@@ -7,6 +7,7 @@
 
 #include <cmath>
 #include <cstdint>
+#include <cstdlib>
 #include <sstream>
 #include <stdexcept>
 #include <string>
@@ -33,10 +34,13 @@ namespace nkit::detail {
 
 /// Shortest text that reads back as the same double (for error messages).
 inline std::string number_text(double value) {
-  std::ostringstream text;
-  text.precision(17);
-  text << value;
-  return text.str();
+  for (int digits = 6; digits <= 17; ++digits) {
+    std::ostringstream text;
+    text.precision(digits);
+    text << value;
+    if (digits == 17 || std::isnan(value) || std::strtod(text.str().c_str(), nullptr) == value) return text.str();
+  }
+  return {};
 }
 
 inline std::string number_text(std::int64_t value) { return std::to_string(value); }

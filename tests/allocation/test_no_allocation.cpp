@@ -1,0 +1,160 @@
+// Heap-allocation checks: after the first solve of a given size, the solvers
+// allocate nothing. Two independent counters: Eigen's own run-time malloc
+// check (EIGEN_RUNTIME_NO_MALLOC, counted instead of aborting) and a
+// replacement of the global operator new (everything else, std::vector etc.).
+// Built as its own executable because both hooks change global behaviour.
+#include <atomic>
+#include <cstddef>
+#include <cstdlib>
+#include <memory>
+#include <new>
+#include <vector>
+
+namespace allocation_counters {
+std::atomic<bool> counting{false};
+std::atomic<long> operator_new_calls{0};
+std::atomic<long> eigen_heap_requests{0};
+}  // namespace allocation_counters
+
+#define EIGEN_RUNTIME_NO_MALLOC
+#define eigen_assert(condition) \
+  ((condition) ? static_cast<void>(0) : static_cast<void>(++allocation_counters::eigen_heap_requests))
+
+#include <catch2/catch.hpp>
+#include <nkit/nkit.hpp>
+
+// noinline: the pairing of new with malloc and delete with free is deliberate;
+// inlining would let the compiler flag it as a mismatch.
+[[gnu::noinline]] void* operator new(std::size_t size) {
+  if (allocation_counters::counting) ++allocation_counters::operator_new_calls;
+  if (void* p = std::malloc(size == 0 ? 1 : size)) return p;
+  throw std::bad_alloc();
+}
+[[gnu::noinline]] void operator delete(void* p) noexcept { std::free(p); }
+[[gnu::noinline]] void operator delete(void* p, std::size_t) noexcept { std::free(p); }
+
+namespace {
+
+/// Counts both kinds of heap request between construction and destruction.
+class counted_region {
+ public:
+  counted_region() {
+    allocation_counters::operator_new_calls = 0;
+    allocation_counters::eigen_heap_requests = 0;
+    Eigen::internal::set_is_malloc_allowed(false);
+    allocation_counters::counting = true;
+  }
+  ~counted_region() { stop(); }
+  void stop() {
+    allocation_counters::counting = false;
+    Eigen::internal::set_is_malloc_allowed(true);
+  }
+  long operator_new_calls() const { return allocation_counters::operator_new_calls; }
+  long eigen_heap_requests() const { return allocation_counters::eigen_heap_requests; }
+};
+
+/// Tridiagonal nonlinear system (Broyden-tridiagonal form, Moré, Garbow &
+/// Hillstrom 1981, problem 30), written without temporaries.
+struct tridiagonal_residual {
+  template <class Scalar>
+  void operator()(const Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& x,
+                  Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& r) const {
+    const Eigen::Index n = x.size();
+    for (Eigen::Index i = 0; i < n; ++i) {
+      const Scalar left = i > 0 ? x(i - 1) : Scalar(0.0);
+      const Scalar right = i + 1 < n ? x(i + 1) : Scalar(0.0);
+      r(i) = (3.0 - 2.0 * x(i)) * x(i) - left - 2.0 * right + 1.0;
+    }
+  }
+};
+
+}  // namespace
+
+TEST_CASE("GMRES allocates nothing after the first solve of a size", "[allocation]") {
+  const int n = 500;
+  Eigen::SparseMatrix<double> a(n, n);
+  for (int i = 0; i < n; ++i) {
+    a.insert(i, i) = 4.0;
+    if (i > 0) a.insert(i, i - 1) = -1.0;
+    if (i + 1 < n) a.insert(i, i + 1) = -1.5;
+  }
+  a.makeCompressed();
+  nkit::matrix_operator<Eigen::SparseMatrix<double>> op(a);
+  const Eigen::VectorXd b = Eigen::VectorXd::Ones(n);
+  Eigen::VectorXd x(n);
+  for (auto variant : {nkit::gmres_variant::standard, nkit::gmres_variant::flexible}) {
+    nkit::gmres_settings settings;
+    settings.restart_length = 10;  // forces restarts
+    settings.variant = variant;
+    nkit::gmres_solver<> gmres(settings);
+    nkit::identity_preconditioner none;
+    gmres.solve(op, none, b, x, 1e-10, nkit::initial_guess::zero);  // first solve sizes the workspace
+    counted_region region;
+    const auto result = gmres.solve(op, none, b, x, 1e-10, nkit::initial_guess::zero);
+    region.stop();
+    CHECK(result.converged());
+    CHECK(result.restarts > 0);
+    CHECK(region.operator_new_calls() == 0);
+    CHECK(region.eigen_heap_requests() == 0);
+  }
+}
+
+TEST_CASE("a repeated Newton solve of the same size allocates nothing", "[allocation]") {
+  const int n = 2000;
+  nkit::newton_settings settings;
+  settings.relative_tolerance = 1e-10;
+
+  SECTION("finite-difference products, caller-driven loop") {
+    nkit::newton_krylov_solver<> solver(settings);
+    tridiagonal_residual residual;
+    Eigen::VectorXd u = Eigen::VectorXd::Constant(n, -1.0);
+    REQUIRE(solver.solve(residual, u).converged());
+    u.setConstant(-1.0);
+    counted_region region;
+    auto run = solver.begin(residual, u);
+    while (run.advance() == nkit::outcome::in_progress) {
+    }
+    region.stop();
+    CHECK(run.report().converged());
+    CHECK(run.report().newton_steps > 2);
+    CHECK(region.operator_new_calls() == 0);
+    CHECK(region.eigen_heap_requests() == 0);
+  }
+  SECTION("automatic differentiation and a preconditioner, solve()") {
+    // solve() returns the report by value: copying the history is its one allocation.
+    Eigen::VectorXd inverse_diagonal = Eigen::VectorXd::Constant(n, 1.0 / 5.0);
+    auto jacobi = nkit::make_preconditioner(
+        [&](const Eigen::VectorXd& r, Eigen::VectorXd& z) { z = r.cwiseProduct(inverse_diagonal); });
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, decltype(jacobi)> solver(settings, {}, jacobi);
+    auto residual = nkit::with_automatic_differentiation(tridiagonal_residual{});
+    Eigen::VectorXd u = Eigen::VectorXd::Constant(n, -1.0);
+    REQUIRE(solver.solve(residual, u).converged());
+    u.setConstant(-1.0);
+    counted_region region;
+    const auto report = solver.solve(residual, u);
+    region.stop();
+    CHECK(report.converged());
+    CHECK(region.operator_new_calls() == 1);
+    CHECK(region.eigen_heap_requests() == 0);
+  }
+}
+
+TEST_CASE("the counters do see allocations (so the checks above can fail)", "[allocation]") {
+  counted_region region;
+  Eigen::VectorXd v(1000);                 // Eigen heap request
+  auto* p = new std::vector<double>(100);  // operator new, twice
+  region.stop();
+  delete p;
+  CHECK(v.size() == 1000);
+  CHECK(region.eigen_heap_requests() == 1);
+  CHECK(region.operator_new_calls() == 2);
+
+  // A first Newton solve must allocate its workspace.
+  nkit::newton_krylov_solver<> solver;
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(50, -1.0);
+  counted_region first;
+  const auto report = solver.solve(tridiagonal_residual{}, u);
+  first.stop();
+  CHECK(report.converged());
+  CHECK(first.eigen_heap_requests() > 0);
+}
