@@ -97,6 +97,20 @@ class lid_driven_cavity {
   /// Analytic Jacobian R'(ψ, ω) (wall vorticity depends on the adjacent ψ).
   template <class SparseMatrix>
   void assemble_jacobian(const Eigen::VectorXd& state, SparseMatrix& jacobian) const {
+    assemble(state, jacobian, false);
+  }
+
+  /// Picard (Oseen) matrix M(x̂): the residual with the convecting velocity
+  /// (ψ differences) frozen at x̂ is affine in x with this matrix, and equals
+  /// R at x = x̂, so the fixed-point iteration is x ← x − M(x)⁻¹ R(x).
+  template <class SparseMatrix>
+  void assemble_picard_matrix(const Eigen::VectorXd& state, SparseMatrix& matrix) const {
+    assemble(state, matrix, true);
+  }
+
+ private:
+  template <class SparseMatrix>
+  void assemble(const Eigen::VectorXd& state, SparseMatrix& jacobian, bool frozen_velocity) const {
     using index_type = typename SparseMatrix::StorageIndex;
     std::vector<Eigen::Triplet<double, index_type>> entries;
     entries.reserve(static_cast<std::size_t>(14 * nodes()));
@@ -126,13 +140,14 @@ class lid_driven_cavity {
                            {-1, 0, -0.25 * d, inverse_re + 0.25 * a},
                            {0, 1, -0.25 * b, inverse_re + 0.25 * c},
                            {0, -1, 0.25 * b, inverse_re - 0.25 * c}};
+        const double convected = frozen_velocity ? 0.0 : 1.0;  // drop ∂(convection)/∂ψ for Picard
         double own_psi_from_walls = 0.0;
         for (const auto& nb : neighbours) {
           const int qi = i + nb.di, qj = j + nb.dj;
           if (interior(qi, qj)) {
             const Eigen::Index q = node(qi, qj);
             add(row_psi, 2 * q, 1.0);
-            add(row_om, 2 * q, nb.d_psi);
+            add(row_om, 2 * q, convected * nb.d_psi);
             add(row_om, 2 * q + 1, nb.d_omega);
           } else {
             // Wall node: ψ = 0; ω_wall = −2ψ_P/h² + const (Thom), so it feeds ∂/∂ψ_P.
@@ -146,6 +161,7 @@ class lid_driven_cavity {
     jacobian.setFromTriplets(entries.begin(), entries.end());
   }
 
+ public:
   /// Minimum streamfunction over the nodes (the primary vortex) and where it is.
   struct vortex {
     double streamfunction, x, y;
