@@ -140,7 +140,7 @@ int run(int argc, char** argv) {
   const std::string line_script =
       std::string(
           "set terminal pngcairo size 900,600 enhanced font 'Sans,11'\nset output 'cavity_centre_lines.png'\n") +
-      "set datafile separator ','\nset grid\nset key bottom right\nset title '" + title +
+      "set datafile separator ','\nset grid\nset key top left box opaque\nset title '" + title +
       ": centre-line velocities'\nset xlabel 'position along the centre line'\nset ylabel 'velocity / lid velocity'\n"
       "plot 'centre_lines.csv' using 1:2 skip 1 with lines lw 2 title 'u(0.5, y), nkit', "
       "'ghia_1982.csv' using 1:2 skip 1 with points pt 7 ps 1.2 title 'u, Ghia et al. 1982 Table I', "
