@@ -9,10 +9,13 @@
 /// to rounding, not bitwise: the summation order differs.
 
 #include <Eigen/Core>
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
+#include <limits>
 
 #include "detail/checks.hpp"
+#include "eigen_vector_space.hpp"
 
 namespace nkit {
 
@@ -65,6 +68,22 @@ class block_vector_space {
   void copy(const_view from, state_view to) const { to = from; }
   void fill(double value, state_view x) const { x.setConstant(value); }
   void multiply(const_view weights, state_view x) const { x.array() *= weights.array(); }
+  void divide(const_view weights, state_view x) const { x.array() /= weights.array(); }
+  void add_product(const_view weights, const_view x, state_view y) const { y.array() += weights.array() * x.array(); }
+  /// Per-block ratio tests combined with a min, as a distributed space would.
+  double max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
+    double step = std::numeric_limits<double>::infinity();
+    for (int b = 0; b < m_block_count; ++b) {
+      const auto [start, length] = block(b, x.size());
+      const double local = detail::local_max_step_to_bounds(x.segment(start, length), d.segment(start, length),
+                                                            lower.segment(start, length), upper.segment(start, length));
+      step = std::min(step, local);
+    }
+    return step;
+  }
+  bool within_bounds(const_view x, const_view lower, const_view upper) const {
+    return (x.array() >= lower.array()).all() && (x.array() <= upper.array()).all();
+  }
 
  private:
   struct range {

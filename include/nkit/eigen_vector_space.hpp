@@ -8,8 +8,29 @@
 
 #include <Eigen/Core>
 #include <cstdint>
+#include <limits>
 
 namespace nkit {
+
+namespace detail {
+/// Ratio test for bounds on local data: min over i of the distance to the bound
+/// d_i points at, divided by |d_i| (+inf when no d_i points at a finite bound).
+template <class X, class D, class L, class U>
+typename X::Scalar local_max_step_to_bounds(const X& x, const D& d, const L& lower, const U& upper) {
+  using scalar = typename X::Scalar;
+  scalar step = std::numeric_limits<scalar>::infinity();
+  for (Eigen::Index i = 0; i < x.size(); ++i) {
+    if (d(i) > 0) {
+      const scalar room = (upper(i) - x(i)) / d(i);
+      if (room < step) step = room;
+    } else if (d(i) < 0) {
+      const scalar room = (lower(i) - x(i)) / d(i);
+      if (room < step) step = room;
+    }
+  }
+  return step < 0 ? scalar(0) : step;
+}
+}  // namespace detail
 
 /// Vector space over Eigen::Matrix<Scalar, Dynamic, 1>. Serial: its
 /// "reductions" are plain local reductions. Stateless and cheap to copy.
@@ -37,6 +58,16 @@ class eigen_vector_space {
   void copy(const_view from, state_view to) const { to = from; }
   void fill(Scalar value, state_view x) const { x.setConstant(value); }
   void multiply(const_view weights, state_view x) const { x.array() *= weights.array(); }
+  void divide(const_view weights, state_view x) const { x.array() /= weights.array(); }
+  void add_product(const_view weights, const_view x, state_view y) const { y.array() += weights.array() * x.array(); }
+
+  /// Largest t >= 0 with lower <= x + t d <= upper (+inf if unbounded along d).
+  Scalar max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
+    return detail::local_max_step_to_bounds(x, d, lower, upper);
+  }
+  bool within_bounds(const_view x, const_view lower, const_view upper) const {
+    return (x.array() >= lower.array()).all() && (x.array() <= upper.array()).all();
+  }
 };
 
 }  // namespace nkit

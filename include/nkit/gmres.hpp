@@ -106,12 +106,22 @@ class gmres_solver {
     if (m_hessenberg.rows() != m + 1 || m_hessenberg.cols() != m) {
       m_hessenberg.resize(m + 1, m);
       m_least_squares_rhs.resize(m + 1);
+      m_first_row.resize(m);
       m_coefficients.resize(m);
       m_projections.resize(m + 1);
-      m_corrections.resize(m + 1);
       m_rotations.assign(static_cast<std::size_t>(m), detail::givens_rotation{});
     }
   }
+
+  /// Asks the next solve (from a zero initial guess) to also write the Cauchy
+  /// point of its first restart cycle into `target`: the minimiser of
+  /// ½‖b − A x‖² along the steepest-descent direction of that model in the
+  /// first Krylov subspace (coordinates of the basis, i.e. the M-norm under
+  /// right preconditioning). Used by the trust-region globalisation (Brown &
+  /// Saad 1990). Pass nullptr to stop. `target` must be shaped like b.
+  void capture_cauchy_point(vector_type* target) { m_cauchy_target = target; }
+  /// True when the last solve wrote a Cauchy point.
+  bool cauchy_point_available() const { return m_cauchy_written; }
 
   /// Bytes of vector and dense workspace currently held.
   std::size_t workspace_bytes() const {
@@ -119,7 +129,7 @@ class gmres_solver {
     const std::size_t length = m_basis.empty() ? 0 : static_cast<std::size_t>(m_basis.front().size());
     const std::size_t dense =
         static_cast<std::size_t>(m_hessenberg.size() + m_least_squares_rhs.size() + m_coefficients.size() +
-                                 m_projections.size() + m_corrections.size()) +
+                                 m_projections.size() + m_first_row.size()) +
         2 * m_rotations.size();
     return sizeof(scalar_type) * (vector_count * length + dense);
   }
@@ -177,6 +187,8 @@ class gmres_solver {
     }
 
     int total = 0;
+    int cycle = 0;
+    m_cauchy_written = false;
     while (true) {
       if (beta <= target) {
         result.status = linear_solve_status::converged;
@@ -214,6 +226,7 @@ class gmres_solver {
           non_finite = true;  // column j is discarded; earlier columns are sound
           break;
         }
+        m_first_row(j) = m_hessenberg(0, j);  // before rotations: row 1 of the Hessenberg matrix
         double column_norm_squared = next_norm * next_norm;
         for (int i = 0; i <= j; ++i) column_norm_squared += m_hessenberg(i, j) * m_hessenberg(i, j);
 
@@ -248,8 +261,12 @@ class gmres_solver {
         if (estimate <= target || happy_breakdown) break;
       }
 
+      if (cycle == 0 && m_cauchy_target != nullptr && guess == initial_guess::zero && columns > 0) {
+        cauchy_point(preconditioner, columns, beta, flexible, result);
+      }
       update_solution(preconditioner, columns, flexible, x, result);
       result.iterations = total;
+      ++cycle;
 
       if (estimate <= target && columns > 0) {
         result.status = linear_solve_status::converged;
@@ -330,6 +347,47 @@ class gmres_solver {
     return norm_after;
   }
 
+  /// Cauchy point of the first cycle. Model in basis coordinates:
+  /// m(y) = ½‖β e₁ − H̄ y‖², gradient at 0 = −β H̄ᵀ e₁, so the descent
+  /// direction is d = β (first row of H̄)ᵀ and the minimiser along it is
+  /// t = ‖d‖² / ‖H̄ d‖²; ‖H̄ d‖ = ‖R d‖ because the rotations are orthogonal.
+  template <class Preconditioner>
+  void cauchy_point(Preconditioner& preconditioner, int columns, double beta, bool flexible,
+                    linear_solve_result& result) {
+    double d_squared = 0.0;
+    for (int i = 0; i < columns; ++i) {
+      m_coefficients(i) = beta * m_first_row(i);
+      d_squared += m_coefficients(i) * m_coefficients(i);
+    }
+    double r_d_squared = 0.0;
+    for (int i = 0; i < columns; ++i) {
+      double row = 0.0;
+      for (int k = i; k < columns; ++k) row += m_hessenberg(i, k) * m_coefficients(k);
+      r_d_squared += row * row;
+    }
+    if (!(r_d_squared > 0.0) || !(d_squared > 0.0)) return;
+    const double t = d_squared / r_d_squared;
+    vector_type& target = *m_cauchy_target;
+    if (flexible) {
+      m_space.fill(0, target);
+      for (int i = 0; i < columns; ++i) {
+        m_space.add_scaled(t * m_coefficients(i), m_preconditioned[static_cast<std::size_t>(i)], target);
+      }
+    } else {
+      vector_type& combination =
+          std::is_same_v<std::decay_t<Preconditioner>, identity_preconditioner> ? target : m_update;
+      m_space.fill(0, combination);
+      for (int i = 0; i < columns; ++i) {
+        m_space.add_scaled(t * m_coefficients(i), m_basis[static_cast<std::size_t>(i)], combination);
+      }
+      if constexpr (!std::is_same_v<std::decay_t<Preconditioner>, identity_preconditioner>) {
+        preconditioner.apply(static_cast<const vector_type&>(m_update), target);
+        ++result.preconditioner_applications;
+      }
+    }
+    m_cauchy_written = true;
+  }
+
   /// x += M⁻¹ V y (standard) or x += Z y (flexible), y from the triangular system.
   template <class Preconditioner>
   void update_solution(Preconditioner& preconditioner, int columns, bool flexible, vector_type& x,
@@ -368,8 +426,10 @@ class gmres_solver {
   Eigen::VectorXd m_least_squares_rhs;
   Eigen::VectorXd m_coefficients;
   Eigen::VectorXd m_projections;
-  Eigen::VectorXd m_corrections;
+  Eigen::VectorXd m_first_row;
   std::vector<detail::givens_rotation> m_rotations;
+  vector_type* m_cauchy_target = nullptr;
+  bool m_cauchy_written = false;
 };
 
 }  // namespace nkit

@@ -8,7 +8,9 @@
 /// the preconditioner if the reuse policy says so, solve R'(u) x = R(u) with
 /// right-preconditioned GMRES to relative tolerance η using matrix-free
 /// Jacobian-vector products, and move along s = −x with the chosen
-/// globalisation. The caller may drive the loop itself:
+/// globalisation: line search, full step, trust region (trust_region.hpp) or
+/// pseudo-transient continuation (pseudo_transient.hpp). The caller may drive
+/// the loop itself:
 ///
 ///   auto run = solver.begin(residual, u);
 ///   while (run.advance() == nkit::outcome::in_progress) { /* look at u */ }
@@ -19,6 +21,12 @@
 /// the smallest residual norm seen. When the user's residual (or any user
 /// callback) throws, the exception propagates unchanged and `u` holds the last
 /// accepted iterate.
+///
+/// Optional problem members (detected at compile time; see residual.hpp):
+/// jacobian_product, assemble_jacobian, pseudo_time_weights and
+///   bool is_admissible(const vector_type& u)   physical admissibility; the
+///                                              residual is never evaluated
+///                                              where it returns false.
 ///
 /// Allocation: the workspace (Newton vectors, GMRES basis, difference
 /// vectors, history capacity) is allocated on the first solve and kept, so a
@@ -45,9 +53,11 @@
 #include "monitor.hpp"
 #include "outcome.hpp"
 #include "preconditioner.hpp"
+#include "pseudo_transient.hpp"
 #include "report.hpp"
 #include "residual.hpp"
 #include "settings.hpp"
+#include "trust_region.hpp"
 #include "vector_space.hpp"
 
 namespace nkit {
@@ -66,6 +76,26 @@ template <class Problem, class Matrix, class Vector>
 struct has_assemble_jacobian<Problem, Matrix, Vector,
                              std::void_t<decltype(std::declval<Problem&>().assemble_jacobian(
                                  std::declval<const Vector&>(), std::declval<Matrix&>()))>> : std::true_type {};
+
+template <class Problem, class Vector, class = void>
+struct has_is_admissible : std::false_type {};
+template <class Problem, class Vector>
+struct has_is_admissible<
+    Problem, Vector, std::void_t<decltype(bool(std::declval<Problem&>().is_admissible(std::declval<const Vector&>())))>>
+    : std::true_type {};
+
+template <class Problem, class Vector, class = void>
+struct has_pseudo_time_weights : std::false_type {};
+template <class Problem, class Vector>
+struct has_pseudo_time_weights<Problem, Vector,
+                               std::void_t<decltype(std::declval<Problem&>().pseudo_time_weights(
+                                   std::declval<const Vector&>(), std::declval<Vector&>()))>> : std::true_type {};
+
+/// J(i, i) += shift(i) for every row; inserts missing diagonal entries.
+template <class Vector>
+void add_to_diagonal(sparse_matrix& jacobian, const Vector& shift) {
+  for (Eigen::Index i = 0; i < shift.size(); ++i) jacobian.coeffRef(i, i) += shift(i);
+}
 }  // namespace detail
 
 template <class Solver, class Problem, class Monitor>
@@ -81,6 +111,7 @@ class newton_krylov_solver {
   using vector_type = typename Space::vector_type;
   using scalar_type = typename Space::scalar_type;
   using state_view = typename Space::state_view;
+  using const_view = typename Space::const_view;
 
   explicit newton_krylov_solver(newton_settings settings = {}, Space space = {}, Preconditioner preconditioner = {})
       : m_settings(validated(settings)),
@@ -105,6 +136,57 @@ class newton_krylov_solver {
   /// The next Newton step rebuilds the preconditioner whatever the reuse policy says.
   void request_preconditioner_rebuild() { m_rebuild_requested = true; }
 
+  /// Declares lower <= u <= upper (physical units; ±infinity where a side is
+  /// unbounded). Every state at which the residual is evaluated respects them
+  /// (settings.bounds says how steps are shortened). Throws
+  /// std::invalid_argument on sizes that differ or on lower > upper.
+  void set_bounds(const_view lower, const_view upper) {
+    if (lower.size() != upper.size()) {
+      throw std::invalid_argument("nkit: set_bounds: lower has " + std::to_string(lower.size()) +
+                                  " entries but upper has " + std::to_string(upper.size()));
+    }
+    m_space.allocate_like(m_lower_bound, lower);
+    m_space.allocate_like(m_upper_bound, upper);
+    m_space.copy(lower, m_lower_bound);
+    m_space.copy(upper, m_upper_bound);
+    if (!m_space.within_bounds(m_lower_bound, m_lower_bound, m_upper_bound)) {
+      throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
+    }
+    m_has_bounds = true;
+  }
+  void clear_bounds() { m_has_bounds = false; }
+
+  /// Variable and residual scales (typical magnitudes, all > 0). The solver
+  /// then works with ũ = u / variable_scale and R̃ = R / residual_scale: all
+  /// norms, tolerances, forcing terms and the trust radius refer to these
+  /// scaled quantities. Pass an empty vector to leave one side unscaled.
+  void set_scaling(const_view variable_scale, const_view residual_scale) {
+    const auto check = [this](const_view scale, const char* which) {
+      vector_type smallest, largest;
+      m_space.allocate_like(smallest, scale);
+      m_space.allocate_like(largest, scale);
+      m_space.fill(std::numeric_limits<scalar_type>::min(), smallest);
+      m_space.fill(std::numeric_limits<scalar_type>::max(), largest);
+      if (!m_space.within_bounds(scale, smallest, largest)) {
+        throw std::invalid_argument(std::string("nkit: set_scaling: every entry of ") + which +
+                                    " must be finite and > 0");
+      }
+    };
+    if (variable_scale.size() > 0) check(variable_scale, "variable_scale");
+    if (residual_scale.size() > 0) check(residual_scale, "residual_scale");
+    m_variable_scaling = variable_scale.size() > 0;
+    m_residual_scaling = residual_scale.size() > 0;
+    if (m_variable_scaling) {
+      m_space.allocate_like(m_variable_scale, variable_scale);
+      m_space.copy(variable_scale, m_variable_scale);
+    }
+    if (m_residual_scaling) {
+      m_space.allocate_like(m_residual_scale, residual_scale);
+      m_space.copy(residual_scale, m_residual_scale);
+    }
+  }
+  void clear_scaling() { m_variable_scaling = m_residual_scaling = false; }
+
   /// Starts a caller-driven solve: evaluates R(u0) and returns a handle whose
   /// advance() takes one Newton step. `problem` and `u` must outlive the run.
   template <class Problem, class Monitor = null_monitor>
@@ -125,24 +207,30 @@ class newton_krylov_solver {
 
   /// Bytes of workspace held now (vectors, GMRES, preconditioner, history).
   std::size_t workspace_bytes() const {
-    const std::size_t n = static_cast<std::size_t>(m_state.size());
-    const std::size_t newton_vectors = 7;  // state, residual, step, trial state, trial residual, best, product
-    return sizeof(scalar_type) * newton_vectors * n + m_gmres.workspace_bytes() + m_difference.workspace_bytes() +
-           preconditioner_memory_bytes(m_preconditioner) + m_report.history.capacity() * sizeof(newton_step_record);
+    std::size_t entries = 0;
+    for (const vector_type* v :
+         {&m_state, &m_residual, &m_step, &m_trial_state, &m_trial_residual, &m_best_state, &m_product, &m_cauchy,
+          &m_cauchy_product, &m_physical, &m_physical_direction, &m_weights, &m_shift}) {
+      entries += static_cast<std::size_t>(v->size());
+    }
+    return sizeof(scalar_type) * entries + m_gmres.workspace_bytes() + m_difference.workspace_bytes() +
+           preconditioner_memory_bytes(m_preconditioner) +
+           sizeof(double) * static_cast<std::size_t>(m_jacobian.nonZeros()) * 2 +
+           m_report.history.capacity() * sizeof(newton_step_record);
   }
 
  private:
   template <class Solver, class Problem, class Monitor>
   friend class newton_run;
 
-  enum class phase { residual, jacobian_vector, none };
+  enum class phase { residual, none };
 
   static const newton_settings& validated(const newton_settings& settings) {
     settings.validate();
     return settings;
   }
 
-  // ---- setup ------------------------------------------------------------
+  // ---- setup and finish --------------------------------------------------------
 
   template <class Problem>
   void start(Problem& problem, state_view u) {
@@ -150,15 +238,22 @@ class newton_krylov_solver {
                   "nkit: the residual must be callable as residual(const vector_type& u, vector_type& r)");
     if (u.size() == 0) throw std::invalid_argument("nkit: the state vector u is empty");
     if (!m_space.all_finite(u)) throw std::invalid_argument("nkit: the initial guess u0 contains NaN or Inf entries");
+    const auto check_size = [&](const vector_type& v, bool active, const char* what) {
+      if (active && v.size() != u.size()) {
+        throw std::invalid_argument(std::string("nkit: ") + what + " has " + std::to_string(v.size()) +
+                                    " entries but the state has " + std::to_string(u.size()));
+      }
+    };
+    check_size(m_lower_bound, m_has_bounds, "the lower bound");
+    check_size(m_variable_scale, m_variable_scaling, "variable_scale");
+    check_size(m_residual_scale, m_residual_scaling, "residual_scale");
 
     m_clock.restart();
     auto history = std::move(m_report.history);  // keep its capacity: no allocation on repeat solves
     m_report = solve_report{};
     m_report.history = std::move(history);
     m_report.history.clear();
-    if (m_history_capacity < static_cast<std::size_t>(m_settings.max_newton_steps)) {
-      m_history_capacity = static_cast<std::size_t>(m_settings.max_newton_steps);
-    }
+    m_history_capacity = std::max(m_history_capacity, static_cast<std::size_t>(m_settings.max_newton_steps));
     m_report.history.reserve(m_history_capacity);
     m_residual_samples.clear();
 
@@ -166,21 +261,53 @@ class newton_krylov_solver {
          {&m_state, &m_residual, &m_step, &m_trial_state, &m_trial_residual, &m_best_state, &m_product}) {
       m_space.allocate_like(*v, u);
     }
+    if (m_variable_scaling || detail::has_jacobian_product_impl<Problem, vector_type>::value ||
+        detail::has_is_admissible<Problem, vector_type>::value) {
+      m_space.allocate_like(m_physical, u);
+      m_space.allocate_like(m_physical_direction, u);
+    }
+    if (m_settings.globalization == globalization_strategy::trust_region) {
+      m_space.allocate_like(m_cauchy, u);
+      m_space.allocate_like(m_cauchy_product, u);
+    }
+    m_pseudo_transient = m_settings.globalization == globalization_strategy::pseudo_transient;
+    if (m_pseudo_transient) {
+      m_space.allocate_like(m_weights, u);
+      m_space.allocate_like(m_shift, u);
+      m_space.fill(1, m_weights);
+      m_pseudo_time_step = m_settings.pseudo_transient.initial_step;
+    }
     m_difference.allocate_like(m_state);
-    const bool flexible = changes_between_applications(m_preconditioner);
-    m_gmres.allocate_like(m_state, flexible);
+    m_gmres.allocate_like(m_state, changes_between_applications(m_preconditioner));
 
     m_space.copy(u, m_state);
+    if (m_has_bounds && !m_space.within_bounds(m_state, m_lower_bound, m_upper_bound)) {
+      throw std::invalid_argument("nkit: the initial guess u0 violates the bounds given to set_bounds");
+    }
+    if (m_variable_scaling) {
+      m_space.divide(m_variable_scale, m_state);
+      m_space.allocate_like(m_scaled_lower, u);
+      m_space.allocate_like(m_scaled_upper, u);
+    }
+    if (m_has_bounds && m_variable_scaling) {
+      m_space.copy(m_lower_bound, m_scaled_lower);
+      m_space.divide(m_variable_scale, m_scaled_lower);
+      m_space.copy(m_upper_bound, m_scaled_upper);
+      m_space.divide(m_variable_scale, m_scaled_upper);
+    }
+    if constexpr (detail::has_is_admissible<Problem, vector_type>::value) {
+      if (!admissible(problem, m_state)) throw std::invalid_argument("nkit: the initial guess u0 is not admissible");
+    }
     m_forcing = forcing_term_sequence(m_settings.forcing);
     m_forcing.reset();
     m_best_is_current = true;
     m_steps_since_best = 0;
     m_linear_budget_spent = false;
     m_monitor_stopped = false;
-    m_last_setup_step = -1;
     m_last_linear_iterations = 0;
     m_last_linear_failed = false;
-    if (m_settings.preconditioner_reuse.rebuild_every_newton_steps >= 1) m_preconditioner_current = false;
+    m_preconditioner_current = false;
+    m_trust_radius = m_settings.trust_region.initial_radius;
 
     evaluate(problem, m_state, m_residual, phase::residual);
     m_norm = m_space.norm(m_residual);
@@ -189,76 +316,67 @@ class newton_krylov_solver {
     m_target_norm = std::max(m_settings.absolute_tolerance, m_settings.relative_tolerance * m_norm);
   }
 
-  // ---- one Newton step ----------------------------------------------------
+  /// Ends the run: on a non-converged outcome u gets the best iterate.
+  void finish(outcome reason, state_view u) {
+    m_report.result = reason;
+    if (!is_converged(reason) && !m_best_is_current) {
+      std::swap(m_state, m_best_state);
+      m_norm = m_best_norm;
+      m_best_is_current = true;
+    }
+    if (m_state.size() == u.size()) write_state(u);
+    m_report.final_residual_norm = m_norm;
+    m_report.wall_seconds = m_clock.seconds();
+    m_report.median_residual_seconds = m_residual_samples.median();
+    phase_seconds& t = m_report.time;
+    t.other = 0.0;
+    t.other = std::max(0.0, m_report.wall_seconds - t.total());
+    m_report.workspace_bytes = workspace_bytes();
+  }
+
+  /// u = variable_scale ⊙ ũ (or a plain copy).
+  void write_state(state_view u) {
+    m_space.copy(m_state, u);
+    if (m_variable_scaling) m_space.multiply(m_variable_scale, u);
+  }
+
+  outcome convergence() const {
+    if (m_norm <= m_settings.absolute_tolerance) return outcome::converged_absolute_residual;
+    if (m_norm <= m_settings.relative_tolerance * m_report.initial_residual_norm) {
+      return outcome::converged_relative_residual;
+    }
+    return outcome::in_progress;
+  }
+
+  // ---- one Newton step ----------------------------------------------------------
 
   template <class Problem, class Monitor>
   outcome step(Problem& problem, Monitor& monitor, state_view u) {
     const int k = m_report.newton_steps;
     if (k >= m_settings.max_newton_steps) return outcome::newton_step_limit;
-
     newton_step_record record;
     record.step = k + 1;
-    const double eta = m_forcing.next(m_norm, m_target_norm);
-    record.forcing_term = eta;
 
-    // Preconditioner.
-    if constexpr (has_setup_v<Preconditioner, Space>) {
-      if (needs_rebuild(k)) {
-        const setup_status status = rebuild_preconditioner(problem, k);
-        record.preconditioner_rebuilt = true;
-        if (status == setup_status::failed) return outcome::preconditioner_failed;
+    outcome early = outcome::in_progress;
+    if (m_pseudo_transient) {
+      early = pseudo_transient_step(problem, monitor, record);
+    } else {
+      early = newton_direction(problem, monitor, record);
+      if (early == outcome::in_progress) {
+        early =
+            m_settings.globalization == globalization_strategy::trust_region
+                ? trust_region_step(problem, record)
+                : line_search_step(problem, record, m_settings.globalization == globalization_strategy::line_search);
       }
     }
+    if (early != outcome::in_progress) return early;
 
-    // Linear solve R'(u) x = R(u); the Newton direction is s = −x.
-    m_difference.linearize_at(m_state, m_residual);
-    const std::int64_t budget_left = m_settings.linear_iteration_budget - m_report.linear_iterations;
-    if (budget_left <= 0) return outcome::linear_iteration_budget;
-    const linear_solve_result linear = solve_linear(problem, monitor, eta, budget_left);
-    if (m_monitor_stopped) return outcome::stopped_by_monitor;
-    record.linear_iterations = linear.iterations;
-    record.linear_status = linear.status;
-    m_last_linear_iterations = linear.iterations;
-    m_last_linear_failed = !linear.converged();
-    const double achieved = linear.relative_residual();
-    record.relative_linear_residual = achieved;
-    if (linear.iterations == 0 || !(achieved < 1.0)) return outcome::linear_solver_no_progress;
-    m_forcing.record(eta, m_norm, linear.final_residual_norm);
-
-    // Globalisation.
-    const std::int64_t evaluations_before = m_report.residual_evaluations;
-    const double residual_seconds_before = m_report.time.residual;
-    const double product_seconds_before = m_report.time.jacobian_vector;
-    const auto globalization_start = detail::clock_type::now();
-    const bool require_decrease = m_settings.globalization == globalization_strategy::line_search;
-    const line_search_result search = backtracking_line_search(
-        m_settings.line_search, m_norm, achieved, require_decrease,
-        [&](double lambda) {
-          m_space.combine(1, m_state, -lambda, m_step, m_trial_state);
-          evaluate(problem, m_trial_state, m_trial_residual, phase::residual);
-          return m_space.norm(m_trial_residual);
-        },
-        [&]() {
-          apply_jacobian(problem, m_step, m_product);  // R'(u) x, and s = −x
-          return -m_space.dot(m_residual, m_product);
-        });
-    const double globalization_seconds = detail::seconds_between(globalization_start, detail::clock_type::now());
-    m_report.time.globalization += globalization_seconds - (m_report.time.residual - residual_seconds_before) -
-                                   (m_report.time.jacobian_vector - product_seconds_before);
-    ++m_report.calls.globalization;
-    record.backtracks = search.trials - 1;
-    m_report.backtracks += search.trials - 1;
-    m_report.non_finite_trials += search.non_finite_trials;
-    static_cast<void>(evaluations_before);
-    if (!search.accepted) return outcome::line_search_failed;
-
-    // Accept u + λ s.
-    const double new_norm = search.residual_norm;
+    // The trial (m_trial_state, m_trial_residual, m_trial_norm) is accepted.
+    const double new_norm = m_trial_norm;
     if (m_best_is_current && !(new_norm < m_best_norm)) {
       m_space.copy(m_state, m_best_state);
       m_best_is_current = false;
     }
-    const double step_norm = search.step_length * m_space.norm(m_step);
     std::swap(m_state, m_trial_state);
     std::swap(m_residual, m_trial_residual);
     m_norm = new_norm;
@@ -270,13 +388,12 @@ class newton_krylov_solver {
       ++m_steps_since_best;
     }
     ++m_report.newton_steps;
-    m_space.copy(m_state, u);
+    if (record.bound_active) ++m_report.bound_limited_steps;
+    write_state(u);
 
     record.residual_norm = new_norm;
     record.relative_residual_norm =
         m_report.initial_residual_norm > 0.0 ? new_norm / m_report.initial_residual_norm : 0.0;
-    record.step_length = search.step_length;
-    record.step_norm = step_norm;
     record.elapsed_seconds = m_clock.seconds();
     record.residual_evaluations = m_report.residual_evaluations;
     m_report.history.push_back(record);
@@ -284,41 +401,234 @@ class newton_krylov_solver {
 
     if (detail::notify_newton_step(monitor, record) == monitor_decision::stop_now) return outcome::stopped_by_monitor;
     if (const outcome converged = convergence(); converged != outcome::in_progress) return converged;
-    if (m_settings.step_tolerance > 0.0 && step_norm <= m_settings.step_tolerance * (1.0 + m_space.norm(m_state))) {
+    if (m_settings.step_tolerance > 0.0 &&
+        record.step_norm <= m_settings.step_tolerance * (1.0 + m_space.norm(m_state))) {
       return outcome::step_below_tolerance;
     }
-    if (m_steps_since_best >= m_settings.stagnation_window) return outcome::stagnated;
+    if (!m_pseudo_transient && m_steps_since_best >= m_settings.stagnation_window) return outcome::stagnated;
     if (m_linear_budget_spent) return outcome::linear_iteration_budget;
     return outcome::in_progress;
   }
 
-  outcome convergence() const {
-    if (m_norm <= m_settings.absolute_tolerance) return outcome::converged_absolute_residual;
-    if (m_norm <= m_settings.relative_tolerance * m_report.initial_residual_norm) {
-      return outcome::converged_relative_residual;
+  /// Forcing term, preconditioner, GMRES: leaves x (R'(u) x ≈ R(u)) in m_step.
+  template <class Problem, class Monitor>
+  outcome newton_direction(Problem& problem, Monitor& monitor, newton_step_record& record) {
+    const int k = m_report.newton_steps;
+    const double eta = m_forcing.next(m_norm, m_target_norm);
+    record.forcing_term = eta;
+    if constexpr (has_setup_v<Preconditioner, Space>) {
+      if (needs_rebuild(k)) {
+        record.preconditioner_rebuilt = true;
+        if (rebuild_preconditioner(problem, k) == setup_status::failed) return outcome::preconditioner_failed;
+      }
     }
+    m_difference.linearize_at(m_state, m_residual);
+    const std::int64_t budget_left = m_settings.linear_iteration_budget - m_report.linear_iterations;
+    if (budget_left <= 0) return outcome::linear_iteration_budget;
+    const linear_solve_result linear = solve_linear(problem, monitor, eta, budget_left);
+    if (m_monitor_stopped) return outcome::stopped_by_monitor;
+    record.linear_iterations = linear.iterations;
+    record.linear_status = linear.status;
+    m_last_linear_iterations = linear.iterations;
+    m_last_linear_failed = !linear.converged();
+    m_achieved_eta = linear.relative_residual();
+    record.relative_linear_residual = m_achieved_eta;
+    if (linear.iterations == 0 || !(m_achieved_eta < 1.0)) return outcome::linear_solver_no_progress;
+    m_forcing.record(eta, m_norm, linear.final_residual_norm);
     return outcome::in_progress;
   }
 
-  /// Ends the run: on a non-converged outcome u gets the best iterate.
-  void finish(outcome reason, state_view u) {
-    m_report.result = reason;
-    if (!is_converged(reason) && !m_best_is_current) {
-      std::swap(m_state, m_best_state);
-      m_norm = m_best_norm;
-      m_best_is_current = true;
+  /// Largest fraction of the step −x (x in m_step or given) that respects the
+  /// bounds, times boundary_fraction when the full step would not (1 if it would).
+  double bound_limit(const vector_type& x) {
+    if (!m_has_bounds) return 1.0;
+    m_space.combine(-1, x, 0, x, m_trial_state);  // direction s = −x
+    const double room = m_space.max_step_to_bounds(m_state, m_trial_state, lower(), upper());
+    return room >= 1.0 ? 1.0 : m_settings.bounds.boundary_fraction * room;
+  }
+  const vector_type& lower() const { return m_variable_scaling ? m_scaled_lower : m_lower_bound; }
+  const vector_type& upper() const { return m_variable_scaling ? m_scaled_upper : m_upper_bound; }
+
+  /// Evaluates R at m_trial_state = u − t x; returns ‖R‖, or +inf when the
+  /// state is inadmissible (the residual is then not called).
+  template <class Problem>
+  double trial(Problem& problem, const vector_type& x, double t) {
+    m_space.combine(1, m_state, -t, x, m_trial_state);
+    if constexpr (detail::has_is_admissible<Problem, vector_type>::value) {
+      if (!admissible(problem, m_trial_state)) {
+        ++m_report.inadmissible_trials;
+        return std::numeric_limits<double>::infinity();
+      }
     }
-    if (m_state.size() == u.size()) m_space.copy(m_state, u);
-    m_report.final_residual_norm = m_norm;
-    m_report.wall_seconds = m_clock.seconds();
-    m_report.median_residual_seconds = m_residual_samples.median();
-    phase_seconds& t = m_report.time;
-    t.other = 0.0;
-    t.other = std::max(0.0, m_report.wall_seconds - t.total());
-    m_report.workspace_bytes = workspace_bytes();
+    evaluate(problem, m_trial_state, m_trial_residual, phase::residual);
+    return m_space.norm(m_trial_residual);
   }
 
-  // ---- residual, J·v, preconditioner ----------------------------------------
+  template <class Problem>
+  outcome line_search_step(Problem& problem, newton_step_record& record, bool require_decrease) {
+    const double residual_before = m_report.time.residual;
+    const double product_before = m_report.time.jacobian_vector;
+    const auto start = detail::clock_type::now();
+    const double limit = bound_limit(m_step);
+    record.bound_active = limit < 1.0;
+    // Shortening the direction to t·s raises the linear-model residual to (1 − t(1 − η))‖R‖.
+    const double eta = 1.0 - limit * (1.0 - m_achieved_eta);
+    const line_search_result search = backtracking_line_search(
+        m_settings.line_search, m_norm, eta, require_decrease,
+        [&](double lambda) { return trial(problem, m_step, lambda * limit); },
+        [&]() {
+          apply_jacobian(problem, m_step, m_product);  // φ'(0) = Rᵀ R'(u) s with s = −limit·x
+          return -limit * m_space.dot(m_residual, m_product);
+        });
+    account_globalization(start, residual_before, product_before);
+    record.backtracks = search.trials - 1;
+    m_report.backtracks += search.trials - 1;
+    m_report.non_finite_trials += search.non_finite_trials;
+    if (!search.accepted) return outcome::line_search_failed;
+    // The last trial evaluated is the accepted one: m_trial_* hold it.
+    m_trial_norm = search.residual_norm;
+    record.step_length = search.step_length * limit;
+    record.step_norm = record.step_length * m_space.norm(m_step);
+    return outcome::in_progress;
+  }
+
+  template <class Problem>
+  outcome trust_region_step(Problem& problem, newton_step_record& record) {
+    const double residual_before = m_report.time.residual;
+    const double product_before = m_report.time.jacobian_vector;
+    const auto start = detail::clock_type::now();
+    const trust_region_settings& tr = m_settings.trust_region;
+    // Newton point x_N = m_step, Cauchy point x_C = m_cauchy (both for R'(u) x = R(u); s = −x).
+    if (!m_gmres.cauchy_point_available()) m_space.fill(0, m_cauchy);
+    apply_jacobian(problem, m_step, m_product);
+    apply_jacobian(problem, m_cauchy, m_cauchy_product);
+    dogleg_model model;
+    model.residual_squared = m_norm * m_norm;
+    model.residual_dot_cauchy = -m_space.dot(m_residual, m_cauchy_product);  // R·J s_C with s_C = −x_C
+    model.residual_dot_newton = -m_space.dot(m_residual, m_product);
+    model.cauchy_squared = m_space.dot(m_cauchy_product, m_cauchy_product);
+    model.newton_squared = m_space.dot(m_product, m_product);
+    model.cauchy_dot_newton = m_space.dot(m_cauchy_product, m_product);
+    const double newton_norm = m_space.norm(m_step);
+    const double cauchy_norm = m_space.norm(m_cauchy);
+    const double cauchy_dot_newton = m_space.dot(m_cauchy, m_step);
+    if (!(m_trust_radius > 0.0)) m_trust_radius = std::min(newton_norm, tr.maximum_radius);
+
+    for (int attempt = 0;; ++attempt) {
+      const dogleg_point point = dogleg(m_trust_radius, newton_norm, cauchy_norm, cauchy_dot_newton);
+      // x = a x_C + b x_N (held in m_trial_residual until the trial is evaluated).
+      m_space.combine(point.cauchy_weight, m_cauchy, point.newton_weight, m_step, m_trial_residual);
+      const double limit = bound_limit(m_trial_residual);
+      const double a = point.cauchy_weight * limit;
+      const double b = point.newton_weight * limit;
+      const double step_norm = limit * m_space.norm(m_trial_residual);
+      const double predicted = model.predicted_reduction(a, b);
+      m_space.scale(limit, m_trial_residual);
+      m_space.combine(1, m_state, -1, m_trial_residual, m_trial_state);
+      double trial_norm = std::numeric_limits<double>::infinity();
+      bool admissible_state = true;
+      if constexpr (detail::has_is_admissible<Problem, vector_type>::value) {
+        admissible_state = admissible(problem, m_trial_state);
+        if (!admissible_state) ++m_report.inadmissible_trials;
+      }
+      if (admissible_state) {
+        evaluate(problem, m_trial_state, m_trial_residual, phase::residual);
+        trial_norm = m_space.norm(m_trial_residual);
+      }
+      const double actual = 0.5 * (m_norm * m_norm - trial_norm * trial_norm);
+      const double ratio = predicted > 0.0 ? actual / predicted : -1.0;
+      if (std::isfinite(trial_norm) && ratio > tr.acceptance_ratio) {
+        if (ratio > tr.grow_above_ratio && step_norm >= 0.99 * m_trust_radius) {
+          m_trust_radius = std::min(tr.growth_factor * m_trust_radius, tr.maximum_radius);
+        } else if (ratio < tr.shrink_below_ratio) {
+          m_trust_radius = tr.shrink_factor * step_norm;
+        }
+        m_trial_norm = trial_norm;
+        record.step_length = 1.0;
+        record.step_norm = step_norm;
+        record.trust_radius = m_trust_radius;
+        record.bound_active = limit < 1.0;
+        record.backtracks = attempt;
+        m_report.backtracks += attempt;
+        account_globalization(start, residual_before, product_before);
+        return outcome::in_progress;
+      }
+      if (admissible_state && !std::isfinite(trial_norm)) ++m_report.non_finite_trials;
+      m_trust_radius = tr.shrink_factor * std::min(m_trust_radius, step_norm);
+      if (m_trust_radius < tr.minimum_radius) {
+        account_globalization(start, residual_before, product_before);
+        return outcome::trust_region_collapsed;
+      }
+    }
+  }
+
+  /// One pseudo-time step: (W/δ + R'(u)) x = R(u), u ← u − x; δ by SER.
+  template <class Problem, class Monitor>
+  outcome pseudo_transient_step(Problem& problem, Monitor& monitor, newton_step_record& record) {
+    const pseudo_transient_settings& ptc = m_settings.pseudo_transient;
+    if constexpr (detail::has_pseudo_time_weights<Problem, vector_type>::value) {
+      problem.pseudo_time_weights(physical_state(m_state), m_weights);
+      // In scaled variables the term is D_r⁻¹ (W/δ) D_u.
+      if (m_variable_scaling) m_space.multiply(m_variable_scale, m_weights);
+      if (m_residual_scaling) m_space.divide(m_residual_scale, m_weights);
+    }
+    for (int attempt = 0;; ++attempt) {
+      m_space.copy(m_weights, m_shift);
+      m_space.scale(1 / m_pseudo_time_step, m_shift);
+      if (attempt > 0) request_preconditioner_rebuild();  // the shift changed
+      if (const outcome early = newton_direction(problem, monitor, record); early != outcome::in_progress) return early;
+      const double residual_before = m_report.time.residual;
+      const double product_before = m_report.time.jacobian_vector;
+      const auto start = detail::clock_type::now();
+      const double limit = bound_limit(m_step);
+      const std::int64_t inadmissible_before = m_report.inadmissible_trials;
+      const double trial_norm = trial(problem, m_step, limit);
+      account_globalization(start, residual_before, product_before);
+      if (std::isfinite(trial_norm) && trial_norm <= ptc.maximum_residual_growth * m_norm) {
+        record.pseudo_time_step = m_pseudo_time_step;
+        record.step_length = limit;
+        record.step_norm = limit * m_space.norm(m_step);
+        record.bound_active = limit < 1.0;
+        record.backtracks = attempt;
+        m_report.backtracks += attempt;
+        m_trial_norm = trial_norm;
+        m_pseudo_time_step = next_pseudo_time_step(ptc, m_pseudo_time_step, m_norm, trial_norm);
+        if (trial_norm <= ptc.switch_ratio * m_report.initial_residual_norm || m_pseudo_time_step >= ptc.maximum_step) {
+          m_pseudo_transient = false;  // Newton with line search from here on
+          m_forcing.reset();
+          m_rebuild_requested = true;  // the preconditioner holds the pseudo-time shift
+        }
+        return outcome::in_progress;
+      }
+      if (m_report.inadmissible_trials == inadmissible_before && !std::isfinite(trial_norm))
+        ++m_report.non_finite_trials;
+      m_pseudo_time_step *= ptc.failure_shrink;
+      if (m_pseudo_time_step < ptc.minimum_step) return outcome::pseudo_time_step_collapsed;
+    }
+  }
+
+  void account_globalization(detail::clock_type::time_point start, double residual_before, double product_before) {
+    const double seconds = detail::seconds_between(start, detail::clock_type::now());
+    m_report.time.globalization +=
+        seconds - (m_report.time.residual - residual_before) - (m_report.time.jacobian_vector - product_before);
+    ++m_report.calls.globalization;
+  }
+
+  // ---- residual, admissibility, J·v, preconditioner -------------------------------
+
+  /// m_physical = variable_scale ⊙ x (or a copy); returns the physical state.
+  const vector_type& physical_state(const vector_type& x) {
+    if (!m_variable_scaling) return x;
+    m_space.copy(x, m_physical);
+    m_space.multiply(m_variable_scale, m_physical);
+    return m_physical;
+  }
+
+  template <class Problem>
+  bool admissible(Problem& problem, const vector_type& x) {
+    const bool local = problem.is_admissible(physical_state(x));
+    return !any_of(m_space, !local);
+  }
 
   /// Every call of the user's residual goes through here: budget, time limit
   /// and cancellation are checked first, so they always hold.
@@ -328,9 +638,10 @@ class newton_krylov_solver {
       throw detail::stop_signal{outcome::residual_evaluation_budget};
     }
     check_cancellation_and_clock();
+    const vector_type& physical = physical_state(x);
     const auto expected = x.size();
     const auto start = detail::clock_type::now();
-    problem(x, r);
+    problem(physical, r);
     const double seconds = detail::seconds_between(start, detail::clock_type::now());
     ++m_report.residual_evaluations;
     m_residual_samples.add(seconds);
@@ -343,6 +654,7 @@ class newton_krylov_solver {
                                   std::to_string(expected) + " to " + std::to_string(r.size()) +
                                   "; it must write into r without resizing it");
     }
+    if (m_residual_scaling) m_space.divide(m_residual_scale, r);
   }
 
   /// Stops the solve when the cancellation flag is raised or the wall-clock
@@ -360,26 +672,73 @@ class newton_krylov_solver {
     }
   }
 
-  /// out = R'(u) v at the current state (analytic / AD product when the
-  /// problem has one, finite differences otherwise).
+  /// out = R̃'(ũ) v at the current state (plus the pseudo-time shift while it
+  /// is active): analytic / AD product when the problem has one, finite
+  /// differences otherwise (with the step kept inside the bounds).
   template <class Problem>
   void apply_jacobian(Problem& problem, const vector_type& v, vector_type& out) {
     const auto start = detail::clock_type::now();
     if constexpr (has_jacobian_product_v<Problem, vector_type>) {
       check_cancellation_and_clock();
       const auto expected = v.size();
-      problem.jacobian_product(static_cast<const vector_type&>(m_state), v, out);
+      const vector_type* direction = &v;
+      if (m_variable_scaling) {
+        m_space.copy(v, m_physical_direction);
+        m_space.multiply(m_variable_scale, m_physical_direction);
+        direction = &m_physical_direction;
+      }
+      problem.jacobian_product(physical_state(m_state), *direction, out);
       if (out.size() != expected) {
         throw std::invalid_argument("nkit: jacobian_product wrote a vector of size " + std::to_string(out.size()) +
                                     ", expected " + std::to_string(expected));
       }
+      if (m_residual_scaling) m_space.divide(m_residual_scale, out);
     } else {
       auto residual = [this, &problem](const vector_type& x, vector_type& r) { evaluate(problem, x, r, phase::none); };
-      m_difference.apply(residual, v, out);
+      if (!m_has_bounds && !detail::has_is_admissible<Problem, vector_type>::value) {
+        m_difference.apply(residual, v, out);
+      } else {
+        bounded_difference(problem, residual, v, out);
+      }
     }
+    if (m_pseudo_transient) m_space.add_product(m_shift, v, out);
     m_report.time.jacobian_vector += detail::seconds_between(start, detail::clock_type::now());
     ++m_report.calls.jacobian_vector;
     ++m_report.jacobian_vector_products;
+  }
+
+  /// Finite-difference J·v whose perturbed states stay within the bounds and
+  /// admissible: the step is capped at half the room along ±v, a backward
+  /// difference is used when the forward side has less room, and the step is
+  /// halved while the problem's predicate rejects the perturbed state.
+  template <class Problem, class Residual>
+  void bounded_difference(Problem& problem, Residual& residual, const vector_type& v, vector_type& out) {
+    const double direction_norm = m_space.norm(v);
+    if (direction_norm == 0.0) {
+      m_space.fill(0, out);
+      return;
+    }
+    double step = m_difference.step_for(direction_norm);
+    if (m_has_bounds) {
+      const double forward_room = m_space.max_step_to_bounds(m_state, v, lower(), upper());
+      m_space.combine(-1, v, 0, v, m_trial_state);
+      const double backward_room = m_space.max_step_to_bounds(m_state, m_trial_state, lower(), upper());
+      if (forward_room >= 2.0 * step) {
+      } else if (backward_room >= 2.0 * step) {
+        step = -step;
+      } else {
+        step = forward_room >= backward_room ? 0.5 * forward_room : -0.5 * backward_room;
+      }
+    }
+    if constexpr (detail::has_is_admissible<Problem, vector_type>::value) {
+      for (int attempt = 0;; ++attempt) {
+        m_space.combine(1, m_state, step, v, m_trial_state);
+        if (admissible(problem, m_trial_state)) break;
+        if (attempt == 60) throw detail::stop_signal{outcome::linear_solver_no_progress};
+        step = attempt % 2 == 0 ? -step : -0.5 * step;  // try the other side, then a shorter step
+      }
+    }
+    m_difference.apply_with_step(residual, v, step, out);
   }
 
   template <class Problem>
@@ -417,6 +776,8 @@ class newton_krylov_solver {
       }
       return true;
     };
+    const bool trust_region = m_settings.globalization == globalization_strategy::trust_region && !m_pseudo_transient;
+    m_gmres.capture_cauchy_point(trust_region ? &m_cauchy : nullptr);
     linear_solve_result result;
     if constexpr (std::is_same_v<Preconditioner, identity_preconditioner>) {
       result = m_gmres.solve(op, m_preconditioner, m_residual, m_step, eta, initial_guess::zero, observer);
@@ -432,7 +793,7 @@ class newton_krylov_solver {
 
   bool needs_rebuild(int k) const {
     const preconditioner_reuse_settings& policy = m_settings.preconditioner_reuse;
-    if (!m_preconditioner_current || m_rebuild_requested || m_last_setup_step < 0) return true;
+    if (!m_preconditioner_current || m_rebuild_requested) return true;
     if (k - m_last_setup_step >= policy.rebuild_every_newton_steps) return true;
     if (policy.rebuild_when_linear_iterations_exceed > 0 &&
         m_last_linear_iterations > policy.rebuild_when_linear_iterations_exceed) {
@@ -441,18 +802,23 @@ class newton_krylov_solver {
     return policy.rebuild_after_linear_failure && m_last_linear_failed;
   }
 
-  /// Gives preconditioners the problem's assembled Jacobian on demand.
+  /// Gives preconditioners the problem's assembled Jacobian on demand, in the
+  /// solver's scaled variables and with the pseudo-time shift included.
   template <class Problem>
   class problem_jacobian final : public jacobian_source {
    public:
     problem_jacobian(newton_krylov_solver& solver, Problem& problem) : m_solver(solver), m_problem(problem) {}
     const sparse_matrix& assembled_jacobian() override {
       if (!m_assembled) {
+        newton_krylov_solver& s = m_solver;
         const auto start = detail::clock_type::now();
-        m_problem.assemble_jacobian(static_cast<const vector_type&>(m_solver.m_state), m_solver.m_jacobian);
-        m_solver.m_report.time.jacobian_assembly += detail::seconds_between(start, detail::clock_type::now());
-        ++m_solver.m_report.calls.jacobian_assembly;
-        ++m_solver.m_report.jacobian_assemblies;
+        m_problem.assemble_jacobian(s.physical_state(s.m_state), s.m_jacobian);
+        if (s.m_residual_scaling) s.m_jacobian = s.m_residual_scale.cwiseInverse().asDiagonal() * s.m_jacobian;
+        if (s.m_variable_scaling) s.m_jacobian = s.m_jacobian * s.m_variable_scale.asDiagonal();
+        if (s.m_pseudo_transient) detail::add_to_diagonal(s.m_jacobian, s.m_shift);
+        s.m_report.time.jacobian_assembly += detail::seconds_between(start, detail::clock_type::now());
+        ++s.m_report.calls.jacobian_assembly;
+        ++s.m_report.jacobian_assemblies;
         m_assembled = true;
       }
       return m_solver.m_jacobian;
@@ -468,14 +834,15 @@ class newton_krylov_solver {
   setup_status rebuild_preconditioner(Problem& problem, int k) {
     const auto start = detail::clock_type::now();
     const double assembly_before = m_report.time.jacobian_assembly;
+    const vector_type* shift = m_pseudo_transient ? &m_shift : nullptr;
     setup_status status;
     if constexpr (detail::has_assemble_jacobian<Problem, sparse_matrix, vector_type>::value) {
       problem_jacobian<Problem> source(*this, problem);
-      preconditioner_context<Space> context{m_space, m_state, m_residual, k, nullptr, &source};
+      preconditioner_context<Space> context{m_space, m_state, m_residual, k, shift, &source};
       status = setup_preconditioner(m_preconditioner, context);
     } else {
       static_cast<void>(problem);
-      preconditioner_context<Space> context{m_space, m_state, m_residual, k, nullptr, nullptr};
+      preconditioner_context<Space> context{m_space, m_state, m_residual, k, shift, nullptr};
       status = setup_preconditioner(m_preconditioner, context);
     }
     const double seconds = detail::seconds_between(start, detail::clock_type::now());
@@ -489,7 +856,7 @@ class newton_krylov_solver {
     return status;
   }
 
-  // ---- members --------------------------------------------------------------
+  // ---- members ------------------------------------------------------------------------
 
   newton_settings m_settings;
   Space m_space;
@@ -498,7 +865,13 @@ class newton_krylov_solver {
   finite_difference_jacobian<Space> m_difference;
   forcing_term_sequence m_forcing;
 
+  // Newton vectors (scaled variables when scaling is set).
   vector_type m_state, m_residual, m_step, m_trial_state, m_trial_residual, m_best_state, m_product;
+  vector_type m_cauchy, m_cauchy_product;        // trust region
+  vector_type m_physical, m_physical_direction;  // scaling / user callbacks
+  vector_type m_weights, m_shift;                // pseudo-transient term W/δ
+  vector_type m_lower_bound, m_upper_bound, m_scaled_lower, m_scaled_upper;
+  vector_type m_variable_scale, m_residual_scale;
   sparse_matrix m_jacobian;
 
   solve_report m_report;
@@ -507,8 +880,16 @@ class newton_krylov_solver {
   detail::median_window m_residual_samples;
 
   double m_norm = 0.0;
+  double m_trial_norm = 0.0;
   double m_best_norm = 0.0;
   double m_target_norm = 0.0;
+  double m_achieved_eta = 0.0;
+  double m_trust_radius = 0.0;
+  double m_pseudo_time_step = 0.0;
+  bool m_pseudo_transient = false;
+  bool m_has_bounds = false;
+  bool m_variable_scaling = false;
+  bool m_residual_scaling = false;
   bool m_best_is_current = true;
   int m_steps_since_best = 0;
   bool m_linear_budget_spent = false;

@@ -84,6 +84,7 @@ struct solve_report {
   std::int64_t jacobian_assemblies = 0;
   std::int64_t backtracks = 0;           ///< rejected trial points, all steps
   std::int64_t non_finite_trials = 0;    ///< trial points whose residual had NaN/Inf
+  std::int64_t inadmissible_trials = 0;  ///< trial points rejected by is_admissible (residual not evaluated)
   std::int64_t bound_limited_steps = 0;  ///< steps shortened by bounds or admissibility
 
   double initial_residual_norm = 0.0;  ///< ‖R(u0)‖

@@ -31,6 +31,15 @@
 ///     void copy(const_view from, state_view to) const                            to = from
 ///     void fill(scalar_type value, state_view x) const                           x = value
 ///     void multiply(const_view weights, state_view x) const                      x_i *= w_i
+///     void divide(const_view weights, state_view x) const                        x_i /= w_i
+///     void add_product(const_view weights, const_view x, state_view y) const     y_i += w_i x_i
+///   bounds (reductions; used only when bounds are set)
+///     scalar_type max_step_to_bounds(const_view x, const_view d, const_view lower,
+///                                    const_view upper) const
+///         largest t >= 0 with lower <= x + t d <= upper (+inf when d never
+///         reaches a bound); x must lie within the bounds
+///     bool within_bounds(const_view x, const_view lower, const_view upper) const
+///         lower_i <= x_i <= upper_i for every i
 ///   optional (detected at compile time)
 ///     void dot_many(const vector_type* basis, int count, const_view w,
 ///                   scalar_type* out) const       out[i] = dot(basis[i], w), one reduction
@@ -59,31 +68,42 @@ struct has_vector_space_members : std::false_type {};
 template <class Space>
 struct has_vector_space_members<
     Space,
-    std::void_t<typename Space::scalar_type, typename Space::vector_type, typename Space::state_view,
-                typename Space::const_view,
-                decltype(std::declval<const Space&>().allocate_like(
-                    std::declval<typename Space::vector_type&>(), std::declval<const typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().dot(std::declval<const typename Space::vector_type&>(),
-                                                          std::declval<const typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().norm(std::declval<const typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().all_finite(std::declval<const typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().global_size(std::declval<const typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().add_scaled(std::declval<typename Space::scalar_type>(),
-                                                                 std::declval<const typename Space::vector_type&>(),
-                                                                 std::declval<typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().combine(
-                    std::declval<typename Space::scalar_type>(), std::declval<const typename Space::vector_type&>(),
-                    std::declval<typename Space::scalar_type>(), std::declval<const typename Space::vector_type&>(),
-                    std::declval<typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().scale(std::declval<typename Space::scalar_type>(),
-                                                            std::declval<typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().copy(std::declval<const typename Space::vector_type&>(),
-                                                           std::declval<typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().fill(std::declval<typename Space::scalar_type>(),
-                                                           std::declval<typename Space::vector_type&>())),
-                decltype(std::declval<const Space&>().multiply(std::declval<const typename Space::vector_type&>(),
-                                                               std::declval<typename Space::vector_type&>()))>>
-    : std::true_type {};
+    std::void_t<
+        typename Space::scalar_type, typename Space::vector_type, typename Space::state_view,
+        typename Space::const_view,
+        decltype(std::declval<const Space&>().allocate_like(std::declval<typename Space::vector_type&>(),
+                                                            std::declval<const typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().dot(std::declval<const typename Space::vector_type&>(),
+                                                  std::declval<const typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().norm(std::declval<const typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().all_finite(std::declval<const typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().global_size(std::declval<const typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().add_scaled(std::declval<typename Space::scalar_type>(),
+                                                         std::declval<const typename Space::vector_type&>(),
+                                                         std::declval<typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().combine(
+            std::declval<typename Space::scalar_type>(), std::declval<const typename Space::vector_type&>(),
+            std::declval<typename Space::scalar_type>(), std::declval<const typename Space::vector_type&>(),
+            std::declval<typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().scale(std::declval<typename Space::scalar_type>(),
+                                                    std::declval<typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().copy(std::declval<const typename Space::vector_type&>(),
+                                                   std::declval<typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().fill(std::declval<typename Space::scalar_type>(),
+                                                   std::declval<typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().multiply(std::declval<const typename Space::vector_type&>(),
+                                                       std::declval<typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().divide(std::declval<const typename Space::vector_type&>(),
+                                                     std::declval<typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().add_product(std::declval<const typename Space::vector_type&>(),
+                                                          std::declval<const typename Space::vector_type&>(),
+                                                          std::declval<typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().max_step_to_bounds(
+            std::declval<const typename Space::vector_type&>(), std::declval<const typename Space::vector_type&>(),
+            std::declval<const typename Space::vector_type&>(), std::declval<const typename Space::vector_type&>())),
+        decltype(std::declval<const Space&>().within_bounds(
+            std::declval<const typename Space::vector_type&>(), std::declval<const typename Space::vector_type&>(),
+            std::declval<const typename Space::vector_type&>()))>> : std::true_type {};
 
 template <class Space, class = void>
 struct has_dot_many : std::false_type {};

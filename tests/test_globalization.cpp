@@ -1,0 +1,337 @@
+// Hard problems: pseudo-transient continuation, the trust region, bounds on
+// physical variables and scaling. Problems are invented small discretisations
+// whose behaviour is explained beside each test.
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <limits>
+#include <nkit/nkit.hpp>
+
+#include "support/matchers.hpp"
+
+using nkit_test::is_close_to;
+
+namespace {
+
+/// −D Δu + f(u) + s(x, y) = 0 on the unit square, homogeneous Neumann walls,
+/// cell-centred (n×n), f(u) = u³ − 2u + 2, s = −sin πx sin πy.
+/// f is the classical cubic on which Newton's iteration cycles 0 → 1 → 0
+/// (common textbook example): |f| has a local minimum at u = √(2/3) that is not
+/// a root, and any method that descends ‖R‖ from the cold start u = 0 is drawn
+/// to it. The time-dependent problem u_t = −R(u) instead flows from u = 0
+/// (where R > 0) down to the stable negative branch near u ≈ −1.7.
+struct cubic_reaction_diffusion {
+  int n;
+  double diffusion;
+  template <class Scalar>
+  void operator()(const Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& u,
+                  Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& r) const {
+    const double h = 1.0 / n;
+    const double pi = 3.14159265358979323846;
+    for (int j = 0; j < n; ++j) {
+      for (int i = 0; i < n; ++i) {
+        const int p = i + n * j;
+        Scalar laplacian = Scalar(0.0);
+        if (i > 0) laplacian += u(p - 1) - u(p);
+        if (i + 1 < n) laplacian += u(p + 1) - u(p);
+        if (j > 0) laplacian += u(p - n) - u(p);
+        if (j + 1 < n) laplacian += u(p + n) - u(p);
+        const double source = -std::sin(pi * (i + 0.5) * h) * std::sin(pi * (j + 0.5) * h);
+        r(p) = -diffusion * laplacian / (h * h) + u(p) * u(p) * u(p) - 2.0 * u(p) + 2.0 + source;
+      }
+    }
+  }
+};
+
+/// 1D reaction–diffusion −c'' + k √c = 0 on (0, 1), c(0) = c(1) = 1, second-order
+/// differences (n interior points). For k = 30 the solution stays positive
+/// (min ≈ 0.006) but the first Newton step from c = 1 overshoots to negative
+/// concentrations, where √c is undefined. Counts evaluations at c < 0.
+struct square_root_reaction {
+  int n;
+  double rate;
+  long negative_evaluations = 0;
+  void operator()(const Eigen::VectorXd& c, Eigen::VectorXd& r) {
+    if ((c.array() < 0.0).any()) ++negative_evaluations;
+    const double h = 1.0 / (n + 1);
+    for (int i = 0; i < n; ++i) {
+      const double left = i > 0 ? c(i - 1) : 1.0;
+      const double right = i + 1 < n ? c(i + 1) : 1.0;
+      r(i) = -(left - 2.0 * c(i) + right) / (h * h) + rate * std::sqrt(c(i));
+    }
+  }
+};
+
+}  // namespace
+
+TEST_CASE("pseudo-transient continuation converges where line-search Newton stalls",
+          "[globalization][pseudo_transient]") {
+  const int n = 24;
+  auto problem = nkit::with_automatic_differentiation(cubic_reaction_diffusion{n, 0.01});
+  nkit::newton_settings settings;
+  settings.max_newton_steps = 100;
+  settings.linear.max_iterations = 1000;
+
+  // Line search and trust region both descend ‖R‖ and end near u = √(2/3).
+  for (auto strategy : {nkit::globalization_strategy::line_search, nkit::globalization_strategy::trust_region}) {
+    settings.globalization = strategy;
+    nkit::newton_krylov_solver<> solver(settings);
+    Eigen::VectorXd u = Eigen::VectorXd::Zero(n * n);
+    const auto report = solver.solve(problem, u);
+    INFO(nkit::name(strategy) << ": " << nkit::name(report.result));
+    CHECK_FALSE(report.converged());
+    CHECK_THAT(u.mean(), Catch::Matchers::WithinAbs(std::sqrt(2.0 / 3.0), 0.1));
+  }
+
+  settings.globalization = nkit::globalization_strategy::pseudo_transient;
+  settings.pseudo_transient.initial_step = 0.1;
+  nkit::newton_krylov_solver<> solver(settings);
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(n * n);
+  const auto report = solver.solve(problem, u);
+  REQUIRE(report.converged());
+  // Every cell sits on the negative branch: between the roots of u³ − 2u + 2 + s
+  // for s = 0 (−1.7693) and s = −1 (−1.6180), widened by the diffusion coupling.
+  CHECK(u.maxCoeff() < -1.55);
+  CHECK(u.minCoeff() > -1.80);
+  CHECK(report.history.front().pseudo_time_step == 0.1);
+  // SER grew δ once the residual fell, then the solve finished as Newton.
+  double largest_step = 0.0;
+  for (const auto& record : report.history) largest_step = std::max(largest_step, record.pseudo_time_step);
+  CHECK(largest_step > 10.0);
+  CHECK(report.history.back().pseudo_time_step == 0.0);
+}
+
+TEST_CASE("pseudo-transient continuation rejects steps that blow up the residual",
+          "[globalization][pseudo_transient]") {
+  // δ0 = 0.5 makes W/δ + R'(0) = diffusion only (R'(0) = −2 I + diffusion): the
+  // first step is huge. It is rejected (growth limit) and δ shrinks until the
+  // transient is followed.
+  const int n = 24;
+  auto problem = nkit::with_automatic_differentiation(cubic_reaction_diffusion{n, 0.01});
+  nkit::newton_settings settings;
+  settings.max_newton_steps = 100;
+  settings.linear.max_iterations = 1000;
+  settings.globalization = nkit::globalization_strategy::pseudo_transient;
+  settings.pseudo_transient.initial_step = 0.5;
+  nkit::newton_krylov_solver<> solver(settings);
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(n * n);
+  const auto report = solver.solve(problem, u);
+  REQUIRE(report.converged());
+  CHECK(report.history.front().backtracks >= 1);
+  CHECK(report.history.front().pseudo_time_step < 0.5);
+  CHECK(u.maxCoeff() < -1.55);
+}
+
+TEST_CASE("local pseudo-time steps come from the problem's weights", "[globalization][pseudo_transient]") {
+  // Weights = an estimate of each cell's diagonal, 4D/h² + |f'(u)|: δ then acts as
+  // a CFL-like number, the usual local-time-stepping practice.
+  struct weighted : cubic_reaction_diffusion {
+    mutable int weight_calls = 0;
+    void pseudo_time_weights(const Eigen::VectorXd& u, Eigen::VectorXd& w) const {
+      ++weight_calls;
+      const double h = 1.0 / n;
+      w = (4.0 * diffusion / (h * h) + (3.0 * u.array().square() - 2.0).abs()).matrix();
+    }
+  };
+  const int n = 24;
+  weighted base{{n, 0.01}};
+  // A problem object with the residual, an exact J·v (AD) and the weights.
+  struct adapter {
+    weighted* inner;
+    nkit::residual_with_automatic_differentiation<cubic_reaction_diffusion> ad{cubic_reaction_diffusion{24, 0.01}};
+    void operator()(const Eigen::VectorXd& u, Eigen::VectorXd& r) { ad(u, r); }
+    void jacobian_product(const Eigen::VectorXd& u, const Eigen::VectorXd& v, Eigen::VectorXd& jv) {
+      ad.jacobian_product(u, v, jv);
+    }
+    void pseudo_time_weights(const Eigen::VectorXd& u, Eigen::VectorXd& w) { inner->pseudo_time_weights(u, w); }
+  } local{&base};
+  nkit::newton_settings settings;
+  settings.max_newton_steps = 100;
+  settings.linear.max_iterations = 1000;
+  settings.globalization = nkit::globalization_strategy::pseudo_transient;
+  settings.pseudo_transient.initial_step = 1.0;  // CFL-like: W/δ equals the diagonal estimate
+  nkit::newton_krylov_solver<> solver(settings);
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(n * n);
+  const auto report = solver.solve(local, u);
+  INFO(nkit::name(report.result) << " after " << report.newton_steps << " steps");
+  REQUIRE(report.converged());
+  CHECK(u.maxCoeff() < -1.55);
+  CHECK(base.weight_calls >= 1);
+  int pseudo_steps = 0;
+  for (const auto& record : report.history) pseudo_steps += record.pseudo_time_step > 0.0 ? 1 : 0;
+  CHECK(base.weight_calls == pseudo_steps);  // re-evaluated at every pseudo-time step
+}
+
+TEST_CASE("dogleg points lie on the path at the trust radius", "[globalization][trust_region]") {
+  // s_C = (1, 0), s_N = (3, 4): ‖s_N‖ = 5, ‖s_C‖ = 1, s_C·s_N = 3.
+  auto point_norm = [](const nkit::dogleg_point& p) {
+    const double x = p.cauchy_weight * 1.0 + p.newton_weight * 3.0;
+    const double y = p.newton_weight * 4.0;
+    return std::hypot(x, y);
+  };
+  CHECK(nkit::dogleg(6.0, 5.0, 1.0, 3.0).newton_weight == 1.0);  // Newton point inside
+  const auto on_first_leg = nkit::dogleg(0.5, 5.0, 1.0, 3.0);
+  CHECK(on_first_leg.newton_weight == 0.0);
+  CHECK_THAT(on_first_leg.cauchy_weight, Catch::Matchers::WithinRel(0.5, 1e-15));
+  for (double radius : {1.5, 2.0, 4.0, 4.9}) {
+    const auto p = nkit::dogleg(radius, 5.0, 1.0, 3.0);
+    CHECK(p.on_boundary);
+    CHECK_THAT(p.cauchy_weight + p.newton_weight, Catch::Matchers::WithinRel(1.0, 1e-15));  // on segment C→N
+    CHECK_THAT(point_norm(p), Catch::Matchers::WithinRel(radius, 1e-13));
+  }
+  // Predicted reduction of the linear model: with J = I, R = −s_N the Newton
+  // point zeroes the model: pred = ½‖R‖².
+  nkit::dogleg_model model;
+  model.residual_squared = 25.0;
+  model.residual_dot_newton = -25.0;  // R·J s_N = −‖s_N‖²
+  model.newton_squared = 25.0;
+  CHECK_THAT(model.predicted_reduction(0.0, 1.0), Catch::Matchers::WithinAbs(12.5, 1e-14));
+}
+
+TEST_CASE("the trust region converges where full Newton steps diverge", "[globalization][trust_region]") {
+  auto arctangent = [](const Eigen::VectorXd& x, Eigen::VectorXd& r) { r = x.array().atan(); };
+  nkit::newton_settings settings;
+  settings.globalization = nkit::globalization_strategy::trust_region;
+  settings.absolute_tolerance = 1e-12;
+  settings.relative_tolerance = 1e-15;
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(1, 3.0);  // full steps diverge from |u| > 1.39
+  const auto report = nkit::solve(arctangent, u, settings);
+  CHECK(report.converged());
+  CHECK(std::abs(u(0)) <= 1e-12);
+  CHECK(report.history.front().trust_radius > 0.0);
+
+  // Far from trouble the full Newton step is inside the radius: quadratic
+  // convergence is kept (Dennis & Schnabel 1996, Theorem 6.4.?: locally the
+  // dogleg becomes Newton's method) — the step count matches line search.
+  auto cubic = [](const Eigen::VectorXd& x, Eigen::VectorXd& r) { r = x.array().cube() - 2.0; };
+  Eigen::VectorXd a = Eigen::VectorXd::Constant(5, 1.3), b = a;
+  nkit::newton_settings line = settings;
+  line.globalization = nkit::globalization_strategy::line_search;
+  const auto by_line = nkit::solve(cubic, a, line);
+  const auto by_region = nkit::solve(cubic, b, settings);
+  CHECK(by_region.converged());
+  CHECK(by_region.newton_steps == by_line.newton_steps);
+  CHECK_THAT(b, is_close_to(a, 1e-13, 0.0));
+}
+
+TEST_CASE("bounds keep every evaluated state admissible", "[globalization][bounds]") {
+  const int n = 100;
+  nkit::newton_settings settings;
+  settings.relative_tolerance = 1e-10;
+
+  square_root_reaction unbounded_problem{n, 30.0};
+  Eigen::VectorXd c = Eigen::VectorXd::Ones(n);
+  nkit::newton_krylov_solver<> plain(settings);
+  const auto unbounded = plain.solve(unbounded_problem, c);
+  CHECK(unbounded_problem.negative_evaluations > 0);  // the overshoot really happens without bounds
+  CHECK(unbounded.non_finite_trials > 0);
+
+  square_root_reaction bounded_problem{n, 30.0};
+  Eigen::VectorXd d = Eigen::VectorXd::Ones(n);
+  nkit::newton_krylov_solver<> bounded(settings);
+  bounded.set_bounds(Eigen::VectorXd::Zero(n), Eigen::VectorXd::Constant(n, std::numeric_limits<double>::infinity()));
+  const auto report = bounded.solve(bounded_problem, d);
+  REQUIRE(report.converged());
+  CHECK(bounded_problem.negative_evaluations == 0);
+  CHECK(report.bound_limited_steps >= 1);
+  bool any_bound_active = false;
+  for (const auto& record : report.history) any_bound_active = any_bound_active || record.bound_active;
+  CHECK(any_bound_active);
+  CHECK(d.minCoeff() > 0.0);
+  // Both runs reach the same (unique, positive) solution.
+  REQUIRE(unbounded.converged());
+  CHECK_THAT(d, is_close_to(c, 1e-8, 1e-8));
+}
+
+TEST_CASE("an admissibility predicate is never violated at an evaluated state", "[globalization][bounds]") {
+  struct predicate_problem : square_root_reaction {
+    bool is_admissible(const Eigen::VectorXd& c) const { return (c.array() >= 0.0).all(); }
+  };
+  predicate_problem problem{{100, 30.0}};
+  nkit::newton_settings settings;
+  settings.relative_tolerance = 1e-10;
+  Eigen::VectorXd c = Eigen::VectorXd::Ones(100);
+  const auto report = nkit::solve(problem, c, settings);
+  REQUIRE(report.converged());
+  CHECK(problem.negative_evaluations == 0);
+  CHECK(report.inadmissible_trials >= 1);
+}
+
+TEST_CASE("bad bounds and scales are rejected", "[globalization][input]") {
+  nkit::newton_krylov_solver<> solver;
+  CHECK_THROWS_WITH(solver.set_bounds(Eigen::VectorXd::Ones(3), Eigen::VectorXd::Zero(3)),
+                    "nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
+  CHECK_THROWS_WITH(solver.set_bounds(Eigen::VectorXd::Ones(3), Eigen::VectorXd::Ones(2)),
+                    "nkit: set_bounds: lower has 3 entries but upper has 2");
+  solver.set_bounds(Eigen::VectorXd::Zero(2), Eigen::VectorXd::Ones(2));
+  auto linear = [](const Eigen::VectorXd& x, Eigen::VectorXd& r) { r = x.array() - 0.5; };
+  Eigen::VectorXd outside = Eigen::VectorXd::Constant(2, 2.0);
+  CHECK_THROWS_WITH(solver.solve(linear, outside),
+                    "nkit: the initial guess u0 violates the bounds given to set_bounds");
+  Eigen::VectorXd wrong_size = Eigen::VectorXd::Constant(3, 0.2);
+  CHECK_THROWS_WITH(solver.solve(linear, wrong_size), "nkit: the lower bound has 2 entries but the state has 3");
+  Eigen::VectorXd scale = Eigen::VectorXd::Ones(2);
+  scale(1) = 0.0;
+  CHECK_THROWS_WITH(solver.set_scaling(scale, Eigen::VectorXd()),
+                    "nkit: set_scaling: every entry of variable_scale must be finite and > 0");
+  nkit::newton_settings settings;
+  settings.pseudo_transient.growth_limit = 1.0;
+  CHECK_THROWS_WITH(solver.configure(settings),
+                    "nkit: newton_settings.pseudo_transient.growth_limit must be > 1 (got 1)");
+  settings = {};
+  settings.trust_region.shrink_factor = 1.5;
+  CHECK_THROWS_WITH(solver.configure(settings),
+                    "nkit: newton_settings.trust_region.shrink_factor must be in (0, 1) (got 1.5)");
+  settings = {};
+  settings.bounds.boundary_fraction = 1.0;
+  CHECK_THROWS_WITH(solver.configure(settings),
+                    "nkit: newton_settings.bounds.boundary_fraction must be in (0, 1) (got 1)");
+}
+
+TEST_CASE("scaling makes the solve independent of the unit system", "[globalization][scaling]") {
+  // System A: a coupled nonlinear system (Broyden tridiagonal form, MGH 1981
+  // problem 30, shifted so the root is nontrivial). System B is the same physics
+  // with odd unknowns in units 10⁶ times smaller (values 10⁶ larger) and odd
+  // equations written in units 10⁻⁶: u_B = D u_A, R_B(u_B) = E R_A(D⁻¹ u_B).
+  const int n = 200;
+  Eigen::VectorXd d = Eigen::VectorXd::Ones(n), e = Eigen::VectorXd::Ones(n);
+  for (int i = 1; i < n; i += 2) {
+    d(i) = 1e6;
+    e(i) = 1e-6;
+  }
+  auto system_a = [](const Eigen::VectorXd& x, Eigen::VectorXd& r) {
+    const Eigen::Index m = x.size();
+    for (Eigen::Index i = 0; i < m; ++i) {
+      const double left = i > 0 ? x(i - 1) : 0.0, right = i + 1 < m ? x(i + 1) : 0.0;
+      r(i) = (3.0 - 2.0 * x(i)) * x(i) - left - 2.0 * right + 1.0;
+    }
+  };
+  Eigen::VectorXd work_a(n), work_r(n);
+  auto system_b = [&](const Eigen::VectorXd& x, Eigen::VectorXd& r) {
+    work_a = x.cwiseQuotient(d);
+    system_a(work_a, work_r);
+    r = work_r.cwiseProduct(e);
+  };
+  nkit::newton_settings settings;
+  settings.relative_tolerance = 1e-10;
+  nkit::newton_krylov_solver<> solver(settings);
+  Eigen::VectorXd u_a = Eigen::VectorXd::Constant(n, -1.0);
+  const auto a = solver.solve(system_a, u_a);
+  REQUIRE(a.converged());
+
+  solver.set_scaling(d, e);  // typical magnitudes of B's unknowns and equations
+  Eigen::VectorXd u_b = -d;  // the same starting point, in B's units
+  const auto b = solver.solve(system_b, u_b);
+  REQUIRE(b.converged());
+  CHECK(b.newton_steps == a.newton_steps);
+  CHECK(b.linear_iterations == a.linear_iterations);
+  CHECK_THAT(b.initial_residual_norm, Catch::Matchers::WithinRel(a.initial_residual_norm, 1e-12));
+  CHECK_THAT(u_b.cwiseQuotient(d), is_close_to(u_a, 1e-9, 1e-9));
+
+  // Without scaling, B's residual norm is dominated by the even equations and
+  // the odd unknowns' finite-difference steps are far off: the iteration differs.
+  solver.clear_scaling();
+  Eigen::VectorXd u_unscaled = -d;
+  const auto unscaled = solver.solve(system_b, u_unscaled);
+  CHECK((unscaled.newton_steps != a.newton_steps || unscaled.linear_iterations != a.linear_iterations ||
+         !unscaled.converged()));
+}
