@@ -251,7 +251,7 @@ int run(int argc, char** argv) {
       "baseplate_residuals.png", "Baseplate: residual history", "outer iteration", curves);
   const bool plotted = nkit_examples::run_gnuplot(folder, "temperature_field.gp", field_script, std::cout) &&
                        nkit_examples::run_gnuplot(folder, "residual_history.gp", history_script, std::cout);
-  std::printf("\nwrote %s/{newton_history.csv,%sbaseplate_temperature.vtk%s}\n", folder.string().c_str(),
+  std::printf("\nwrote %s/{newton_history.csv,%sbaseplate_temperature.vtk%s}\n", std::filesystem::absolute(folder).string().c_str(),
               options.is_set("skip_picard") ? "" : "picard_history.csv,",
               plotted ? ",baseplate_temperature.png,baseplate_residuals.png" : "");
   return report.converged() && picard_ok ? 0 : 1;

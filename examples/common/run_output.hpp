@@ -127,7 +127,7 @@ inline std::string residual_history_script(const std::string& png_file, const st
     if (!first) script += ", \\\n     ";
     first = false;
     script += "'" + c.csv_file + "' using " + std::to_string(c.x_column) + ":" + std::to_string(c.y_column) +
-              " skip 1 with linespoints lw 2 title '" + c.title + "'";
+              " skip 1 with linespoints lw 2 title '" + c.title + "' noenhanced";
   }
   script += "\n";
   return script;

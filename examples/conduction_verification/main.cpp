@@ -111,7 +111,7 @@ int run(int argc, char** argv) {
   std::printf(
       "\nwrote errors.csv, newton_history_finest.csv, manufactured_solution.vtk (and conduction_order.png "
       "with gnuplot) in %s\n",
-      folder.string().c_str());
+      std::filesystem::absolute(folder).string().c_str());
   return all_converged ? 0 : 1;
 }
 

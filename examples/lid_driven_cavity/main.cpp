@@ -149,7 +149,7 @@ int run(int argc, char** argv) {
   nkit_examples::run_gnuplot(folder, "cavity_streamlines.gp", field_script, std::cout);
   nkit_examples::run_gnuplot(folder, "cavity_centre_lines.gp", line_script, std::cout);
   std::printf("\nwrote centre_lines.csv, ghia_1982.csv, newton_history.csv, cavity.vtk (and PNGs with gnuplot) in %s\n",
-              folder.string().c_str());
+              std::filesystem::absolute(folder).string().c_str());
   return solution.converged ? 0 : 1;
 }
 

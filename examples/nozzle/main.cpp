@@ -105,7 +105,7 @@ int run(int argc, char** argv) {
                                  {{"pseudo_transient_history.csv", 1, 2, "||R|| / ||R_0||"}}),
                              std::cout);
   std::printf("\nwrote nozzle_mach.csv, pseudo_transient_history.csv, nozzle.vtk (and PNGs with gnuplot) in %s\n",
-              folder.string().c_str());
+              std::filesystem::absolute(folder).string().c_str());
   return report.converged ? 0 : 1;
 }
 

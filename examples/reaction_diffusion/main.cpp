@@ -81,7 +81,7 @@ int run(int argc, char** argv) {
                                              "Newton step", curves),
       std::cout);
   std::printf("\nwrote history CSV files, reaction_diffusion.vtk (and reaction_residuals.png with gnuplot) in %s\n",
-              folder.string().c_str());
+              std::filesystem::absolute(folder).string().c_str());
   return converged ? 0 : 1;
 }
 
