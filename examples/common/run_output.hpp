@@ -5,6 +5,9 @@
 #define NKIT_EXAMPLES_COMMON_RUN_OUTPUT_HPP
 
 #include <sys/resource.h>
+#ifdef __GLIBC__
+#include <malloc.h>
+#endif
 
 #include <cstdio>
 #include <cstdlib>
@@ -41,9 +44,13 @@ inline double peak_memory_bytes() {
 
 /// Resets the peak-memory mark to the current resident size (Linux: writes 5
 /// to /proc/self/clear_refs), so two methods run one after the other in the
-/// same process each get their own peak. Returns false when not supported
+/// same process each get their own peak (freed heap is first returned to
+/// the system with malloc_trim where glibc provides it). Returns false when not supported
 /// (the peak then covers the whole process so far).
 inline bool reset_peak_memory() {
+#ifdef __GLIBC__
+  malloc_trim(0);  // hand freed heap back first, so the next growth is really new memory
+#endif
   std::ofstream clear("/proc/self/clear_refs");
   if (!clear) return false;
   clear << "5";
