@@ -39,6 +39,7 @@
 #include "eigen_vector_space.hpp"
 #include "linear_operator.hpp"
 #include "preconditioner.hpp"
+#include "trace.hpp"
 #include "vector_space.hpp"
 
 namespace nkit {
@@ -122,6 +123,10 @@ class gmres_solver {
   void capture_cauchy_point(vector_type* target) { m_cauchy_target = target; }
   /// True when the last solve wrote a Cauchy point.
   bool cauchy_point_available() const { return m_cauchy_written; }
+
+  /// Records orthogonalisation and linear-iteration events (and the relative
+  /// residual counter) into `recorder`; nullptr stops recording.
+  void record_trace(trace_recorder* recorder) { m_trace = recorder; }
 
   /// Bytes of vector and dense workspace currently held.
   std::size_t workspace_bytes() const {
@@ -208,6 +213,7 @@ class gmres_solver {
       bool stopped = false;
 
       for (int j = 0; j < m && total < m_settings.max_iterations; ++j) {
+        const auto iteration_start = detail::clock_type::now();
         const vector_type* z = &m_basis[static_cast<std::size_t>(j)];
         if constexpr (!identity) {
           vector_type& target_vector = flexible ? m_preconditioned[static_cast<std::size_t>(j)] : m_work;
@@ -220,7 +226,9 @@ class gmres_solver {
 
         const auto start = detail::clock_type::now();
         const double next_norm = orthogonalize(j);
-        result.orthogonalization_seconds += detail::seconds_between(start, detail::clock_type::now());
+        const auto stop = detail::clock_type::now();
+        result.orthogonalization_seconds += detail::seconds_between(start, stop);
+        if (m_trace != nullptr) m_trace->record(trace_phase::orthogonalization, start, stop, total + 1);
 
         if (!std::isfinite(next_norm) || !m_hessenberg.col(j).head(j + 1).allFinite()) {
           non_finite = true;  // column j is discarded; earlier columns are sound
@@ -253,6 +261,11 @@ class gmres_solver {
           happy_breakdown = true;
         } else {
           m_space.scale(1 / next_norm, m_basis[static_cast<std::size_t>(j + 1)]);
+        }
+        if (m_trace != nullptr) {
+          const auto now = detail::clock_type::now();
+          m_trace->record(trace_phase::linear_iteration, iteration_start, now, total);
+          m_trace->record_counter(trace_counter::relative_linear_residual, now, estimate / b_norm);
         }
         if (!observer(total, estimate / b_norm)) {
           stopped = true;
@@ -429,6 +442,7 @@ class gmres_solver {
   Eigen::VectorXd m_first_row;
   std::vector<detail::givens_rotation> m_rotations;
   vector_type* m_cauchy_target = nullptr;
+  trace_recorder* m_trace = nullptr;
   bool m_cauchy_written = false;
 };
 

@@ -57,6 +57,7 @@
 #include "report.hpp"
 #include "residual.hpp"
 #include "settings.hpp"
+#include "trace.hpp"
 #include "trust_region.hpp"
 #include "vector_space.hpp"
 
@@ -132,6 +133,14 @@ class newton_krylov_solver {
   const Space& space() const { return m_space; }
   Preconditioner& preconditioner() { return m_preconditioner; }
   const Preconditioner& preconditioner() const { return m_preconditioner; }
+
+  /// Records a timeline of every later solve into `recorder` (trace.hpp);
+  /// nullptr stops recording. With none attached each phase call costs one
+  /// pointer test.
+  void record_trace(trace_recorder* recorder) {
+    m_trace = recorder;
+    m_gmres.record_trace(recorder);
+  }
 
   /// The next Newton step rebuilds the preconditioner whatever the reuse policy says.
   void request_preconditioner_rebuild() { m_rebuild_requested = true; }
@@ -314,6 +323,8 @@ class newton_krylov_solver {
     m_report.initial_residual_norm = m_report.final_residual_norm = m_norm;
     m_best_norm = m_norm;
     m_target_norm = std::max(m_settings.absolute_tolerance, m_settings.relative_tolerance * m_norm);
+    m_stagnation_reference = m_norm;
+    if (m_trace != nullptr) m_trace->record_counter(trace_counter::residual_norm, detail::clock_type::now(), m_norm);
   }
 
   /// Ends the run: on a non-converged outcome u gets the best iterate.
@@ -356,6 +367,7 @@ class newton_krylov_solver {
     if (k >= m_settings.max_newton_steps) return outcome::newton_step_limit;
     newton_step_record record;
     record.step = k + 1;
+    const auto step_start = detail::clock_type::now();
 
     outcome early = outcome::in_progress;
     if (m_pseudo_transient) {
@@ -383,6 +395,10 @@ class newton_krylov_solver {
     if (new_norm < m_best_norm) {
       m_best_norm = new_norm;
       m_best_is_current = true;
+    }
+    // Stagnation: no new best below stagnation_factor times the last reference.
+    if (new_norm < m_settings.stagnation_factor * m_stagnation_reference) {
+      m_stagnation_reference = new_norm;
       m_steps_since_best = 0;
     } else {
       ++m_steps_since_best;
@@ -398,6 +414,16 @@ class newton_krylov_solver {
     record.residual_evaluations = m_report.residual_evaluations;
     m_report.history.push_back(record);
     m_report.final_residual_norm = new_norm;
+    if (m_trace != nullptr) {
+      const auto now = detail::clock_type::now();
+      m_trace->record(trace_phase::newton_step, step_start, now, record.step);
+      m_trace->record_counter(trace_counter::residual_norm, now, new_norm);
+      m_trace->record_counter(trace_counter::forcing_term, now, record.forcing_term);
+      if (record.pseudo_time_step > 0.0) {
+        m_trace->record_counter(trace_counter::pseudo_time_step, now, record.pseudo_time_step);
+      }
+      if (record.trust_radius > 0.0) m_trace->record_counter(trace_counter::trust_radius, now, record.trust_radius);
+    }
 
     if (detail::notify_newton_step(monitor, record) == monitor_decision::stop_now) return outcome::stopped_by_monitor;
     if (const outcome converged = convergence(); converged != outcome::in_progress) return converged;
@@ -608,7 +634,9 @@ class newton_krylov_solver {
   }
 
   void account_globalization(detail::clock_type::time_point start, double residual_before, double product_before) {
-    const double seconds = detail::seconds_between(start, detail::clock_type::now());
+    const auto stop = detail::clock_type::now();
+    if (m_trace != nullptr) m_trace->record(trace_phase::globalization, start, stop, m_report.newton_steps + 1);
+    const double seconds = detail::seconds_between(start, stop);
     m_report.time.globalization +=
         seconds - (m_report.time.residual - residual_before) - (m_report.time.jacobian_vector - product_before);
     ++m_report.calls.globalization;
@@ -642,7 +670,9 @@ class newton_krylov_solver {
     const auto expected = x.size();
     const auto start = detail::clock_type::now();
     problem(physical, r);
-    const double seconds = detail::seconds_between(start, detail::clock_type::now());
+    const auto stop = detail::clock_type::now();
+    const double seconds = detail::seconds_between(start, stop);
+    if (m_trace != nullptr) m_trace->record(trace_phase::residual, start, stop);
     ++m_report.residual_evaluations;
     m_residual_samples.add(seconds);
     if (attributed_to == phase::residual) {
@@ -702,7 +732,9 @@ class newton_krylov_solver {
       }
     }
     if (m_pseudo_transient) m_space.add_product(m_shift, v, out);
-    m_report.time.jacobian_vector += detail::seconds_between(start, detail::clock_type::now());
+    const auto stop = detail::clock_type::now();
+    if (m_trace != nullptr) m_trace->record(trace_phase::jacobian_vector, start, stop);
+    m_report.time.jacobian_vector += detail::seconds_between(start, stop);
     ++m_report.calls.jacobian_vector;
     ++m_report.jacobian_vector_products;
   }
@@ -753,7 +785,9 @@ class newton_krylov_solver {
     void apply(const vector_type& r, vector_type& z) {
       const auto start = detail::clock_type::now();
       solver->m_preconditioner.apply(r, z);
-      solver->m_report.time.preconditioner_apply += detail::seconds_between(start, detail::clock_type::now());
+      const auto stop = detail::clock_type::now();
+      if (solver->m_trace != nullptr) solver->m_trace->record(trace_phase::preconditioner_apply, start, stop);
+      solver->m_report.time.preconditioner_apply += detail::seconds_between(start, stop);
       ++solver->m_report.calls.preconditioner_apply;
       ++solver->m_report.preconditioner_applications;
     }
@@ -779,11 +813,15 @@ class newton_krylov_solver {
     const bool trust_region = m_settings.globalization == globalization_strategy::trust_region && !m_pseudo_transient;
     m_gmres.capture_cauchy_point(trust_region ? &m_cauchy : nullptr);
     linear_solve_result result;
+    const auto start = detail::clock_type::now();
     if constexpr (std::is_same_v<Preconditioner, identity_preconditioner>) {
       result = m_gmres.solve(op, m_preconditioner, m_residual, m_step, eta, initial_guess::zero, observer);
     } else {
       timed_preconditioner preconditioner{this};
       result = m_gmres.solve(op, preconditioner, m_residual, m_step, eta, initial_guess::zero, observer);
+    }
+    if (m_trace != nullptr) {
+      m_trace->record(trace_phase::linear_solve, start, detail::clock_type::now(), m_report.newton_steps + 1);
     }
     m_report.linear_iterations = used_before + result.iterations;
     m_report.time.orthogonalization += result.orthogonalization_seconds;
@@ -816,7 +854,9 @@ class newton_krylov_solver {
         if (s.m_residual_scaling) s.m_jacobian = s.m_residual_scale.cwiseInverse().asDiagonal() * s.m_jacobian;
         if (s.m_variable_scaling) s.m_jacobian = s.m_jacobian * s.m_variable_scale.asDiagonal();
         if (s.m_pseudo_transient) detail::add_to_diagonal(s.m_jacobian, s.m_shift);
-        s.m_report.time.jacobian_assembly += detail::seconds_between(start, detail::clock_type::now());
+        const auto stop = detail::clock_type::now();
+        if (s.m_trace != nullptr) s.m_trace->record(trace_phase::jacobian_assembly, start, stop);
+        s.m_report.time.jacobian_assembly += detail::seconds_between(start, stop);
         ++s.m_report.calls.jacobian_assembly;
         ++s.m_report.jacobian_assemblies;
         m_assembled = true;
@@ -845,7 +885,9 @@ class newton_krylov_solver {
       preconditioner_context<Space> context{m_space, m_state, m_residual, k, shift, nullptr};
       status = setup_preconditioner(m_preconditioner, context);
     }
-    const double seconds = detail::seconds_between(start, detail::clock_type::now());
+    const auto stop = detail::clock_type::now();
+    if (m_trace != nullptr) m_trace->record(trace_phase::preconditioner_setup, start, stop, k + 1);
+    const double seconds = detail::seconds_between(start, stop);
     m_report.time.preconditioner_setup += seconds - (m_report.time.jacobian_assembly - assembly_before);
     ++m_report.calls.preconditioner_setup;
     ++m_report.preconditioner_setups;
@@ -892,6 +934,8 @@ class newton_krylov_solver {
   bool m_residual_scaling = false;
   bool m_best_is_current = true;
   int m_steps_since_best = 0;
+  double m_stagnation_reference = 0.0;
+  trace_recorder* m_trace = nullptr;
   bool m_linear_budget_spent = false;
   bool m_monitor_stopped = false;
   bool m_rebuild_requested = false;

@@ -19,7 +19,7 @@ enum class outcome {
   residual_evaluation_budget,   ///< residual_evaluation_budget spent
   linear_iteration_budget,      ///< linear_iteration_budget spent
   wall_time_limit,              ///< wall_time_limit_seconds passed
-  stagnated,                    ///< no new smallest residual within stagnation_window Newton steps
+  stagnated,                    ///< no significant progress (stagnation_factor) within stagnation_window steps
   line_search_failed,           ///< no acceptable step length within max_backtracks
   linear_solver_no_progress,    ///< GMRES did not reduce the linear residual at all
   non_finite_initial_residual,  ///< R(u0) has NaN or Inf entries; no step was taken
@@ -97,7 +97,7 @@ constexpr std::string_view describe(outcome value) {
     case outcome::wall_time_limit:
       return "Stopped: the wall-clock time limit passed before convergence.";
     case outcome::stagnated:
-      return "Stopped: the residual norm did not reach a new minimum within the stagnation window.";
+      return "Stopped: the residual norm made no significant progress within the stagnation window.";
     case outcome::line_search_failed:
       return "Stopped: the line search found no step length giving sufficient decrease of the residual norm.";
     case outcome::linear_solver_no_progress:

@@ -181,8 +181,11 @@ struct newton_settings {
   std::int64_t linear_iteration_budget = std::numeric_limits<std::int64_t>::max();
   /// Wall-clock limit, checked before each residual evaluation.
   double wall_time_limit_seconds = std::numeric_limits<double>::infinity();
-  /// Stop when no new smallest residual norm was reached within this many Newton steps.
+  /// Stop (outcome::stagnated) when, within this many Newton steps, the
+  /// residual norm never fell below stagnation_factor times its value at the
+  /// last such progress (not checked during pseudo-transient steps).
   int stagnation_window = 10;
+  double stagnation_factor = 0.99;
   /// When not null, raising the flag stops the solve before the next residual evaluation.
   const std::atomic<bool>* cancellation_flag = nullptr;
 
@@ -211,6 +214,7 @@ struct newton_settings {
     detail::require_at_least<std::int64_t>("newton_settings.linear_iteration_budget", linear_iteration_budget, 1);
     detail::require_positive("newton_settings.wall_time_limit_seconds", wall_time_limit_seconds, true);
     detail::require_at_least("newton_settings.stagnation_window", stagnation_window, 1);
+    detail::require_open_interval("newton_settings.stagnation_factor", stagnation_factor, 0.0, 1.0);
     forcing.validate("newton_settings.forcing");
     line_search.validate("newton_settings.line_search");
     trust_region.validate("newton_settings.trust_region");
