@@ -28,14 +28,14 @@ using sparse_lu_preconditioner = factorization_preconditioner<
     Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>, Eigen::COLAMDOrdering<int>>>;
 using incomplete_lu_preconditioner = factorization_preconditioner<Eigen::IncompleteLUT<double, int>>;
 
-/// The Re values visited on the way to `target`: 100, then ×2.5 steps (common practice: small enough
+/// The Re values visited on the way to `target`: 100, then ×4 steps (common practice: small enough
 /// that each Newton solve starts inside its basin).
 inline std::vector<double> reynolds_ramp(double target) {
   std::vector<double> ramp;
   double re = std::min(100.0, target);
   while (re < target) {
     ramp.push_back(re);
-    re *= 2.5;
+    re *= 4.0;
   }
   ramp.push_back(target);
   return ramp;
