@@ -56,6 +56,7 @@
 #include "pseudo_transient.hpp"
 #include "report.hpp"
 #include "residual.hpp"
+#include "row_partition.hpp"
 #include "settings.hpp"
 #include "trace.hpp"
 #include "trust_region.hpp"
@@ -92,10 +93,12 @@ struct has_pseudo_time_weights<Problem, Vector,
                                std::void_t<decltype(std::declval<Problem&>().pseudo_time_weights(
                                    std::declval<const Vector&>(), std::declval<Vector&>()))>> : std::true_type {};
 
-/// J(i, i) += shift(i) for every row; inserts missing diagonal entries.
+/// J(i, first_column + i) += shift(i) for every local row i; inserts missing
+/// diagonal entries. first_column is the global index of local row 0 in the
+/// distributed layout of row_partition.hpp (0 on a serial space).
 template <class Vector>
-void add_to_diagonal(sparse_matrix& jacobian, const Vector& shift) {
-  for (Eigen::Index i = 0; i < shift.size(); ++i) jacobian.coeffRef(i, i) += shift(i);
+void add_to_diagonal(sparse_matrix& jacobian, const Vector& shift, Eigen::Index first_column) {
+  for (Eigen::Index i = 0; i < shift.size(); ++i) jacobian.coeffRef(i, first_column + i) += shift(i);
 }
 }  // namespace detail
 
@@ -245,7 +248,8 @@ class newton_krylov_solver {
   void start(Problem& problem, state_view u) {
     static_assert(is_residual_v<Problem, vector_type>,
                   "nkit: the residual must be callable as residual(const vector_type& u, vector_type& r)");
-    if (u.size() == 0) throw std::invalid_argument("nkit: the state vector u is empty");
+    // Collective: a rank may own no unknowns; only a globally empty state is an error.
+    if (m_space.global_size(u) == 0) throw std::invalid_argument("nkit: the state vector u is empty");
     if (!m_space.all_finite(u)) throw std::invalid_argument("nkit: the initial guess u0 contains NaN or Inf entries");
     const auto check_size = [&](const vector_type& v, bool active, const char* what) {
       if (active && v.size() != u.size()) {
@@ -853,7 +857,9 @@ class newton_krylov_solver {
         m_problem.assemble_jacobian(s.physical_state(s.m_state), s.m_jacobian);
         if (s.m_residual_scaling) s.m_jacobian = s.m_residual_scale.cwiseInverse().asDiagonal() * s.m_jacobian;
         if (s.m_variable_scaling) s.m_jacobian = s.m_jacobian * s.m_variable_scale.asDiagonal();
-        if (s.m_pseudo_transient) detail::add_to_diagonal(s.m_jacobian, s.m_shift);
+        if (s.m_pseudo_transient) {
+          detail::add_to_diagonal(s.m_jacobian, s.m_shift, first_global_row(s.m_space, s.m_state));
+        }
         const auto stop = detail::clock_type::now();
         if (s.m_trace != nullptr) s.m_trace->record(trace_phase::jacobian_assembly, start, stop);
         s.m_report.time.jacobian_assembly += detail::seconds_between(start, stop);

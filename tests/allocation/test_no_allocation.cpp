@@ -4,6 +4,7 @@
 // replacement of the global operator new (everything else, std::vector etc.).
 // Built as its own executable because both hooks change global behaviour.
 #include <atomic>
+#include <cmath>
 #include <cstddef>
 #include <cstdlib>
 #include <memory>
@@ -137,6 +138,53 @@ TEST_CASE("a repeated Newton solve of the same size allocates nothing", "[alloca
     CHECK(region.operator_new_calls() == 1);
     CHECK(region.eigen_heap_requests() == 0);
   }
+}
+
+namespace {
+/// 1D Bratu, R_i = (2u_i − u_{i−1} − u_{i+1})(n+1)² − λ e^{u_i} (references §2), without temporaries.
+struct bratu_residual {
+  void operator()(const Eigen::VectorXd& u, double parameter, Eigen::VectorXd& r) const {
+    const Eigen::Index n = u.size();
+    const double inverse_h2 = double(n + 1) * double(n + 1);
+    for (Eigen::Index i = 0; i < n; ++i) {
+      const double left = i > 0 ? u(i - 1) : 0.0;
+      const double right = i + 1 < n ? u(i + 1) : 0.0;
+      r(i) = inverse_h2 * (2.0 * u(i) - left - right) - parameter * std::exp(u(i));
+    }
+  }
+};
+}  // namespace
+
+TEST_CASE("continuation allocates per run, not per point", "[allocation]") {
+  // The report (its lists, reserved up front, and the returned copy) and the
+  // settings checks are per run; the corrector, tangent, predictor and fold
+  // location reuse their workspace. So a run to 24 points allocates exactly as
+  // much as a run to 12 (both pass the fold at λ ≈ 3.5, so both return one
+  // fold record), once the solver has seen the size.
+  nkit::continuation_settings settings;
+  settings.corrector.linear.restart_length = 40;
+  nkit::continuation_solver<> solver(settings);
+  const auto counted_run = [&](int points, long& operator_new, long& eigen_requests) {
+    settings.max_points = points;
+    solver.configure(settings);
+    Eigen::VectorXd u = Eigen::VectorXd::Zero(31);
+    counted_region region;
+    const nkit::continuation_report report = solver.trace_branch(bratu_residual{}, u, 1.0);
+    region.stop();
+    CHECK(report.result == nkit::continuation_outcome::reached_point_limit);
+    CHECK(report.points.size() == static_cast<std::size_t>(points));
+    CHECK(report.folds.size() == 1);
+    operator_new = region.operator_new_calls();
+    eigen_requests = region.eigen_heap_requests();
+  };
+  long first_new = 0, first_eigen = 0, short_new = 0, short_eigen = 0, long_new = 0, long_eigen = 0;
+  counted_run(24, first_new, first_eigen);  // sizes the workspace
+  counted_run(12, short_new, short_eigen);
+  counted_run(24, long_new, long_eigen);
+  CHECK(first_eigen > 0);
+  CHECK(long_new == short_new);
+  CHECK(long_eigen == short_eigen);
+  CHECK(long_eigen == 0);
 }
 
 TEST_CASE("the counters do see allocations (so the checks above can fail)", "[allocation]") {

@@ -1,5 +1,6 @@
 # Builds and runs tests/consumer against nkit: either installed into a
 # temporary prefix (MODE=find_package) or embedded (MODE=add_subdirectory).
+# WITH_MPI=ON also builds and runs the MPI consumer (nkit::mpi).
 file(REMOVE_RECURSE ${WORK_DIR})
 file(MAKE_DIRECTORY ${WORK_DIR})
 
@@ -11,8 +12,12 @@ function(run)
   message(STATUS "${output}")
 endfunction()
 
+if(NOT DEFINED WITH_MPI)
+  set(WITH_MPI OFF)
+endif()
 set(configure_args -S ${NKIT_SOURCE_DIR}/tests/consumer -B ${WORK_DIR}/build -DCMAKE_CXX_COMPILER=${CXX_COMPILER}
-                   -DNKIT_CONSUMER_MODE=${MODE} -DNKIT_SOURCE_DIR=${NKIT_SOURCE_DIR})
+                   -DNKIT_CONSUMER_MODE=${MODE} -DNKIT_SOURCE_DIR=${NKIT_SOURCE_DIR}
+                   -DNKIT_CONSUMER_WITH_MPI=${WITH_MPI})
 if(MODE STREQUAL "find_package")
   run(${CMAKE_COMMAND} --install ${NKIT_BINARY_DIR} --prefix ${WORK_DIR}/prefix)
   list(APPEND configure_args -DCMAKE_PREFIX_PATH=${WORK_DIR}/prefix)
@@ -20,3 +25,6 @@ endif()
 run(${CMAKE_COMMAND} ${configure_args})
 run(${CMAKE_COMMAND} --build ${WORK_DIR}/build)
 run(${WORK_DIR}/build/consumer)
+if(WITH_MPI)
+  run(${WORK_DIR}/build/consumer_mpi)
+endif()

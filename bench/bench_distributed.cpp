@@ -1,0 +1,270 @@
+// Side-by-side cost of solving the benchmark model problem (references §15)
+// on an n×n grid, all from T0 = 0 to ‖R‖ ≤ 1e-8 ‖R(T0)‖:
+//   nkit_amg             nkit Newton–GMRES (matrix-free J·v, CGS2) with hypre
+//                        BoomerAMG built from the analytic Jacobian; arguments
+//                        n, rebuild_every_newton_steps, restart_length,
+//                        aggressive_coarsening_levels.
+//                        Runs on all ranks of MPI_COMM_WORLD (strips).
+//   exact_newton_sparse_lu  Newton with the analytic Jacobian factored by
+//                        Eigen::SparseLU every step, full steps (one rank).
+//   picard_sparse_cholesky  Picard (frozen k) iteration, each step a sparse
+//                        Cholesky (Eigen::SimplicialLDLT, AMD ordering) of the
+//                        symmetric positive definite frozen-k matrix (one rank).
+// Counters: newton_steps (or Picard steps), gmres_per_newton, work_units
+// (solve time ÷ median time of one residual evaluation at the same n, one
+// thread per rank), and the time per phase for nkit.
+//
+//   mpirun -np 1 bench_distributed --benchmark_out=distributed.json --benchmark_out_format=json
+//   mpirun -np 2 bench_distributed --benchmark_filter=nkit_amg
+// Timings on a shared machine are rough. Each case runs once (Iterations(1)):
+// every rank must run the same cases in lockstep, and a solve takes seconds.
+#include <mpi.h>
+
+#include <benchmark/benchmark.h>
+#include <Eigen/SparseCholesky>
+#include <Eigen/SparseLU>
+#include <algorithm>
+#include <chrono>
+#include <cstring>
+#include <string>
+#include <vector>
+
+#include "distributed_heat/solve_strip_problem.hpp"
+
+namespace {
+
+using clock_type = std::chrono::steady_clock;
+double seconds_since(clock_type::time_point start) {
+  return std::chrono::duration<double>(clock_type::now() - start).count();
+}
+
+int world_size() {
+  int size = 1;
+  MPI_Comm_size(MPI_COMM_WORLD, &size);
+  return size;
+}
+
+/// Median wall time of one residual evaluation of the strip problem at T = t.
+double median_residual_seconds(nkit_examples::strip_heat_problem& problem, const Eigen::VectorXd& t) {
+  Eigen::VectorXd r(t.size());
+  std::vector<double> samples;
+  for (int k = 0; k < 11; ++k) {
+    const auto start = clock_type::now();
+    problem(t, r);
+    benchmark::DoNotOptimize(r.data());
+    samples.push_back(seconds_since(start));
+  }
+  std::nth_element(samples.begin(), samples.begin() + 5, samples.end());
+  return samples[5];
+}
+
+void nkit_amg(benchmark::State& state) {
+  const int n = static_cast<int>(state.range(0));
+  nkit::newton_settings settings = nkit_examples::strip_default_settings();
+  settings.preconditioner_reuse.rebuild_every_newton_steps = static_cast<int>(state.range(1));
+  settings.linear.restart_length = static_cast<int>(state.range(2));
+  nkit::algebraic_multigrid_settings multigrid;
+  multigrid.aggressive_coarsening_levels = static_cast<int>(state.range(3));
+  nkit_examples::strip_solve_result result;
+  for (auto _ : state) {
+    result = nkit_examples::solve_strip_problem(
+        MPI_COMM_WORLD, n, nkit_examples::strip_preconditioner::algebraic_multigrid, settings, multigrid);
+  }
+  const nkit::solve_report& report = result.report;
+  if (!report.converged()) {
+    state.SkipWithError(("not converged: " + std::string(nkit::name(report.result))).c_str());
+    return;
+  }
+  state.SetComplexityN(static_cast<int64_t>(n) * n);
+  state.counters["ranks"] = world_size();
+  state.counters["newton_steps"] = report.newton_steps;
+  state.counters["gmres_per_newton"] = static_cast<double>(report.linear_iterations) / report.newton_steps;
+  state.counters["work_units"] = report.work_units();
+  state.counters["setups"] = static_cast<double>(report.preconditioner_setups);
+  state.counters["seconds_assembly"] = report.time.jacobian_assembly;
+  state.counters["seconds_amg_setup"] = report.time.preconditioner_setup;
+  state.counters["seconds_amg_apply"] = report.time.preconditioner_apply;
+  state.counters["seconds_residual_and_jv"] = report.time.residual + report.time.jacobian_vector;
+  state.counters["seconds_orthogonalization"] = report.time.orthogonalization;
+}
+
+void exact_newton_sparse_lu(benchmark::State& state) {
+  const int n = static_cast<int>(state.range(0));
+  if (world_size() != 1) {
+    state.SkipWithError("serial baseline: run with one rank");
+    return;
+  }
+  nkit_examples::strip_heat_problem problem(MPI_COMM_SELF, n);
+  Eigen::VectorXd t, r(problem.local_unknowns()), step;
+  nkit::sparse_matrix jacobian;
+  Eigen::SparseMatrix<double, Eigen::ColMajor, int> column_jacobian;
+  int steps = 0;
+  double residual_norm = 0.0, initial_norm = 0.0;
+  double solve_seconds = 0.0;
+  for (auto _ : state) {
+    const auto start = clock_type::now();
+    t = Eigen::VectorXd::Zero(problem.local_unknowns());
+    problem(t, r);
+    initial_norm = residual_norm = r.norm();
+    Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>> lu;
+    for (steps = 0; steps < 50 && residual_norm > 1e-8 * initial_norm; ++steps) {
+      problem.assemble_jacobian(t, jacobian);
+      column_jacobian = jacobian;
+      if (steps == 0) lu.analyzePattern(column_jacobian);
+      lu.factorize(column_jacobian);
+      step = lu.solve(r);
+      t -= step;
+      problem(t, r);
+      residual_norm = r.norm();
+    }
+    solve_seconds = seconds_since(start);
+  }
+  if (!(residual_norm <= 1e-8 * initial_norm)) {
+    state.SkipWithError("exact Newton did not converge");
+    return;
+  }
+  state.SetComplexityN(static_cast<int64_t>(n) * n);
+  state.counters["newton_steps"] = steps;
+  const double residual_seconds = median_residual_seconds(problem, t);
+  state.counters["median_residual_seconds"] = residual_seconds;
+  state.counters["work_units"] = solve_seconds / residual_seconds;
+}
+
+/// Frozen-k matrix A(T): face coefficient ½(k_P + k_Q), wall coefficient
+/// k_P + 1 (references §15 with k frozen), so R(T) = A(T) T − q h².
+void assemble_picard_matrix(int n, const Eigen::VectorXd& t, Eigen::SparseMatrix<double, Eigen::ColMajor, int>& a,
+                            std::vector<Eigen::Triplet<double, int>>& entries) {
+  entries.clear();
+  const auto k = [&](int p) { return 1.0 + t(p) * t(p); };
+  for (int j = 0; j < n; ++j) {
+    for (int i = 0; i < n; ++i) {
+      const int p = i + n * j;
+      double diagonal = 0.0;
+      const auto face = [&](int q) {
+        const double k_f = 0.5 * (k(p) + k(q));
+        diagonal += k_f;
+        entries.emplace_back(p, q, -k_f);
+      };
+      const double wall = k(p) + 1.0;
+      if (i > 0)
+        face(p - 1);
+      else
+        diagonal += wall;
+      if (i + 1 < n)
+        face(p + 1);
+      else
+        diagonal += wall;
+      if (j > 0)
+        face(p - n);
+      else
+        diagonal += wall;
+      if (j + 1 < n)
+        face(p + n);
+      else
+        diagonal += wall;
+      entries.emplace_back(p, p, diagonal);
+    }
+  }
+  a.resize(n * n, n * n);
+  a.setFromTriplets(entries.begin(), entries.end());
+}
+
+void picard_sparse_cholesky(benchmark::State& state) {
+  const int n = static_cast<int>(state.range(0));
+  if (world_size() != 1) {
+    state.SkipWithError("serial baseline: run with one rank");
+    return;
+  }
+  nkit_examples::strip_heat_problem problem(MPI_COMM_SELF, n);
+  const double h = 1.0 / n;
+  const Eigen::VectorXd load = Eigen::VectorXd::Constant(problem.local_unknowns(), 10.0 * h * h);
+  Eigen::VectorXd t, r(problem.local_unknowns());
+  Eigen::SparseMatrix<double, Eigen::ColMajor, int> a;
+  std::vector<Eigen::Triplet<double, int>> entries;
+  int steps = 0;
+  double residual_norm = 0.0, initial_norm = 0.0;
+  double solve_seconds = 0.0;
+  for (auto _ : state) {
+    const auto start = clock_type::now();
+    t = Eigen::VectorXd::Zero(problem.local_unknowns());
+    problem(t, r);
+    initial_norm = residual_norm = r.norm();
+    Eigen::SimplicialLDLT<Eigen::SparseMatrix<double, Eigen::ColMajor, int>> cholesky;
+    for (steps = 0; steps < 200 && residual_norm > 1e-8 * initial_norm; ++steps) {
+      assemble_picard_matrix(n, t, a, entries);
+      if (steps == 0) cholesky.analyzePattern(a);
+      cholesky.factorize(a);
+      t = cholesky.solve(load);
+      problem(t, r);
+      residual_norm = r.norm();
+    }
+    solve_seconds = seconds_since(start);
+  }
+  if (!(residual_norm <= 1e-8 * initial_norm)) {
+    state.SkipWithError("Picard did not converge");
+    return;
+  }
+  state.SetComplexityN(static_cast<int64_t>(n) * n);
+  state.counters["picard_steps"] = steps;
+  const double residual_seconds = median_residual_seconds(problem, t);
+  state.counters["median_residual_seconds"] = residual_seconds;
+  state.counters["work_units"] = solve_seconds / residual_seconds;
+}
+
+// nkit + AMG: rebuild every step or every 3 steps; restart 50 (default) or 20.
+BENCHMARK(nkit_amg)
+    ->ArgNames({"n", "rebuild_every", "restart", "aggressive_levels"})
+    ->ArgsProduct({{256, 512, 1024, 2048}, {1, 3}, {50}, {0, 1}})
+    ->Args({1024, 1, 20, 0})
+    ->Iterations(1)
+    ->UseRealTime()
+    ->Unit(benchmark::kSecond);
+// Baselines: n = 2048 is not run (SparseLU-Newton needs ~14 min and ~9 GiB there; extrapolate).
+BENCHMARK(exact_newton_sparse_lu)
+    ->ArgName("n")
+    ->Arg(256)
+    ->Arg(512)
+    ->Arg(1024)
+    ->Iterations(1)
+    ->UseRealTime()
+    ->Unit(benchmark::kSecond);
+BENCHMARK(picard_sparse_cholesky)
+    ->ArgName("n")
+    ->Arg(256)
+    ->Arg(512)
+    ->Arg(1024)
+    ->Iterations(1)
+    ->UseRealTime()
+    ->Unit(benchmark::kSecond);
+
+/// Swallows the output of ranks other than 0.
+class silent_reporter : public benchmark::BenchmarkReporter {
+ public:
+  bool ReportContext(const Context&) override { return true; }
+  void ReportRuns(const std::vector<Run>&) override {}
+};
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  MPI_Init(&argc, &argv);
+  int rank = 0;
+  MPI_Comm_rank(MPI_COMM_WORLD, &rank);
+  std::vector<char*> arguments(argv, argv + argc);
+  if (rank != 0) {  // only rank 0 writes the JSON file
+    arguments.erase(std::remove_if(arguments.begin() + 1, arguments.end(),
+                                   [](const char* a) { return std::strncmp(a, "--benchmark_out", 15) == 0; }),
+                    arguments.end());
+  }
+  int count = static_cast<int>(arguments.size());
+  benchmark::Initialize(&count, arguments.data());
+  if (rank == 0) {
+    benchmark::RunSpecifiedBenchmarks();
+  } else {
+    silent_reporter silent;
+    benchmark::RunSpecifiedBenchmarks(&silent);
+  }
+  benchmark::Shutdown();
+  MPI_Finalize();
+  return 0;
+}
