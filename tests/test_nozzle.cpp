@@ -1,4 +1,4 @@
-// Quasi-1D nozzle example (HLLC finite volume, pseudo-transient Newton–GMRES)
+// Quasi-1D nozzle example (HLLC finite volume, nkit's pseudo-transient Newton–GMRES)
 // against the exact isentropic + normal-shock solution. The exact solution
 // is computed here, independently of the example's own helper, from the
 // formulas of NACA Report 1135 (Ames Research Staff 1953; shared references §6).
@@ -80,7 +80,7 @@ nozzle_check run(int cells, const exact_nozzle& exact, double exact_shock) {
   const nkit_examples::quasi_one_dimensional_nozzle problem(cells, setup);
   Eigen::VectorXd u = problem.initial_guess();  // crude: at rest, linear pressure
   const auto report = nkit_examples::solve_nozzle(problem, u);
-  REQUIRE(report.converged);
+  REQUIRE(report.converged());
   nozzle_check check{};
   check.dx = problem.spacing();
   const double shock = nkit_examples::captured_shock_position(problem, u);

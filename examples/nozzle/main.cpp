@@ -1,6 +1,6 @@
 // Quasi-1D Euler flow through a converging–diverging nozzle with a standing
-// normal shock (nozzle.hpp), converged from a crude start by pseudo-transient
-// continuation with Newton–GMRES (nozzle_solve.hpp), compared with the exact
+// normal shock (nozzle.hpp), converged from a crude start by nkit's
+// pseudo-transient continuation with Newton–GMRES (nozzle_solve.hpp), compared with the exact
 // isentropic/normal-shock solution (isentropic_relations.hpp).
 //
 //   nozzle [--cells=400] [--back_pressure=0.75] [--initial_cfl=2] [--output=nozzle_output]
@@ -37,20 +37,15 @@ int run(int argc, char** argv) {
               problem.cells(), setup.back_pressure, options.summary().c_str());
 
   Eigen::VectorXd u = problem.initial_guess();
-  nkit_examples::pseudo_transient_settings settings;
-  settings.initial_cfl = options.number("initial_cfl");
-  settings.relative_tolerance = options.number("relative_tolerance");
-  const auto report = nkit_examples::solve_nozzle(problem, u, settings);
-  std::printf(" pseudo step |        CFL |  residual norm |  reduction | GMRES its | residual evals\n");
+  const auto settings =
+      nkit_examples::nozzle_newton_settings(options.number("initial_cfl"), options.number("relative_tolerance"));
+  const nkit::solve_report report = nkit_examples::solve_nozzle(problem, u, settings);
+  std::printf(" step | pseudo-time step (CFL) |  residual norm |  reduction | GMRES its\n");
   for (const auto& h : report.history) {
-    std::printf(" %11d | %10.3e | %14.6e | %10.3e | %9d | %lld\n", h.step, h.cfl, h.residual_norm,
-                h.relative_residual_norm, h.linear_iterations, h.residual_evaluations);
+    std::printf(" %4d | %22.3e | %14.6e | %10.3e | %9d\n", h.step, h.pseudo_time_step, h.residual_norm,
+                h.relative_residual_norm, h.linear_iterations);
   }
-  std::printf(
-      "%s after %d pseudo-time steps (%d rejected), %lld GMRES iterations, %lld residual evaluations, "
-      "%lld preconditioner setups, %.3f s\n",
-      report.converged ? "converged" : "NOT converged", report.pseudo_steps, report.rejected_steps,
-      report.linear_iterations, report.residual_evaluations, report.preconditioner_setups, report.seconds);
+  nkit::print_convergence_table(std::cout, report);
 
   nkit_examples::compressible::shocked_nozzle_flow exact{[&](double x) { return setup.area(x); }, 1.5, setup.length,
                                                          setup.back_pressure / setup.total_pressure};
@@ -76,15 +71,7 @@ int run(int argc, char** argv) {
         << pressure(i) << ',' << density(i) << '\n';
   }
   csv.close();
-  {
-    std::ofstream history(folder / "pseudo_transient_history.csv");
-    history << "step,relative_residual_norm,cfl,linear_iterations,residual_evaluations\n0,1," << settings.initial_cfl
-            << ",0,1\n";
-    for (const auto& h : report.history) {
-      history << h.step << ',' << h.relative_residual_norm << ',' << h.cfl << ',' << h.linear_iterations << ','
-              << h.residual_evaluations << '\n';
-    }
-  }
+  nkit_examples::write_history(folder, "pseudo_transient_history.csv", report);
   auto vtk = nkit_examples::vtk_rectilinear_file::uniform(problem.cells(), 1, 0.0, setup.length, 0.0, 0.05);
   vtk.add_scalar("mach", mach);
   vtk.add_scalar("pressure", pressure);
@@ -102,11 +89,11 @@ int run(int argc, char** argv) {
   nkit_examples::run_gnuplot(folder, "nozzle_residuals.gp",
                              nkit_examples::residual_history_script(
                                  "nozzle_residuals.png", "Nozzle: pseudo-transient Newton-GMRES", "pseudo-time step",
-                                 {{"pseudo_transient_history.csv", 1, 2, "||R|| / ||R_0||"}}),
+                                 {{"pseudo_transient_history.csv", 1, 3, "||R|| / ||R_0||"}}),
                              std::cout);
   std::printf("\nwrote nozzle_mach.csv, pseudo_transient_history.csv, nozzle.vtk (and PNGs with gnuplot) in %s\n",
               std::filesystem::absolute(folder).string().c_str());
-  return report.converged ? 0 : 1;
+  return report.converged() ? 0 : 1;
 }
 
 }  // namespace

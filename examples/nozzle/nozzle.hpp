@@ -146,7 +146,18 @@ class quasi_one_dimensional_nozzle {
     return {f_r[0] + s_r * (q[0] - r[0]), f_r[1] + s_r * (q[1] - r[1]), f_r[2] + s_r * (q[2] - r[2])};
   }
 
-  /// Largest wave speed |u| + c of each cell (for local pseudo-time steps).
+  /// Pseudo-time weights for nkit's pseudo-transient continuation: the
+  /// spectral radius λ_i = (|u| + c)_i (A_{i−½} + A_{i+½}) of each cell
+  /// (Σ over faces of wave speed × area), the same for its three unknowns.
+  void pseudo_time_weights(const Eigen::VectorXd& u, Eigen::VectorXd& weights) const {
+    for (int i = 0; i < m_n; ++i) {
+      const double area_sum = m_face_area[static_cast<std::size_t>(i)] + m_face_area[static_cast<std::size_t>(i) + 1];
+      const double value = wave_speed(u, i) * area_sum;
+      for (int k = 0; k < 3; ++k) weights(3 * i + k) = value;
+    }
+  }
+
+  /// Largest wave speed |u| + c of each cell.
   double wave_speed(const Eigen::VectorXd& u, int i) const {
     const state3 c = cell(u, i);
     return std::abs(c[1] / c[0]) + sound_speed(c);
