@@ -27,12 +27,10 @@ import tempfile
 NAMES = {
     "newton_gmres_none": "nkit Newton-GMRES, no preconditioner",
     "newton_gmres_jacobi": "nkit Newton-GMRES + Jacobi",
-    "newton_gmres_block_jacobi": "nkit Newton-GMRES + block Jacobi",
-    "newton_gmres_ilu_zero": "nkit Newton-GMRES + ILU(0)",
-    "newton_gmres_ilu_zero_lagged": "nkit Newton-GMRES + ILU(0), lagged",
-    "newton_gmres_ilu_zero_colored": "nkit Newton-GMRES + ILU(0), colored-FD Jacobian",
-    "newton_gmres_ilut": "nkit Newton-GMRES + ILUT",
-    "newton_gmres_sparse_lu": "nkit Newton-GMRES + SparseLU (exact-Jacobian preconditioner)",
+    "newton_gmres_ilu_zero": "nkit Newton-GMRES + ILU(0), lagged",
+    "newton_gmres_modified_ilu_zero": "nkit Newton-GMRES + modified ILU(0), lagged",
+    "newton_gmres_ilut": "nkit Newton-GMRES + ILUT, lagged",
+    "newton_gmres_sparse_direct": "nkit Newton-GMRES + sparse LU of the exact Jacobian",
     "newton_gmres_algebraic_multigrid": "nkit Newton-GMRES + algebraic multigrid (BoomerAMG)",
     "newton_gmres_algebraic_multigrid_lagged": "nkit Newton-GMRES + algebraic multigrid (BoomerAMG), lagged",
     "newton_gmres_algebraic_multigrid_lagged_aggressive":

@@ -2,9 +2,13 @@
 # Sets up a fresh Debian machine and runs every nkit test:
 #   1. installs the Debian packages (cmake/install_dependencies.sh --all)
 #   2. g++ Release build with warnings as errors, then the whole ctest suite
-#   3. clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer and
-#      warnings as errors, then the whole ctest suite again
+#   3. valgrind memcheck on a subset of the g++ build (cmake/run_valgrind.sh)
+#   4. clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer and
+#      warnings as errors (plus the libFuzzer target), then the whole ctest
+#      suite again (it replays the fuzz corpus once)
+#   5. a short fuzz run: NKIT_FUZZ_SECONDS (default 60) of new inputs
 # Build folders: build/ci-gcc and build/ci-clang-sanitize (override with NKIT_BUILD_ROOT).
+# Each stage prints its wall time.
 set -euo pipefail
 
 source_dir=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
@@ -13,7 +17,11 @@ jobs=${NKIT_JOBS:-$(nproc)}
 
 bash "$source_dir/cmake/install_dependencies.sh" --all
 
-stage() { printf '\n==== %s ====\n' "$*"; }
+stage_start=$SECONDS
+stage() {
+  printf '\n==== (%d s) %s ====\n' "$((SECONDS - stage_start))" "$*"
+  stage_start=$SECONDS
+}
 
 stage "g++ Release build (warnings are errors)"
 cmake -S "$source_dir" -B "$build_root/ci-gcc" -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_COMPILER=g++ \
@@ -22,13 +30,24 @@ cmake --build "$build_root/ci-gcc" -j "$jobs"
 stage "test suite (g++)"
 ctest --test-dir "$build_root/ci-gcc" -j "$jobs" --output-on-failure
 
+stage "valgrind memcheck (subset of the g++ build)"
+bash "$source_dir/cmake/run_valgrind.sh" "$build_root/ci-gcc"
+
 stage "clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer (warnings are errors)"
 cmake -S "$source_dir" -B "$build_root/ci-clang-sanitize" -DCMAKE_BUILD_TYPE=RelWithDebInfo \
   -DCMAKE_CXX_COMPILER=clang++ -DNKIT_WARNINGS_AS_ERRORS=ON -DNKIT_SANITIZE=address,undefined \
-  -DNKIT_BUILD_BENCHMARKS=OFF
+  -DNKIT_BUILD_BENCHMARKS=OFF -DNKIT_BUILD_FUZZERS=ON
 cmake --build "$build_root/ci-clang-sanitize" -j "$jobs"
 stage "test suite (sanitizers)"
 ASAN_OPTIONS=detect_leaks=1:abort_on_error=1 UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 \
   ctest --test-dir "$build_root/ci-clang-sanitize" -j "$jobs" --output-on-failure
+
+stage "fuzzing the Newton driver for ${NKIT_FUZZ_SECONDS:-60} s"
+fuzz_corpus=$(mktemp -d)  # new inputs go here; the checked-in corpus is only read
+mkdir -p "$build_root/fuzz-artifacts"
+"$build_root/ci-clang-sanitize/tests/fuzz/nkit_fuzz_newton_solve" -max_total_time="${NKIT_FUZZ_SECONDS:-60}" \
+  -timeout=10 -rss_limit_mb=2048 -print_final_stats=1 -artifact_prefix="$build_root/fuzz-artifacts/" \
+  "$fuzz_corpus" "$source_dir/tests/fuzz/corpus"
+rm -rf "$fuzz_corpus"
 
 stage "all nkit tests passed"

@@ -1,12 +1,12 @@
 // The Newton driver's contract: outcomes, the state left in u, budgets,
-// monitors, the caller-driven loop and the report. Test problems here are
+// monitors, the caller-driven loop and the report (bad input, budgets and
+// determinism have their own files: test_bad_input.cpp, test_budgets.cpp,
+// test_determinism.cpp). Test problems here are
 // small invented systems whose roots are known in closed form.
-#include <atomic>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nkit/nkit.hpp>
 #include <sstream>
-#include <stdexcept>
 
 #include "support/matchers.hpp"
 
@@ -75,121 +75,6 @@ TEST_CASE("the line search rescues Newton where full steps diverge", "[newton][l
   CHECK(report.history.back().residual_norm > report.final_residual_norm);
 }
 
-TEST_CASE("a non-finite residual at a trial point shrinks the step", "[newton][input]") {
-  // r = e^{u−2} − 1 (root 2), made NaN beyond u = 2.5, where the first full step lands.
-  struct guarded {
-    void operator()(const Eigen::VectorXd& u, Eigen::VectorXd& r) const {
-      r(0) = u(0) > 2.5 ? std::numeric_limits<double>::quiet_NaN() : std::exp(u(0) - 2.0) - 1.0;
-    }
-  };
-  Eigen::VectorXd u = Eigen::VectorXd::Constant(1, 0.0);  // first Newton step: 0 + (1 − e⁻²)e² ≈ 6.39
-  nkit::newton_settings settings;
-  settings.absolute_tolerance = 1e-12;
-  settings.relative_tolerance = 1e-15;
-  const auto report = nkit::solve(guarded{}, u, settings);
-  CHECK(report.converged());
-  CHECK(report.non_finite_trials >= 1);
-  CHECK_THAT(u(0), Catch::Matchers::WithinAbs(2.0, 1e-11));
-}
-
-TEST_CASE("a non-finite initial residual stops before any step", "[newton][input]") {
-  Eigen::VectorXd u = Eigen::VectorXd::Constant(3, -1.0);
-  int calls = 0;
-  auto log_residual = [&](const Eigen::VectorXd& x, Eigen::VectorXd& r) {
-    ++calls;
-    r = x.array().log();
-  };
-  const auto report = nkit::solve(log_residual, u);
-  CHECK(report.result == nkit::outcome::non_finite_initial_residual);
-  CHECK(report.newton_steps == 0);
-  CHECK(calls == 1);
-  CHECK(u == Eigen::VectorXd::Constant(3, -1.0));
-}
-
-TEST_CASE("bad input is rejected with the problem named", "[newton][input]") {
-  Eigen::VectorXd empty;
-  CHECK_THROWS_WITH(nkit::solve(cubic_roots{}, empty), "nkit: the state vector u is empty");
-
-  Eigen::VectorXd u = Eigen::VectorXd::Ones(2);
-  u(1) = std::numeric_limits<double>::infinity();
-  CHECK_THROWS_WITH(nkit::solve(cubic_roots{}, u), "nkit: the initial guess u0 contains NaN or Inf entries");
-
-  u = Eigen::VectorXd::Ones(2);
-  auto resizing = [](const Eigen::VectorXd& x, Eigen::VectorXd& r) { r = Eigen::VectorXd::Ones(x.size() + 1); };
-  CHECK_THROWS_WITH(nkit::solve(resizing, u),
-                    "nkit: the residual changed the size of its output vector from 2 to 3; it must write into r "
-                    "without resizing it");
-
-  auto wrong_product = nkit::with_jacobian_product(
-      [](const Eigen::VectorXd& x, Eigen::VectorXd& r) { r = x.array().square() - 2.0; },
-      [](const Eigen::VectorXd&, const Eigen::VectorXd&, Eigen::VectorXd& jv) { jv = Eigen::VectorXd::Ones(5); });
-  CHECK_THROWS_WITH(nkit::solve(wrong_product, u), "nkit: jacobian_product wrote a vector of size 5, expected 2");
-}
-
-TEST_CASE("invalid settings name the field and the value", "[newton][input]") {
-  using Catch::Matchers::Equals;
-  nkit::newton_settings settings;
-  settings.relative_tolerance = -1e-3;
-  CHECK_THROWS_WITH(nkit::newton_krylov_solver<>(settings),
-                    "nkit: newton_settings.relative_tolerance must be finite and >= 0 (got -0.001)");
-  settings = {};
-  settings.absolute_tolerance = std::numeric_limits<double>::quiet_NaN();
-  CHECK_THROWS_WITH(nkit::newton_krylov_solver<>(settings),
-                    "nkit: newton_settings.absolute_tolerance must be finite and >= 0 (got nan)");
-  settings = {};
-  settings.max_newton_steps = 0;
-  CHECK_THROWS_WITH(nkit::newton_krylov_solver<>(settings),
-                    "nkit: newton_settings.max_newton_steps must be >= 1 (got 0)");
-  settings = {};
-  settings.linear.restart_length = 0;
-  CHECK_THROWS_WITH(nkit::newton_krylov_solver<>(settings),
-                    "nkit: newton_settings.linear.restart_length must be >= 1 (got 0)");
-  settings = {};
-  settings.forcing.constant_value = 1.0;
-  CHECK_THROWS_WITH(nkit::newton_krylov_solver<>(settings),
-                    "nkit: newton_settings.forcing.constant_value must be in (0, 1) (got 1)");
-  settings = {};
-  settings.forcing.choice_2_alpha = 2.5;
-  CHECK_THROWS_WITH(nkit::newton_krylov_solver<>(settings),
-                    "nkit: newton_settings.forcing.choice_2_alpha must be in (1, 2] (got 2.5)");
-  settings = {};
-  settings.residual_evaluation_budget = 0;
-  CHECK_THROWS_WITH(nkit::newton_krylov_solver<>(settings),
-                    "nkit: newton_settings.residual_evaluation_budget must be >= 1 (got 0)");
-  settings = {};
-  settings.wall_time_limit_seconds = -1.0;
-  CHECK_THROWS_WITH(nkit::newton_krylov_solver<>(settings),
-                    "nkit: newton_settings.wall_time_limit_seconds must be > 0 (got -1)");
-  // configure() on an existing solver validates too and keeps the old settings on failure.
-  nkit::newton_krylov_solver<> solver;
-  settings = {};
-  settings.stagnation_window = 0;
-  CHECK_THROWS_WITH(solver.configure(settings), "nkit: newton_settings.stagnation_window must be >= 1 (got 0)");
-  CHECK(solver.settings().stagnation_window == nkit::newton_settings{}.stagnation_window);
-}
-
-TEST_CASE("an exception from the residual propagates and u holds the last accepted iterate", "[newton]") {
-  struct failing_residual {
-    int calls_before_failure;
-    int calls = 0;
-    void operator()(const Eigen::VectorXd& u, Eigen::VectorXd& r) {
-      if (++calls > calls_before_failure) throw std::runtime_error("mesh tangled");
-      cubic_roots{}(u, r);
-    }
-  };
-  failing_residual residual{1000};
-  Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 3.0);
-  nkit::newton_krylov_solver<> solver;
-  auto run = solver.begin(residual, u);
-  REQUIRE(run.advance() == nkit::outcome::in_progress);
-  REQUIRE(run.advance() == nkit::outcome::in_progress);
-  const Eigen::VectorXd accepted = u;                  // the iterate after two steps
-  residual.calls_before_failure = residual.calls + 1;  // fail at the third step's first J·v product
-  CHECK_THROWS_WITH(run.advance(), "mesh tangled");
-  CHECK(u == accepted);
-  CHECK_THROWS_AS(run.advance(), std::logic_error);  // a broken run refuses to continue
-}
-
 TEST_CASE("the caller-driven loop and solve() give identical results", "[newton]") {
   nkit::newton_krylov_solver<> solver;
   Eigen::VectorXd u1 = Eigen::VectorXd::Constant(20, 2.0);
@@ -204,56 +89,6 @@ TEST_CASE("the caller-driven loop and solve() give identical results", "[newton]
   CHECK(steps + 1 == direct.newton_steps);
   CHECK(run.report().residual_evaluations == direct.residual_evaluations);
   CHECK(run.report().result == direct.result);
-}
-
-TEST_CASE("the residual-evaluation budget always holds", "[newton][budget]") {
-  const std::int64_t budget = GENERATE(1, 2, 7, 30);
-  nkit::newton_settings settings;
-  settings.residual_evaluation_budget = budget;
-  settings.relative_tolerance = 1e-14;
-  int calls = 0;
-  auto counted = [&](const Eigen::VectorXd& x, Eigen::VectorXd& r) {
-    ++calls;
-    cubic_roots{}(x, r);
-  };
-  Eigen::VectorXd u = Eigen::VectorXd::Constant(30, 4.0);
-  const auto report = nkit::solve(counted, u, settings);
-  CHECK(calls <= budget);
-  CHECK(report.residual_evaluations == calls);
-  CHECK(report.result == nkit::outcome::residual_evaluation_budget);
-  CHECK(u.allFinite());
-}
-
-TEST_CASE("the linear-iteration budget stops the solve after the step it pays for", "[newton][budget]") {
-  nkit::newton_settings settings;
-  settings.linear_iteration_budget = 3;
-  settings.relative_tolerance = 1e-14;
-  Eigen::VectorXd u = Eigen::VectorXd::Constant(30, 4.0);
-  const auto report = nkit::solve(cubic_roots{}, u, settings);
-  CHECK(report.result == nkit::outcome::linear_iteration_budget);
-  CHECK(report.linear_iterations <= 3);
-}
-
-TEST_CASE("the wall-clock limit and the cancellation flag stop between evaluations", "[newton][budget]") {
-  nkit::newton_settings settings;
-  settings.wall_time_limit_seconds = 1e-12;  // already passed at the first check
-  Eigen::VectorXd u = Eigen::VectorXd::Constant(3, 4.0);
-  auto report = nkit::solve(cubic_roots{}, u, settings);
-  CHECK(report.result == nkit::outcome::wall_time_limit);
-  CHECK(report.residual_evaluations == 0);
-  CHECK(u == Eigen::VectorXd::Constant(3, 4.0));
-
-  std::atomic<bool> cancel{false};
-  settings = {};
-  settings.relative_tolerance = 1e-14;
-  settings.cancellation_flag = &cancel;
-  nkit::newton_krylov_solver<> solver(settings);
-  auto raise_after_two = [&](const nkit::newton_step_record& record) {
-    if (record.step == 2) cancel = true;
-  };
-  report = solver.solve(cubic_roots{}, u, raise_after_two);
-  CHECK(report.result == nkit::outcome::cancelled);
-  CHECK(report.newton_steps == 2);
 }
 
 TEST_CASE("monitors see every step and every linear iteration, and can stop the solve", "[newton][monitor]") {
@@ -356,21 +191,6 @@ TEST_CASE("the report's counts, phases and history are consistent", "[newton][re
   CHECK(line == nkit::history_csv_columns);
   while (std::getline(lines, line)) ++rows;
   CHECK(rows == report.newton_steps + 1);
-}
-
-TEST_CASE("repeated solves are deterministic", "[newton]") {
-  nkit::newton_krylov_solver<> solver;
-  Eigen::VectorXd u1 = Eigen::VectorXd::LinSpaced(300, 0.5, 3.0);
-  Eigen::VectorXd u2 = u1;
-  const auto a = solver.solve(cubic_roots{}, u1);
-  const auto b = solver.solve(cubic_roots{}, u2);
-  CHECK(u1 == u2);  // bitwise
-  REQUIRE(a.history.size() == b.history.size());
-  for (std::size_t k = 0; k < a.history.size(); ++k) {
-    CHECK(a.history[k].residual_norm == b.history[k].residual_norm);
-    CHECK(a.history[k].linear_iterations == b.history[k].linear_iterations);
-  }
-  CHECK(a.residual_evaluations == b.residual_evaluations);
 }
 
 TEST_CASE("analytic and automatic-differentiation products drive the same Newton iteration", "[newton][jacobian]") {

@@ -37,6 +37,7 @@ struct jacobian_settings {
 
   void validate(std::string_view prefix = "jacobian_settings") const {
     const std::string p(prefix);
+    detail::require_enumerator(p + ".formula", formula, difference_formula::central, "forward, central");
     if (!(residual_relative_noise >= 0.0 && residual_relative_noise < 1.0)) {
       detail::throw_invalid_setting(p + ".residual_relative_noise", "in [0, 1)", residual_relative_noise);
     }
@@ -91,11 +92,17 @@ class finite_difference_jacobian {
   }
 
   /// jv ≈ R'(u) v with the automatic step. `evaluate(x, r)` must write R(x).
+  /// A direction containing NaN/Inf (e.g. from a failing preconditioner)
+  /// gives jv = NaN without evaluating the residual at a non-finite state.
   template <class Evaluate>
   void apply(Evaluate& evaluate, const vector_type& v, vector_type& jv) {
     const scalar_type direction_norm = m_space.norm(v);
     if (direction_norm == 0) {
       m_space.fill(0, jv);
+      return;
+    }
+    if (!std::isfinite(direction_norm)) {
+      m_space.fill(std::numeric_limits<scalar_type>::quiet_NaN(), jv);
       return;
     }
     apply_with_step(evaluate, v, step_for(direction_norm), jv);

@@ -51,6 +51,8 @@ struct forcing_term_settings {
 
   void validate(std::string_view prefix = "forcing_term_settings") const {
     const std::string p(prefix);
+    detail::require_enumerator(p + ".kind", kind, forcing_term_kind::eisenstat_walker_choice_2,
+                               "constant, eisenstat_walker_choice_1, eisenstat_walker_choice_2");
     detail::require_open_interval(p + ".constant_value", constant_value, 0.0, 1.0);
     detail::require_open_interval(p + ".initial_value", initial_value, 0.0, 1.0);
     detail::require_open_interval(p + ".maximum_value", maximum_value, 0.0, 1.0);

@@ -19,12 +19,14 @@
 /// whose projections use one fused reduction per pass (dot_many) on a
 /// distributed space.
 ///
-/// Memory: (restart_length + 3) vectors, plus restart_length more for the
-/// flexible variant, plus O(restart_length²) doubles. All of it is allocated
+/// Memory: (m + 3) vectors, plus m more for the flexible variant, plus O(m²)
+/// doubles, where m = min(restart_length, max_iterations) (a cycle never
+/// uses more than max_iterations vectors). All of it is allocated
 /// on the first solve (or allocate_like()) and reused while the size stays
 /// the same: later solves allocate nothing.
 
 #include <Eigen/Core>
+#include <algorithm>
 #include <cmath>
 #include <cstddef>
 #include <limits>
@@ -67,6 +69,12 @@ struct gmres_settings {
     const std::string p(prefix);
     detail::require_at_least(p + ".restart_length", restart_length, 1);
     detail::require_at_least(p + ".max_iterations", max_iterations, 1);
+    detail::require_enumerator(p + ".variant", variant, gmres_variant::flexible, "standard, flexible");
+    detail::require_enumerator(p + ".orthogonalization", orthogonalization,
+                               orthogonalization_method::classical_gram_schmidt_twice,
+                               "modified_gram_schmidt, classical_gram_schmidt_twice");
+    detail::require_enumerator(p + ".reorthogonalization", reorthogonalization, reorthogonalization_policy::always,
+                               "never, when_needed, always");
   }
 };
 
@@ -95,8 +103,8 @@ class gmres_solver {
 
   /// Allocates the workspace for vectors shaped like `prototype`.
   void allocate_like(const vector_type& prototype, bool flexible = false) {
-    const int m = m_settings.restart_length;
-    if (static_cast<int>(m_basis.size()) != m + 1) m_basis.resize(static_cast<std::size_t>(m + 1));
+    const int m = cycle_length();
+    if (m_basis.size() != static_cast<std::size_t>(m) + 1) m_basis.resize(static_cast<std::size_t>(m) + 1);
     for (auto& v : m_basis) m_space.allocate_like(v, prototype);
     m_space.allocate_like(m_work, prototype);
     m_space.allocate_like(m_update, prototype);
@@ -104,12 +112,13 @@ class gmres_solver {
       if (static_cast<int>(m_preconditioned.size()) != m) m_preconditioned.resize(static_cast<std::size_t>(m));
       for (auto& v : m_preconditioned) m_space.allocate_like(v, prototype);
     }
-    if (m_hessenberg.rows() != m + 1 || m_hessenberg.cols() != m) {
-      m_hessenberg.resize(m + 1, m);
-      m_least_squares_rhs.resize(m + 1);
+    const Eigen::Index rows = Eigen::Index{m} + 1;
+    if (m_hessenberg.rows() != rows || m_hessenberg.cols() != m) {
+      m_hessenberg.resize(rows, m);
+      m_least_squares_rhs.resize(rows);
       m_first_row.resize(m);
       m_coefficients.resize(m);
-      m_projections.resize(m + 1);
+      m_projections.resize(rows);
       m_rotations.assign(static_cast<std::size_t>(m), detail::givens_rotation{});
     }
   }
@@ -160,7 +169,7 @@ class gmres_solver {
     allocate_like(b, flexible);
 
     linear_solve_result result;
-    const int m = m_settings.restart_length;
+    const int m = cycle_length();
     const double b_norm = m_space.norm(b);
     result.right_hand_side_norm = b_norm;
     if (!std::isfinite(b_norm)) {
@@ -277,9 +286,14 @@ class gmres_solver {
       if (cycle == 0 && m_cauchy_target != nullptr && guess == initial_guess::zero && columns > 0) {
         cauchy_point(preconditioner, columns, beta, flexible, result);
       }
-      update_solution(preconditioner, columns, flexible, x, result);
+      const bool updated = update_solution(preconditioner, columns, flexible, x, result);
       result.iterations = total;
       ++cycle;
+      if (!updated) {  // M⁻¹ V y was not finite: x keeps the iterate of the cycle start
+        result.status = linear_solve_status::non_finite;
+        result.final_residual_norm = beta;
+        break;
+      }
 
       if (estimate <= target && columns > 0) {
         result.status = linear_solve_status::converged;
@@ -323,6 +337,11 @@ class gmres_solver {
   }
 
  private:
+  /// Krylov vectors per restart cycle: restart_length, but never more than
+  /// max_iterations (so a huge restart_length does not allocate what no
+  /// cycle can use).
+  int cycle_length() const { return std::min(m_settings.restart_length, m_settings.max_iterations); }
+
   /// Orthogonalises basis[j+1] against basis[0..j]; writes H(0..j, j);
   /// returns the norm of what remains.
   double orthogonalize(int j) {
@@ -396,16 +415,20 @@ class gmres_solver {
       if constexpr (!std::is_same_v<std::decay_t<Preconditioner>, identity_preconditioner>) {
         preconditioner.apply(static_cast<const vector_type&>(m_update), target);
         ++result.preconditioner_applications;
+        if (!m_space.all_finite(target)) return;  // no Cauchy point rather than a NaN one
       }
     }
     m_cauchy_written = true;
   }
 
-  /// x += M⁻¹ V y (standard) or x += Z y (flexible), y from the triangular system.
+  /// x += M⁻¹ V y (standard) or x += Z y (flexible), y from the triangular
+  /// system. Returns false, leaving x unchanged, when the preconditioner turns
+  /// V y into NaN/Inf (one reduction per restart cycle); the columns of Z
+  /// passed through the operator already, so their finiteness is known.
   template <class Preconditioner>
-  void update_solution(Preconditioner& preconditioner, int columns, bool flexible, vector_type& x,
+  bool update_solution(Preconditioner& preconditioner, int columns, bool flexible, vector_type& x,
                        linear_solve_result& result) {
-    if (columns == 0) return;
+    if (columns == 0) return true;
     for (int i = columns - 1; i >= 0; --i) {  // back substitution, upper-triangular H
       double sum = m_least_squares_rhs(i);
       for (int k = i + 1; k < columns; ++k) sum -= m_hessenberg(i, k) * m_coefficients(k);
@@ -415,7 +438,7 @@ class gmres_solver {
       for (int i = 0; i < columns; ++i) {
         m_space.add_scaled(m_coefficients(i), m_preconditioned[static_cast<std::size_t>(i)], x);
       }
-      return;
+      return true;
     }
     m_space.combine(m_coefficients(0), m_basis[0], 0, m_basis[0], m_update);
     for (int i = 1; i < columns; ++i)
@@ -425,8 +448,10 @@ class gmres_solver {
     } else {
       preconditioner.apply(static_cast<const vector_type&>(m_update), m_work);
       ++result.preconditioner_applications;
+      if (!m_space.all_finite(m_work)) return false;
       m_space.add_scaled(1, m_work, x);
     }
+    return true;
   }
 
   Space m_space;

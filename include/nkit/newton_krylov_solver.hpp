@@ -32,6 +32,8 @@
 /// vectors, history capacity) is allocated on the first solve and kept, so a
 /// later solve of the same size allocates nothing in its iterations; solve()
 /// allocates once at the end, to copy the history into the returned report.
+/// (History room is reserved for min(max_newton_steps, 1024) steps; a solve
+/// longer than that grows it once, and the larger capacity is kept.)
 
 #include <algorithm>
 #include <cmath>
@@ -58,6 +60,7 @@
 #include "residual.hpp"
 #include "row_partition.hpp"
 #include "settings.hpp"
+#include "sparse_jacobian.hpp"
 #include "trace.hpp"
 #include "trust_region.hpp"
 #include "vector_space.hpp"
@@ -157,13 +160,18 @@ class newton_krylov_solver {
       throw std::invalid_argument("nkit: set_bounds: lower has " + std::to_string(lower.size()) +
                                   " entries but upper has " + std::to_string(upper.size()));
     }
+    // Checked before anything is stored: a rejected call leaves the old bounds
+    // in force. NaN fails every comparison, so x <= x is false only for NaN.
+    if (!m_space.within_bounds(lower, lower, lower) || !m_space.within_bounds(upper, upper, upper)) {
+      throw std::invalid_argument("nkit: set_bounds: lower or upper contains NaN (use -inf/+inf for no bound)");
+    }
+    if (!m_space.within_bounds(lower, lower, upper)) {
+      throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
+    }
     m_space.allocate_like(m_lower_bound, lower);
     m_space.allocate_like(m_upper_bound, upper);
     m_space.copy(lower, m_lower_bound);
     m_space.copy(upper, m_upper_bound);
-    if (!m_space.within_bounds(m_lower_bound, m_lower_bound, m_upper_bound)) {
-      throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
-    }
     m_has_bounds = true;
   }
   void clear_bounds() { m_has_bounds = false; }
@@ -229,14 +237,21 @@ class newton_krylov_solver {
           &m_scaled_lower, &m_scaled_upper, &m_variable_scale, &m_residual_scale}) {
       entries += static_cast<std::size_t>(v->size());
     }
-    using index_type = sparse_matrix::StorageIndex;
-    const std::size_t jacobian_bytes =
-        static_cast<std::size_t>(m_jacobian.data().allocatedSize()) * (sizeof(double) + sizeof(index_type)) +
-        (m_jacobian.outerSize() > 0 ? static_cast<std::size_t>(m_jacobian.outerSize() + 1) : 0) * sizeof(index_type) +
-        (m_jacobian.isCompressed() ? 0 : static_cast<std::size_t>(m_jacobian.outerSize()) * sizeof(index_type));
     return sizeof(scalar_type) * entries + m_gmres.workspace_bytes() + m_difference.workspace_bytes() +
-           preconditioner_memory_bytes(m_preconditioner) + jacobian_bytes +
-           m_report.history.capacity() * sizeof(newton_step_record);
+           preconditioner_memory_bytes(m_preconditioner) + m_report.history.capacity() * sizeof(newton_step_record) +
+           assembled_jacobian_bytes();
+  }
+
+  /// Bytes held for the assembled Jacobian: values, indices and row offsets
+  /// as allocated (row- and column-major copies), plus the coloring workspace.
+  std::size_t assembled_jacobian_bytes() const {
+    const auto matrix_bytes = [](auto const& matrix) {
+      using index_type = typename std::decay_t<decltype(matrix)>::StorageIndex;
+      const auto outer = static_cast<std::size_t>(matrix.outerSize());
+      return static_cast<std::size_t>(matrix.data().allocatedSize()) * (sizeof(double) + sizeof(index_type)) +
+             (outer > 0 ? outer + 1 : 0) * sizeof(index_type) + (matrix.isCompressed() ? 0 : outer * sizeof(index_type));
+    };
+    return matrix_bytes(m_jacobian) + matrix_bytes(m_column_major_jacobian) + m_colored.workspace_bytes();
   }
 
  private:
@@ -244,6 +259,9 @@ class newton_krylov_solver {
   friend class newton_run;
 
   enum class phase { residual, none };
+
+  /// History records reserved up front (about 130 bytes each).
+  static constexpr int max_reserved_history = 1024;
 
   static const newton_settings& validated(const newton_settings& settings) {
     settings.validate();
@@ -274,7 +292,10 @@ class newton_krylov_solver {
     m_report = solve_report{};
     m_report.history = std::move(history);
     m_report.history.clear();
-    m_history_capacity = std::max(m_history_capacity, static_cast<std::size_t>(m_settings.max_newton_steps));
+    // Capped: max_newton_steps = INT_MAX ("no limit") must not reserve ~250 GB.
+    // Longer solves grow the history once; the capacity is kept for later solves.
+    m_history_capacity = std::max(
+        m_history_capacity, static_cast<std::size_t>(std::min(m_settings.max_newton_steps, max_reserved_history)));
     m_report.history.reserve(m_history_capacity);
     m_residual_samples.clear();
 
@@ -327,9 +348,18 @@ class newton_krylov_solver {
     m_monitor_stopped = false;
     m_last_linear_iterations = 0;
     m_last_linear_failed = false;
-    m_preconditioner_current = false;
+    if (m_settings.preconditioner_reuse.rebuild_at_solve_start || m_last_setup_step < 0 ||
+        m_preconditioner_size != u.size()) {
+      m_preconditioner_current = false;
+    } else {
+      m_last_setup_step = 0;  // carried over from the previous solve
+    }
     m_trust_radius = m_settings.trust_region.initial_radius;
 
+    // Until R(u0) is known the norms are unknown (NaN), not those of an earlier
+    // solve: a time limit or cancellation can stop the run before it is evaluated.
+    m_norm = m_best_norm = std::numeric_limits<double>::quiet_NaN();
+    m_report.initial_residual_norm = m_report.final_residual_norm = m_norm;
     evaluate(problem, m_state, m_residual, phase::residual);
     m_norm = m_space.norm(m_residual);
     m_report.initial_residual_norm = m_report.final_residual_norm = m_norm;
@@ -763,6 +793,10 @@ class newton_krylov_solver {
       m_space.fill(0, out);
       return;
     }
+    if (!std::isfinite(direction_norm)) {  // never evaluate the residual at a non-finite state
+      m_space.fill(std::numeric_limits<scalar_type>::quiet_NaN(), out);
+      return;
+    }
     double step = m_difference.step_for(direction_norm);
     if (m_has_bounds) {
       const double forward_room = m_space.max_step_to_bounds(m_state, v, lower(), upper());
@@ -797,7 +831,13 @@ class newton_krylov_solver {
     newton_krylov_solver* solver;
     void apply(const vector_type& r, vector_type& z) {
       const auto start = detail::clock_type::now();
+      const auto expected = r.size();
       solver->m_preconditioner.apply(r, z);
+      if (z.size() != expected) {
+        throw std::invalid_argument("nkit: the preconditioner's apply() wrote a vector of size " +
+                                    std::to_string(z.size()) + ", expected " + std::to_string(expected) +
+                                    "; it must write into z without resizing it");
+      }
       const auto stop = detail::clock_type::now();
       if (solver->m_trace != nullptr) solver->m_trace->record(trace_phase::preconditioner_apply, start, stop);
       solver->m_report.time.preconditioner_apply += detail::seconds_between(start, stop);
@@ -906,7 +946,11 @@ class newton_krylov_solver {
   }
 
   /// Gives preconditioners the problem's assembled Jacobian on demand, in the
-  /// solver's scaled variables and with the pseudo-time shift included.
+  /// solver's scaled variables and with the pseudo-time shift included: the
+  /// user's assemble_jacobian (row- or column-major), or colored finite
+  /// differences from jacobian_pattern() through the counted evaluate(), so
+  /// budgets hold and the perturbed states respect bounds and admissibility.
+  /// Either way the time counts as jacobian_assembly.
   template <class Problem>
   class problem_jacobian final : public jacobian_source {
    public:
@@ -915,9 +959,36 @@ class newton_krylov_solver {
       if (!m_assembled) {
         newton_krylov_solver& s = m_solver;
         const auto start = detail::clock_type::now();
-        m_problem.assemble_jacobian(s.physical_state(s.m_state), s.m_jacobian);
-        if (s.m_residual_scaling) s.m_jacobian = s.m_residual_scale.cwiseInverse().asDiagonal() * s.m_jacobian;
-        if (s.m_variable_scaling) s.m_jacobian = s.m_jacobian * s.m_variable_scale.asDiagonal();
+        if constexpr (assembles_row_major_jacobian_v<Problem, vector_type> ||
+                      assembles_column_major_jacobian_v<Problem, vector_type>) {
+          if constexpr (assembles_row_major_jacobian_v<Problem, vector_type>) {
+            m_problem.assemble_jacobian(s.physical_state(s.m_state), s.m_jacobian);
+          } else {
+            m_problem.assemble_jacobian(s.physical_state(s.m_state), s.m_column_major_jacobian);
+            s.m_jacobian = s.m_column_major_jacobian;
+          }
+          // The user's matrix is in physical units: J̃ = D_r⁻¹ J D_u.
+          if (s.m_residual_scaling) s.m_jacobian = s.m_residual_scale.cwiseInverse().asDiagonal() * s.m_jacobian;
+          if (s.m_variable_scaling) s.m_jacobian = s.m_jacobian * s.m_variable_scale.asDiagonal();
+        } else {
+          // Differences of the scaled residual in scaled variables give J̃ directly.
+          s.m_colored.configure(s.m_settings.jacobian);
+          s.m_colored.prepare(m_problem.jacobian_pattern());
+          auto evaluate = [this](const vector_type& x, vector_type& r) {
+            m_solver.evaluate(m_problem, x, r, phase::none);
+          };
+          auto admissible = [this](const vector_type& x) {
+            if (m_solver.m_has_bounds && !m_solver.m_space.within_bounds(x, m_solver.lower(), m_solver.upper())) {
+              return false;
+            }
+            if constexpr (detail::has_is_admissible<Problem, vector_type>::value) {
+              return m_solver.admissible(m_problem, x);
+            } else {
+              return true;
+            }
+          };
+          s.m_colored.assemble(evaluate, s.m_state, s.m_residual, s.m_jacobian, admissible);
+        }
         if (s.m_pseudo_transient) {
           detail::add_to_diagonal(s.m_jacobian, s.m_shift, first_global_row(s.m_space, s.m_state));
         }
@@ -943,7 +1014,7 @@ class newton_krylov_solver {
     const double assembly_before = m_report.time.jacobian_assembly;
     const vector_type* shift = m_pseudo_transient ? &m_shift : nullptr;
     setup_status status;
-    if constexpr (detail::has_assemble_jacobian<Problem, sparse_matrix, vector_type>::value) {
+    if constexpr (can_assemble_jacobian_v<Problem, vector_type>) {
       problem_jacobian<Problem> source(*this, problem);
       preconditioner_context<Space> context{m_space, m_state, m_residual, k, shift, &source};
       status = setup_preconditioner(m_preconditioner, context);
@@ -960,6 +1031,7 @@ class newton_krylov_solver {
     ++m_report.preconditioner_setups;
     if (status == setup_status::ready_with_fallback) ++m_report.preconditioner_fallbacks;
     m_last_setup_step = k;
+    m_preconditioner_size = m_state.size();
     m_rebuild_requested = false;
     m_preconditioner_current = status != setup_status::failed;
     return status;
@@ -982,6 +1054,8 @@ class newton_krylov_solver {
   vector_type m_lower_bound, m_upper_bound, m_scaled_lower, m_scaled_upper;
   vector_type m_variable_scale, m_residual_scale;
   sparse_matrix m_jacobian;
+  column_major_sparse_matrix m_column_major_jacobian;  // only for problems that assemble column-major
+  colored_difference_jacobian m_colored;               // only for problems that offer jacobian_pattern()
 
   solve_report m_report;
   std::size_t m_history_capacity = 0;
@@ -1008,6 +1082,7 @@ class newton_krylov_solver {
   bool m_rebuild_requested = false;
   bool m_preconditioner_current = false;
   int m_last_setup_step = -1;
+  Eigen::Index m_preconditioner_size = -1;
   int m_last_linear_iterations = 0;
   bool m_last_linear_failed = false;
 };

@@ -16,7 +16,10 @@
 ///       iteration): the solver then uses flexible GMRES.
 /// apply() is called once per GMRES iteration: keep it a template parameter
 /// of the solver for zero overhead, or use any_preconditioner to choose at
-/// run time (one virtual call per application).
+/// run time (one virtual call per application). Lambdas plug in through
+/// make_preconditioner(apply[, setup]); make_varying_preconditioner() does
+/// the same and declares changes_between_applications. Built-in
+/// preconditioners live in preconditioners/ (one header each).
 
 #include <Eigen/SparseCore>
 #include <cstddef>
@@ -27,6 +30,7 @@
 #include <utility>
 
 #include "eigen_vector_space.hpp"
+#include "linear_operator.hpp"
 
 namespace nkit {
 
@@ -155,11 +159,20 @@ bool changes_between_applications(const Preconditioner& preconditioner) {
   }
 }
 
+/// True when `Preconditioner` has apply(const Vector& r, Vector& z): the one
+/// member every preconditioner needs.
+template <class Preconditioner, class Vector>
+inline constexpr bool is_preconditioner_v = detail::is_linear_operator_impl<Preconditioner, Vector>::value;
+
 /// Adapts an apply-only callable `apply(r, z)` (and optionally a setup
-/// callable `setup(context)`) into a preconditioner.
-template <class Apply, class Setup = std::nullptr_t>
+/// callable `setup(context)`) into a preconditioner. `Varies` = true
+/// declares that the operator changes between applications (an inner
+/// iteration), so GMRES uses its flexible variant.
+template <class Apply, class Setup = std::nullptr_t, bool Varies = false>
 class callable_preconditioner {
  public:
+  static constexpr bool changes_between_applications = Varies;
+
   callable_preconditioner(Apply apply, Setup setup) : m_apply(std::move(apply)), m_setup(std::move(setup)) {}
   template <class Vector>
   void apply(const Vector& r, Vector& z) {
@@ -190,6 +203,20 @@ callable_preconditioner<std::decay_t<Apply>> make_preconditioner(Apply&& apply) 
 }
 template <class Apply, class Setup>
 callable_preconditioner<std::decay_t<Apply>, std::decay_t<Setup>> make_preconditioner(Apply&& apply, Setup&& setup) {
+  return {std::forward<Apply>(apply), std::forward<Setup>(setup)};
+}
+
+/// make_varying_preconditioner(apply) or (apply, setup): as
+/// make_preconditioner, for an `apply` whose result is not a fixed linear
+/// function of r (e.g. a few inner Krylov iterations); the solver then uses
+/// flexible GMRES.
+template <class Apply>
+callable_preconditioner<std::decay_t<Apply>, std::nullptr_t, true> make_varying_preconditioner(Apply&& apply) {
+  return {std::forward<Apply>(apply), nullptr};
+}
+template <class Apply, class Setup>
+callable_preconditioner<std::decay_t<Apply>, std::decay_t<Setup>, true> make_varying_preconditioner(Apply&& apply,
+                                                                                                    Setup&& setup) {
   return {std::forward<Apply>(apply), std::forward<Setup>(setup)};
 }
 

@@ -116,8 +116,9 @@ struct solve_report {
   std::int64_t inadmissible_trials = 0;  ///< trial points rejected by is_admissible (residual not evaluated)
   std::int64_t bound_limited_steps = 0;  ///< steps shortened by bounds or admissibility
 
-  double initial_residual_norm = 0.0;  ///< ‖R(u0)‖
-  double final_residual_norm = 0.0;    ///< ‖R(u)‖ at the returned u
+  /// ‖R(u0)‖; NaN when the solve stopped (time limit, cancellation) before R(u0) was evaluated.
+  double initial_residual_norm = 0.0;
+  double final_residual_norm = 0.0;  ///< ‖R(u)‖ at the returned u (NaN as above)
   double wall_seconds = 0.0;
   phase_seconds time;
   phase_calls calls;

@@ -56,6 +56,10 @@ struct preconditioner_reuse_settings {
   int rebuild_when_linear_iterations_exceed = 0;
   /// Also rebuild after a linear solve that did not converge.
   bool rebuild_after_linear_failure = true;
+  /// Rebuild at the first step of every solve. Set false to carry a
+  /// preconditioner across solves (implicit time steps, continuation): it is
+  /// then treated as built at step 0 of the new solve.
+  bool rebuild_at_solve_start = true;
 
   void validate(std::string_view prefix = "preconditioner_reuse_settings") const {
     const std::string p(prefix);
@@ -215,6 +219,8 @@ struct newton_settings {
     detail::require_positive("newton_settings.wall_time_limit_seconds", wall_time_limit_seconds, true);
     detail::require_at_least("newton_settings.stagnation_window", stagnation_window, 1);
     detail::require_open_interval("newton_settings.stagnation_factor", stagnation_factor, 0.0, 1.0);
+    detail::require_enumerator("newton_settings.globalization", globalization, globalization_strategy::pseudo_transient,
+                               "line_search, full_step, trust_region, pseudo_transient");
     forcing.validate("newton_settings.forcing");
     line_search.validate("newton_settings.line_search");
     trust_region.validate("newton_settings.trust_region");

@@ -23,6 +23,9 @@ std::atomic<long> eigen_heap_requests{0};
 
 #include <catch2/catch.hpp>
 #include <nkit/nkit.hpp>
+#include <nkit/preconditioners/ilu_zero.hpp>
+
+#include "model_problem/model_problem.hpp"
 
 // noinline: the pairing of new with malloc and delete with free is deliberate;
 // inlining would let the compiler flag it as a mismatch.
@@ -205,4 +208,40 @@ TEST_CASE("the counters do see allocations (so the checks above can fail)", "[al
   first.stop();
   CHECK(report.converged());
   CHECK(first.eigen_heap_requests() > 0);
+}
+
+TEST_CASE("ILU(0) preconditioned Newton repeats without allocating", "[allocation][ilu_zero]") {
+  nkit_examples::heat_conduction_model_problem problem(24);
+  nkit::newton_settings settings;
+  // Keep the factor across steps and solves (as in implicit time stepping): the
+  // model problem's own assemble_jacobian allocates, nkit's apply must not.
+  settings.preconditioner_reuse.rebuild_every_newton_steps = 1000;
+  settings.preconditioner_reuse.rebuild_at_solve_start = false;
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
+  Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
+  REQUIRE(solver.solve(problem, t).converged());
+  t.setZero();
+  counted_region region;
+  auto run = solver.begin(problem, t);
+  while (run.advance() == nkit::outcome::in_progress) {
+  }
+  region.stop();
+  CHECK(run.report().converged());
+  CHECK(run.report().preconditioner_applications > 0);
+  CHECK(run.report().preconditioner_setups == 0);
+  CHECK(region.operator_new_calls() == 0);
+  CHECK(region.eigen_heap_requests() == 0);
+
+  // The apply alone, many times.
+  nkit::sparse_matrix jacobian;
+  problem.assemble_jacobian(t, jacobian);
+  nkit::ilu_zero_preconditioner ilu;
+  ilu.build(jacobian);
+  const Eigen::VectorXd r = Eigen::VectorXd::Ones(problem.unknowns());
+  Eigen::VectorXd z(problem.unknowns());
+  counted_region apply_region;
+  for (int repeat = 0; repeat < 10; ++repeat) ilu.apply(r, z);
+  apply_region.stop();
+  CHECK(apply_region.operator_new_calls() == 0);
+  CHECK(apply_region.eigen_heap_requests() == 0);
 }

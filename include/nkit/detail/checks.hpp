@@ -79,6 +79,17 @@ inline void require_closed_interval(std::string_view setting, double value, doub
   }
 }
 
+/// Requires an enumerator of a scoped enum whose values run 0 ... last (a value
+/// cast from an integer read from a file, say, may lie outside).
+template <class Enum>
+void require_enumerator(std::string_view setting, Enum value, Enum last, std::string_view names) {
+  const auto number = static_cast<long long>(value);
+  if (number < 0 || number > static_cast<long long>(last)) {
+    throw std::invalid_argument("nkit: " + std::string(setting) + " must be one of " + std::string(names) + " (got " +
+                                std::to_string(number) + ")");
+  }
+}
+
 /// Requires an integer at least `minimum`.
 template <class Integer>
 void require_at_least(std::string_view setting, Integer value, Integer minimum) {

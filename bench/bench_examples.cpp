@@ -1,0 +1,158 @@
+// Side-by-side cost of the example solvers, one run per configuration:
+//  * baseplate flagship (examples/baseplate, invented data) at 256² and 512²
+//    cells: Newton–GMRES with the frozen-conduction LDLᵀ preconditioner, the
+//    Picard loop it replaces, and exact Newton (SparseLU of the Jacobian
+//    every step);
+//  * lid-driven cavity at Re = 1000 (continuation in Re) on 65² and 129²
+//    nodes: Newton–GMRES with an incomplete LU (Eigen's IncompleteLUT on the
+//    assembled Jacobian), exact Newton with SparseLU, and the Picard (Oseen)
+//    loop, capped at cavity_picard_cap iterations.
+// Counters: outer iterations, GMRES iterations, residual evaluations,
+// factorizations, converged (1/0) and peak resident-memory growth (MiB).
+//   bench_examples --benchmark_out=examples.json --benchmark_out_format=json
+// Timings taken on a shared machine are rough; compare ratios within one run.
+#include <benchmark/benchmark.h>
+
+#include <Eigen/OrderingMethods>
+#include <Eigen/SparseLU>
+
+#include "baseplate/baseplate.hpp"
+#include "baseplate/baseplate_solvers.hpp"
+#include "common/factorization_preconditioner.hpp"
+#include "common/run_output.hpp"
+#include "lid_driven_cavity/cavity_solve.hpp"
+
+namespace {
+
+constexpr int cavity_picard_cap = 60;
+using lu = Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>, Eigen::COLAMDOrdering<int>>;
+
+struct measured {
+  double outer = 0, linear = 0, evaluations = 0, factorizations = 0, converged = 0, peak_mib = 0;
+};
+
+void publish(benchmark::State& state, const measured& m) {
+  state.counters["outer_iterations"] = m.outer;
+  state.counters["linear_iterations"] = m.linear;
+  state.counters["residual_evaluations"] = m.evaluations;
+  state.counters["factorizations"] = m.factorizations;
+  state.counters["converged"] = m.converged;
+  state.counters["peak_memory_mib"] = m.peak_mib;
+}
+
+template <class Run>
+measured with_memory(Run&& run) {
+  nkit_examples::reset_peak_memory();
+  const double before = nkit_examples::resident_memory_bytes();
+  measured m = run();
+  m.peak_mib = nkit_examples::mebibytes(nkit_examples::peak_memory_bytes() - before);
+  return m;
+}
+
+nkit::newton_settings baseplate_settings() {
+  nkit::newton_settings settings;  // as the demo's defaults
+  settings.linear.restart_length = 40;
+  settings.linear.max_iterations = 2000;
+  settings.preconditioner_reuse.rebuild_every_newton_steps = 100;
+  settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 15;
+  return settings;
+}
+
+void baseplate_newton_frozen_ldlt(benchmark::State& state) {
+  nkit_examples::baseplate_conduction problem(static_cast<int>(state.range(0)), static_cast<int>(state.range(0)));
+  measured m;
+  for (auto _ : state) {
+    m = with_memory([&] {
+      Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.unknowns(), problem.design().coolant_temperature);
+      nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit_examples::frozen_conduction_preconditioner>
+          solver(baseplate_settings(), {}, nkit_examples::frozen_conduction_preconditioner(problem));
+      const auto report = solver.solve(problem, t);
+      return measured{double(report.newton_steps),         double(report.linear_iterations),
+                      double(report.residual_evaluations), double(report.preconditioner_setups),
+                      report.converged() ? 1.0 : 0.0,      0.0};
+    });
+  }
+  publish(state, m);
+}
+
+void baseplate_exact_newton_sparse_lu(benchmark::State& state) {
+  nkit_examples::baseplate_conduction problem(static_cast<int>(state.range(0)), static_cast<int>(state.range(0)));
+  measured m;
+  for (auto _ : state) {
+    m = with_memory([&] {
+      Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.unknowns(), problem.design().coolant_temperature);
+      nkit::newton_settings settings = baseplate_settings();
+      settings.preconditioner_reuse.rebuild_every_newton_steps = 1;
+      nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit_examples::factorization_preconditioner<lu>>
+          solver(settings);
+      const auto report = solver.solve(problem, t);
+      return measured{double(report.newton_steps),         double(report.linear_iterations),
+                      double(report.residual_evaluations), double(report.preconditioner_setups),
+                      report.converged() ? 1.0 : 0.0,      0.0};
+    });
+  }
+  publish(state, m);
+}
+
+void baseplate_picard(benchmark::State& state) {
+  nkit_examples::baseplate_conduction problem(static_cast<int>(state.range(0)), static_cast<int>(state.range(0)));
+  measured m;
+  for (auto _ : state) {
+    m = with_memory([&] {
+      Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.unknowns(), problem.design().coolant_temperature);
+      const auto report = nkit_examples::solve_by_picard_iteration(problem, t, 1e-8, 200);
+      return measured{double(report.iterations),           0.0,
+                      double(report.residual_evaluations), double(report.factorizations),
+                      report.converged ? 1.0 : 0.0,        0.0};
+    });
+  }
+  publish(state, m);
+}
+
+template <class Preconditioner>
+void cavity_newton(benchmark::State& state) {
+  const int intervals = static_cast<int>(state.range(0));
+  measured m;
+  for (auto _ : state) {
+    m = with_memory([&] {
+      const auto solution = nkit_examples::solve_cavity<Preconditioner>(intervals, 1000.0);
+      return measured{double(solution.newton_steps),         double(solution.linear_iterations),
+                      double(solution.residual_evaluations), double(solution.preconditioner_setups),
+                      solution.converged ? 1.0 : 0.0,        0.0};
+    });
+  }
+  publish(state, m);
+}
+
+void cavity_picard(benchmark::State& state) {
+  const int intervals = static_cast<int>(state.range(0));
+  measured m;
+  for (auto _ : state) {
+    m = with_memory([&] {
+      const auto result = nkit_examples::solve_cavity_by_picard(intervals, 1000.0, 1e-10, cavity_picard_cap);
+      return measured{double(result.iterations),           0.0,
+                      double(result.residual_evaluations), double(result.factorizations),
+                      result.converged ? 1.0 : 0.0,        0.0};
+    });
+  }
+  publish(state, m);
+}
+
+}  // namespace
+
+BENCHMARK(baseplate_newton_frozen_ldlt)->Arg(256)->Arg(512)->Unit(benchmark::kSecond)->Iterations(1);
+BENCHMARK(baseplate_picard)->Arg(256)->Arg(512)->Unit(benchmark::kSecond)->Iterations(1);
+BENCHMARK(baseplate_exact_newton_sparse_lu)->Arg(256)->Arg(512)->Unit(benchmark::kSecond)->Iterations(1);
+BENCHMARK_TEMPLATE(cavity_newton, nkit_examples::incomplete_lu_preconditioner)
+    ->Arg(64)
+    ->Arg(128)
+    ->Unit(benchmark::kSecond)
+    ->Iterations(1);
+BENCHMARK_TEMPLATE(cavity_newton, nkit_examples::sparse_lu_preconditioner)
+    ->Arg(64)
+    ->Arg(128)
+    ->Unit(benchmark::kSecond)
+    ->Iterations(1);
+BENCHMARK(cavity_picard)->Arg(64)->Arg(128)->Unit(benchmark::kSecond)->Iterations(1);
+
+BENCHMARK_MAIN();

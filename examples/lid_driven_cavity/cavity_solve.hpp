@@ -1,0 +1,204 @@
+// Solving the lid-driven cavity with nkit and comparing with Ghia et al.
+// (1982). Used by the example program, the test and the benchmark.
+//
+// Globalisation: natural continuation in the Reynolds number (each solve
+// starts from the converged flow at the previous Re), with nkit's
+// backtracking line search inside each Newton solve. From rest, Newton
+// converges directly at Re = 100; Re = 1000 is reached through a short ramp.
+#ifndef NKIT_EXAMPLES_CAVITY_SOLVE_HPP
+#define NKIT_EXAMPLES_CAVITY_SOLVE_HPP
+
+#include <Eigen/IterativeLinearSolvers>
+#include <Eigen/OrderingMethods>
+#include <Eigen/SparseLU>
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <nkit/nkit.hpp>
+#include <string>
+#include <vector>
+
+#include "common/factorization_preconditioner.hpp"
+#include "lid_driven_cavity/cavity.hpp"
+#include "lid_driven_cavity/ghia_1982.hpp"
+
+namespace nkit_examples {
+
+using sparse_lu_preconditioner = factorization_preconditioner<
+    Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>, Eigen::COLAMDOrdering<int>>>;
+using incomplete_lu_preconditioner = factorization_preconditioner<Eigen::IncompleteLUT<double, int>>;
+
+/// The Re values visited on the way to `target`: 100, then ×4 steps (common practice: small enough
+/// that each Newton solve starts inside its basin).
+inline std::vector<double> reynolds_ramp(double target) {
+  std::vector<double> ramp;
+  double re = std::min(100.0, target);
+  while (re < target) {
+    ramp.push_back(re);
+    re *= 4.0;
+  }
+  ramp.push_back(target);
+  return ramp;
+}
+
+struct cavity_solution {
+  Eigen::VectorXd state;
+  std::vector<double> reynolds;             ///< continuation steps taken
+  std::vector<nkit::solve_report> reports;  ///< one per continuation step
+  bool converged = false;
+  long long newton_steps = 0, linear_iterations = 0, residual_evaluations = 0, preconditioner_setups = 0;
+  double seconds = 0.0;
+};
+
+inline nkit::newton_settings cavity_newton_settings(double relative_tolerance = 1e-10) {
+  nkit::newton_settings settings;
+  // ‖R‖ is measured against ‖R(u0)‖ of each continuation step; an absolute
+  // floor keeps late steps (which start close) from chasing round-off.
+  settings.relative_tolerance = relative_tolerance;
+  settings.absolute_tolerance = 1e-11;
+  settings.max_newton_steps = 40;
+  settings.linear.restart_length = 60;
+  settings.linear.max_iterations = 600;
+  // Factors of an older Jacobian still precondition well: rebuild every other
+  // step, or when GMRES needed many iterations.
+  settings.preconditioner_reuse.rebuild_every_newton_steps = 2;
+  settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 15;
+  return settings;
+}
+
+/// Solves at Re = target on n intervals by continuation, with the given preconditioner type.
+template <class Preconditioner = sparse_lu_preconditioner>
+cavity_solution solve_cavity(int intervals, double target_reynolds,
+                             const nkit::newton_settings& settings = cavity_newton_settings(),
+                             Preconditioner preconditioner = {}, double intermediate_tolerance = 1e-3) {
+  lid_driven_cavity cavity(intervals, target_reynolds);
+  cavity_solution solution;
+  solution.state = Eigen::VectorXd::Zero(cavity.unknowns());
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, Preconditioner> solver(settings, {},
+                                                                                      std::move(preconditioner));
+  solution.converged = true;
+  const std::vector<double> ramp = reynolds_ramp(target_reynolds);
+  for (const double re : ramp) {
+    cavity.set_reynolds(re);
+    // Intermediate Re only supply a starting flow: a loose tolerance is enough.
+    nkit::newton_settings stage = settings;
+    if (re != ramp.back()) stage.relative_tolerance = std::max(settings.relative_tolerance, intermediate_tolerance);
+    solver.configure(stage);
+    solver.request_preconditioner_rebuild();
+    nkit::solve_report report = solver.solve(cavity, solution.state);
+    solution.reynolds.push_back(re);
+    solution.newton_steps += report.newton_steps;
+    solution.linear_iterations += report.linear_iterations;
+    solution.residual_evaluations += report.residual_evaluations;
+    solution.preconditioner_setups += report.preconditioner_setups;
+    solution.seconds += report.wall_seconds;
+    const bool ok = report.converged();
+    solution.reports.push_back(std::move(report));
+    if (!ok) {
+      solution.converged = false;
+      break;
+    }
+  }
+  return solution;
+}
+
+struct cavity_picard_result {
+  Eigen::VectorXd state;
+  bool converged = false;
+  long long iterations = 0, residual_evaluations = 0, factorizations = 0;
+  double seconds = 0.0;
+  std::vector<double> relative_residuals;  ///< ‖R‖/‖R(start)‖ after each iteration at the target Re
+};
+
+/// The fixed-point (Picard / Oseen) iteration with the same continuation in
+/// Re: x ← x − M(x)⁻¹ R(x), M the frozen-velocity matrix, factored by SparseLU
+/// every iteration. Converged like Newton: ‖R‖ <= relative_tolerance ‖R(start)‖
+/// at the target Re (1e-3 at intermediate Re).
+inline cavity_picard_result solve_cavity_by_picard(int intervals, double target_reynolds,
+                                                   double relative_tolerance = 1e-10, int max_iterations = 2000) {
+  const auto start = std::chrono::steady_clock::now();
+  lid_driven_cavity cavity(intervals, target_reynolds);
+  cavity_picard_result result;
+  result.state = Eigen::VectorXd::Zero(cavity.unknowns());
+  Eigen::VectorXd r(cavity.unknowns());
+  Eigen::SparseMatrix<double, Eigen::ColMajor, int> matrix;
+  Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>, Eigen::COLAMDOrdering<int>> factor;
+  bool analysed = false;
+  const std::vector<double> ramp = reynolds_ramp(target_reynolds);
+  result.converged = true;
+  for (const double re : ramp) {
+    cavity.set_reynolds(re);
+    const bool last = re == ramp.back();
+    cavity(result.state, r);
+    ++result.residual_evaluations;
+    const double initial = r.norm();
+    const double target = std::max(1e-11, (last ? relative_tolerance : 1e-3) * initial);
+    double norm = initial;
+    while (norm > target && result.iterations < max_iterations) {
+      cavity.assemble_picard_matrix(result.state, matrix);
+      if (!analysed) {
+        factor.analyzePattern(matrix);
+        analysed = true;
+      }
+      factor.factorize(matrix);
+      ++result.factorizations;
+      if (factor.info() != Eigen::Success) break;
+      result.state -= factor.solve(r);
+      ++result.iterations;
+      cavity(result.state, r);
+      ++result.residual_evaluations;
+      norm = r.norm();
+      if (!std::isfinite(norm)) break;
+      if (last) result.relative_residuals.push_back(norm / initial);
+    }
+    if (!(norm <= target)) {
+      result.converged = false;
+      break;
+    }
+  }
+  result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return result;
+}
+
+/// Linear interpolation of a nodal quantity along a centre line.
+template <class Sample>
+double interpolate_along(int intervals, double position, Sample&& sample) {
+  const double s = position * intervals;
+  const int k = std::min(intervals - 1, static_cast<int>(std::floor(s)));
+  const double w = s - k;
+  return (1.0 - w) * sample(k) + w * sample(k + 1);
+}
+
+struct ghia_comparison {
+  double max_u_deviation = 0.0, max_v_deviation = 0.0;  ///< lid-velocity units
+  double worst_u_position = 0.0, worst_v_position = 0.0;
+};
+
+/// Max deviation from Ghia et al. (1982) Tables I and II at their tabulated points.
+/// Requires an even number of intervals (so x = 0.5 and y = 0.5 are node lines).
+inline ghia_comparison compare_with_ghia(const lid_driven_cavity& cavity, const Eigen::VectorXd& state,
+                                         bool reynolds_1000) {
+  const int n = cavity.intervals(), half = n / 2;
+  ghia_comparison result;
+  for (const auto& point : ghia_1982::u_vertical_centre_line) {
+    const double computed = interpolate_along(n, point.position, [&](int j) { return cavity.u(state, half, j); });
+    const double deviation = std::abs(computed - (reynolds_1000 ? point.re_1000 : point.re_100));
+    if (deviation > result.max_u_deviation) {
+      result.max_u_deviation = deviation;
+      result.worst_u_position = point.position;
+    }
+  }
+  for (const auto& point : ghia_1982::v_horizontal_centre_line) {
+    const double computed = interpolate_along(n, point.position, [&](int i) { return cavity.v(state, i, half); });
+    const double deviation = std::abs(computed - (reynolds_1000 ? point.re_1000 : point.re_100));
+    if (deviation > result.max_v_deviation) {
+      result.max_v_deviation = deviation;
+      result.worst_v_position = point.position;
+    }
+  }
+  return result;
+}
+
+}  // namespace nkit_examples
+
+#endif  // NKIT_EXAMPLES_CAVITY_SOLVE_HPP

@@ -1,0 +1,108 @@
+// Quasi-1D Euler flow through a converging–diverging nozzle with a standing
+// normal shock (nozzle.hpp), converged from a crude start by nkit's
+// pseudo-transient continuation with Newton–GMRES (nozzle_solve.hpp), compared with the exact
+// isentropic/normal-shock solution (isentropic_relations.hpp).
+//
+//   nozzle [--cells=400] [--back_pressure=0.75] [--initial_cfl=2] [--output=nozzle_output]
+#include <cstdio>
+#include <exception>
+#include <fstream>
+#include <iostream>
+#include <string>
+
+#include "common/command_line.hpp"
+#include "common/run_output.hpp"
+#include "common/vtk_legacy.hpp"
+#include "nozzle/isentropic_relations.hpp"
+#include "nozzle/nozzle_solve.hpp"
+
+namespace {
+
+using nkit_examples::quasi_one_dimensional_nozzle;
+
+int run(int argc, char** argv) {
+  nkit_examples::command_line options("nozzle",
+                                      "quasi-1D Euler nozzle with a normal shock, pseudo-transient Newton-GMRES");
+  options.option("cells", "400", "finite-volume cells along the nozzle");
+  options.option("back_pressure", "0.75", "exit static pressure / inlet total pressure");
+  options.option("initial_cfl", "50", "CFL number of the first pseudo-time step");
+  options.option("relative_tolerance", "1e-10", "stop when ||R|| <= this * ||R(crude start)||");
+  options.option("output", "nozzle_output", "folder for CSV, VTK and PNG files");
+  if (!options.parse(argc, argv)) return 0;
+  nkit_examples::nozzle_setup setup;
+  setup.back_pressure = options.number("back_pressure");
+  const quasi_one_dimensional_nozzle problem(options.integer("cells"), setup);
+  const auto folder = nkit_examples::make_output_folder(options.text("output"));
+  std::printf("Quasi-1D nozzle A(x) = 1 + 2.2 (x - 1.5)^2, HLLC flux, %d cells, p_back/p0 = %g\noptions: %s\n\n",
+              problem.cells(), setup.back_pressure, options.summary().c_str());
+
+  Eigen::VectorXd u = problem.initial_guess();
+  const auto settings =
+      nkit_examples::nozzle_newton_settings(options.number("initial_cfl"), options.number("relative_tolerance"));
+  const nkit::solve_report report = nkit_examples::solve_nozzle(problem, u, settings);
+  std::printf(" step | pseudo-time step (CFL) |  residual norm |  reduction | GMRES its\n");
+  for (const auto& h : report.history) {
+    std::printf(" %4d | %22.3e | %14.6e | %10.3e | %9d\n", h.step, h.pseudo_time_step, h.residual_norm,
+                h.relative_residual_norm, h.linear_iterations);
+  }
+  nkit::print_convergence_table(std::cout, report);
+
+  nkit_examples::compressible::shocked_nozzle_flow exact{[&](double x) { return setup.area(x); }, 1.5, setup.length,
+                                                         setup.back_pressure / setup.total_pressure};
+  exact.locate_shock();
+  const double shock = nkit_examples::captured_shock_position(problem, u);
+  const double m1 = nkit_examples::compressible::mach_from_area_ratio(setup.area(exact.shock_position), true);
+  std::printf(
+      "\nshock position: captured %.4f, exact %.4f (normal-shock + area-Mach relations, NACA 1135); "
+      "cell size %.4f\n",
+      shock, exact.shock_position, problem.spacing());
+  std::printf("exact pre-shock Mach %.4f, post-shock Mach %.4f\n", m1, nkit_examples::compressible::shock_mach(m1));
+
+  std::ofstream csv(folder / "nozzle_mach.csv");
+  csv << "x,area,mach,mach_exact,pressure,density\n";
+  Eigen::VectorXd mach(problem.cells()), pressure(problem.cells()), density(problem.cells()), velocity(problem.cells());
+  for (int i = 0; i < problem.cells(); ++i) {
+    const auto c = problem.cell(u, i);
+    mach(i) = quasi_one_dimensional_nozzle::mach(c);
+    pressure(i) = quasi_one_dimensional_nozzle::pressure(c);
+    density(i) = c[0];
+    velocity(i) = c[1] / c[0];
+    csv << problem.x(i) << ',' << setup.area(problem.x(i)) << ',' << mach(i) << ',' << exact.mach(problem.x(i)) << ','
+        << pressure(i) << ',' << density(i) << '\n';
+  }
+  csv.close();
+  nkit_examples::write_history(folder, "pseudo_transient_history.csv", report);
+  auto vtk = nkit_examples::vtk_rectilinear_file::uniform(problem.cells(), 1, 0.0, setup.length, 0.0, 0.05);
+  vtk.add_scalar("mach", mach);
+  vtk.add_scalar("pressure", pressure);
+  vtk.add_scalar("density", density);
+  vtk.add_scalar("velocity", velocity);
+  vtk.write(folder / "nozzle.vtk", "nkit quasi-1D nozzle (non-dimensional)");
+
+  const std::string mach_script =
+      "set terminal pngcairo size 900,600 enhanced font 'Sans,11'\nset output 'nozzle_mach.png'\n"
+      "set datafile separator ','\nset grid\nset key top left\n"
+      "set title 'Quasi-1D nozzle with a normal shock: Mach number'\nset xlabel 'x'\nset ylabel 'Mach number'\n"
+      "plot 'nozzle_mach.csv' using 1:4 skip 1 with lines lw 3 lc rgb 'gray' title 'exact (area-Mach + normal shock)', "
+      "'nozzle_mach.csv' using 1:3 skip 1 with points pt 7 ps 0.5 lc rgb 'blue' title 'nkit, HLLC finite volume'\n";
+  nkit_examples::run_gnuplot(folder, "nozzle_mach.gp", mach_script, std::cout);
+  nkit_examples::run_gnuplot(folder, "nozzle_residuals.gp",
+                             nkit_examples::residual_history_script(
+                                 "nozzle_residuals.png", "Nozzle: pseudo-transient Newton-GMRES", "pseudo-time step",
+                                 {{"pseudo_transient_history.csv", 1, 3, "||R|| / ||R_0||"}}),
+                             std::cout);
+  std::printf("\nwrote nozzle_mach.csv, pseudo_transient_history.csv, nozzle.vtk (and PNGs with gnuplot) in %s\n",
+              std::filesystem::absolute(folder).string().c_str());
+  return report.converged() ? 0 : 1;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  try {
+    return run(argc, argv);
+  } catch (const std::exception& error) {
+    std::cerr << error.what() << '\n';
+    return 2;
+  }
+}

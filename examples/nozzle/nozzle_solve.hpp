@@ -1,0 +1,56 @@
+// Converging the nozzle from a crude start with nkit's pseudo-transient
+// continuation (globalization_strategy::pseudo_transient; pseudo_transient.hpp:
+// Kelley & Keyes 1998 iteration, Mulder & van Leer 1985 step growth). The
+// problem supplies spectral-radius weights (pseudo_time_weights in
+// nozzle.hpp), so the pseudo-time step is a CFL number with local time steps
+// Δτ_i = CFL·V_i/λ_i, the usual CFD practice. The preconditioner is an exact
+// sparse LU of R'(U) + W/δ (the driver adds the pseudo-time diagonal to the
+// assembled Jacobian).
+#ifndef NKIT_EXAMPLES_NOZZLE_SOLVE_HPP
+#define NKIT_EXAMPLES_NOZZLE_SOLVE_HPP
+
+#include <Eigen/OrderingMethods>
+#include <Eigen/SparseLU>
+#include <nkit/nkit.hpp>
+
+#include "common/factorization_preconditioner.hpp"
+#include "nozzle/nozzle.hpp"
+
+namespace nkit_examples {
+
+/// Settings of the nozzle solve: pseudo-transient from CFL `initial_cfl`,
+/// converged when ‖R(U)‖₂ <= relative_tolerance · ‖R(U0)‖₂.
+inline nkit::newton_settings nozzle_newton_settings(double initial_cfl = 50.0, double relative_tolerance = 1e-10) {
+  nkit::newton_settings settings;
+  settings.globalization = nkit::globalization_strategy::pseudo_transient;
+  settings.pseudo_transient.initial_step = initial_cfl;
+  settings.relative_tolerance = relative_tolerance;
+  settings.max_newton_steps = 400;
+  // The residual rises while the start-up transient crosses the nozzle: no
+  // stagnation stop during the pseudo-time march.
+  settings.stagnation_window = settings.max_newton_steps;
+  return settings;
+}
+
+inline nkit::solve_report solve_nozzle(const quasi_one_dimensional_nozzle& problem, Eigen::VectorXd& u,
+                                       const nkit::newton_settings& settings = nozzle_newton_settings()) {
+  using lu = Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>, Eigen::COLAMDOrdering<int>>;
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, factorization_preconditioner<lu>> solver(settings);
+  return solver.solve(problem, u);
+}
+
+/// Shock position: the face where the Mach number crosses 1 from above in the
+/// diverging part (linear interpolation between cell centres); −1 when none.
+inline double captured_shock_position(const quasi_one_dimensional_nozzle& problem, const Eigen::VectorXd& u) {
+  for (int i = 0; i + 1 < problem.cells(); ++i) {
+    if (problem.x(i) < 1.5) continue;
+    const double m0 = quasi_one_dimensional_nozzle::mach(problem.cell(u, i));
+    const double m1 = quasi_one_dimensional_nozzle::mach(problem.cell(u, i + 1));
+    if (m0 >= 1.0 && m1 < 1.0) return problem.x(i) + (m0 - 1.0) / (m0 - m1) * problem.spacing();
+  }
+  return -1.0;
+}
+
+}  // namespace nkit_examples
+
+#endif  // NKIT_EXAMPLES_NOZZLE_SOLVE_HPP

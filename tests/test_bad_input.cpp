@@ -1,0 +1,623 @@
+// Catalogue of bad input and faults in user code. One test per item; each
+// asserts the exact error text (it must name the problem), that the user's
+// state is left intact (or holds the documented iterate), and that the
+// library printed nothing to stdout or stderr (output_capture). A test that
+// aborted or hung would fail the run (ctest timeout).
+//
+// Moved here from test_newton_solver.cpp and test_globalization.cpp (and
+// extended): empty state, NaN/Inf in u0, resizing residual, wrong J·v size,
+// non-finite initial / trial residual, residual exceptions, bad bounds and
+// scales, invalid settings. The expected behaviour is nkit's own contract
+// (newton_krylov_solver.hpp, settings.hpp, DEVELOPERS.md); the test systems
+// are invented, with roots known in closed form.
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <functional>
+#include <limits>
+#include <nkit/nkit.hpp>
+#include <stdexcept>
+#include <string>
+#include <vector>
+
+#include "support/matchers.hpp"
+#include "support/reliability_problems.hpp"
+
+using nkit_test::all_globalizations;
+using nkit_test::call_result;
+using nkit_test::counted_cubic;
+using nkit_test::run_captured;
+using nkit_test::scripted_preconditioner;
+using nkit_test::scripted_solver;
+
+namespace {
+
+constexpr double not_a_number = std::numeric_limits<double>::quiet_NaN();
+constexpr double infinity = std::numeric_limits<double>::infinity();
+
+/// Expects exactly one std::invalid_argument with `message` and no output.
+template <class Call>
+void check_rejected(Call&& call, const std::string& message) {
+  const call_result result = run_captured(std::forward<Call>(call));
+  CHECK(result.invalid_argument == message);
+  CHECK(result.other_exception.empty());
+  CHECK(result.printed.empty());
+}
+
+/// Runs a call that must not throw; checks that it printed nothing.
+template <class Call>
+void check_quiet(Call&& call) {
+  const call_result result = run_captured(std::forward<Call>(call));
+  CHECK(result.invalid_argument.empty());
+  CHECK(result.other_exception.empty());
+  CHECK(result.printed.empty());
+}
+
+/// The iterate after `steps` accepted Newton steps (caller-driven loop).
+template <class Solver, class Problem>
+Eigen::VectorXd iterate_after(Solver& solver, Problem& problem, Eigen::VectorXd u, int steps) {
+  auto run = solver.begin(problem, u);
+  for (int k = 0; k < steps; ++k) REQUIRE(run.advance() == nkit::outcome::in_progress);
+  return u;
+}
+
+}  // namespace
+
+// ---- sizes ---------------------------------------------------------------------------
+
+TEST_CASE("bad input: an empty state vector", "[input]") {
+  Eigen::VectorXd empty;
+  check_rejected([&] { nkit::solve(counted_cubic{}, empty); }, "nkit: the state vector u is empty");
+}
+
+TEST_CASE("bad input: bounds whose sizes differ from each other or from the state", "[input]") {
+  nkit::newton_krylov_solver<> solver;
+  check_rejected([&] { solver.set_bounds(Eigen::VectorXd::Zero(3), Eigen::VectorXd::Ones(2)); },
+                 "nkit: set_bounds: lower has 3 entries but upper has 2");
+  solver.set_bounds(Eigen::VectorXd::Zero(2), Eigen::VectorXd::Constant(2, 10.0));
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(3, 1.5);
+  check_rejected([&] { solver.solve(counted_cubic{}, u); }, "nkit: the lower bound has 2 entries but the state has 3");
+  CHECK(u == Eigen::VectorXd::Constant(3, 1.5));
+}
+
+TEST_CASE("bad input: scaling vectors whose size differs from the state", "[input]") {
+  nkit::newton_krylov_solver<> solver;
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(2, 1.5);
+  solver.set_scaling(Eigen::VectorXd::Ones(3), Eigen::VectorXd());
+  check_rejected([&] { solver.solve(counted_cubic{}, u); }, "nkit: variable_scale has 3 entries but the state has 2");
+  solver.set_scaling(Eigen::VectorXd(), Eigen::VectorXd::Ones(5));
+  check_rejected([&] { solver.solve(counted_cubic{}, u); }, "nkit: residual_scale has 5 entries but the state has 2");
+  CHECK(u == Eigen::VectorXd::Constant(2, 1.5));
+}
+
+TEST_CASE("bad input: a residual that resizes its output", "[input]") {
+  Eigen::VectorXd u = Eigen::VectorXd::Ones(2);
+  auto resizing = [](const Eigen::VectorXd& x, Eigen::VectorXd& r) { r = Eigen::VectorXd::Ones(x.size() + 1); };
+  check_rejected([&] { nkit::solve(resizing, u); },
+                 "nkit: the residual changed the size of its output vector from 2 to 3; it must write into r "
+                 "without resizing it");
+  CHECK(u == Eigen::VectorXd::Ones(2));
+}
+
+TEST_CASE("bad input: a Jacobian-vector product of the wrong size", "[input]") {
+  Eigen::VectorXd u = Eigen::VectorXd::Ones(2);
+  auto wrong_product = nkit::with_jacobian_product(
+      [](const Eigen::VectorXd& x, Eigen::VectorXd& r) { r = x.array().square() - 2.0; },
+      [](const Eigen::VectorXd&, const Eigen::VectorXd&, Eigen::VectorXd& jv) { jv = Eigen::VectorXd::Ones(5); });
+  check_rejected([&] { nkit::solve(wrong_product, u); }, "nkit: jacobian_product wrote a vector of size 5, expected 2");
+  CHECK(u == Eigen::VectorXd::Ones(2));
+}
+
+TEST_CASE("bad input: a preconditioner whose output has the wrong size", "[input][preconditioner]") {
+  // Regression: before the check, the wrong-sized z went on into the J·v
+  // product (out-of-bounds reads in a Release build).
+  scripted_preconditioner preconditioner;
+  preconditioner.resize_output_by = 2;
+  scripted_solver solver({}, {}, preconditioner);
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 2.0);
+  check_rejected([&] { solver.solve(counted_cubic{}, u); },
+                 "nkit: the preconditioner's apply() wrote a vector of size 6, expected 4; it must write into z "
+                 "without resizing it");
+  CHECK(u == Eigen::VectorXd::Constant(4, 2.0));
+}
+
+// ---- values ----------------------------------------------------------------------------
+
+TEST_CASE("bad input: NaN or Inf in the initial guess", "[input]") {
+  const double bad = GENERATE(values({not_a_number, infinity, -infinity}));
+  INFO("bad entry " << bad);
+  Eigen::VectorXd u = Eigen::VectorXd::Ones(3);
+  u(1) = bad;
+  counted_cubic residual;
+  check_rejected([&] { nkit::solve(residual, u); }, "nkit: the initial guess u0 contains NaN or Inf entries");
+  CHECK(residual.calls == 0);
+}
+
+TEST_CASE("bad input: contradictory or NaN bounds, and an initial guess outside them", "[input]") {
+  nkit::newton_krylov_solver<> solver;
+  check_rejected([&] { solver.set_bounds(Eigen::VectorXd::Ones(3), Eigen::VectorXd::Zero(3)); },
+                 "nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
+  Eigen::VectorXd with_nan = Eigen::VectorXd::Zero(3);
+  with_nan(2) = not_a_number;
+  check_rejected([&] { solver.set_bounds(with_nan, Eigen::VectorXd::Ones(3)); },
+                 "nkit: set_bounds: lower or upper contains NaN (use -inf/+inf for no bound)");
+  check_rejected([&] { solver.set_bounds(Eigen::VectorXd::Zero(3), with_nan); },
+                 "nkit: set_bounds: lower or upper contains NaN (use -inf/+inf for no bound)");
+
+  // A rejected set_bounds leaves the bounds already in force untouched
+  // (regression: they used to be overwritten before the check).
+  solver.set_bounds(Eigen::VectorXd::Zero(3), Eigen::VectorXd::Constant(3, 2.0));
+  check_rejected([&] { solver.set_bounds(Eigen::VectorXd::Constant(3, 5.0), Eigen::VectorXd::Zero(3)); },
+                 "nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
+  Eigen::VectorXd outside = Eigen::VectorXd::Constant(3, 2.5);
+  check_rejected([&] { solver.solve(counted_cubic{}, outside); },
+                 "nkit: the initial guess u0 violates the bounds given to set_bounds");
+  CHECK(outside == Eigen::VectorXd::Constant(3, 2.5));
+  Eigen::VectorXd inside = Eigen::VectorXd::Constant(3, 1.0);
+  check_quiet([&] { CHECK(solver.solve(counted_cubic{}, inside).converged()); });
+  CHECK(inside.maxCoeff() <= 2.0);  // root cbrt(1..3) <= 1.45 lies inside [0, 2]
+}
+
+TEST_CASE("bad input: zero, negative, NaN or Inf scales", "[input]") {
+  const double bad = GENERATE(values({0.0, -1.0, not_a_number, infinity}));
+  nkit::newton_krylov_solver<> solver;
+  Eigen::VectorXd scale = Eigen::VectorXd::Ones(3);
+  scale(1) = bad;
+  check_rejected([&] { solver.set_scaling(scale, Eigen::VectorXd()); },
+                 "nkit: set_scaling: every entry of variable_scale must be finite and > 0");
+  check_rejected([&] { solver.set_scaling(Eigen::VectorXd(), scale); },
+                 "nkit: set_scaling: every entry of residual_scale must be finite and > 0");
+}
+
+TEST_CASE("bad input: a NaN or Inf residual at the initial guess stops before any step", "[input]") {
+  const double bad = GENERATE(values({not_a_number, infinity}));
+  const auto strategy = GENERATE(from_range(all_globalizations));
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(3, -1.0);
+  int calls = 0;
+  auto residual = [&](const Eigen::VectorXd& x, Eigen::VectorXd& r) {
+    ++calls;
+    r = x;
+    r(2) = bad;
+  };
+  nkit::solve_report report;
+  check_quiet([&] { report = nkit::solve(residual, u, nkit_test::settings_for(strategy)); });
+  CHECK(report.result == nkit::outcome::non_finite_initial_residual);
+  CHECK(report.newton_steps == 0);
+  CHECK(report.linear_iterations == 0);
+  CHECK(calls == 1);
+  CHECK(u == Eigen::VectorXd::Constant(3, -1.0));
+}
+
+TEST_CASE("bad input: a NaN residual at a trial point shrinks the step and the solve goes on", "[input]") {
+  // r = e^{u−2} − 1 (root 2), NaN beyond u = 2.5. The Newton step from 0 lands
+  // at 0 + (1 − e⁻²)e² ≈ 6.39, where the residual is NaN: each globalisation
+  // must shrink (line search / full step: λ; trust region: radius; pseudo-
+  // transient: δ) and converge anyway.
+  const auto strategy = GENERATE(from_range(all_globalizations));
+  long nan_results = 0;
+  auto guarded = [&](const Eigen::VectorXd& x, Eigen::VectorXd& r) {
+    r(0) = x(0) > 2.5 ? not_a_number : std::exp(x(0) - 2.0) - 1.0;
+    if (std::isnan(r(0))) ++nan_results;
+  };
+  auto problem = nkit::with_jacobian_product(guarded, [](const Eigen::VectorXd& x, const Eigen::VectorXd& v,
+                                                         Eigen::VectorXd& jv) { jv = std::exp(x(0) - 2.0) * v; });
+  nkit::newton_settings settings = nkit_test::settings_for(strategy);
+  settings.absolute_tolerance = 1e-12;
+  settings.relative_tolerance = 1e-15;
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(1);
+  nkit::solve_report report;
+  check_quiet([&] { report = nkit::solve(problem, u, settings); });
+  INFO(nkit::name(strategy) << ": " << nkit::name(report.result));
+  CHECK(report.converged());
+  CHECK(nan_results >= 1);
+  CHECK(report.non_finite_trials >= 1);
+  // |u − 2| <= |r| / min r' ≈ 1e-12 / e^{-0.5}, so 1e-11 is ample.
+  CHECK_THAT(u(0), Catch::Matchers::WithinAbs(2.0, 1e-11));
+}
+
+// ---- exceptions from user code -------------------------------------------------------
+
+TEST_CASE("bad input: a residual that throws at the initial guess", "[input]") {
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(2, 3.0);
+  auto throwing = [](const Eigen::VectorXd&, Eigen::VectorXd&) { throw std::runtime_error("table lookup failed"); };
+  const call_result result = run_captured([&] { nkit::solve(throwing, u); });
+  CHECK(result.other_exception == "table lookup failed");  // propagates unchanged
+  CHECK(result.printed.empty());
+  CHECK(u == Eigen::VectorXd::Constant(2, 3.0));
+}
+
+TEST_CASE("bad input: a residual that throws at a trial point leaves the last accepted iterate", "[input]") {
+  // Exact J·v, so after the monitor arms the failure every residual call is a
+  // trial point of the next step (or, for the trust region, a trial radius).
+  const auto strategy = GENERATE(from_range(all_globalizations));
+  struct arming_residual {
+    bool armed = false;
+    void operator()(const Eigen::VectorXd& x, Eigen::VectorXd& r) {
+      if (armed) throw std::runtime_error("mesh tangled");
+      counted_cubic{}(x, r);
+    }
+  };
+  auto derivative = [](const Eigen::VectorXd& x, const Eigen::VectorXd& v, Eigen::VectorXd& jv) {
+    jv = 3.0 * x.array().square() * v.array();
+  };
+  const nkit::newton_settings settings = nkit_test::settings_for(strategy);
+  const Eigen::VectorXd start = Eigen::VectorXd::Constant(4, 3.0);
+
+  nkit::newton_krylov_solver<> reference_solver(settings);
+  auto reference_problem = nkit::with_jacobian_product(arming_residual{}, derivative);
+  const Eigen::VectorXd accepted = iterate_after(reference_solver, reference_problem, start, 2);
+
+  auto problem = nkit::with_jacobian_product(arming_residual{}, derivative);
+  auto arm_after_two = [&](const nkit::newton_step_record& record) {
+    if (record.step == 2) problem.residual().armed = true;
+  };
+  nkit::newton_krylov_solver<> solver(settings);
+  Eigen::VectorXd u = start;
+  const call_result result = run_captured([&] { solver.solve(problem, u, arm_after_two); });
+  INFO(nkit::name(strategy));
+  CHECK(result.other_exception == "mesh tangled");
+  CHECK(result.printed.empty());
+  CHECK(u == accepted);  // bitwise: the last accepted iterate, not a trial point
+}
+
+TEST_CASE("bad input: after an exception a caller-driven run refuses to continue", "[input]") {
+  struct failing_residual {
+    long calls_before_failure;
+    long calls = 0;
+    void operator()(const Eigen::VectorXd& u, Eigen::VectorXd& r) {
+      if (++calls > calls_before_failure) throw std::runtime_error("mesh tangled");
+      counted_cubic{}(u, r);
+    }
+  };
+  failing_residual residual{1000};
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 3.0);
+  nkit::newton_krylov_solver<> solver;
+  auto run = solver.begin(residual, u);
+  REQUIRE(run.advance() == nkit::outcome::in_progress);
+  REQUIRE(run.advance() == nkit::outcome::in_progress);
+  const Eigen::VectorXd accepted = u;
+  residual.calls_before_failure = residual.calls + 1;  // fail at the third step's first J·v product
+  CHECK_THROWS_WITH(run.advance(), "mesh tangled");
+  CHECK(u == accepted);
+  CHECK_THROWS_WITH(run.advance(), "nkit: this run cannot continue after an exception from user code; start a new one");
+  CHECK(u == accepted);
+}
+
+// ---- preconditioner faults ----------------------------------------------------------
+
+TEST_CASE("bad input: a preconditioner whose setup throws", "[input][preconditioner]") {
+  const Eigen::VectorXd start = Eigen::VectorXd::Constant(4, 3.0);
+  scripted_solver reference({}, {}, scripted_preconditioner{});
+  counted_cubic reference_problem;
+  const Eigen::VectorXd accepted = iterate_after(reference, reference_problem, start, 2);
+
+  scripted_preconditioner failing;
+  failing.throw_at_setup_step = 2;  // the third Newton step
+  scripted_solver solver({}, {}, failing);
+  Eigen::VectorXd u = start;
+  const call_result result = run_captured([&] { solver.solve(counted_cubic{}, u); });
+  CHECK(result.other_exception == "factorization exploded");
+  CHECK(result.printed.empty());
+  CHECK(u == accepted);
+}
+
+TEST_CASE("bad input: a preconditioner setup that fails stops with preconditioner_failed", "[input][preconditioner]") {
+  const int failing_step = GENERATE(0, 2);
+  scripted_preconditioner preconditioner;
+  preconditioner.statuses[static_cast<std::size_t>(failing_step)] = nkit::setup_status::failed;
+  scripted_solver solver({}, {}, preconditioner);
+  counted_cubic residual;
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 3.0);
+  nkit::solve_report report;
+  check_quiet([&] { report = solver.solve(residual, u); });
+  CHECK(report.result == nkit::outcome::preconditioner_failed);
+  CHECK(report.newton_steps == failing_step);
+  CHECK(report.preconditioner_setups == failing_step + 1);
+  // u is the best iterate and the report's final norm is its residual norm.
+  CHECK(report.final_residual_norm == nkit_test::residual_norm_at(residual, u));
+  CHECK(report.final_residual_norm <= report.initial_residual_norm);
+}
+
+TEST_CASE("bad input: a preconditioner that falls back is counted and the solve goes on", "[input][preconditioner]") {
+  scripted_preconditioner preconditioner;
+  preconditioner.statuses[0] = nkit::setup_status::ready_with_fallback;
+  preconditioner.statuses[1] = nkit::setup_status::ready_with_fallback;
+  nkit::newton_settings settings;
+  settings.relative_tolerance = 1e-12;
+  scripted_solver solver(settings, {}, preconditioner);
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 3.0);
+  nkit::solve_report report;
+  check_quiet([&] { report = solver.solve(counted_cubic{}, u); });
+  CHECK(report.converged());
+  CHECK(report.preconditioner_fallbacks == 2);
+  CHECK(solver.preconditioner().fallbacks_built == 2);
+  // ‖R‖ <= 1e-12 ‖R(u0)‖ ≈ 4.9e-11 and |δu_i| <= |r_i| / (3u_i²) <= |r_i| / 3 near
+  // the root (u_i >= 1): the error is below 2e-11.
+  CHECK_THAT(u, nkit_test::is_close_to(counted_cubic::root(4), 2e-11, 0.0));
+}
+
+TEST_CASE("bad input: NaN from a preconditioner's apply never reaches the iterate", "[input][preconditioner]") {
+  SECTION("NaN at every application") {
+    scripted_preconditioner preconditioner;
+    preconditioner.nan_apply_from_step = 0;
+    scripted_solver solver({}, {}, preconditioner);
+    counted_cubic residual;
+    Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 2.0);
+    nkit::solve_report report;
+    check_quiet([&] { report = solver.solve(residual, u); });
+    CHECK(report.result == nkit::outcome::linear_solver_no_progress);
+    CHECK(residual.non_finite_inputs == 0);  // regression: J·v used to evaluate R at u + δ·NaN
+    CHECK(u == Eigen::VectorXd::Constant(4, 2.0));
+  }
+  SECTION("NaN only in the final M⁻¹ V y of each GMRES cycle") {
+    scripted_preconditioner preconditioner;
+    preconditioner.nan_on_combinations = true;
+    scripted_solver solver({}, {}, preconditioner);
+    counted_cubic residual;
+    Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 2.0);
+    nkit::solve_report report;
+    check_quiet([&] { report = solver.solve(residual, u); });
+    // Regression: the NaN update used to become the Newton step, and every
+    // line-search trial evaluated R at a NaN state.
+    CHECK(report.result == nkit::outcome::linear_solver_no_progress);
+    CHECK(residual.non_finite_inputs == 0);
+    CHECK(u == Eigen::VectorXd::Constant(4, 2.0));
+  }
+  SECTION("NaN from the third Newton step on: u is the best iterate") {
+    const auto strategy = GENERATE(from_range(all_globalizations));
+    scripted_preconditioner preconditioner;
+    preconditioner.nan_apply_from_step = 2;
+    nkit::newton_settings settings = nkit_test::settings_for(strategy);
+    settings.relative_tolerance = 1e-14;
+    scripted_solver solver(settings, {}, preconditioner);
+    counted_cubic residual;
+    Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 3.0);
+    nkit::solve_report report;
+    check_quiet([&] { report = solver.solve(residual, u); });
+    INFO(nkit::name(strategy) << ": " << nkit::name(report.result));
+    CHECK(report.result == nkit::outcome::linear_solver_no_progress);
+    CHECK(report.newton_steps == 2);
+    CHECK(residual.non_finite_inputs == 0);
+    CHECK(u.allFinite());
+    CHECK(report.final_residual_norm == nkit_test::residual_norm_at(residual, u));
+    CHECK(report.final_residual_norm < report.initial_residual_norm);
+  }
+}
+
+// ---- settings ----------------------------------------------------------------------------
+
+namespace {
+
+struct invalid_setting {
+  std::function<void(nkit::newton_settings&)> change;
+  std::string message;
+};
+
+/// Every constrained field of every settings struct, with values outside its
+/// range (NaN and infinity included where the field is a double). Fields with
+/// no invalid value: cancellation_flag (any pointer), the bools
+/// forcing.avoid_oversolving and preconditioner_reuse.rebuild_after_linear_failure.
+std::vector<invalid_setting> invalid_settings() {
+  const double nan = not_a_number;
+  const double inf = infinity;
+  using nkit::newton_settings;
+  std::vector<invalid_setting> table = {
+      // newton_settings
+      {[](newton_settings& s) { s.relative_tolerance = -1e-3; },
+       "nkit: newton_settings.relative_tolerance must be finite and >= 0 (got -0.001)"},
+      {[=](newton_settings& s) { s.relative_tolerance = nan; },
+       "nkit: newton_settings.relative_tolerance must be finite and >= 0 (got nan)"},
+      {[=](newton_settings& s) { s.relative_tolerance = inf; },
+       "nkit: newton_settings.relative_tolerance must be finite and >= 0 (got inf)"},
+      {[](newton_settings& s) { s.absolute_tolerance = -1.0; },
+       "nkit: newton_settings.absolute_tolerance must be finite and >= 0 (got -1)"},
+      {[=](newton_settings& s) { s.absolute_tolerance = nan; },
+       "nkit: newton_settings.absolute_tolerance must be finite and >= 0 (got nan)"},
+      {[](newton_settings& s) { s.relative_tolerance = s.absolute_tolerance = 0.0; },
+       "nkit: newton_settings.relative_tolerance must be > 0 when absolute_tolerance is 0 (otherwise nothing can "
+       "converge) (got 0)"},
+      {[](newton_settings& s) { s.step_tolerance = -1e-9; },
+       "nkit: newton_settings.step_tolerance must be finite and >= 0 (got -1e-09)"},
+      {[=](newton_settings& s) { s.step_tolerance = nan; },
+       "nkit: newton_settings.step_tolerance must be finite and >= 0 (got nan)"},
+      {[](newton_settings& s) { s.max_newton_steps = 0; },
+       "nkit: newton_settings.max_newton_steps must be >= 1 (got 0)"},
+      {[](newton_settings& s) { s.max_newton_steps = -5; },
+       "nkit: newton_settings.max_newton_steps must be >= 1 (got -5)"},
+      {[](newton_settings& s) { s.residual_evaluation_budget = 0; },
+       "nkit: newton_settings.residual_evaluation_budget must be >= 1 (got 0)"},
+      {[](newton_settings& s) { s.linear_iteration_budget = -1; },
+       "nkit: newton_settings.linear_iteration_budget must be >= 1 (got -1)"},
+      {[](newton_settings& s) { s.wall_time_limit_seconds = -1.0; },
+       "nkit: newton_settings.wall_time_limit_seconds must be > 0 (got -1)"},
+      {[](newton_settings& s) { s.wall_time_limit_seconds = 0.0; },
+       "nkit: newton_settings.wall_time_limit_seconds must be > 0 (got 0)"},
+      {[=](newton_settings& s) { s.wall_time_limit_seconds = nan; },
+       "nkit: newton_settings.wall_time_limit_seconds must be > 0 (got nan)"},
+      {[](newton_settings& s) { s.stagnation_window = 0; },
+       "nkit: newton_settings.stagnation_window must be >= 1 (got 0)"},
+      {[](newton_settings& s) { s.stagnation_factor = 1.0; },
+       "nkit: newton_settings.stagnation_factor must be in (0, 1) (got 1)"},
+      {[](newton_settings& s) { s.stagnation_factor = 0.0; },
+       "nkit: newton_settings.stagnation_factor must be in (0, 1) (got 0)"},
+      {[](newton_settings& s) { s.globalization = static_cast<nkit::globalization_strategy>(4); },
+       "nkit: newton_settings.globalization must be one of line_search, full_step, trust_region, pseudo_transient "
+       "(got 4)"},
+      {[](newton_settings& s) { s.globalization = static_cast<nkit::globalization_strategy>(-1); },
+       "nkit: newton_settings.globalization must be one of line_search, full_step, trust_region, pseudo_transient "
+       "(got -1)"},
+      // forcing_term_settings
+      {[](newton_settings& s) { s.forcing.kind = static_cast<nkit::forcing_term_kind>(3); },
+       "nkit: newton_settings.forcing.kind must be one of constant, eisenstat_walker_choice_1, "
+       "eisenstat_walker_choice_2 (got 3)"},
+      {[](newton_settings& s) { s.forcing.constant_value = 1.0; },
+       "nkit: newton_settings.forcing.constant_value must be in (0, 1) (got 1)"},
+      {[](newton_settings& s) { s.forcing.constant_value = 0.0; },
+       "nkit: newton_settings.forcing.constant_value must be in (0, 1) (got 0)"},
+      {[](newton_settings& s) { s.forcing.initial_value = 1.5; },
+       "nkit: newton_settings.forcing.initial_value must be in (0, 1) (got 1.5)"},
+      {[=](newton_settings& s) { s.forcing.maximum_value = nan; },
+       "nkit: newton_settings.forcing.maximum_value must be in (0, 1) (got nan)"},
+      {[](newton_settings& s) { s.forcing.choice_2_gamma = -0.1; },
+       "nkit: newton_settings.forcing.choice_2_gamma must be in [0, 1] (got -0.1)"},
+      {[](newton_settings& s) { s.forcing.choice_2_alpha = 1.0; },
+       "nkit: newton_settings.forcing.choice_2_alpha must be in (1, 2] (got 1)"},
+      {[](newton_settings& s) { s.forcing.choice_2_alpha = 2.5; },
+       "nkit: newton_settings.forcing.choice_2_alpha must be in (1, 2] (got 2.5)"},
+      // line_search_settings
+      {[](newton_settings& s) { s.line_search.sufficient_decrease = 0.0; },
+       "nkit: newton_settings.line_search.sufficient_decrease must be in (0, 1) (got 0)"},
+      {[](newton_settings& s) { s.line_search.minimum_shrink = 1.0; },
+       "nkit: newton_settings.line_search.minimum_shrink must be in (0, 1) (got 1)"},
+      {[=](newton_settings& s) { s.line_search.maximum_shrink = nan; },
+       "nkit: newton_settings.line_search.maximum_shrink must be in (0, 1) (got nan)"},
+      {[](newton_settings& s) { s.line_search.minimum_shrink = 0.6; },
+       "nkit: newton_settings.line_search.minimum_shrink must be <= maximum_shrink (0.5) (got 0.6)"},
+      {[](newton_settings& s) { s.line_search.max_backtracks = -1; },
+       "nkit: newton_settings.line_search.max_backtracks must be >= 0 (got -1)"},
+      // trust_region_settings
+      {[](newton_settings& s) { s.trust_region.initial_radius = -1.0; },
+       "nkit: newton_settings.trust_region.initial_radius must be finite and >= 0 (got -1)"},
+      {[=](newton_settings& s) { s.trust_region.initial_radius = inf; },
+       "nkit: newton_settings.trust_region.initial_radius must be finite and >= 0 (got inf)"},
+      {[](newton_settings& s) { s.trust_region.minimum_radius = 0.0; },
+       "nkit: newton_settings.trust_region.minimum_radius must be finite and > 0 (got 0)"},
+      {[=](newton_settings& s) { s.trust_region.maximum_radius = nan; },
+       "nkit: newton_settings.trust_region.maximum_radius must be > 0 (got nan)"},
+      {[](newton_settings& s) { s.trust_region.maximum_radius = 1e-13; },
+       "nkit: newton_settings.trust_region.maximum_radius must be >= minimum_radius (1e-12) (got 1e-13)"},
+      {[](newton_settings& s) { s.trust_region.acceptance_ratio = 1.0; },
+       "nkit: newton_settings.trust_region.acceptance_ratio must be in (0, 1) (got 1)"},
+      {[](newton_settings& s) { s.trust_region.shrink_below_ratio = 0.0; },
+       "nkit: newton_settings.trust_region.shrink_below_ratio must be in (0, 1) (got 0)"},
+      {[](newton_settings& s) { s.trust_region.grow_above_ratio = 1.2; },
+       "nkit: newton_settings.trust_region.grow_above_ratio must be in (0, 1) (got 1.2)"},
+      {[](newton_settings& s) { s.trust_region.grow_above_ratio = 0.1; },
+       "nkit: newton_settings.trust_region.grow_above_ratio must be >= shrink_below_ratio (0.25) (got 0.1)"},
+      {[](newton_settings& s) { s.trust_region.shrink_factor = 1.5; },
+       "nkit: newton_settings.trust_region.shrink_factor must be in (0, 1) (got 1.5)"},
+      {[](newton_settings& s) { s.trust_region.growth_factor = 1.0; },
+       "nkit: newton_settings.trust_region.growth_factor must be finite and > 1 (got 1)"},
+      {[=](newton_settings& s) { s.trust_region.growth_factor = inf; },
+       "nkit: newton_settings.trust_region.growth_factor must be finite and > 1 (got inf)"},
+      // pseudo_transient_settings
+      {[](newton_settings& s) { s.pseudo_transient.initial_step = 0.0; },
+       "nkit: newton_settings.pseudo_transient.initial_step must be finite and > 0 (got 0)"},
+      {[](newton_settings& s) { s.pseudo_transient.maximum_step = -1.0; },
+       "nkit: newton_settings.pseudo_transient.maximum_step must be > 0 (got -1)"},
+      {[=](newton_settings& s) { s.pseudo_transient.minimum_step = nan; },
+       "nkit: newton_settings.pseudo_transient.minimum_step must be finite and > 0 (got nan)"},
+      {[](newton_settings& s) { s.pseudo_transient.initial_step = 1e13; },
+       "nkit: newton_settings.pseudo_transient.initial_step must be in [minimum_step, maximum_step] = [1e-12, "
+       "1e+12] (got 1e+13)"},
+      {[](newton_settings& s) { s.pseudo_transient.growth_limit = 1.0; },
+       "nkit: newton_settings.pseudo_transient.growth_limit must be > 1 (got 1)"},
+      {[](newton_settings& s) { s.pseudo_transient.failure_shrink = 1.0; },
+       "nkit: newton_settings.pseudo_transient.failure_shrink must be in (0, 1) (got 1)"},
+      {[](newton_settings& s) { s.pseudo_transient.maximum_residual_growth = 0.5; },
+       "nkit: newton_settings.pseudo_transient.maximum_residual_growth must be >= 1 (got 0.5)"},
+      {[](newton_settings& s) { s.pseudo_transient.switch_ratio = 1.5; },
+       "nkit: newton_settings.pseudo_transient.switch_ratio must be in [0, 1] (got 1.5)"},
+      // bound_settings
+      {[](newton_settings& s) { s.bounds.boundary_fraction = 1.0; },
+       "nkit: newton_settings.bounds.boundary_fraction must be in (0, 1) (got 1)"},
+      {[](newton_settings& s) { s.bounds.boundary_fraction = 0.0; },
+       "nkit: newton_settings.bounds.boundary_fraction must be in (0, 1) (got 0)"},
+      // gmres_settings
+      {[](newton_settings& s) { s.linear.restart_length = 0; },
+       "nkit: newton_settings.linear.restart_length must be >= 1 (got 0)"},
+      {[](newton_settings& s) { s.linear.max_iterations = -3; },
+       "nkit: newton_settings.linear.max_iterations must be >= 1 (got -3)"},
+      {[](newton_settings& s) { s.linear.variant = static_cast<nkit::gmres_variant>(2); },
+       "nkit: newton_settings.linear.variant must be one of standard, flexible (got 2)"},
+      {[](newton_settings& s) { s.linear.orthogonalization = static_cast<nkit::orthogonalization_method>(9); },
+       "nkit: newton_settings.linear.orthogonalization must be one of modified_gram_schmidt, "
+       "classical_gram_schmidt_twice (got 9)"},
+      {[](newton_settings& s) { s.linear.reorthogonalization = static_cast<nkit::reorthogonalization_policy>(3); },
+       "nkit: newton_settings.linear.reorthogonalization must be one of never, when_needed, always (got 3)"},
+      // jacobian_settings
+      {[](newton_settings& s) { s.jacobian.formula = static_cast<nkit::difference_formula>(2); },
+       "nkit: newton_settings.jacobian.formula must be one of forward, central (got 2)"},
+      {[](newton_settings& s) { s.jacobian.residual_relative_noise = 1.0; },
+       "nkit: newton_settings.jacobian.residual_relative_noise must be in [0, 1) (got 1)"},
+      {[=](newton_settings& s) { s.jacobian.residual_relative_noise = nan; },
+       "nkit: newton_settings.jacobian.residual_relative_noise must be in [0, 1) (got nan)"},
+      // preconditioner_reuse_settings
+      {[](newton_settings& s) { s.preconditioner_reuse.rebuild_every_newton_steps = 0; },
+       "nkit: newton_settings.preconditioner_reuse.rebuild_every_newton_steps must be >= 1 (got 0)"},
+      {[](newton_settings& s) { s.preconditioner_reuse.rebuild_when_linear_iterations_exceed = -1; },
+       "nkit: newton_settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed must be >= 0 (got -1)"},
+  };
+  return table;
+}
+
+}  // namespace
+
+TEST_CASE("bad input: every invalid setting is rejected with its field and value named", "[input][settings]") {
+  const std::vector<invalid_setting> table = invalid_settings();
+  nkit::newton_krylov_solver<> solver;
+  for (const invalid_setting& entry : table) {
+    nkit::newton_settings settings;
+    entry.change(settings);
+    INFO(entry.message);
+    check_rejected([&] { nkit::newton_krylov_solver<> rejected(settings); }, entry.message);
+    // configure() rejects it too and keeps the settings in force.
+    check_rejected([&] { solver.configure(settings); }, entry.message);
+    CHECK(solver.settings().max_newton_steps == nkit::newton_settings{}.max_newton_steps);
+    CHECK(solver.settings().globalization == nkit::globalization_strategy::line_search);
+  }
+  // The solver still works after all those rejections.
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(3, 2.0);
+  CHECK(solver.solve(counted_cubic{}, u).converged());
+}
+
+TEST_CASE("bad input: boundary values of every setting's range are accepted", "[input][settings]") {
+  // The other side of the table above: the documented limits themselves are valid.
+  const std::vector<std::function<void(nkit::newton_settings&)>> valid = {
+      [](nkit::newton_settings& s) {
+        s.relative_tolerance = 0.0;
+        s.absolute_tolerance = 1e-10;
+      },
+      [](nkit::newton_settings& s) { s.max_newton_steps = std::numeric_limits<int>::max(); },
+      [](nkit::newton_settings& s) { s.wall_time_limit_seconds = infinity; },
+      [](nkit::newton_settings& s) { s.line_search.max_backtracks = 0; },
+      [](nkit::newton_settings& s) { s.line_search.minimum_shrink = s.line_search.maximum_shrink = 0.5; },
+      [](nkit::newton_settings& s) {
+        s.forcing.choice_2_gamma = 0.0;
+        s.forcing.choice_2_alpha = 2.0;
+      },
+      [](nkit::newton_settings& s) { s.forcing.choice_2_gamma = 1.0; },
+      [](nkit::newton_settings& s) { s.trust_region.maximum_radius = infinity; },
+      [](nkit::newton_settings& s) { s.trust_region.grow_above_ratio = s.trust_region.shrink_below_ratio; },
+      [](nkit::newton_settings& s) { s.pseudo_transient.switch_ratio = 0.0; },
+      [](nkit::newton_settings& s) { s.pseudo_transient.switch_ratio = 1.0; },
+      [](nkit::newton_settings& s) { s.pseudo_transient.maximum_residual_growth = 1.0; },
+      [](nkit::newton_settings& s) { s.pseudo_transient.maximum_step = infinity; },
+      [](nkit::newton_settings& s) { s.jacobian.residual_relative_noise = 0.0; },
+      [](nkit::newton_settings& s) { s.linear.restart_length = s.linear.max_iterations = 1; },
+  };
+  for (std::size_t i = 0; i < valid.size(); ++i) {
+    nkit::newton_settings settings;
+    valid[i](settings);
+    INFO("valid case " << i);
+    check_quiet([&] { nkit::newton_krylov_solver<> accepted(settings); });
+  }
+}
+
+TEST_CASE("bad input: huge but valid limits allocate only what a solve can use", "[input][settings]") {
+  // Regressions: max_newton_steps = INT_MAX (meaning "no limit") used to
+  // reserve a history of ~250 GB (std::bad_alloc), and a huge restart_length
+  // allocated that many Krylov vectors although max_iterations caps every
+  // cycle (the process was killed for lack of memory).
+  nkit::newton_settings settings;
+  settings.max_newton_steps = std::numeric_limits<int>::max();
+  settings.linear.restart_length = std::numeric_limits<int>::max();
+  settings.linear.max_iterations = 40;
+  nkit::newton_krylov_solver<> solver(settings);
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(10, 2.0);
+  nkit::solve_report report;
+  check_quiet([&] { report = solver.solve(counted_cubic{}, u); });
+  CHECK(report.converged());
+  // Workspace: 41 + 2 Krylov vectors and ten Newton vectors of 10 doubles, the
+  // 41×40 Hessenberg matrix and 1024 history records: far below 1 MB.
+  CHECK(report.workspace_bytes < 1000000);
+}
