@@ -13,7 +13,13 @@
 #include <chrono>
 #include <cstddef>
 #include <memory>
+#include <nkit/newton_krylov_solver.hpp>
 #include <nkit/preconditioner.hpp>
+#include <nkit/preconditioners/ilu_zero.hpp>
+#include <nkit/preconditioners/incomplete_lut.hpp>
+#include <nkit/preconditioners/sparse_direct.hpp>
+#include <stdexcept>
+#include <string>
 #include <vector>
 
 #include "baseplate/baseplate.hpp"
@@ -54,6 +60,28 @@ class frozen_conduction_preconditioner {
       std::make_unique<Eigen::SimplicialLDLT<Eigen::SparseMatrix<double, Eigen::ColMajor, int>>>();
   bool m_analysed = false;
 };
+
+/// Newton–GMRES on the baseplate with the named preconditioner (milu,
+/// frozen_ldlt, ilu_zero, ilut, sparse_direct or none; the built-in ones get
+/// the Jacobian from the problem's assemble_jacobian); `t` is the initial
+/// guess on entry and the solution on exit. Throws std::invalid_argument for
+/// any other name.
+inline nkit::solve_report solve_by_newton_gmres(baseplate_conduction& problem, Eigen::VectorXd& t,
+                                                const std::string& preconditioner,
+                                                const nkit::newton_settings& settings) {
+  const auto solve = [&](auto chosen) {
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, decltype(chosen)> solver(settings, {},
+                                                                                          std::move(chosen));
+    return solver.solve(problem, t);
+  };
+  if (preconditioner == "milu") return solve(nkit::ilu_zero_preconditioner(nkit::ilu_zero_settings{1.0}));
+  if (preconditioner == "frozen_ldlt") return solve(frozen_conduction_preconditioner(problem));
+  if (preconditioner == "ilu_zero") return solve(nkit::ilu_zero_preconditioner());
+  if (preconditioner == "ilut") return solve(nkit::incomplete_lut_preconditioner());
+  if (preconditioner == "sparse_direct") return solve(nkit::sparse_direct_preconditioner());
+  if (preconditioner == "none") return solve(nkit::identity_preconditioner{});
+  throw std::invalid_argument("baseplate: unknown preconditioner '" + preconditioner + "'");
+}
 
 /// One Picard iteration's record.
 struct picard_step_record {

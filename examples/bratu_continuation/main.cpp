@@ -7,41 +7,21 @@
 //   bratu_continuation [nodes_per_side=47] [max_height=8] [output_prefix=bratu_branch]
 //
 // The run stops once ‖u‖∞ exceeds max_height (the upper branch goes on to
-// infinity as λ → 0). The state block is preconditioned with an exact sparse
-// LU factorisation of R_u (Eigen's SparseLU), which continuation turns into a
+// infinity as λ → 0). The state block is preconditioned with nkit's
+// sparse_direct_preconditioner, an exact sparse LU factorisation of R_u
+// (refactorised whenever the driver asks), which continuation turns into a
 // preconditioner of the bordered system.
-#include <Eigen/SparseLU>
 #include <cstdio>
 #include <cstdlib>
 #include <fstream>
 #include <iostream>
-#include <memory>
 #include <nkit/continuation.hpp>
+#include <nkit/preconditioners/sparse_direct.hpp>
 #include <string>
 
 #include "bratu_continuation/bratu.hpp"
 
 namespace {
-
-/// P = R_u(u, λ) factorised exactly; refactorised whenever the driver asks.
-class sparse_lu_preconditioner {
- public:
-  nkit::setup_status setup(const nkit::preconditioner_context<>& context) {
-    m_matrix = context.assembled_jacobian();
-    if (!m_factor) {
-      m_factor = std::make_unique<factor_type>();  // SparseLU can be neither copied nor moved
-      m_factor->analyzePattern(m_matrix);
-    }
-    m_factor->factorize(m_matrix);
-    return m_factor->info() == Eigen::Success ? nkit::setup_status::ready : nkit::setup_status::failed;
-  }
-  void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) { z = m_factor->solve(r); }
-
- private:
-  using factor_type = Eigen::SparseLU<Eigen::SparseMatrix<double>>;
-  Eigen::SparseMatrix<double> m_matrix;
-  std::unique_ptr<factor_type> m_factor;
-};
 
 const char* kind_label(nkit::point_kind kind) {
   switch (kind) {
@@ -76,7 +56,7 @@ int main(int argc, char** argv) {
   settings.parameter_lower_bound = 0.0;
   settings.max_points = 400;
   settings.corrector.absolute_tolerance = 1e-7;  // R is O(λ) per node here; u = 0 at λ = 0 is exact
-  nkit::continuation_solver<nkit::eigen_vector_space<double>, sparse_lu_preconditioner> solver(settings);
+  nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(settings);
 
   std::ofstream csv(prefix + ".csv");
   csv << "kind,parameter,max_norm,newton_steps\n";

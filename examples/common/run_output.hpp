@@ -11,6 +11,7 @@
 
 #include <cstdio>
 #include <cstdlib>
+#include <ctime>
 #include <filesystem>
 #include <fstream>
 #include <iostream>
@@ -66,6 +67,15 @@ inline double resident_memory_bytes() {
     if (line.rfind("VmRSS:", 0) == 0) return 1024.0 * std::strtod(line.c_str() + 6, nullptr);
   }
   return 0.0;
+}
+
+/// CPU time used by this process so far, seconds (all threads; user +
+/// system), from clock_gettime(CLOCK_PROCESS_CPUTIME_ID). On a machine shared
+/// with other jobs it is a steadier measure of a method's cost than wall time.
+inline double process_cpu_seconds() {
+  timespec now{};
+  if (clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &now) != 0) return 0.0;
+  return static_cast<double>(now.tv_sec) + 1e-9 * static_cast<double>(now.tv_nsec);
 }
 
 inline double mebibytes(double bytes) { return bytes / (1024.0 * 1024.0); }

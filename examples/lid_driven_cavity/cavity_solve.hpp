@@ -8,25 +8,20 @@
 #ifndef NKIT_EXAMPLES_CAVITY_SOLVE_HPP
 #define NKIT_EXAMPLES_CAVITY_SOLVE_HPP
 
-#include <Eigen/IterativeLinearSolvers>
 #include <Eigen/OrderingMethods>
 #include <Eigen/SparseLU>
 #include <algorithm>
 #include <chrono>
 #include <cmath>
 #include <nkit/nkit.hpp>
+#include <nkit/preconditioners/sparse_direct.hpp>
 #include <string>
 #include <vector>
 
-#include "common/factorization_preconditioner.hpp"
 #include "lid_driven_cavity/cavity.hpp"
 #include "lid_driven_cavity/ghia_1982.hpp"
 
 namespace nkit_examples {
-
-using sparse_lu_preconditioner = factorization_preconditioner<
-    Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>, Eigen::COLAMDOrdering<int>>>;
-using incomplete_lu_preconditioner = factorization_preconditioner<Eigen::IncompleteLUT<double, int>>;
 
 /// The Re values visited on the way to `target`: 100, then ×4 steps (common practice: small enough
 /// that each Newton solve starts inside its basin).
@@ -66,8 +61,10 @@ inline nkit::newton_settings cavity_newton_settings(double relative_tolerance = 
   return settings;
 }
 
-/// Solves at Re = target on n intervals by continuation, with the given preconditioner type.
-template <class Preconditioner = sparse_lu_preconditioner>
+/// Solves at Re = target on n intervals by continuation, with the given
+/// preconditioner (default: nkit's sparse_direct_preconditioner, exact sparse
+/// LU of the analytic Jacobian from cavity.assemble_jacobian).
+template <class Preconditioner = nkit::sparse_direct_preconditioner>
 cavity_solution solve_cavity(int intervals, double target_reynolds,
                              const nkit::newton_settings& settings = cavity_newton_settings(),
                              Preconditioner preconditioner = {}, double intermediate_tolerance = 1e-3) {

@@ -2,12 +2,13 @@
 // Newton–GMRES with continuation in Re, compared with Ghia, Ghia & Shin
 // (1982) Tables I and II.
 //
-//   lid_driven_cavity [--intervals=128] [--reynolds=1000] [--preconditioner=sparse_lu]
+//   lid_driven_cavity [--intervals=128] [--reynolds=1000] [--preconditioner=sparse_direct]
 //                     [--output=cavity_output]
 #include <cstdio>
 #include <exception>
 #include <fstream>
 #include <iostream>
+#include <nkit/preconditioners/incomplete_lut.hpp>
 #include <string>
 
 #include "common/command_line.hpp"
@@ -69,7 +70,8 @@ int run(int argc, char** argv) {
                                       "lid-driven cavity, Newton-GMRES with continuation in Re, vs Ghia et al. 1982");
   options.option("intervals", "128", "grid intervals per side (128 = Ghia's 129 x 129 nodes); even");
   options.option("reynolds", "1000", "target Reynolds number (Ghia data exist for 100 and 1000)");
-  options.option("preconditioner", "sparse_lu", "sparse_lu (exact factors of the Jacobian) or ilut");
+  options.option("preconditioner", "sparse_direct",
+                 "sparse_direct (nkit: exact sparse LU of the Jacobian) or ilut (nkit: incomplete LUT)");
   options.option("relative_tolerance", "1e-10", "per continuation step: ||R|| <= this * ||R(start)||");
   options.option("output", "cavity_output", "folder for CSV, VTK and PNG files");
   if (!options.parse(argc, argv)) return 0;
@@ -84,10 +86,10 @@ int run(int argc, char** argv) {
   const auto settings = nkit_examples::cavity_newton_settings(options.number("relative_tolerance"));
   const std::string choice = options.text("preconditioner");
   nkit_examples::cavity_solution solution;
-  if (choice == "sparse_lu") {
-    solution = nkit_examples::solve_cavity<nkit_examples::sparse_lu_preconditioner>(n, re, settings);
+  if (choice == "sparse_direct") {
+    solution = nkit_examples::solve_cavity<nkit::sparse_direct_preconditioner>(n, re, settings);
   } else if (choice == "ilut") {
-    solution = nkit_examples::solve_cavity<nkit_examples::incomplete_lu_preconditioner>(n, re, settings);
+    solution = nkit_examples::solve_cavity<nkit::incomplete_lut_preconditioner>(n, re, settings);
   } else {
     throw std::invalid_argument("lid_driven_cavity: unknown --preconditioner " + choice);
   }

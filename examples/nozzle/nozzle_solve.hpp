@@ -3,17 +3,16 @@
 // Kelley & Keyes 1998 iteration, Mulder & van Leer 1985 step growth). The
 // problem supplies spectral-radius weights (pseudo_time_weights in
 // nozzle.hpp), so the pseudo-time step is a CFL number with local time steps
-// Δτ_i = CFL·V_i/λ_i, the usual CFD practice. The preconditioner is an exact
-// sparse LU of R'(U) + W/δ (the driver adds the pseudo-time diagonal to the
-// assembled Jacobian).
+// Δτ_i = CFL·V_i/λ_i, the usual CFD practice. The preconditioner is nkit's
+// sparse_direct_preconditioner, an exact sparse LU of R'(U) + W/δ: the driver
+// assembles R'(U) by colored finite differences from the problem's
+// jacobian_pattern() and adds the pseudo-time diagonal.
 #ifndef NKIT_EXAMPLES_NOZZLE_SOLVE_HPP
 #define NKIT_EXAMPLES_NOZZLE_SOLVE_HPP
 
-#include <Eigen/OrderingMethods>
-#include <Eigen/SparseLU>
 #include <nkit/nkit.hpp>
+#include <nkit/preconditioners/sparse_direct.hpp>
 
-#include "common/factorization_preconditioner.hpp"
 #include "nozzle/nozzle.hpp"
 
 namespace nkit_examples {
@@ -34,8 +33,7 @@ inline nkit::newton_settings nozzle_newton_settings(double initial_cfl = 50.0, d
 
 inline nkit::solve_report solve_nozzle(const quasi_one_dimensional_nozzle& problem, Eigen::VectorXd& u,
                                        const nkit::newton_settings& settings = nozzle_newton_settings()) {
-  using lu = Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>, Eigen::COLAMDOrdering<int>>;
-  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, factorization_preconditioner<lu>> solver(settings);
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(settings);
   return solver.solve(problem, u);
 }
 
