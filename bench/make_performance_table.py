@@ -204,11 +204,12 @@ def kernel_lines(kernels):
         elif name.startswith("orthogonalization/"):
             fields = dict(part.split(":") for part in name.split("/")[1:] if ":" in part)
             lines.append("- GMRES(30) orthogonalisation, %s² unknowns, %s thread(s), reorthogonalisation %s: "
-                         "%.1f GB/s nominal = %.0f %% of the triad" % (
+                         "%.1f GB/s nominal = %.0f %% of the triad; basis traffic only %.0f %%" % (
                              fields["n"], fields["threads"],
                              "when needed (default)" if fields["default_reorthogonalization"] == "1" else "off",
                              entry.get("orthogonalization_bytes_per_second", 0) / 1e9,
-                             100 * entry.get("fraction_of_triad", float("nan"))))
+                             100 * entry.get("fraction_of_triad", float("nan")),
+                             100 * entry.get("basis_fraction_of_triad", float("nan"))))
         elif name.endswith("_BigO") or name.endswith("_RMS"):
             if name.endswith("_RMS"):
                 lines.append("- %s: time per unknown fit RMS %.0f %%" % (name[:-4], 100 * entry.get("rms", 0)))
@@ -278,10 +279,14 @@ def target_lines(runs, kernels, configurations):
             "met" if share <= 0.25 else "not met"))
     for entry in kernels:
         name = entry["name"]
-        if name.startswith("orthogonalization/n:1024/threads:1/default_reorthogonalization:0"):
-            fraction = entry.get("fraction_of_triad", float("nan"))
-            lines.append("- orthogonalisation >= 70 %% of triad bandwidth at n = 1024: %.0f %% (%s)" % (
-                100 * fraction, "met" if fraction >= 0.7 else "not met"))
+        for n in ("1024", "2048"):
+            if name.startswith("orthogonalization/n:%s/threads:1/default_reorthogonalization:0" % n):
+                fraction = entry.get("fraction_of_triad", float("nan"))
+                basis = entry.get("basis_fraction_of_triad", float("nan"))
+                lines.append("- orthogonalisation >= 70 %% of triad bandwidth at n = %s: %.0f %% by the nominal "
+                             "byte count (%s); %.0f %% counting only the basis traffic, the lower bound while w "
+                             "stays in cache (%s)" % (n, 100 * fraction, "met" if fraction >= 0.7 else "not met",
+                                                      100 * basis, "met" if basis >= 0.7 else "not met"))
     return lines
 
 
