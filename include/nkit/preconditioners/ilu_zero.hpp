@@ -49,6 +49,10 @@ struct ilu_zero_settings {
   /// Numer. Math. 48 (1986) 479–498). For diffusion-dominated problems MILU
   /// lowers the growth of GMRES iterations with mesh refinement; it relies on
   /// near-M-matrix structure, so values just below 1 are the safer choice.
+  /// Where J·1 ≈ 0 in most rows (conduction with insulated walls almost
+  /// everywhere: a nearly pure-Neumann problem), ω = 1 makes LU nearly
+  /// singular; measured on examples/baseplate at 256²: ω = 1 stagnates,
+  /// ω = 0.99 converges (12 Newton steps, 637 GMRES iterations).
   double row_sum_compensation = 0.0;
 
   void validate(const std::string& prefix = "ilu_zero_settings") const {
