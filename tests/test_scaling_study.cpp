@@ -149,7 +149,7 @@ TEST_CASE("a study of synthetic solves recovers the growth laws it was built wit
 TEST_CASE("a study stops before the sizes that follow a solve slower than the limit", "[scaling]") {
   nkit::scaling_study_settings settings;
   settings.size_parameters = {100, 200, 400, 800};
-  // 1e-7 N^1.2 s: 0.063 s at N = 4e4, 0.33 s at 1.6e5 — the limit falls between.
+  // 1e-7 N^1.2 s: 0.033 s at N = 4e4, 0.18 s at 1.6e5 — the limit falls between.
   settings.stop_after_seconds = 0.1;
   const auto result = nkit::run_scaling_study(settings, [](long long size) { return synthetic_solve(size); });
   REQUIRE(result.rows.size() == 3);  // 100, 200 and the slow 400 itself

@@ -39,10 +39,12 @@ typename X::Scalar local_max_step_to_bounds(const X& x, const D& d, const L& low
 /// "reductions" are plain local reductions. Stateless and cheap to copy.
 /// With NKIT_USE_OPENMP defined (CMake target nkit::openmp), members on
 /// vectors of at least detail::parallel_length_threshold entries run on the
-/// OpenMP team, one contiguous chunk per thread; reductions then add chunk
-/// results in a fixed order, so they are reproducible for a given thread
-/// count (detail/parallel_loops.hpp). Without it the code is the serial
-/// Eigen expressions, unchanged.
+/// OpenMP team in omp_get_max_threads() contiguous chunks; reductions then
+/// add chunk results in chunk order, so they are reproducible for a given
+/// requested thread count, whatever team size the runtime grants
+/// (detail/parallel_loops.hpp). max_step_to_bounds and within_bounds stay
+/// serial (once per Newton step). Without NKIT_USE_OPENMP the code is the
+/// serial Eigen expressions, unchanged.
 template <class Scalar = double>
 class eigen_vector_space {
  public:

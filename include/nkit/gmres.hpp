@@ -169,6 +169,7 @@ class gmres_solver {
     allocate_like(b, flexible);
 
     linear_solve_result result;
+    m_orthogonalization_seconds = 0.0;
     const int m = cycle_length();
     const double b_norm = m_space.norm(b);
     result.right_hand_side_norm = b_norm;
@@ -237,6 +238,7 @@ class gmres_solver {
         const double next_norm = orthogonalize(j);
         const auto stop = detail::clock_type::now();
         result.orthogonalization_seconds += detail::seconds_between(start, stop);
+        m_orthogonalization_seconds = result.orthogonalization_seconds;
         if (m_trace != nullptr) m_trace->record(trace_phase::orthogonalization, start, stop, total + 1);
 
         if (!std::isfinite(next_norm) || !m_hessenberg.col(j).head(j + 1).allFinite()) {
@@ -335,6 +337,11 @@ class gmres_solver {
     result.iterations = total;
     return result;
   }
+
+  /// Gram–Schmidt seconds of the current or last solve, also when an
+  /// exception from the operator or preconditioner ended it early (the
+  /// result object is then lost; cost accounting reads this instead).
+  double orthogonalization_seconds_of_last_solve() const { return m_orthogonalization_seconds; }
 
  private:
   /// Krylov vectors per restart cycle: restart_length, but never more than
@@ -468,6 +475,7 @@ class gmres_solver {
   std::vector<detail::givens_rotation> m_rotations;
   vector_type* m_cauchy_target = nullptr;
   trace_recorder* m_trace = nullptr;
+  double m_orthogonalization_seconds = 0.0;  ///< of the current or last solve
   bool m_cauchy_written = false;
 };
 

@@ -412,16 +412,21 @@ class newton_krylov_solver {
     const auto step_start = step_timer.start;
 
     outcome early = outcome::in_progress;
-    if (m_pseudo_transient) {
-      early = pseudo_transient_step(problem, monitor, record);
-    } else {
-      early = newton_direction(problem, monitor, record);
-      if (early == outcome::in_progress) {
-        early =
-            m_settings.globalization == globalization_strategy::trust_region
-                ? trust_region_step(problem, record)
-                : line_search_step(problem, record, m_settings.globalization == globalization_strategy::line_search);
+    try {
+      if (m_pseudo_transient) {
+        early = pseudo_transient_step(problem, monitor, record);
+      } else {
+        early = newton_direction(problem, monitor, record);
+        if (early == outcome::in_progress) {
+          early =
+              m_settings.globalization == globalization_strategy::trust_region
+                  ? trust_region_step(problem, record)
+                  : line_search_step(problem, record, m_settings.globalization == globalization_strategy::line_search);
+        }
       }
+    } catch (const detail::stop_signal&) {
+      account_globalization();  // a budget, limit or cancellation ended the step inside it
+      throw;
     }
     if (early != outcome::in_progress) return early;
 
@@ -535,9 +540,7 @@ class newton_krylov_solver {
 
   template <class Problem>
   outcome line_search_step(Problem& problem, newton_step_record& record, bool require_decrease) {
-    const double residual_before = m_report.time.residual;
-    const double product_before = m_report.time.jacobian_vector;
-    const auto start = detail::clock_type::now();
+    begin_globalization();
     const double limit = bound_limit(m_step);
     record.bound_active = limit < 1.0;
     // Shortening the direction to t·s raises the linear-model residual to (1 − t(1 − η))‖R‖.
@@ -549,7 +552,7 @@ class newton_krylov_solver {
           apply_jacobian(problem, m_step, m_product);  // φ'(0) = Rᵀ R'(u) s with s = −limit·x
           return -limit * m_space.dot(m_residual, m_product);
         });
-    account_globalization(start, residual_before, product_before);
+    account_globalization();
     record.backtracks = search.trials - 1;
     m_report.backtracks += search.trials - 1;
     m_report.non_finite_trials += search.non_finite_trials;
@@ -563,9 +566,7 @@ class newton_krylov_solver {
 
   template <class Problem>
   outcome trust_region_step(Problem& problem, newton_step_record& record) {
-    const double residual_before = m_report.time.residual;
-    const double product_before = m_report.time.jacobian_vector;
-    const auto start = detail::clock_type::now();
+    begin_globalization();
     const trust_region_settings& tr = m_settings.trust_region;
     // Newton point x_N = m_step, Cauchy point x_C = m_cauchy (both for R'(u) x = R(u); s = −x).
     if (!m_gmres.cauchy_point_available()) m_space.fill(0, m_cauchy);
@@ -619,13 +620,13 @@ class newton_krylov_solver {
         record.bound_active = limit < 1.0;
         record.backtracks = attempt;
         m_report.backtracks += attempt;
-        account_globalization(start, residual_before, product_before);
+        account_globalization();
         return outcome::in_progress;
       }
       if (admissible_state && !std::isfinite(trial_norm)) ++m_report.non_finite_trials;
       m_trust_radius = tr.shrink_factor * std::min(m_trust_radius, step_norm);
       if (m_trust_radius < tr.minimum_radius) {
-        account_globalization(start, residual_before, product_before);
+        account_globalization();
         return outcome::trust_region_collapsed;
       }
     }
@@ -646,13 +647,11 @@ class newton_krylov_solver {
       m_space.scale(1 / m_pseudo_time_step, m_shift);
       if (attempt > 0) request_preconditioner_rebuild();  // the shift changed
       if (const outcome early = newton_direction(problem, monitor, record); early != outcome::in_progress) return early;
-      const double residual_before = m_report.time.residual;
-      const double product_before = m_report.time.jacobian_vector;
-      const auto start = detail::clock_type::now();
+      begin_globalization();
       const double limit = bound_limit(m_step);
       const std::int64_t inadmissible_before = m_report.inadmissible_trials;
       const double trial_norm = trial(problem, m_step, limit);
-      account_globalization(start, residual_before, product_before);
+      account_globalization();
       if (std::isfinite(trial_norm) && trial_norm <= ptc.maximum_residual_growth * m_norm) {
         record.pseudo_time_step = m_pseudo_time_step;
         record.step_length = limit;
@@ -676,12 +675,22 @@ class newton_krylov_solver {
     }
   }
 
-  void account_globalization(detail::clock_type::time_point start, double residual_before, double product_before) {
+  /// Opens a globalisation interval; account_globalization() closes it. A
+  /// limit or cancellation raised inside (detail::stop_signal) is closed by
+  /// step(), so stopped solves keep an honest breakdown too.
+  void begin_globalization() {
+    m_globalization_clock = {detail::clock_type::now(), m_report.time.residual, m_report.time.jacobian_vector, true};
+  }
+
+  void account_globalization() {
+    if (!m_globalization_clock.open) return;
+    m_globalization_clock.open = false;
     const auto stop = detail::clock_type::now();
+    const auto start = m_globalization_clock.start;
     if (m_trace != nullptr) m_trace->record(trace_phase::globalization, start, stop, m_report.newton_steps + 1);
     const double seconds = detail::seconds_between(start, stop);
-    m_report.time.globalization +=
-        seconds - (m_report.time.residual - residual_before) - (m_report.time.jacobian_vector - product_before);
+    m_report.time.globalization += seconds - (m_report.time.residual - m_globalization_clock.residual_before) -
+                                   (m_report.time.jacobian_vector - m_globalization_clock.product_before);
     ++m_report.calls.globalization;
   }
 
@@ -918,18 +927,30 @@ class newton_krylov_solver {
     linear_solve_result result;
     const double measured_before = m_report.time.measured();
     const auto start = detail::clock_type::now();
-    if constexpr (std::is_same_v<Preconditioner, identity_preconditioner>) {
-      result = m_gmres.solve(op, m_preconditioner, m_residual, m_step, eta, initial_guess::zero, observer);
-    } else {
-      timed_preconditioner preconditioner{this};
-      result = m_gmres.solve(op, preconditioner, m_residual, m_step, eta, initial_guess::zero, observer);
+    const auto account = [&](double orthogonalization_seconds) {
+      const auto stop = detail::clock_type::now();
+      if (m_trace != nullptr) m_trace->record(trace_phase::linear_solve, start, stop, m_report.newton_steps + 1);
+      m_report.time.orthogonalization += orthogonalization_seconds;
+      m_report.time.krylov_update +=
+          detail::seconds_between(start, stop) - (m_report.time.measured() - measured_before);
+    };
+    try {
+      if constexpr (std::is_same_v<Preconditioner, identity_preconditioner>) {
+        result = m_gmres.solve(op, m_preconditioner, m_residual, m_step, eta, initial_guess::zero, observer);
+      } else {
+        timed_preconditioner preconditioner{this};
+        result = m_gmres.solve(op, preconditioner, m_residual, m_step, eta, initial_guess::zero, observer);
+      }
+    } catch (const detail::stop_signal&) {
+      // A budget, limit or cancellation inside a J·v or preconditioner
+      // apply: GMRES's result is lost, its Gram–Schmidt time is not.
+      account(m_gmres.orthogonalization_seconds_of_last_solve());
+      ++m_report.calls.krylov_update;
+      throw;
     }
-    const auto stop = detail::clock_type::now();
-    if (m_trace != nullptr) m_trace->record(trace_phase::linear_solve, start, stop, m_report.newton_steps + 1);
+    account(result.orthogonalization_seconds);
     m_report.linear_iterations = used_before + result.iterations;
-    m_report.time.orthogonalization += result.orthogonalization_seconds;
     m_report.calls.orthogonalization += result.iterations;
-    m_report.time.krylov_update += detail::seconds_between(start, stop) - (m_report.time.measured() - measured_before);
     ++m_report.calls.krylov_update;
     return result;
   }
@@ -1054,7 +1075,12 @@ class newton_krylov_solver {
   vector_type m_lower_bound, m_upper_bound, m_scaled_lower, m_scaled_upper;
   vector_type m_variable_scale, m_residual_scale;
   sparse_matrix m_jacobian;
-  column_major_sparse_matrix m_column_major_jacobian;  // only for problems that assemble column-major
+  column_major_sparse_matrix m_column_major_jacobian;
+  struct globalization_clock {
+    detail::clock_type::time_point start{};
+    double residual_before = 0.0, product_before = 0.0;
+    bool open = false;
+  } m_globalization_clock;  // only for problems that assemble column-major
   colored_difference_jacobian m_colored;               // only for problems that offer jacobian_pattern()
 
   solve_report m_report;

@@ -40,17 +40,28 @@ inline bool run_in_parallel(Eigen::Index length) {
 #endif
 }
 
+/// Number of chunks a long vector is split into: omp_get_max_threads()
+/// (capped), fixed before the parallel region, so the split, and with it
+/// every reduction's bits, depends only on the requested thread count, not on
+/// how many threads the runtime actually gives the team (OMP_DYNAMIC,
+/// thread limits).
+inline int chunk_count() {
+#if defined(NKIT_USE_OPENMP)
+  return std::max(1, std::min(omp_get_max_threads(), max_reduction_threads));
+#else
+  return 1;
+#endif
+}
+
 /// Calls body(begin, count) once per chunk, on the OpenMP team.
 template <class Body>
 void for_each_chunk(Eigen::Index length, Body&& body) {
 #if defined(NKIT_USE_OPENMP)
-  const int requested = std::min(omp_get_max_threads(), max_reduction_threads);
-#pragma omp parallel num_threads(requested)
-  {
-    const Eigen::Index threads = omp_get_num_threads();
-    const Eigen::Index thread = omp_get_thread_num();
-    const Eigen::Index begin = thread * length / threads;
-    const Eigen::Index end = (thread + 1) * length / threads;
+  const int chunks = chunk_count();
+#pragma omp parallel for schedule(static) num_threads(chunks)
+  for (int chunk = 0; chunk < chunks; ++chunk) {
+    const Eigen::Index begin = chunk * length / chunks;
+    const Eigen::Index end = (chunk + 1) * length / chunks;
     body(begin, end - begin);
   }
 #else
@@ -63,17 +74,12 @@ template <class Scalar, class Partial>
 Scalar sum_over_chunks(Eigen::Index length, Partial&& partial) {
 #if defined(NKIT_USE_OPENMP)
   std::array<Scalar, max_reduction_threads> partials{};
-  int team = 1;
-  const int requested = std::min(omp_get_max_threads(), max_reduction_threads);
-#pragma omp parallel num_threads(requested)
-  {
-    const Eigen::Index threads = omp_get_num_threads();
-    const Eigen::Index thread = omp_get_thread_num();
-    const Eigen::Index begin = thread * length / threads;
-    const Eigen::Index end = (thread + 1) * length / threads;
-    partials[static_cast<std::size_t>(thread)] = partial(begin, end - begin);
-#pragma omp single
-    team = omp_get_num_threads();
+  const int team = chunk_count();
+#pragma omp parallel for schedule(static) num_threads(team)
+  for (int chunk = 0; chunk < team; ++chunk) {
+    const Eigen::Index begin = chunk * length / team;
+    const Eigen::Index end = (chunk + 1) * length / team;
+    partials[static_cast<std::size_t>(chunk)] = partial(begin, end - begin);
   }
   Scalar sum = partials[0];
   for (int thread = 1; thread < team; ++thread) sum += partials[static_cast<std::size_t>(thread)];
