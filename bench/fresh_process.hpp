@@ -71,8 +71,8 @@ inline child_output run_fresh_process(const std::string& executable, const std::
   std::ostringstream command;
   // One BLAS thread: a threaded BLAS under UMFPACK would otherwise use more
   // cores than the row says.
-  command << "OPENBLAS_NUM_THREADS=1 MKL_NUM_THREADS=1 timeout -s KILL " << static_cast<long long>(kill_after_seconds) << " '" << executable << "' " << arguments
-          << " 2>&1";
+  command << "OPENBLAS_NUM_THREADS=1 MKL_NUM_THREADS=1 timeout -s KILL " << static_cast<long long>(kill_after_seconds)
+          << " '" << executable << "' " << arguments << " 2>&1";
   std::FILE* pipe = popen(command.str().c_str(), "r");
   if (pipe == nullptr) return output;
   char line[1024];

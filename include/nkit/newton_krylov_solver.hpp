@@ -249,7 +249,8 @@ class newton_krylov_solver {
       using index_type = typename std::decay_t<decltype(matrix)>::StorageIndex;
       const auto outer = static_cast<std::size_t>(matrix.outerSize());
       return static_cast<std::size_t>(matrix.data().allocatedSize()) * (sizeof(double) + sizeof(index_type)) +
-             (outer > 0 ? outer + 1 : 0) * sizeof(index_type) + (matrix.isCompressed() ? 0 : outer * sizeof(index_type));
+             (outer > 0 ? outer + 1 : 0) * sizeof(index_type) +
+             (matrix.isCompressed() ? 0 : outer * sizeof(index_type));
     };
     return matrix_bytes(m_jacobian) + matrix_bytes(m_column_major_jacobian) + m_colored.workspace_bytes();
   }
@@ -1080,8 +1081,8 @@ class newton_krylov_solver {
     detail::clock_type::time_point start{};
     double residual_before = 0.0, product_before = 0.0;
     bool open = false;
-  } m_globalization_clock;  // only for problems that assemble column-major
-  colored_difference_jacobian m_colored;               // only for problems that offer jacobian_pattern()
+  } m_globalization_clock;                // only for problems that assemble column-major
+  colored_difference_jacobian m_colored;  // only for problems that offer jacobian_pattern()
 
   solve_report m_report;
   std::size_t m_history_capacity = 0;
