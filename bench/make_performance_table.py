@@ -346,6 +346,10 @@ def main():
                   " (a busy machine: timings are rough, and OpenMP rows mostly measure waiting for a core)"
                   if context.get("load_avg") and context["load_avg"][0] > 0.5 * context.get("num_cpus", 1) else ""),
               ""]
+    if context.get("kernel_run"):
+        header.insert(2, "Kernel figures (residual evaluation, triad, orthogonalisation, Broyden, tracing) come from a "
+                      "second run of the same binary at %s, with the --benchmark_filter of the kernels, on an "
+                      "otherwise idle machine (merged into this JSON under context.kernel_run)." % context["kernel_run"])
     lines = header + lines + kernel_lines(kernels) + target_lines(runs, kernels, configurations)
     threads = sorted({t for (_, _, t) in runs})
     if len(threads) > 1:
