@@ -30,6 +30,7 @@
 #include <vector>
 
 #include "distributed_heat/solve_strip_problem.hpp"
+#include "model_problem/model_problem.hpp"
 
 namespace {
 
@@ -130,45 +131,6 @@ void exact_newton_sparse_lu(benchmark::State& state) {
   state.counters["work_units"] = solve_seconds / residual_seconds;
 }
 
-/// Frozen-k matrix A(T): face coefficient ½(k_P + k_Q), wall coefficient
-/// k_P + 1 (references §15 with k frozen), so R(T) = A(T) T − q h².
-void assemble_picard_matrix(int n, const Eigen::VectorXd& t, Eigen::SparseMatrix<double, Eigen::ColMajor, int>& a,
-                            std::vector<Eigen::Triplet<double, int>>& entries) {
-  entries.clear();
-  const auto k = [&](int p) { return 1.0 + t(p) * t(p); };
-  for (int j = 0; j < n; ++j) {
-    for (int i = 0; i < n; ++i) {
-      const int p = i + n * j;
-      double diagonal = 0.0;
-      const auto face = [&](int q) {
-        const double k_f = 0.5 * (k(p) + k(q));
-        diagonal += k_f;
-        entries.emplace_back(p, q, -k_f);
-      };
-      const double wall = k(p) + 1.0;
-      if (i > 0)
-        face(p - 1);
-      else
-        diagonal += wall;
-      if (i + 1 < n)
-        face(p + 1);
-      else
-        diagonal += wall;
-      if (j > 0)
-        face(p - n);
-      else
-        diagonal += wall;
-      if (j + 1 < n)
-        face(p + n);
-      else
-        diagonal += wall;
-      entries.emplace_back(p, p, diagonal);
-    }
-  }
-  a.resize(n * n, n * n);
-  a.setFromTriplets(entries.begin(), entries.end());
-}
-
 void picard_sparse_cholesky(benchmark::State& state) {
   const int n = static_cast<int>(state.range(0));
   if (world_size() != 1) {
@@ -181,6 +143,7 @@ void picard_sparse_cholesky(benchmark::State& state) {
   Eigen::VectorXd t, r(problem.local_unknowns());
   Eigen::SparseMatrix<double, Eigen::ColMajor, int> a;
   std::vector<Eigen::Triplet<double, int>> entries;
+  const nkit_examples::heat_conduction_model_problem frozen(n);  // one rank: the whole grid
   int steps = 0;
   double residual_norm = 0.0, initial_norm = 0.0;
   double solve_seconds = 0.0;
@@ -191,7 +154,7 @@ void picard_sparse_cholesky(benchmark::State& state) {
     initial_norm = residual_norm = r.norm();
     Eigen::SimplicialLDLT<Eigen::SparseMatrix<double, Eigen::ColMajor, int>> cholesky;
     for (steps = 0; steps < 200 && residual_norm > 1e-8 * initial_norm; ++steps) {
-      assemble_picard_matrix(n, t, a, entries);
+      frozen.assemble_frozen_conduction(t, a, entries);
       if (steps == 0) cholesky.analyzePattern(a);
       cholesky.factorize(a);
       t = cholesky.solve(load);

@@ -42,46 +42,6 @@ class wall_clock {
   std::chrono::steady_clock::time_point m_start = std::chrono::steady_clock::now();
 };
 
-/// The frozen-coefficient matrix A(T): every face conductance evaluated at T,
-/// so that A(T) T − q h² = R(T) exactly (§15: symmetric positive definite).
-inline void assemble_picard_matrix(const model& problem, const Eigen::VectorXd& t, column_matrix& a,
-                                   std::vector<Eigen::Triplet<double>>& entries) {
-  const int n = problem.cells_per_side();
-  entries.clear();
-  for (int j = 0; j < n; ++j) {
-    for (int i = 0; i < n; ++i) {
-      const Eigen::Index p = i + static_cast<Eigen::Index>(n) * j;
-      const double k_p = model::conductivity(t(p));
-      double diagonal = 0.0;
-      const auto face = [&](Eigen::Index q) {
-        const double k_f = 0.5 * (k_p + model::conductivity(t(q)));
-        diagonal += k_f;
-        entries.emplace_back(p, q, -k_f);
-      };
-      const double wall = k_p + 1.0;
-      if (i > 0)
-        face(p - 1);
-      else
-        diagonal += wall;
-      if (i + 1 < n)
-        face(p + 1);
-      else
-        diagonal += wall;
-      if (j > 0)
-        face(p - n);
-      else
-        diagonal += wall;
-      if (j + 1 < n)
-        face(p + n);
-      else
-        diagonal += wall;
-      entries.emplace_back(p, p, diagonal);
-    }
-  }
-  a.resize(problem.unknowns(), problem.unknowns());
-  a.setFromTriplets(entries.begin(), entries.end());
-}
-
 /// Exact Newton: J(T) s = −R(T), T += λ s with λ halved while ‖R‖ does not
 /// decrease (common practice). `DirectSolver` is an Eigen sparse direct
 /// solver (SparseLU, UmfPackLU); the symbolic analysis is done once.
@@ -151,7 +111,7 @@ baseline_result picard(const model& problem, Eigen::VectorXd& t, double time_cap
       result.failure = "time cap";
       break;
     }
-    assemble_picard_matrix(problem, t, a, entries);
+    problem.assemble_frozen_conduction(t, a, entries);
     if (result.iterations == 0) solver.analyzePattern(a);
     solver.factorize(a);
     ++result.factorizations;

@@ -108,6 +108,50 @@ class heat_conduction_model_problem {
     jacobian.setFromTriplets(entries.begin(), entries.end());
   }
 
+  /// The frozen-coefficient (Picard) matrix A(T): every face conductance
+  /// evaluated at T (interior ½(k_P + k_Q), wall k_P + 1), so that
+  /// A(T) T − q h² = R(T) exactly; symmetric positive definite (references
+  /// §15). `entries` is scratch space that repeated calls reuse.
+  template <class SparseMatrix>
+  void assemble_frozen_conduction(
+      const Eigen::VectorXd& t, SparseMatrix& a,
+      std::vector<Eigen::Triplet<double, typename SparseMatrix::StorageIndex>>& entries) const {
+    const int n = m_n;
+    entries.clear();
+    for (int j = 0; j < n; ++j) {
+      for (int i = 0; i < n; ++i) {
+        const Eigen::Index p = i + static_cast<Eigen::Index>(n) * j;
+        const double k_p = conductivity(t(p));
+        double diagonal = 0.0;
+        const auto face = [&](Eigen::Index q) {
+          const double k_f = 0.5 * (k_p + conductivity(t(q)));
+          diagonal += k_f;
+          entries.emplace_back(p, q, -k_f);
+        };
+        const double wall = k_p + 1.0;
+        if (i > 0)
+          face(p - 1);
+        else
+          diagonal += wall;
+        if (i + 1 < n)
+          face(p + 1);
+        else
+          diagonal += wall;
+        if (j > 0)
+          face(p - n);
+        else
+          diagonal += wall;
+        if (j + 1 < n)
+          face(p + n);
+        else
+          diagonal += wall;
+        entries.emplace_back(p, p, diagonal);
+      }
+    }
+    a.resize(unknowns(), unknowns());
+    a.setFromTriplets(entries.begin(), entries.end());
+  }
+
  private:
   int m_n;
   double m_source;
