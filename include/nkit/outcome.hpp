@@ -101,7 +101,8 @@ constexpr std::string_view describe(outcome value) {
     case outcome::line_search_failed:
       return "Stopped: the line search found no step length giving sufficient decrease of the residual norm.";
     case outcome::linear_solver_no_progress:
-      return "Stopped: GMRES could not reduce the linear residual, so no Newton direction was available.";
+      return "Stopped: GMRES could not reduce the linear residual, so no Newton direction was available (a nearly "
+             "singular preconditioner or an inaccurate J*v product is the usual cause).";
     case outcome::non_finite_initial_residual:
       return "Stopped: the residual at the initial guess contains NaN or Inf; no step was taken.";
     case outcome::preconditioner_failed:
