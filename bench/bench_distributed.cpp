@@ -6,7 +6,9 @@
 //                        aggressive_coarsening_levels.
 //                        Runs on all ranks of MPI_COMM_WORLD (strips).
 //   exact_newton_sparse_lu  Newton with the analytic Jacobian factored by
-//                        Eigen::SparseLU every step, full steps (one rank).
+//                        Eigen::SparseLU every step (one rank; the baselines
+//                        of bench/model_problem_baselines.hpp, which the
+//                        side-by-side suite bench_model_problem runs too).
 //   picard_sparse_cholesky  Picard (frozen k) iteration, each step a sparse
 //                        Cholesky (Eigen::SimplicialLDLT, AMD ordering) of the
 //                        symmetric positive definite frozen-k matrix (one rank).
@@ -30,7 +32,7 @@
 #include <vector>
 
 #include "distributed_heat/solve_strip_problem.hpp"
-#include "model_problem/model_problem.hpp"
+#include "model_problem_baselines.hpp"
 
 namespace {
 
@@ -45,8 +47,9 @@ int world_size() {
   return size;
 }
 
-/// Median wall time of one residual evaluation of the strip problem at T = t.
-double median_residual_seconds(nkit_examples::strip_heat_problem& problem, const Eigen::VectorXd& t) {
+/// Median wall time of one residual evaluation at T = t.
+template <class Problem>
+double median_residual_seconds(Problem& problem, const Eigen::VectorXd& t) {
   Eigen::VectorXd r(t.size());
   std::vector<double> samples;
   for (int k = 0; k < 11; ++k) {
@@ -89,89 +92,45 @@ void nkit_amg(benchmark::State& state) {
   state.counters["seconds_orthogonalization"] = report.time.orthogonalization;
 }
 
-void exact_newton_sparse_lu(benchmark::State& state) {
+/// A serial baseline of bench/model_problem_baselines.hpp (the same code the
+/// side-by-side suite runs) on the whole grid, one rank.
+template <class Baseline>
+void serial_baseline(benchmark::State& state, Baseline&& baseline, const char* steps_counter) {
   const int n = static_cast<int>(state.range(0));
   if (world_size() != 1) {
     state.SkipWithError("serial baseline: run with one rank");
     return;
   }
-  nkit_examples::strip_heat_problem problem(MPI_COMM_SELF, n);
-  Eigen::VectorXd t, r(problem.local_unknowns()), step;
-  nkit::sparse_matrix jacobian;
-  Eigen::SparseMatrix<double, Eigen::ColMajor, int> column_jacobian;
-  int steps = 0;
-  double residual_norm = 0.0, initial_norm = 0.0;
+  const nkit_examples::heat_conduction_model_problem problem(n);
+  Eigen::VectorXd t;
+  nkit_bench::baseline_result result;
   double solve_seconds = 0.0;
   for (auto _ : state) {
     const auto start = clock_type::now();
-    t = Eigen::VectorXd::Zero(problem.local_unknowns());
-    problem(t, r);
-    initial_norm = residual_norm = r.norm();
-    Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>> lu;
-    for (steps = 0; steps < 50 && residual_norm > 1e-8 * initial_norm; ++steps) {
-      problem.assemble_jacobian(t, jacobian);
-      column_jacobian = jacobian;
-      if (steps == 0) lu.analyzePattern(column_jacobian);
-      lu.factorize(column_jacobian);
-      step = lu.solve(r);
-      t -= step;
-      problem(t, r);
-      residual_norm = r.norm();
-    }
+    t = Eigen::VectorXd::Zero(problem.unknowns());
+    result = baseline(problem, t, 1e9);
     solve_seconds = seconds_since(start);
   }
-  if (!(residual_norm <= 1e-8 * initial_norm)) {
-    state.SkipWithError("exact Newton did not converge");
+  if (!result.reached) {
+    state.SkipWithError(("did not converge: " + result.failure).c_str());
     return;
   }
   state.SetComplexityN(static_cast<int64_t>(n) * n);
-  state.counters["newton_steps"] = steps;
+  state.counters[steps_counter] = static_cast<double>(result.iterations);
   const double residual_seconds = median_residual_seconds(problem, t);
   state.counters["median_residual_seconds"] = residual_seconds;
   state.counters["work_units"] = solve_seconds / residual_seconds;
 }
 
+using column_matrix = nkit_bench::column_matrix;
+
+void exact_newton_sparse_lu(benchmark::State& state) {
+  serial_baseline(state, nkit_bench::exact_newton<Eigen::SparseLU<column_matrix, Eigen::COLAMDOrdering<int>>>,
+                  "newton_steps");
+}
+
 void picard_sparse_cholesky(benchmark::State& state) {
-  const int n = static_cast<int>(state.range(0));
-  if (world_size() != 1) {
-    state.SkipWithError("serial baseline: run with one rank");
-    return;
-  }
-  nkit_examples::strip_heat_problem problem(MPI_COMM_SELF, n);
-  const double h = 1.0 / n;
-  const Eigen::VectorXd load = Eigen::VectorXd::Constant(problem.local_unknowns(), 10.0 * h * h);
-  Eigen::VectorXd t, r(problem.local_unknowns());
-  Eigen::SparseMatrix<double, Eigen::ColMajor, int> a;
-  std::vector<Eigen::Triplet<double, int>> entries;
-  const nkit_examples::heat_conduction_model_problem frozen(n);  // one rank: the whole grid
-  int steps = 0;
-  double residual_norm = 0.0, initial_norm = 0.0;
-  double solve_seconds = 0.0;
-  for (auto _ : state) {
-    const auto start = clock_type::now();
-    t = Eigen::VectorXd::Zero(problem.local_unknowns());
-    problem(t, r);
-    initial_norm = residual_norm = r.norm();
-    Eigen::SimplicialLDLT<Eigen::SparseMatrix<double, Eigen::ColMajor, int>> cholesky;
-    for (steps = 0; steps < 200 && residual_norm > 1e-8 * initial_norm; ++steps) {
-      frozen.assemble_frozen_conduction(t, a, entries);
-      if (steps == 0) cholesky.analyzePattern(a);
-      cholesky.factorize(a);
-      t = cholesky.solve(load);
-      problem(t, r);
-      residual_norm = r.norm();
-    }
-    solve_seconds = seconds_since(start);
-  }
-  if (!(residual_norm <= 1e-8 * initial_norm)) {
-    state.SkipWithError("Picard did not converge");
-    return;
-  }
-  state.SetComplexityN(static_cast<int64_t>(n) * n);
-  state.counters["picard_steps"] = steps;
-  const double residual_seconds = median_residual_seconds(problem, t);
-  state.counters["median_residual_seconds"] = residual_seconds;
-  state.counters["work_units"] = solve_seconds / residual_seconds;
+  serial_baseline(state, nkit_bench::picard<Eigen::SimplicialLDLT<column_matrix>>, "picard_steps");
 }
 
 // nkit + AMG: rebuild every step or every 3 steps; restart 50 (default) or 20.
