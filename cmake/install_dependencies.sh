@@ -9,7 +9,7 @@
 # Runs apt-get non-interactively; uses sudo when not run as root.
 set -euo pipefail
 
-required=(g++ make cmake libeigen3-dev libboost-dev catch2 libbenchmark-dev)
+required=(g++ make cmake python3 libeigen3-dev libboost-dev catch2 libbenchmark-dev)
 optional=(gnuplot-nox clang libclang-rt-14-dev valgrind libsuitesparse-dev openmpi-bin libopenmpi-dev libhypre-dev
           nlohmann-json3-dev)
 

@@ -6,7 +6,9 @@
 #   4. clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer and
 #      warnings as errors (plus the libFuzzer target), then the whole ctest
 #      suite again (it replays the fuzz corpus once)
-#   5. a short fuzz run: NKIT_FUZZ_SECONDS (default 60) of new inputs
+#   5. a deterministic fuzz run: the checked-in corpus, then NKIT_FUZZ_RUNS (default 30000)
+#      mutations from the fixed seed NKIT_FUZZ_SEED (default 20261202), so the same commit always
+#      runs the same inputs; exploratory fuzzing with random seeds is cmake/run_exploratory_fuzzing.sh
 # Build folders: build/ci-gcc and build/ci-clang-sanitize (override with NKIT_BUILD_ROOT).
 # Each stage prints its wall time.
 set -euo pipefail
@@ -42,10 +44,12 @@ stage "test suite (sanitizers)"
 ASAN_OPTIONS=detect_leaks=1:abort_on_error=1 UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 \
   ctest --test-dir "$build_root/ci-clang-sanitize" -j "$jobs" --output-on-failure
 
-stage "fuzzing the Newton driver for ${NKIT_FUZZ_SECONDS:-60} s"
+fuzz_seed=${NKIT_FUZZ_SEED:-20261202}
+fuzz_runs=${NKIT_FUZZ_RUNS:-30000}
+stage "fuzzing the Newton driver: seed $fuzz_seed, $fuzz_runs runs from the checked-in corpus"
 fuzz_corpus=$(mktemp -d)  # new inputs go here; the checked-in corpus is only read
 mkdir -p "$build_root/fuzz-artifacts"
-"$build_root/ci-clang-sanitize/tests/fuzz/nkit_fuzz_newton_solve" -max_total_time="${NKIT_FUZZ_SECONDS:-60}" \
+"$build_root/ci-clang-sanitize/tests/fuzz/nkit_fuzz_newton_solve" -seed="$fuzz_seed" -runs="$fuzz_runs" \
   -timeout=10 -rss_limit_mb=2048 -print_final_stats=1 -artifact_prefix="$build_root/fuzz-artifacts/" \
   "$fuzz_corpus" "$source_dir/tests/fuzz/corpus"
 rm -rf "$fuzz_corpus"

@@ -36,10 +36,10 @@
 #include <string>
 #include <string_view>
 
+#include "../core/preconditioner.hpp"
+#include "../core/vector_space.hpp"
 #include "../detail/checks.hpp"
-#include "../preconditioner.hpp"
-#include "../row_partition.hpp"
-#include "../vector_space.hpp"
+#include "../distributed/row_partition.hpp"
 
 namespace nkit {
 

@@ -25,8 +25,8 @@
 #include <utility>
 #include <vector>
 
+#include "../core/preconditioner.hpp"
 #include "../detail/sparse_helpers.hpp"
-#include "../preconditioner.hpp"
 #include "jacobi.hpp"
 
 namespace nkit {

@@ -33,9 +33,9 @@
 #include <string>
 #include <vector>
 
+#include "../core/preconditioner.hpp"
 #include "../detail/checks.hpp"
 #include "../detail/sparse_helpers.hpp"
-#include "../preconditioner.hpp"
 #include "jacobi.hpp"
 
 namespace nkit {

@@ -25,9 +25,9 @@
 #include <memory>
 #include <string>
 
+#include "../core/preconditioner.hpp"
 #include "../detail/checks.hpp"
 #include "../detail/sparse_helpers.hpp"
-#include "../preconditioner.hpp"
 #include "jacobi.hpp"
 
 namespace nkit {

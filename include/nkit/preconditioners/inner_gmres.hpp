@@ -23,10 +23,10 @@
 #include <string>
 #include <utility>
 
+#include "../core/linear_operator.hpp"
+#include "../core/preconditioner.hpp"
 #include "../detail/checks.hpp"
-#include "../gmres.hpp"
-#include "../linear_operator.hpp"
-#include "../preconditioner.hpp"
+#include "../krylov/gmres.hpp"
 #include "jacobi.hpp"
 
 namespace nkit {

@@ -18,8 +18,8 @@
 #include <cstdint>
 #include <limits>
 
+#include "../core/preconditioner.hpp"
 #include "../detail/sparse_helpers.hpp"
-#include "../preconditioner.hpp"
 
 namespace nkit {
 

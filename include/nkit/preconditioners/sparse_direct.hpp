@@ -30,8 +30,8 @@
 #include <memory>
 #include <type_traits>
 
+#include "../core/preconditioner.hpp"
 #include "../detail/sparse_helpers.hpp"
-#include "../preconditioner.hpp"
 
 namespace nkit {
 

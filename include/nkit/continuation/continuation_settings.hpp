@@ -1,0 +1,299 @@
+#ifndef NKIT_CONTINUATION_CONTINUATION_SETTINGS_HPP
+#define NKIT_CONTINUATION_CONTINUATION_SETTINGS_HPP
+
+/// \file continuation/continuation_settings.hpp
+/// Settings of a parameter continuation run, what it reports per point, and
+/// why it stopped (continuation.hpp runs it).
+///
+/// Metric: the arclength of a step (δu, δλ) is
+///   ds² = θ ‖δu‖₂² + δλ²,  θ = state_weight / N,
+/// N the global number of state unknowns, so the state part counts as a root
+/// mean square and the step size does not depend on the grid (common
+/// practice; state_weight = N gives Keller's plain Euclidean metric). In
+/// natural-parameter continuation the step is |δλ| itself.
+
+#include <cmath>
+#include <cstdint>
+#include <limits>
+#include <ostream>
+#include <string>
+#include <string_view>
+#include <type_traits>
+#include <vector>
+
+#include "../detail/checks.hpp"
+#include "../report/monitor.hpp"
+#include "../report/outcome.hpp"
+#include "../newton/newton_settings.hpp"
+
+namespace nkit {
+
+enum class continuation_method {
+  pseudo_arclength,  ///< Keller's bordered system; follows the branch around folds
+  natural_parameter  ///< λ is stepped and held fixed in each solve; stops at a fold
+};
+
+/// Which way λ moves from the start point.
+enum class parameter_direction { increasing, decreasing };
+
+/// The corrector's defaults for continuation: few Newton steps, so a bad
+/// predictor fails fast and the step is cut (common practice).
+inline newton_settings default_corrector_settings() {
+  newton_settings settings;
+  settings.max_newton_steps = 10;
+  settings.relative_tolerance = 1e-8;
+  settings.absolute_tolerance = 0.0;
+  return settings;
+}
+
+struct continuation_settings {
+  continuation_method method = continuation_method::pseudo_arclength;
+  parameter_direction initial_direction = parameter_direction::increasing;
+
+  /// First step: Δs in the metric above (pseudo-arclength) or |Δλ| (natural).
+  double initial_step = 0.1;
+  double minimum_step = 1e-6;  ///< the run stops when a step this short still fails
+  double maximum_step = 1.0;
+
+  /// Step control (common practice): after a converged corrector that took k
+  /// Newton steps, Δs ← Δs · clamp(target_corrector_steps / max(k, 1),
+  /// 1 / maximum_step_growth, maximum_step_growth); after a failure,
+  /// Δs ← Δs · step_reduction_after_failure and the step is retried.
+  /// 5 suits the default inexact corrector: with Eisenstat–Walker forcing
+  /// (η_0 = 0.5) even a very good predictor takes about 4 Newton steps to the
+  /// tolerance (measured on 1D Bratu), so a target of 4 never lets the step grow.
+  int target_corrector_steps = 5;
+  double maximum_step_growth = 2.0;
+  double step_reduction_after_failure = 0.5;
+
+  /// θ·N in the arclength metric (see the file comment).
+  double state_weight = 1.0;
+
+  /// The run ends on the first point outside [lower, upper]; that point is
+  /// replaced by a solve with λ fixed at the bound.
+  double parameter_lower_bound = -std::numeric_limits<double>::infinity();
+  double parameter_upper_bound = std::numeric_limits<double>::infinity();
+
+  /// Points on the branch, the start point included.
+  int max_points = 500;
+
+  /// Guards against jumping to another branch (common practice): a step is
+  /// rejected (and cut) when the corrected point lies farther than
+  /// maximum_corrector_distance·Δs from its predictor (arclength metric; this
+  /// includes the end point solved on a bound), or, in pseudo-arclength, when
+  /// the cosine of the angle between consecutive unit tangents falls below
+  /// minimum_tangent_alignment (−1 turns that test off).
+  double maximum_corrector_distance = 0.5;
+  double minimum_tangent_alignment = 0.5;
+
+  /// Pseudo-arclength: when t_λ changes sign, locate the fold by the Illinois
+  /// variant of regula falsi on t_λ(σ) along the previous tangent.
+  bool locate_folds = true;
+  /// The fold counts as located when λ at the fold is known to within
+  /// fold_parameter_tolerance·max(1, |λ|): the bracket [σ_a, σ_b] around the
+  /// sign change satisfies max(|t_λ(σ_a)|, |t_λ(σ_b)|)·(σ_b − σ_a) <= that
+  /// (t_λ = dλ/ds bounds how much λ varies across the bracket), or |t_λ| = 0
+  /// at an iterate. With finite-difference J·v, t_λ is noisy near the fold
+  /// (at about the GMRES residual level) while λ is flat there, so the bracket
+  /// test, not |t_λ|, is what ends the search.
+  double fold_parameter_tolerance = 1e-9;
+  int max_fold_location_iterations = 20;
+
+  /// Relative GMRES tolerance requested for the tangent solves
+  /// (‖b − A t‖ <= tolerance·‖b‖, b = (0, σ), σ = ‖R_λ‖).
+  double tangent_linear_tolerance = 1e-6;
+  /// A tangent solve that ended above tangent_linear_tolerance (stagnation at
+  /// the finite-difference noise floor, or the iteration limit) is still used
+  /// when its relative residual is below this; otherwise the step is rejected.
+  /// A predictor direction and the sign of t_λ need only modest accuracy.
+  double tangent_residual_limit = 1e-3;
+
+  /// Settings of every Newton–Krylov solve (start point, corrector steps, fold
+  /// location). Its linear and jacobian settings also serve the tangent solves.
+  /// Norms are Euclidean norms of the bordered residual [R; N]. The start
+  /// solve stops at max(absolute_tolerance, relative_tolerance·‖R(u_guess, λ_0)‖),
+  /// as any Newton solve does; every later solve stops at that same absolute
+  /// value (not relative to its predictor's residual), so its Newton step count
+  /// measures how far the predictor was off. If that value is 0 (exact guess
+  /// and absolute_tolerance = 0) later solves fall back to relative_tolerance.
+  newton_settings corrector = default_corrector_settings();
+
+  /// Throws std::invalid_argument naming the first bad field and its value.
+  void validate() const {
+    const std::string p = "continuation_settings.";
+    detail::require_positive(p + "initial_step", initial_step);
+    detail::require_positive(p + "minimum_step", minimum_step);
+    detail::require_positive(p + "maximum_step", maximum_step);
+    if (minimum_step > initial_step) {
+      detail::throw_invalid_setting(p + "minimum_step", "<= initial_step (" + detail::number_text(initial_step) + ")",
+                                    minimum_step);
+    }
+    if (maximum_step < initial_step) {
+      detail::throw_invalid_setting(p + "maximum_step", ">= initial_step (" + detail::number_text(initial_step) + ")",
+                                    maximum_step);
+    }
+    detail::require_at_least(p + "target_corrector_steps", target_corrector_steps, 1);
+    if (!(maximum_step_growth >= 1.0 && maximum_step_growth < std::numeric_limits<double>::infinity())) {
+      detail::throw_invalid_setting(p + "maximum_step_growth", "finite and >= 1", maximum_step_growth);
+    }
+    detail::require_open_interval(p + "step_reduction_after_failure", step_reduction_after_failure, 0.0, 1.0);
+    detail::require_positive(p + "state_weight", state_weight);
+    if (std::isnan(parameter_lower_bound) || std::isnan(parameter_upper_bound) ||
+        !(parameter_lower_bound < parameter_upper_bound)) {
+      detail::throw_invalid_setting(p + "parameter_lower_bound",
+                                    "< parameter_upper_bound (" + detail::number_text(parameter_upper_bound) + ")",
+                                    parameter_lower_bound);
+    }
+    detail::require_at_least(p + "max_points", max_points, 1);
+    detail::require_positive(p + "maximum_corrector_distance", maximum_corrector_distance, true);
+    detail::require_closed_interval(p + "minimum_tangent_alignment", minimum_tangent_alignment, -1.0, 1.0);
+    detail::require_positive(p + "fold_parameter_tolerance", fold_parameter_tolerance);
+    detail::require_at_least(p + "max_fold_location_iterations", max_fold_location_iterations, 1);
+    detail::require_open_interval(p + "tangent_linear_tolerance", tangent_linear_tolerance, 0.0, 1.0);
+    if (!(tangent_residual_limit >= tangent_linear_tolerance && tangent_residual_limit < 1.0)) {
+      detail::throw_invalid_setting(p + "tangent_residual_limit",
+                                    "in [tangent_linear_tolerance, 1) (tangent_linear_tolerance = " +
+                                        detail::number_text(tangent_linear_tolerance) + ")",
+                                    tangent_residual_limit);
+    }
+    corrector.validate();
+  }
+};
+
+/// Why a continuation run stopped. Only the first two are normal endings.
+enum class continuation_outcome {
+  reached_parameter_bound,  ///< the branch left [lower, upper]; the last point lies on the bound
+  reached_point_limit,      ///< max_points points computed
+  step_below_minimum,       ///< steps failed down to minimum_step (a fold, in natural-parameter mode)
+  start_point_failed,       ///< the solve at the start parameter did not converge
+  tangent_failed,           ///< pseudo-arclength: the tangent solve failed down to minimum_step
+  cancelled,                ///< the corrector's cancellation flag was raised
+  stopped_by_callback       ///< the per-point callback returned monitor_decision::stop_now
+};
+
+constexpr std::string_view name(continuation_outcome value) {
+  switch (value) {
+    case continuation_outcome::reached_parameter_bound:
+      return "reached_parameter_bound";
+    case continuation_outcome::reached_point_limit:
+      return "reached_point_limit";
+    case continuation_outcome::step_below_minimum:
+      return "step_below_minimum";
+    case continuation_outcome::start_point_failed:
+      return "start_point_failed";
+    case continuation_outcome::tangent_failed:
+      return "tangent_failed";
+    case continuation_outcome::cancelled:
+      return "cancelled";
+    case continuation_outcome::stopped_by_callback:
+      return "stopped_by_callback";
+  }
+  return "unknown";
+}
+
+constexpr std::string_view describe(continuation_outcome value) {
+  switch (value) {
+    case continuation_outcome::reached_parameter_bound:
+      return "Finished: the branch reached a parameter bound; the last point was solved with the parameter on it.";
+    case continuation_outcome::reached_point_limit:
+      return "Finished: the requested number of points was computed.";
+    case continuation_outcome::step_below_minimum:
+      return "Stopped: the step failed (corrector, tangent or tangent-angle test) even at the minimum step. In "
+             "natural-parameter continuation this is what a fold (turning point) looks like: the branch turns back, "
+             "no solution exists beyond it and R_u is singular at it; use pseudo-arclength continuation to follow it "
+             "around.";
+    case continuation_outcome::start_point_failed:
+      return "Stopped: the Newton-Krylov solve at the start parameter did not converge.";
+    case continuation_outcome::tangent_failed:
+      return "Stopped: GMRES did not solve the tangent system to tangent_residual_limit, even at the minimum step.";
+    case continuation_outcome::cancelled:
+      return "Stopped: the cancellation flag was raised.";
+    case continuation_outcome::stopped_by_callback:
+      return "Stopped: the per-point callback asked to stop.";
+  }
+  return "Unknown outcome.";
+}
+
+inline std::ostream& operator<<(std::ostream& stream, continuation_outcome value) { return stream << name(value); }
+
+enum class point_kind {
+  start,            ///< solved at the start parameter
+  branch,           ///< an accepted continuation step
+  fold,             ///< a located fold (also listed in continuation_report::folds)
+  parameter_bound,  ///< the last point, solved with λ fixed on a bound
+};
+
+/// One point of the branch. Norms are Euclidean; counts are those spent on
+/// this point (corrector solves, rejected attempts and tangent solve).
+struct continuation_point {
+  point_kind kind = point_kind::branch;
+  int index = 0;                          ///< position in continuation_report::points (folds: the point after the fold)
+  double parameter = 0.0;                 ///< λ
+  double state_norm = 0.0;                ///< ‖u‖₂ (the callback sees u itself, for other norms)
+  double arclength = 0.0;                 ///< sum of the accepted steps from the start (Δs, or |Δλ| in natural mode)
+  double step = 0.0;                      ///< the step that reached this point (0 at the start)
+  double tangent_parameter = 0.0;         ///< t_λ, λ-component of the unit tangent (metric above)
+  bool fold_detected = false;             ///< t_λ changed sign between the previous point and this one
+  int newton_steps = 0;                   ///< corrector Newton steps (accepted solve only)
+  int rejected_steps = 0;                 ///< failed corrector attempts before this point
+  std::int64_t linear_iterations = 0;     ///< GMRES iterations, all solves for this point
+  std::int64_t residual_evaluations = 0;  ///< calls of R, all solves for this point (J·v ones included)
+  outcome corrector_result = outcome::in_progress;  ///< outcome of the accepted corrector solve
+};
+
+/// A fold (turning point) between two branch points.
+struct fold_record {
+  continuation_point point;     ///< kind == point_kind::fold; parameter is λ at the fold
+  bool located = false;         ///< the fold_parameter_tolerance test was met
+  int location_iterations = 0;  ///< corrector solves spent locating it
+};
+
+struct continuation_report {
+  continuation_outcome result = continuation_outcome::reached_point_limit;
+  std::string_view message() const { return describe(result); }
+  /// True for the normal endings (bound or point limit reached).
+  bool finished() const {
+    return result == continuation_outcome::reached_parameter_bound ||
+           result == continuation_outcome::reached_point_limit;
+  }
+
+  std::vector<continuation_point> points;  ///< start, branch points, and the bound point (not folds)
+  std::vector<fold_record> folds;
+  int newton_steps = 0;  ///< all corrector solves, rejected ones included
+  int rejected_steps = 0;
+  std::int64_t linear_iterations = 0;
+  std::int64_t residual_evaluations = 0;
+  /// The last corrector solve's outcome (explains a step_below_minimum or start_point_failed).
+  outcome last_corrector_result = outcome::in_progress;
+  /// ‖[R; N]‖ at which solves after the start point stopped (see continuation_settings::corrector).
+  double corrector_tolerance = 0.0;
+  double wall_seconds = 0.0;
+};
+
+/// The per-point callback of continuation_solver::trace_branch is any
+/// callable callback(const continuation_point& point, const vector_type& state)
+/// returning void or monitor_decision (stop_now ends the run).
+/// The default per-point callback: observes nothing.
+struct null_point_callback {
+  template <class Vector>
+  void operator()(const continuation_point& /*point*/, const Vector& /*state*/) const {}
+};
+
+namespace detail {
+template <class Callback, class Vector>
+monitor_decision notify_point(Callback& callback, const continuation_point& point, const Vector& state) {
+  static_assert(std::is_invocable_v<Callback&, const continuation_point&, const Vector&>,
+                "nkit: a continuation callback must be callable as callback(const continuation_point&, const "
+                "vector_type& state), returning void or monitor_decision");
+  if constexpr (std::is_void_v<std::invoke_result_t<Callback&, const continuation_point&, const Vector&>>) {
+    callback(point, state);
+    return monitor_decision::keep_going;
+  } else {
+    return to_decision(callback(point, state));
+  }
+}
+}  // namespace detail
+
+}  // namespace nkit
+
+#endif  // NKIT_CONTINUATION_CONTINUATION_SETTINGS_HPP

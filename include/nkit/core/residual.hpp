@@ -1,0 +1,77 @@
+#ifndef NKIT_CORE_RESIDUAL_HPP
+#define NKIT_CORE_RESIDUAL_HPP
+
+/// \file core/residual.hpp
+/// The residual (problem) concept and the optional capabilities nkit detects.
+///
+/// Required: `residual(const vector_type& u, vector_type& r)` writes R(u) into
+/// `r`, which nkit passes already sized like `u`. The residual must not resize
+/// `r`; nkit checks the size after every call.
+///
+/// Optional members, detected at compile time (zero cost when absent):
+///   void jacobian_product(const vector_type& u, const vector_type& v, vector_type& jv)
+///       jv = R'(u) v exactly (analytic or automatic differentiation); when
+///       absent nkit uses finite differences of the residual.
+///   void assemble_jacobian(const vector_type& u, Eigen::SparseMatrix<double, Options>& jacobian)
+///       the assembled sparse Jacobian R'(u), for preconditioners that need
+///       one (see preconditioner.hpp and sparse_jacobian.hpp).
+///   bool is_admissible(const vector_type& u)
+///       physical admissibility (e.g. positive densities); the residual is
+///       never evaluated where it returns false.
+///   void pseudo_time_weights(const vector_type& u, vector_type& weights)
+///       the diagonal W of pseudo-transient continuation
+///       (globalization/pseudo_transient.hpp).
+
+#include <type_traits>
+#include <utility>
+
+namespace nkit {
+
+namespace detail {
+
+template <class Residual, class Vector, class = void>
+struct is_residual_impl : std::false_type {};
+
+template <class Residual, class Vector>
+struct is_residual_impl<
+    Residual, Vector,
+    std::void_t<decltype(std::declval<Residual&>()(std::declval<const Vector&>(), std::declval<Vector&>()))>>
+    : std::true_type {};
+
+template <class Residual, class Vector, class = void>
+struct has_jacobian_product_impl : std::false_type {};
+
+template <class Residual, class Vector>
+struct has_jacobian_product_impl<
+    Residual, Vector,
+    std::void_t<decltype(std::declval<Residual&>().jacobian_product(
+        std::declval<const Vector&>(), std::declval<const Vector&>(), std::declval<Vector&>()))>> : std::true_type {};
+
+template <class Problem, class Vector, class = void>
+struct has_is_admissible : std::false_type {};
+template <class Problem, class Vector>
+struct has_is_admissible<
+    Problem, Vector, std::void_t<decltype(bool(std::declval<Problem&>().is_admissible(std::declval<const Vector&>())))>>
+    : std::true_type {};
+
+template <class Problem, class Vector, class = void>
+struct has_pseudo_time_weights : std::false_type {};
+template <class Problem, class Vector>
+struct has_pseudo_time_weights<Problem, Vector,
+                               std::void_t<decltype(std::declval<Problem&>().pseudo_time_weights(
+                                   std::declval<const Vector&>(), std::declval<Vector&>()))>> : std::true_type {};
+
+}  // namespace detail
+
+/// True when `Residual` can be called as residual(const Vector& u, Vector& r).
+template <class Residual, class Vector>
+inline constexpr bool is_residual_v = detail::is_residual_impl<std::remove_reference_t<Residual>, Vector>::value;
+
+/// True when `Residual` has jacobian_product(u, v, jv).
+template <class Residual, class Vector>
+inline constexpr bool has_jacobian_product_v =
+    detail::has_jacobian_product_impl<std::remove_reference_t<Residual>, Vector>::value;
+
+}  // namespace nkit
+
+#endif  // NKIT_CORE_RESIDUAL_HPP

@@ -1,0 +1,44 @@
+#ifndef NKIT_GLOBALIZATION_BOUNDS_HPP
+#define NKIT_GLOBALIZATION_BOUNDS_HPP
+
+/// \file globalization/bounds.hpp
+/// Keeping iterates inside declared bounds lower <= u <= upper: how far a
+/// step may go ("fraction to the boundary") and its setting.
+///
+/// A step u + t·s is shortened to the largest t that respects the bounds
+/// times boundary_fraction, so iterates stay strictly inside and a solution
+/// lying on a bound is approached geometrically. Rule: common practice in
+/// interior-point methods (J. Nocedal & S.J. Wright, Numerical Optimization,
+/// 2nd ed. (2006), §19.2 — from memory).
+
+#include <string>
+#include <string_view>
+
+#include "../detail/checks.hpp"
+
+namespace nkit {
+
+/// How declared bounds on the state are enforced (newton_krylov_solver::set_bounds).
+struct bound_settings {
+  /// Steps are shortened so that u + step stays within the bounds, moving at
+  /// most this fraction of the way to the nearest bound.
+  double boundary_fraction = 0.99;
+
+  void validate(std::string_view prefix = "bound_settings") const {
+    const std::string p(prefix);
+    if (!(boundary_fraction > 0.0 && boundary_fraction < 1.0)) {
+      detail::throw_invalid_setting(p + ".boundary_fraction", "in (0, 1)", boundary_fraction);
+    }
+  }
+};
+
+/// The fraction of a step to take, given `room`, the largest multiple of the
+/// step that stays within the bounds: 1 when the whole step fits, else
+/// boundary_fraction · room.
+inline double fraction_to_boundary(const bound_settings& settings, double room) {
+  return room >= 1.0 ? 1.0 : settings.boundary_fraction * room;
+}
+
+}  // namespace nkit
+
+#endif  // NKIT_GLOBALIZATION_BOUNDS_HPP

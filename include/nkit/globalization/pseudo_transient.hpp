@@ -1,0 +1,149 @@
+#ifndef NKIT_GLOBALIZATION_PSEUDO_TRANSIENT_HPP
+#define NKIT_GLOBALIZATION_PSEUDO_TRANSIENT_HPP
+
+/// \file globalization/pseudo_transient.hpp
+/// Pseudo-transient continuation (Ψtc) step control.
+///
+/// Each pseudo-time step takes one Newton step on
+///   (W/δ)(u − u_prev) + R(u) = 0,  i.e.  u_next = u − (W/δ + R'(u))⁻¹ R(u),
+/// the iteration analysed by C.T. Kelley & D.E. Keyes, "Convergence analysis
+/// of pseudo-transient continuation", SIAM J. Numer. Anal. 35(2) (1998)
+/// 508–523 (update form from memory; references §9). W is a positive diagonal:
+///   - all ones (default): one global pseudo-time step δ;
+///   - cell volumes V_i: δ is a global Δτ in time units;
+///   - spectral-radius estimates λ_i (Σ over faces of |wave speed|·area, in
+///     residual units per state unit): then δ is a CFL number and each cell
+///     has its own local Δτ_i = CFL·V_i/λ_i — the usual CFD practice.
+/// The problem supplies W through an optional member
+///   void pseudo_time_weights(const vector_type& u, vector_type& weights)
+/// evaluated at every pseudo-time step (so λ_i may depend on u).
+///
+/// δ grows by switched evolution relaxation, W.A. Mulder & B. van Leer,
+/// "Experiments with implicit upwind methods for the Euler equations",
+/// J. Comput. Phys. 59 (1985) 232–246 (formula from memory):
+///   δ_{k+1} = δ_k ‖R(u_k)‖ / ‖R(u_{k+1})‖,
+/// capped at growth_limit·δ_k and at maximum_step. Kelley & Keyes require
+/// δ → ∞ for fast local convergence; the driver ends the pseudo-transient
+/// phase (plain Newton with line search follows) once ‖R‖ <= switch_ratio ·
+/// ‖R(u0)‖ or δ reaches maximum_step. The term enters both the J·v product
+/// and the assembled Jacobian handed to preconditioners (as a diagonal shift).
+
+#include <algorithm>
+#include <cmath>
+#include <string>
+#include <string_view>
+
+#include "../detail/checks.hpp"
+
+namespace nkit {
+
+/// Pseudo-transient continuation (used with globalization_strategy::pseudo_transient).
+/// Each step solves (W/δ)(u − u_prev) + R(u) = 0 by one Newton step, W a
+/// diagonal of weights (1, cell volumes, or spectral-radius estimates from the
+/// problem's pseudo_time_weights()), and grows δ by switched evolution
+/// relaxation; see pseudo_transient.hpp for sources.
+struct pseudo_transient_settings {
+  /// δ_0: the pseudo-time step (weights = volumes) or CFL number (weights = spectral radii).
+  double initial_step = 1.0;
+  /// Upper limit on δ; reaching it also ends the pseudo-transient phase.
+  double maximum_step = 1e12;
+  /// Stop with outcome::pseudo_time_step_collapsed when a failing δ falls below this.
+  double minimum_step = 1e-12;
+  /// Cap on the growth of δ per step: δ_{n+1} <= growth_limit · δ_n.
+  double growth_limit = 10.0;
+  /// Factor applied to δ when a step is rejected (non-finite or inadmissible residual).
+  double failure_shrink = 0.25;
+  /// Reject a pseudo-time step (and shrink δ by failure_shrink) when it raises
+  /// ‖R‖ by more than this factor; a δ too large for the transient shows up
+  /// this way (common practice).
+  double maximum_residual_growth = 10.0;
+  /// Switch to plain Newton with line search once ‖R‖ <= switch_ratio · ‖R(u0)‖ (0 = never).
+  double switch_ratio = 1e-3;
+
+  void validate(std::string_view prefix = "pseudo_transient_settings") const {
+    const std::string p(prefix);
+    detail::require_positive(p + ".initial_step", initial_step);
+    detail::require_positive(p + ".maximum_step", maximum_step, true);
+    detail::require_positive(p + ".minimum_step", minimum_step);
+    if (!(minimum_step <= initial_step && initial_step <= maximum_step)) {
+      detail::throw_invalid_setting(p + ".initial_step",
+                                    "in [minimum_step, maximum_step] = [" + detail::number_text(minimum_step) + ", " +
+                                        detail::number_text(maximum_step) + "]",
+                                    initial_step);
+    }
+    if (!(growth_limit > 1.0)) detail::throw_invalid_setting(p + ".growth_limit", "> 1", growth_limit);
+    detail::require_open_interval(p + ".failure_shrink", failure_shrink, 0.0, 1.0);
+    if (!(maximum_residual_growth >= 1.0)) {
+      detail::throw_invalid_setting(p + ".maximum_residual_growth", ">= 1", maximum_residual_growth);
+    }
+    detail::require_closed_interval(p + ".switch_ratio", switch_ratio, 0.0, 1.0);
+  }
+};
+
+/// Switched evolution relaxation with the growth caps of the settings.
+inline double next_pseudo_time_step(const pseudo_transient_settings& settings, double step, double previous_norm,
+                                    double new_norm) {
+  double next = new_norm > 0.0 ? step * previous_norm / new_norm : settings.maximum_step;
+  if (!std::isfinite(next)) next = settings.maximum_step;
+  next = std::min(next, settings.growth_limit * step);
+  return std::min(next, settings.maximum_step);
+}
+
+/// What one attempt at a pseudo-time step gave.
+struct pseudo_time_attempt {
+  bool abandoned = false;      ///< the Newton direction could not be computed: the step ends without a trial
+  double residual_norm = 0.0;  ///< ‖R‖ at the trial state (+inf or NaN when unusable)
+};
+
+struct pseudo_time_step_result {
+  bool accepted = false;
+  bool abandoned = false;      ///< an attempt was abandoned (its cause is the caller's)
+  int rejected_attempts = 0;   ///< attempts refused before the accepted one
+  double used_step = 0.0;      ///< δ of the accepted attempt
+  double residual_norm = 0.0;  ///< ‖R‖ at the accepted state
+};
+
+/// One pseudo-time step with retries, as a kernel: `attempt(δ, k)` (k = 0, 1,
+/// ...) computes the step for pseudo-time step δ and returns ‖R‖ at its trial
+/// state; an attempt is accepted when that norm is finite and at most
+/// maximum_residual_growth·‖R(u)‖, otherwise δ shrinks by failure_shrink and
+/// the step is retried, until δ falls below minimum_step (then not accepted).
+/// `step` is updated in place: to the next δ by switched evolution
+/// relaxation after acceptance, to the shrunken δ after failure.
+template <class Attempt>
+pseudo_time_step_result pseudo_time_step_search(const pseudo_transient_settings& settings, double& step,
+                                                double residual_norm, Attempt&& attempt) {
+  pseudo_time_step_result result;
+  for (int k = 0;; ++k) {
+    const pseudo_time_attempt tried = attempt(step, k);
+    if (tried.abandoned) {
+      result.abandoned = true;
+      result.rejected_attempts = k;
+      return result;
+    }
+    if (std::isfinite(tried.residual_norm) && tried.residual_norm <= settings.maximum_residual_growth * residual_norm) {
+      result.accepted = true;
+      result.rejected_attempts = k;
+      result.used_step = step;
+      result.residual_norm = tried.residual_norm;
+      step = next_pseudo_time_step(settings, step, residual_norm, tried.residual_norm);
+      return result;
+    }
+    step *= settings.failure_shrink;
+    if (step < settings.minimum_step) {
+      result.rejected_attempts = k + 1;
+      return result;
+    }
+  }
+}
+
+/// Whether the pseudo-transient phase is over after an accepted step: the
+/// residual fell below switch_ratio·‖R(u0)‖ or δ reached maximum_step.
+inline bool pseudo_transient_phase_ends(const pseudo_transient_settings& settings, double residual_norm,
+                                        double initial_residual_norm, double next_step) {
+  return residual_norm <= settings.switch_ratio * initial_residual_norm || next_step >= settings.maximum_step;
+}
+
+}  // namespace nkit
+
+#endif  // NKIT_GLOBALIZATION_PSEUDO_TRANSIENT_HPP

@@ -1,0 +1,164 @@
+#ifndef NKIT_NEWTON_LINEAR_SOLVE_HPP
+#define NKIT_NEWTON_LINEAR_SOLVE_HPP
+
+/// \file newton/linear_solve.hpp
+/// The linear solve of one Newton step, R'(u) x = R(u): the preconditioner's
+/// life cycle (rebuilt when the preconditioner_schedule says so, set up from
+/// the state and, on demand, the assembled Jacobian; every application timed)
+/// and right-preconditioned GMRES on the problem's J·v operator. The Newton
+/// driver owns one and asks it for a direction once per step.
+///
+/// Booked phases (report/phase_ledger.hpp): preconditioner_setup (minus the
+/// Jacobian assembly inside it), preconditioner_apply, orthogonalization and
+/// krylov_update (the rest of each GMRES call). Nothing allocates after the
+/// first solve of a given size.
+
+#include <cstddef>
+#include <cstdint>
+#include <stdexcept>
+#include <string>
+#include <type_traits>
+#include <utility>
+
+#include "../core/preconditioner.hpp"
+#include "../jacobian/sparse_jacobian.hpp"
+#include "../krylov/gmres.hpp"
+#include "../report/phase_ledger.hpp"
+#include "../report/report.hpp"
+#include "newton_settings.hpp"
+#include "preconditioner_schedule.hpp"
+#include "problem_access.hpp"
+
+namespace nkit::detail {
+
+template <class Space, class Preconditioner>
+class preconditioned_linear_solve {
+ public:
+  using vector_type = typename Space::vector_type;
+
+  preconditioned_linear_solve(const newton_settings& settings, const Space& space, Preconditioner preconditioner)
+      : m_space(space),
+        m_preconditioner(std::move(preconditioner)),
+        m_gmres(settings.linear, space),
+        m_schedule(settings.preconditioner_reuse) {}
+
+  void configure(const newton_settings& settings) {
+    m_gmres.configure(settings.linear);
+    m_schedule.configure(settings.preconditioner_reuse);
+  }
+  Preconditioner& preconditioner() { return m_preconditioner; }
+  const Preconditioner& preconditioner() const { return m_preconditioner; }
+  gmres_solver<Space>& gmres() { return m_gmres; }
+  preconditioner_schedule& schedule() { return m_schedule; }
+
+  void record_trace(trace_recorder* recorder) { m_gmres.record_trace(recorder); }
+
+  /// Sizes the GMRES workspace and starts the rebuild schedule for a new solve.
+  void start_solve(const vector_type& prototype) {
+    m_gmres.allocate_like(prototype, changes_between_applications(m_preconditioner));
+    m_schedule.start_solve(prototype.size());
+  }
+
+  /// Rebuilds the preconditioner for Newton step k when the schedule says so
+  /// (R'(u) at the access's linearisation point, plus `shift` when given).
+  /// Returns whether it rebuilt; `failed` tells whether that setup failed.
+  template <class Problem>
+  bool rebuild_if_due(problem_access<Space>& access, Problem& problem, phase_ledger& ledger, const vector_type& state,
+                      const vector_type& residual, int k, const vector_type* shift, bool& failed) {
+    failed = false;
+    if constexpr (has_setup_v<Preconditioner, Space>) {
+      if (!m_schedule.rebuild_due(k)) return false;
+      phase_scope scope(ledger, trace_phase::preconditioner_setup, k + 1);
+      setup_status status;
+      if constexpr (can_assemble_jacobian_v<Problem, vector_type>) {
+        typename problem_access<Space>::template assembled_jacobian_source<Problem> source(access, problem);
+        preconditioner_context<Space> context{m_space, state, residual, k, shift, &source};
+        status = setup_preconditioner(m_preconditioner, context);
+      } else {
+        preconditioner_context<Space> context{m_space, state, residual, k, shift, nullptr};
+        status = setup_preconditioner(m_preconditioner, context);
+      }
+      scope.close();
+      solve_report& report = ledger.report();
+      ++report.preconditioner_setups;
+      if (status == setup_status::ready_with_fallback) ++report.preconditioner_fallbacks;
+      m_schedule.record_setup(k, state.size(), status != setup_status::failed);
+      failed = status == setup_status::failed;
+      return true;
+    } else {
+      static_cast<void>(access), static_cast<void>(problem), static_cast<void>(ledger), static_cast<void>(state);
+      static_cast<void>(residual), static_cast<void>(k), static_cast<void>(shift);
+      return false;
+    }
+  }
+
+  /// Solves R'(u) x = rhs to relative tolerance eta from x = 0 (x: the
+  /// Newton direction; `observer(iteration, relative)` may stop GMRES), and
+  /// records the outcome with the schedule. `cauchy`, when not null,
+  /// receives the Krylov-subspace Cauchy point (trust region).
+  template <class Problem, class Observer>
+  linear_solve_result solve(problem_access<Space>& access, Problem& problem, phase_ledger& ledger,
+                            const vector_type& rhs, vector_type& x, double eta, Observer&& observer,
+                            vector_type* cauchy) {
+    auto op = access.jacobian(problem);
+    m_gmres.capture_cauchy_point(cauchy);
+    linear_solve_result result;
+    solve_report& report = ledger.report();
+    const std::int64_t used_before = report.linear_iterations;
+    // The GMRES call's own time (basis updates, rotations, restarts) is the
+    // krylov_update phase; Gram–Schmidt time is booked to orthogonalization.
+    phase_scope scope(ledger, trace_phase::linear_solve, report.newton_steps + 1);
+    try {
+      if constexpr (std::is_same_v<Preconditioner, identity_preconditioner>) {
+        result = m_gmres.solve(op, m_preconditioner, rhs, x, eta, initial_guess::zero, observer);
+      } else {
+        timed_preconditioner preconditioner{this, &ledger};
+        result = m_gmres.solve(op, preconditioner, rhs, x, eta, initial_guess::zero, observer);
+      }
+    } catch (const stop_signal&) {
+      // A budget, limit or cancellation inside a J·v or preconditioner
+      // apply: GMRES's result is lost, its Gram–Schmidt time is not.
+      ledger.add(trace_phase::orthogonalization, m_gmres.orthogonalization_seconds_of_last_solve());
+      throw;
+    }
+    ledger.add(trace_phase::orthogonalization, result.orthogonalization_seconds);
+    scope.close();
+    report.linear_iterations = used_before + result.iterations;
+    report.calls.orthogonalization += result.iterations;
+    m_schedule.record_linear_solve(result.iterations, result.converged());
+    return result;
+  }
+
+  std::size_t workspace_bytes() const {
+    return m_gmres.workspace_bytes() + preconditioner_memory_bytes(m_preconditioner);
+  }
+
+ private:
+  /// Times each application of the user's preconditioner and checks its output size.
+  struct timed_preconditioner {
+    preconditioned_linear_solve* owner;
+    phase_ledger* ledger;
+    void apply(const vector_type& r, vector_type& z) {
+      const auto start = clock_type::now();
+      const auto expected = r.size();
+      owner->m_preconditioner.apply(r, z);
+      if (z.size() != expected) {
+        throw std::invalid_argument("nkit: the preconditioner's apply() wrote a vector of size " +
+                                    std::to_string(z.size()) + ", expected " + std::to_string(expected) +
+                                    "; it must write into z without resizing it");
+      }
+      ledger->record(trace_phase::preconditioner_apply, start, clock_type::now());
+      ++ledger->report().preconditioner_applications;
+    }
+    bool changes_between_applications() const { return nkit::changes_between_applications(owner->m_preconditioner); }
+  };
+
+  Space m_space;
+  Preconditioner m_preconditioner;
+  gmres_solver<Space> m_gmres;
+  preconditioner_schedule m_schedule;
+};
+
+}  // namespace nkit::detail
+
+#endif  // NKIT_NEWTON_LINEAR_SOLVE_HPP

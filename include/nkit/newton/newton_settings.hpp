@@ -1,0 +1,118 @@
+#ifndef NKIT_NEWTON_NEWTON_SETTINGS_HPP
+#define NKIT_NEWTON_NEWTON_SETTINGS_HPP
+
+/// \file newton/newton_settings.hpp
+/// Everything that configures a Newton–Krylov solve, as one aggregate with
+/// defaults, checked by validate() before any iteration.
+///
+/// Norms: every residual norm and tolerance here is the Euclidean norm of the
+/// residual vector as the solver sees it: of D_r⁻¹ R(u) when residual scaling
+/// is set (newton_krylov_solver::set_scaling), of R(u) otherwise. Step norms
+/// are Euclidean norms of the scaled step D_u⁻¹ (u_k − u_{k−1}) likewise
+/// (unscaled when no variable scaling is set).
+
+#include <atomic>
+#include <cstdint>
+#include <limits>
+#include <string>
+#include <string_view>
+
+#include "../detail/checks.hpp"
+#include "../globalization/bounds.hpp"
+#include "../globalization/forcing_term.hpp"
+#include "../globalization/line_search.hpp"
+#include "../globalization/pseudo_transient.hpp"
+#include "../globalization/trust_region.hpp"
+#include "../jacobian/finite_difference_jacobian.hpp"
+#include "../krylov/gmres.hpp"
+#include "preconditioner_schedule.hpp"
+
+namespace nkit {
+
+/// How a Newton direction becomes a step.
+enum class globalization_strategy {
+  line_search,      ///< backtracking with sufficient decrease (line_search.hpp); the robust default
+  full_step,        ///< take λ = 1 unless the residual there is not finite (or the state inadmissible)
+  trust_region,     ///< dogleg between the Krylov-subspace Cauchy point and the Newton step (trust_region.hpp)
+  pseudo_transient  ///< pseudo-transient continuation (pseudo_transient.hpp), then Newton with line search
+};
+
+constexpr std::string_view name(globalization_strategy value) {
+  switch (value) {
+    case globalization_strategy::line_search:
+      return "line_search";
+    case globalization_strategy::full_step:
+      return "full_step";
+    case globalization_strategy::trust_region:
+      return "trust_region";
+    case globalization_strategy::pseudo_transient:
+      return "pseudo_transient";
+  }
+  return "unknown";
+}
+
+struct newton_settings {
+  /// Converged when ‖R(u)‖ <= relative_tolerance · ‖R(u0)‖.
+  double relative_tolerance = 1e-8;
+  /// Converged when ‖R(u)‖ <= absolute_tolerance (0 = off).
+  double absolute_tolerance = 0.0;
+  /// Stop (not converged) when ‖u_k − u_{k−1}‖ <= step_tolerance · (1 + ‖u_k‖) (0 = off).
+  double step_tolerance = 0.0;
+  /// Newton steps allowed.
+  int max_newton_steps = 50;
+  /// Calls of the user's residual allowed, J·v ones included (always holds: checked before each call).
+  std::int64_t residual_evaluation_budget = std::numeric_limits<std::int64_t>::max();
+  /// GMRES iterations allowed over the whole solve.
+  std::int64_t linear_iteration_budget = std::numeric_limits<std::int64_t>::max();
+  /// Wall-clock limit, checked before each residual evaluation.
+  double wall_time_limit_seconds = std::numeric_limits<double>::infinity();
+  /// Stop (outcome::stagnated) when, within this many Newton steps, the
+  /// residual norm never fell below stagnation_factor times its value at the
+  /// last such progress (not checked during pseudo-transient steps).
+  int stagnation_window = 10;
+  double stagnation_factor = 0.99;
+  /// When not null, raising the flag stops the solve before the next residual evaluation.
+  const std::atomic<bool>* cancellation_flag = nullptr;
+
+  globalization_strategy globalization = globalization_strategy::line_search;
+  forcing_term_settings forcing;
+  line_search_settings line_search;
+  trust_region_settings trust_region;
+  pseudo_transient_settings pseudo_transient;
+  bound_settings bounds;
+  gmres_settings linear;
+  jacobian_settings jacobian;
+  preconditioner_reuse_settings preconditioner_reuse;
+
+  /// Throws std::invalid_argument naming the first bad field and its value.
+  void validate() const {
+    detail::require_non_negative("newton_settings.relative_tolerance", relative_tolerance);
+    detail::require_non_negative("newton_settings.absolute_tolerance", absolute_tolerance);
+    if (relative_tolerance == 0.0 && absolute_tolerance == 0.0) {
+      detail::throw_invalid_setting("newton_settings.relative_tolerance",
+                                    "> 0 when absolute_tolerance is 0 (otherwise nothing can converge)",
+                                    relative_tolerance);
+    }
+    detail::require_non_negative("newton_settings.step_tolerance", step_tolerance);
+    detail::require_at_least("newton_settings.max_newton_steps", max_newton_steps, 1);
+    detail::require_at_least<std::int64_t>("newton_settings.residual_evaluation_budget", residual_evaluation_budget, 1);
+    detail::require_at_least<std::int64_t>("newton_settings.linear_iteration_budget", linear_iteration_budget, 1);
+    detail::require_positive("newton_settings.wall_time_limit_seconds", wall_time_limit_seconds, true);
+    detail::require_at_least("newton_settings.stagnation_window", stagnation_window, 1);
+    detail::require_open_interval("newton_settings.stagnation_factor", stagnation_factor, 0.0, 1.0);
+    detail::require_enumerator("newton_settings.globalization", globalization, globalization_strategy::pseudo_transient,
+                               "line_search, full_step, trust_region, pseudo_transient");
+    forcing.validate("newton_settings.forcing");
+    line_search.validate("newton_settings.line_search");
+    trust_region.validate("newton_settings.trust_region");
+    pseudo_transient.validate("newton_settings.pseudo_transient");
+    bounds.validate("newton_settings.bounds");
+    linear.validate("newton_settings.linear");
+    jacobian.validate("newton_settings.jacobian");
+    preconditioner_reuse.validate("newton_settings.preconditioner_reuse");
+  }
+};
+
+}  // namespace nkit
+
+#endif  // NKIT_NEWTON_NEWTON_SETTINGS_HPP

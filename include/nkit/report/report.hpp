@@ -1,0 +1,144 @@
+#ifndef NKIT_REPORT_REPORT_HPP
+#define NKIT_REPORT_REPORT_HPP
+
+/// \file report/report.hpp
+/// What a Newton solve returns: outcome, counts, norms, time per phase and a
+/// per-Newton-step history. Returned by value from solve().
+
+#include <cstddef>
+#include <cstdint>
+#include <string_view>
+#include <vector>
+
+#include "../core/linear_operator.hpp"
+#include "outcome.hpp"
+
+namespace nkit {
+
+/// Wall time per phase, seconds. Every field except `other` is measured:
+///   residual             evaluations of R at iterates and trial points
+///   jacobian_vector      J·v products (the residual evaluations inside
+///                        finite-difference products count here)
+///   jacobian_assembly    assembling R'(u) for a preconditioner
+///   preconditioner_setup building the preconditioner (assembly excluded)
+///   preconditioner_apply z = M⁻¹ r
+///   orthogonalization    Arnoldi Gram–Schmidt passes
+///   krylov_update        the rest of each GMRES call: normalising basis
+///                        vectors, Givens rotations, x += M⁻¹ V y, restart
+///                        residuals (the call's wall time minus the phases
+///                        nested in it)
+///   globalization        line search / trust region / pseudo-time work
+///                        other than residual evaluations and J·v products
+///   newton_update        the rest of each Newton step: forcing term, state
+///                        and residual swaps and copies, keeping the best
+///                        iterate, writing u, step norms, stopping tests,
+///                        trace recording (the step's wall time minus the
+///                        phases nested in it)
+///   monitor              the monitor's callbacks (user code)
+///   other                the remainder of the wall time: setting up and
+///                        finishing the solve (workspace allocation on a
+///                        first solve, copying u in and out) and, in a
+///                        caller-driven loop, the caller's time between
+///                        advance() calls.
+/// The phases add up to the solve's wall time by construction (other is the
+/// remainder); on a solve where R dominates, other is a small fraction.
+struct phase_seconds {
+  double residual = 0.0;
+  double jacobian_vector = 0.0;
+  double jacobian_assembly = 0.0;
+  double preconditioner_setup = 0.0;
+  double preconditioner_apply = 0.0;
+  double orthogonalization = 0.0;
+  double krylov_update = 0.0;
+  double globalization = 0.0;
+  double newton_update = 0.0;
+  double monitor = 0.0;
+  double other = 0.0;
+  /// Sum of the measured phases (all but `other`).
+  double measured() const {
+    return residual + jacobian_vector + jacobian_assembly + preconditioner_setup + preconditioner_apply +
+           orthogonalization + krylov_update + globalization + newton_update + monitor;
+  }
+  double total() const { return measured() + other; }
+};
+
+/// Calls per phase: orthogonalization counts Arnoldi steps, krylov_update
+/// GMRES calls, newton_update Newton steps (attempted), monitor callbacks.
+struct phase_calls {
+  std::int64_t residual = 0;
+  std::int64_t jacobian_vector = 0;
+  std::int64_t jacobian_assembly = 0;
+  std::int64_t preconditioner_setup = 0;
+  std::int64_t preconditioner_apply = 0;
+  std::int64_t orthogonalization = 0;
+  std::int64_t krylov_update = 0;
+  std::int64_t globalization = 0;
+  std::int64_t newton_update = 0;
+  std::int64_t monitor = 0;
+};
+
+/// One completed Newton step. Norms are Euclidean norms of the residual as
+/// the solver sees it (scaled when residual scaling is set).
+struct newton_step_record {
+  int step = 0;                           ///< 1-based index of the completed step
+  double residual_norm = 0.0;             ///< ‖R(u_k)‖ after the step
+  double relative_residual_norm = 0.0;    ///< ‖R(u_k)‖ / ‖R(u0)‖
+  double forcing_term = 0.0;              ///< η requested from GMRES
+  int linear_iterations = 0;              ///< Arnoldi steps in this step's linear solve
+  double relative_linear_residual = 0.0;  ///< achieved ‖R + J s‖ / ‖R‖ (unpreconditioned)
+  linear_solve_status linear_status = linear_solve_status::converged;
+  double step_length = 0.0;  ///< accepted λ (line search) or 1
+  double step_norm = 0.0;    ///< ‖u_k − u_{k−1}‖
+  int backtracks = 0;        ///< rejected trial points in this step
+  bool preconditioner_rebuilt = false;
+  bool bound_active = false;              ///< a bound or admissibility limit shortened the step
+  double pseudo_time_step = 0.0;          ///< δ of the pseudo-transient term (0 when off)
+  double trust_radius = 0.0;              ///< trust-region radius after the step (0 when off)
+  double elapsed_seconds = 0.0;           ///< since the solve began
+  std::int64_t residual_evaluations = 0;  ///< cumulative
+};
+
+struct solve_report {
+  outcome result = outcome::in_progress;
+  bool converged() const { return is_converged(result); }
+  std::string_view message() const { return describe(result); }
+
+  int newton_steps = 0;
+  std::int64_t linear_iterations = 0;
+  std::int64_t residual_evaluations = 0;  ///< every call of the user's residual, J·v ones included
+  std::int64_t jacobian_vector_products = 0;
+  std::int64_t preconditioner_setups = 0;
+  std::int64_t preconditioner_applications = 0;
+  std::int64_t preconditioner_fallbacks = 0;  ///< setups that returned ready_with_fallback
+  std::int64_t jacobian_assemblies = 0;
+  std::int64_t backtracks = 0;           ///< rejected trial points, all steps
+  std::int64_t non_finite_trials = 0;    ///< trial points whose residual had NaN/Inf
+  std::int64_t inadmissible_trials = 0;  ///< trial points rejected by is_admissible (residual not evaluated)
+  std::int64_t bound_limited_steps = 0;  ///< steps shortened by bounds or admissibility
+
+  /// ‖R(u0)‖; NaN when the solve stopped (time limit, cancellation) before R(u0) was evaluated.
+  double initial_residual_norm = 0.0;
+  double final_residual_norm = 0.0;  ///< ‖R(u)‖ at the returned u (NaN as above)
+  double wall_seconds = 0.0;
+  phase_seconds time;
+  phase_calls calls;
+  /// Median wall time of one residual evaluation in this solve: over its
+  /// last 64 evaluations (a fixed ring, no allocation; detail/timer.hpp).
+  double median_residual_seconds = 0.0;
+  /// Workspace held by the solver at the end of the solve, bytes: Newton
+  /// and GMRES vectors, Hessenberg matrix and rotations, difference
+  /// workspace, bounds and scales, the assembled Jacobian, the
+  /// preconditioner's own count (its memory_bytes(), 0 if it has none) and
+  /// the history capacity. Not counted: the user's problem and state.
+  std::size_t workspace_bytes = 0;
+
+  /// Total time in units of one residual evaluation (the field's
+  /// machine-independent cost measure); 0 if no evaluation was timed.
+  double work_units() const { return median_residual_seconds > 0.0 ? wall_seconds / median_residual_seconds : 0.0; }
+
+  std::vector<newton_step_record> history;
+};
+
+}  // namespace nkit
+
+#endif  // NKIT_REPORT_REPORT_HPP

@@ -1,0 +1,175 @@
+#ifndef NKIT_REPORT_REPORT_OUTPUT_HPP
+#define NKIT_REPORT_REPORT_OUTPUT_HPP
+
+/// \file report/report_output.hpp
+/// Human-readable convergence tables and CSV history, after the fact or live
+/// (as monitors). Output goes only to the std::ostream you pass; nkit never
+/// prints by itself.
+
+#include <cstddef>
+#include <cstdio>
+#include <ostream>
+#include <string>
+
+#include "monitor.hpp"
+#include "report.hpp"
+
+namespace nkit {
+
+namespace detail {
+
+inline std::string formatted(const char* format, double value) {
+  char buffer[64];
+  std::snprintf(buffer, sizeof buffer, format, value);
+  return buffer;
+}
+
+inline void table_header(std::ostream& os) {
+  os << " step |  residual norm |  reduction |  forcing | linear its | linear resid | step length | backtracks "
+        "| evaluations |   seconds\n"
+     << "------+----------------+------------+----------+------------+--------------+-------------+------------"
+        "+-------------+----------\n";
+}
+
+inline void table_row(std::ostream& os, const newton_step_record& r) {
+  char line[256];
+  std::snprintf(line, sizeof line, "%5d | %14.6e | %10.3e | %8.2e | %10d | %12.3e | %11.4g | %10d | %11lld | %9.3f\n",
+                r.step, r.residual_norm, r.relative_residual_norm, r.forcing_term, r.linear_iterations,
+                r.relative_linear_residual, r.step_length, r.backtracks, static_cast<long long>(r.residual_evaluations),
+                r.elapsed_seconds);
+  os << line;
+}
+
+inline void breakdown_line(std::ostream& os, const char* label, double seconds, long long calls, double total,
+                           double residual_seconds) {
+  char line[200];
+  const int written = std::snprintf(line, sizeof line, "  %-21s %11.4f %6.1f %%", label, seconds,
+                                    total > 0.0 ? 100.0 * seconds / total : 0.0);
+  if (calls >= 0) {
+    std::snprintf(line + written, sizeof line - static_cast<std::size_t>(written), " %12lld %13.3e", calls,
+                  calls > 0 ? seconds / static_cast<double>(calls) : 0.0);
+  } else {
+    std::snprintf(line + written, sizeof line - static_cast<std::size_t>(written), " %12s %13s", "", "");
+  }
+  os << line;
+  if (residual_seconds > 0.0) {
+    std::snprintf(line, sizeof line, " %12.1f\n", seconds / residual_seconds);
+  } else {
+    std::snprintf(line, sizeof line, " %12s\n", "-");
+  }
+  os << line;
+}
+
+}  // namespace detail
+
+/// Prints where the solve's wall time went: seconds, share, calls, seconds
+/// per call and work units (seconds ÷ median seconds of one residual
+/// evaluation) for every phase of phase_seconds, which add up to the wall
+/// time; then the workspace held by the solver. Phase meanings: report.hpp.
+inline void print_cost_breakdown(std::ostream& os, const solve_report& report) {
+  char line[256];
+  std::snprintf(line, sizeof line,
+                "cost: wall %.4f s = %.1f work units (one residual evaluation %.3e s), workspace %.2f MiB\n",
+                report.wall_seconds, report.work_units(), report.median_residual_seconds,
+                static_cast<double>(report.workspace_bytes) / (1024.0 * 1024.0));
+  os << line;
+  std::snprintf(line, sizeof line, "  %-21s %11s %8s %12s %13s %12s\n", "phase", "seconds", "share", "calls",
+                "s per call", "work units");
+  os << line;
+  const double total = report.wall_seconds;
+  const double unit = report.median_residual_seconds;
+  const phase_seconds& t = report.time;
+  const phase_calls& c = report.calls;
+  detail::breakdown_line(os, "residual", t.residual, c.residual, total, unit);
+  detail::breakdown_line(os, "Jacobian-vector", t.jacobian_vector, c.jacobian_vector, total, unit);
+  detail::breakdown_line(os, "Jacobian assembly", t.jacobian_assembly, c.jacobian_assembly, total, unit);
+  detail::breakdown_line(os, "preconditioner setup", t.preconditioner_setup, c.preconditioner_setup, total, unit);
+  detail::breakdown_line(os, "preconditioner apply", t.preconditioner_apply, c.preconditioner_apply, total, unit);
+  detail::breakdown_line(os, "orthogonalization", t.orthogonalization, c.orthogonalization, total, unit);
+  detail::breakdown_line(os, "Krylov update", t.krylov_update, c.krylov_update, total, unit);
+  detail::breakdown_line(os, "globalization", t.globalization, c.globalization, total, unit);
+  detail::breakdown_line(os, "Newton update", t.newton_update, c.newton_update, total, unit);
+  detail::breakdown_line(os, "monitor", t.monitor, c.monitor, total, unit);
+  detail::breakdown_line(os, "other", t.other, -1, total, unit);
+  detail::breakdown_line(os, "total (wall)", total, -1, total, unit);
+}
+
+/// Prints the per-step table, the outcome, the counts and the cost breakdown.
+inline void print_convergence_table(std::ostream& os, const solve_report& report) {
+  detail::table_header(os);
+  char line[256];
+  std::snprintf(line, sizeof line, "%5d | %14.6e | %10.3e |\n", 0, report.initial_residual_norm, 1.0);
+  os << line;
+  for (const auto& record : report.history) detail::table_row(os, record);
+  os << "outcome: " << name(report.result) << ". " << report.message() << '\n';
+  std::snprintf(line, sizeof line,
+                "Newton steps %d, linear iterations %lld, residual evaluations %lld (J*v products %lld), "
+                "preconditioner setups %lld\n",
+                report.newton_steps, static_cast<long long>(report.linear_iterations),
+                static_cast<long long>(report.residual_evaluations),
+                static_cast<long long>(report.jacobian_vector_products),
+                static_cast<long long>(report.preconditioner_setups));
+  os << line;
+  print_cost_breakdown(os, report);
+}
+
+/// Column names of the history CSV, in order.
+inline constexpr const char* history_csv_columns =
+    "step,residual_norm,relative_residual_norm,forcing_term,linear_iterations,relative_linear_residual,linear_status,"
+    "step_length,"
+    "step_norm,backtracks,preconditioner_rebuilt,bound_active,pseudo_time_step,trust_radius,elapsed_seconds,"
+    "residual_evaluations";
+
+inline void write_history_csv_row(std::ostream& os, const newton_step_record& r) {
+  char line[512];
+  std::snprintf(line, sizeof line, "%d,%.17g,%.17g,%.17g,%d,%.17g,%s,%.17g,%.17g,%d,%d,%d,%.17g,%.17g,%.17g,%lld\n",
+                r.step, r.residual_norm, r.relative_residual_norm, r.forcing_term, r.linear_iterations,
+                r.relative_linear_residual, std::string(name(r.linear_status)).c_str(), r.step_length, r.step_norm,
+                r.backtracks, r.preconditioner_rebuilt ? 1 : 0, r.bound_active ? 1 : 0, r.pseudo_time_step,
+                r.trust_radius, r.elapsed_seconds, static_cast<long long>(r.residual_evaluations));
+  os << line;
+}
+
+/// Writes the header and one row per Newton step (step 0 is the initial guess
+/// with only its residual norm filled in).
+inline void write_history_csv(std::ostream& os, const solve_report& report) {
+  os << history_csv_columns << '\n';
+  newton_step_record initial;
+  initial.residual_norm = report.initial_residual_norm;
+  initial.relative_residual_norm = 1.0;
+  initial.residual_evaluations = 1;
+  write_history_csv_row(os, initial);
+  for (const auto& record : report.history) write_history_csv_row(os, record);
+}
+
+/// Live table: prints a header before the first step and a row per step.
+class convergence_table_monitor {
+ public:
+  explicit convergence_table_monitor(std::ostream& os) : m_os(&os) {}
+  monitor_decision after_newton_step(const newton_step_record& record) {
+    if (record.step == 1) detail::table_header(*m_os);
+    detail::table_row(*m_os, record);
+    return monitor_decision::keep_going;
+  }
+
+ private:
+  std::ostream* m_os;
+};
+
+/// Live CSV: header before the first step, one row per step.
+class history_csv_monitor {
+ public:
+  explicit history_csv_monitor(std::ostream& os) : m_os(&os) {}
+  monitor_decision after_newton_step(const newton_step_record& record) {
+    if (record.step == 1) *m_os << history_csv_columns << '\n';
+    write_history_csv_row(*m_os, record);
+    return monitor_decision::keep_going;
+  }
+
+ private:
+  std::ostream* m_os;
+};
+
+}  // namespace nkit
+
+#endif  // NKIT_REPORT_REPORT_OUTPUT_HPP
