@@ -214,6 +214,46 @@ TEST_CASE("bad input: a NaN residual at a trial point shrinks the step and the s
   CHECK_THAT(u(0), Catch::Matchers::WithinAbs(2.0, 1e-11));
 }
 
+TEST_CASE("bad input: a Newton step that would overflow the state is never evaluated", "[input]") {
+  // Regression (fuzzing found it: tests/fuzz/corpus/regression_nonfinite_trial_state).
+  // R(u) = 1e10 + 1e-299·u has its root at u = −1e309, beyond the largest
+  // double. With variable scale D = 1e300 the scaled Jacobian is 10, so GMRES
+  // finds a finite scaled step, but the physical trial state u0 − D·x̃ ≈ −1e309
+  // overflows to −inf. The residual must never see it: the trial counts as
+  // non-finite, the step shrinks, and u stays finite.
+  const auto strategy = GENERATE(from_range(all_globalizations));
+  long non_finite_calls = 0;
+  auto residual = [&](const Eigen::VectorXd& x, Eigen::VectorXd& r) {
+    if (!x.allFinite()) ++non_finite_calls;
+    r(0) = 1e10 + 1e-299 * x(0);
+  };
+  auto problem = nkit::with_jacobian_product(
+      residual, [](const Eigen::VectorXd&, const Eigen::VectorXd& v, Eigen::VectorXd& jv) { jv = 1e-299 * v; });
+  nkit::newton_krylov_solver<> solver(nkit_test::settings_for(strategy));
+  solver.set_scaling(Eigen::VectorXd::Constant(1, 1e300), Eigen::VectorXd());
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(1, 1.0);
+  nkit::solve_report report;
+  check_quiet([&] { report = solver.solve(problem, u); });
+  INFO(nkit::name(strategy) << ": " << nkit::name(report.result));
+  CHECK(non_finite_calls == 0);
+  CHECK(u.allFinite());
+  CHECK_FALSE(report.converged());
+}
+
+TEST_CASE("bad input: a residual whose squared norm overflows is not reported converged", "[input]") {
+  // R(u) = 1e200 (u − 1) on 3 unknowns from u = 0: ‖R(u0)‖ = 1e200·√3, whose
+  // square overflows. A naive norm gave inf, and inf <= relative_tolerance·inf
+  // reported convergence with no step. One exact Newton step reaches u = 1.
+  auto residual = [](const Eigen::VectorXd& x, Eigen::VectorXd& r) { r = 1e200 * (x.array() - 1.0).matrix(); };
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(3);
+  const auto report = nkit::solve(residual, u);
+  CHECK_THAT(report.initial_residual_norm, Catch::Matchers::WithinRel(1e200 * std::sqrt(3.0), 1e-15));
+  CHECK(report.converged());
+  CHECK(report.newton_steps >= 1);
+  // Forward differences with δ ≈ √ε: the step is exact to ~1e-8 relative (J is constant, so only rounding).
+  CHECK_THAT(u, nkit_test::is_close_to(Eigen::VectorXd::Ones(3), 1e-6, 0.0));
+}
+
 // ---- exceptions from user code -------------------------------------------------------
 
 TEST_CASE("bad input: a residual that throws at the initial guess", "[input]") {

@@ -1,9 +1,11 @@
 // Vector-space policies: the Eigen default (including zero-copy views of user
 // memory) and the block space that stands in for a distributed one.
 #include <catch2/catch.hpp>
-#include <nkit/block_vector_space.hpp>
-#include <nkit/eigen_vector_space.hpp>
-#include <nkit/vector_space.hpp>
+#include <cmath>
+#include <limits>
+#include <nkit/core/block_vector_space.hpp>
+#include <nkit/core/eigen_vector_space.hpp>
+#include <nkit/core/vector_space.hpp>
 #include <vector>
 
 #include "support/matchers.hpp"
@@ -53,6 +55,30 @@ TEMPLATE_TEST_CASE("vector-space operations match their definitions", "[space]",
   const double* storage = target.data();
   space.allocate_like(target, y);  // same size: no reallocation
   CHECK(target.data() == storage);
+}
+
+TEMPLATE_TEST_CASE("norms stay exact when the sum of squares overflows or underflows", "[space]",
+                   nkit::eigen_vector_space<double>, nkit::block_vector_space) {
+  // Definition: ‖x‖ = √Σ x_i². For x = (c, c, c, c), ‖x‖ = 2|c| exactly, for any
+  // c: 1e200 (squares overflow to inf), 1e-200 (squares underflow to 0) and
+  // 1 (in range). A naive √Σ x_i² gives inf and 0 for the first two, which
+  // reported a huge residual as converged (inf <= tolerance · inf).
+  const TestType space{};
+  const double c = GENERATE(1e200, -1e200, 1e-200, 1.0, 1.7e308);
+  const Eigen::VectorXd x = Eigen::VectorXd::Constant(4, c);
+  INFO("c = " << c);
+  if (std::abs(c) > 1e308) {
+    CHECK(space.norm(x) == std::numeric_limits<double>::infinity());  // 2|c| is beyond the largest double
+  } else {
+    CHECK_THAT(space.norm(x), Catch::Matchers::WithinRel(2.0 * std::abs(c), 4e-16));
+  }
+  CHECK(space.norm(Eigen::VectorXd::Zero(3)) == 0.0);
+  Eigen::VectorXd with_nan = x;
+  with_nan(1) = std::numeric_limits<double>::quiet_NaN();
+  CHECK(std::isnan(space.norm(with_nan)));
+  Eigen::VectorXd with_inf = x;
+  with_inf(2) = -std::numeric_limits<double>::infinity();
+  CHECK(space.norm(with_inf) == std::numeric_limits<double>::infinity());
 }
 
 TEST_CASE("the Eigen space binds a Map over user memory without copying", "[space]") {

@@ -2,34 +2,40 @@
 #define NKIT_NKIT_HPP
 
 /// \file nkit.hpp
-/// Umbrella header: the public headers of nkit's core. Optional parts with
-/// extra dependencies (MPI, hypre, SuiteSparse) are included separately.
+/// Umbrella header: the public headers of nkit's core, folder by folder in
+/// layer order (DEVELOPERS.md, "Layout"). Optional parts with extra
+/// dependencies are included separately: distributed/mpi_vector_space.hpp
+/// (MPI), preconditioners/hypre_algebraic_multigrid.hpp (hypre),
+/// preconditioners/suitesparse_direct.hpp (SuiteSparse), report/report_json.hpp
+/// (nlohmann-json).
 
-#include "continuation/bordered_system.hpp"
-#include "continuation/bordered_vector_space.hpp"
-#include "continuation/continuation.hpp"
-#include "continuation/continuation_settings.hpp"
-#include "continuation/continuation_tangent.hpp"
-#include "continuation/parametrised_residual.hpp"
+// core: concepts and vector spaces
 #include "core/block_vector_space.hpp"
 #include "core/eigen_vector_space.hpp"
 #include "core/linear_operator.hpp"
+#include "core/local_vector_operations.hpp"
 #include "core/preconditioner.hpp"
 #include "core/residual.hpp"
 #include "core/vector_space.hpp"
-#include "globalization/forcing_term.hpp"
-#include "globalization/line_search.hpp"
-#include "globalization/pseudo_transient.hpp"
-#include "globalization/trust_region.hpp"
+// report: outcome, report, monitors, output, trace, scaling study
+#include "report/monitor.hpp"
+#include "report/outcome.hpp"
+#include "report/phase_ledger.hpp"
+#include "report/report.hpp"
+#include "report/report_output.hpp"
+#include "report/scaling_study.hpp"
+#include "report/trace.hpp"
+#include "report/trace_output.hpp"
+// krylov
+#include "krylov/gmres.hpp"
+// jacobian: J·v, sparsity, coloring, sparse Jacobians
 #include "jacobian/analytic_jacobian.hpp"
 #include "jacobian/automatic_differentiation.hpp"
 #include "jacobian/column_coloring.hpp"
 #include "jacobian/finite_difference_jacobian.hpp"
 #include "jacobian/sparse_jacobian.hpp"
 #include "jacobian/sparsity_pattern.hpp"
-#include "krylov/gmres.hpp"
-#include "newton/newton_krylov_solver.hpp"
-#include "newton/newton_settings.hpp"
+// preconditioners (dependency-free ones)
 #include "preconditioners/additive_schwarz.hpp"
 #include "preconditioners/algebraic_multigrid_settings.hpp"
 #include "preconditioners/block_jacobi.hpp"
@@ -38,13 +44,25 @@
 #include "preconditioners/inner_gmres.hpp"
 #include "preconditioners/jacobi.hpp"
 #include "preconditioners/sparse_direct.hpp"
-#include "report/monitor.hpp"
-#include "report/outcome.hpp"
-#include "report/report.hpp"
-#include "report/report_output.hpp"
-#include "report/scaling_study.hpp"
-#include "report/trace.hpp"
-#include "report/trace_output.hpp"
+// globalization: per-step strategies
+#include "globalization/bounds.hpp"
+#include "globalization/forcing_term.hpp"
+#include "globalization/line_search.hpp"
+#include "globalization/pseudo_transient.hpp"
+#include "globalization/trust_region.hpp"
+// newton: the driver
+#include "newton/newton_krylov_solver.hpp"
+#include "newton/newton_settings.hpp"
+#include "newton/preconditioner_schedule.hpp"
+#include "newton/problem_access.hpp"
+// continuation
+#include "continuation/bordered_system.hpp"
+#include "continuation/bordered_vector_space.hpp"
+#include "continuation/continuation.hpp"
+#include "continuation/continuation_settings.hpp"
+#include "continuation/continuation_tangent.hpp"
+#include "continuation/parametrised_residual.hpp"
+
 #include "version.hpp"
 
 #endif  // NKIT_NKIT_HPP

@@ -34,10 +34,10 @@
 #include <stdexcept>
 #include <type_traits>
 
-#include "bordered_vector_space.hpp"
-#include "../detail/checks.hpp"
-#include "parametrised_residual.hpp"
 #include "../core/preconditioner.hpp"
+#include "../detail/checks.hpp"
+#include "bordered_vector_space.hpp"
+#include "parametrised_residual.hpp"
 
 namespace nkit {
 

@@ -43,16 +43,16 @@
 #include <type_traits>
 #include <utility>
 
+#include "../core/preconditioner.hpp"
+#include "../detail/illinois.hpp"
+#include "../detail/timer.hpp"
+#include "../newton/newton_krylov_solver.hpp"
+#include "../report/monitor.hpp"
 #include "bordered_system.hpp"
 #include "bordered_vector_space.hpp"
 #include "continuation_settings.hpp"
 #include "continuation_tangent.hpp"
-#include "../detail/illinois.hpp"
-#include "../detail/timer.hpp"
-#include "../report/monitor.hpp"
-#include "../newton/newton_krylov_solver.hpp"
 #include "parametrised_residual.hpp"
-#include "../core/preconditioner.hpp"
 
 namespace nkit {
 

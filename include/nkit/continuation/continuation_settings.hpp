@@ -22,9 +22,9 @@
 #include <vector>
 
 #include "../detail/checks.hpp"
+#include "../newton/newton_settings.hpp"
 #include "../report/monitor.hpp"
 #include "../report/outcome.hpp"
-#include "../newton/newton_settings.hpp"
 
 namespace nkit {
 

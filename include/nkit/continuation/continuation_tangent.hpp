@@ -7,9 +7,10 @@
 /// At a point x on the branch, GMRES solves the bordered tangent system
 ///   [ R_u   R_λ ] t = [ 0 ]
 ///   [ σc_uᵀ σc_λ]     [ σ ]
-/// with matrix-free products of the bordered residual's Jacobian (its
-/// jacobian_product() when present, else forward differences of the
-/// bordered residual, finite_difference_jacobian.hpp). (c_u, c_λ) is the
+/// with matrix-free products of the bordered residual's Jacobian taken by the
+/// same problem access as the Newton driver's (newton/problem_access.hpp):
+/// its jacobian_product() when present, else forward differences of the
+/// bordered residual. (c_u, c_λ) is the
 /// gradient of the residual's current constraint: the previous tangent
 /// (θ t_u, t_λ) in pseudo-arclength, so ⟨t_prev, t⟩ = 1 and the orientation
 /// is kept through folds; or (0, 1) (λ fixed), which gives R_u v = −R_λ,
@@ -20,20 +21,22 @@
 /// next corrector solve. The result is scaled to unit length in the metric
 /// ‖t‖² = θ‖t_u‖² + t_λ².
 ///
-/// Workspace: three bordered vectors, the GMRES basis and the difference
-/// workspace, allocated by allocate_like() and reused.
+/// Workspace: three bordered vectors, the GMRES basis and the problem
+/// access's difference workspace, allocated by allocate_like() and reused.
 
 #include <cmath>
 #include <cstdint>
 #include <utility>
 
-#include "bordered_system.hpp"
-#include "bordered_vector_space.hpp"
-#include "../jacobian/finite_difference_jacobian.hpp"
-#include "../krylov/gmres.hpp"
-#include "../newton/newton_krylov_solver.hpp"
 #include "../core/preconditioner.hpp"
 #include "../core/residual.hpp"
+#include "../krylov/gmres.hpp"
+#include "../newton/newton_settings.hpp"
+#include "../newton/problem_access.hpp"
+#include "../report/phase_ledger.hpp"
+#include "../report/report.hpp"
+#include "bordered_system.hpp"
+#include "bordered_vector_space.hpp"
 
 namespace nkit {
 
@@ -52,17 +55,16 @@ class tangent_solver {
   using scalar_type = typename Space::scalar_type;
 
   tangent_solver(const gmres_settings& linear, const jacobian_settings& jacobian, const bordered_space_type& space)
-      : m_space(space), m_gmres(linear, space), m_difference(jacobian, space) {}
+      : m_space(space), m_gmres(linear, space), m_access(access_settings(jacobian), space) {}
 
   void configure(const gmres_settings& linear, const jacobian_settings& jacobian) {
     m_gmres.configure(linear);
-    m_difference.configure(jacobian);
+    m_access.configure(access_settings(jacobian));
   }
   void allocate_like(typename Space::const_view prototype) {
     for (bordered_type* v : {&m_base_residual, &m_right_hand_side, &m_product}) {
       m_space.allocate_like_state(*v, prototype);
     }
-    m_difference.allocate_like(m_base_residual);
   }
 
   /// Solves for the tangent at `at`; `tangent` holds the initial guess (or
@@ -79,39 +81,22 @@ class tangent_solver {
     tangent_solve_result result;
     const std::int64_t extra_before = residual.extra_evaluations();
     constexpr bool exact = has_jacobian_product_v<Residual, bordered_type>;
+    m_ledger.begin(m_counts, 0);
+    m_access.template start<Residual>(m_ledger, m_base_residual);
     if (!exact || set_up_preconditioner) {
-      residual(at, m_base_residual);
-      ++result.residual_evaluations;
+      m_access.evaluate(residual, at, m_base_residual, evaluation_purpose::state);
     }
     if constexpr (has_setup_v<Preconditioner, bordered_space_type>) {
       if (set_up_preconditioner) {
         result.preconditioner_set_up = true;
         if (set_up(residual, at, preconditioner) == setup_status::failed) {
-          result.residual_evaluations += residual.extra_evaluations() - extra_before;
+          result.residual_evaluations = m_counts.residual_evaluations + residual.extra_evaluations() - extra_before;
           return result;
         }
       }
     }
-    std::int64_t difference_evaluations = 0;
-    struct bordered_operator {
-      tangent_solver* self;
-      Residual* residual;
-      const bordered_type* at;
-      std::int64_t* evaluations;
-      void apply(const bordered_type& v, bordered_type& out) {
-        if constexpr (exact) {
-          residual->jacobian_product(*at, v, out);
-        } else {
-          auto evaluate = [this](const bordered_type& x, bordered_type& r) {
-            (*residual)(x, r);
-            ++*evaluations;
-          };
-          self->m_difference.apply(evaluate, v, out);
-        }
-      }
-    } op{this, &residual, &at, &difference_evaluations};
-    if constexpr (!exact) m_difference.linearize_at(at, m_base_residual);
-
+    m_access.linearize_at(at, m_base_residual);
+    auto op = m_access.jacobian(residual);
     m_space.fill(0, m_right_hand_side);
     m_right_hand_side.parameter = 1;
     op.apply(m_right_hand_side, m_product);  // (R_λ, σ_old c_λ)
@@ -124,7 +109,7 @@ class tangent_solver {
     const linear_solve_result linear = m_gmres.solve(op, preconditioner, m_right_hand_side, tangent, relative_tolerance,
                                                      zero_guess ? initial_guess::zero : initial_guess::given);
     result.linear_iterations = linear.iterations;
-    result.residual_evaluations += difference_evaluations + residual.extra_evaluations() - extra_before;
+    result.residual_evaluations = m_counts.residual_evaluations + residual.extra_evaluations() - extra_before;
     const scalar_type state_norm = m_space.inner().norm(tangent.state);
     const scalar_type length =
         std::sqrt(state_weight * state_norm * state_norm + tangent.parameter * tangent.parameter);
@@ -135,7 +120,7 @@ class tangent_solver {
   }
 
   std::size_t workspace_bytes() const {
-    return m_gmres.workspace_bytes() + m_difference.workspace_bytes() +
+    return m_gmres.workspace_bytes() + m_access.workspace_bytes() +
            3 * sizeof(scalar_type) * static_cast<std::size_t>(m_product.size());
   }
 
@@ -147,9 +132,18 @@ class tangent_solver {
         preconditioner, preconditioner_context<bordered_space_type>{m_space, at, m_base_residual, 0, nullptr, nullptr});
   }
 
+  /// The problem access reads only the J·v settings here: no budgets or limits apply to tangents.
+  static newton_settings access_settings(const jacobian_settings& jacobian) {
+    newton_settings settings;
+    settings.jacobian = jacobian;
+    return settings;
+  }
+
   bordered_space_type m_space;
   gmres_solver<bordered_space_type> m_gmres;
-  finite_difference_jacobian<bordered_space_type> m_difference;
+  problem_access<bordered_space_type> m_access;
+  phase_ledger m_ledger;
+  solve_report m_counts;  ///< evaluation counts of the current tangent solve
   bordered_type m_base_residual, m_right_hand_side, m_product;
 };
 

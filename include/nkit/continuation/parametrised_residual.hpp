@@ -24,7 +24,7 @@
 #include <unsupported/Eigen/AutoDiff>
 #include <utility>
 
-#include "../jacobian/automatic_differentiation.hpp"
+#include "../jacobian/automatic_differentiation.hpp"  // dual numbers and the forward-mode sweep
 
 namespace nkit {
 
@@ -95,21 +95,12 @@ class parametrised_residual_with_automatic_differentiation {
   /// jv = R_u(u, λ) v + R_λ(u, λ) μ, exact to rounding.
   void jacobian_product(const Eigen::VectorXd& u, double parameter, const Eigen::VectorXd& v,
                         double parameter_direction, Eigen::VectorXd& jv) {
-    const Eigen::Index n = u.size();
-    if (m_dual_state.size() != n) {
-      m_dual_state.resize(n);
-      m_dual_residual.resize(n);
-    }
-    for (Eigen::Index i = 0; i < n; ++i) {
-      m_dual_state(i).value() = u(i);
-      m_dual_state(i).derivatives()(0) = v(i);
-    }
     dual_number dual_parameter;
     dual_parameter.value() = parameter;
     dual_parameter.derivatives()(0) = parameter_direction;
-    m_residual(static_cast<const dual_vector&>(m_dual_state), static_cast<const dual_number&>(dual_parameter),
-               m_dual_residual);
-    for (Eigen::Index i = 0; i < n; ++i) jv(i) = m_dual_residual(i).derivatives()(0);
+    detail::forward_mode_product(u, v, jv, m_dual_state, m_dual_residual, [&](const dual_vector& x, dual_vector& r) {
+      m_residual(x, static_cast<const dual_number&>(dual_parameter), r);
+    });
   }
 
   template <class Matrix, class Wrapped = Residual>

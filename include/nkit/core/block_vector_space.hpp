@@ -15,26 +15,27 @@
 #include <limits>
 
 #include "../detail/checks.hpp"
-#include "eigen_vector_space.hpp"
+#include "local_vector_operations.hpp"
 
 namespace nkit {
 
-class block_vector_space {
+/// Element-wise members come from local_vector_operations (they never
+/// communicate, so blocks play no part in them); only the reductions are
+/// formed block by block.
+class block_vector_space : public local_vector_operations<double> {
+  using base = local_vector_operations<double>;
+
  public:
-  using scalar_type = double;
-  using vector_type = Eigen::VectorXd;
-  using state_view = Eigen::Ref<vector_type>;
-  using const_view = Eigen::Ref<const vector_type>;
+  using base::const_view;
+  using base::scalar_type;
+  using base::state_view;
+  using base::vector_type;
 
   /// `block_count` >= 1 blocks of (nearly) equal length.
   explicit block_vector_space(int block_count = 2) : m_block_count(block_count) {
     detail::require_at_least("block_vector_space::block_count", block_count, 1);
   }
   int block_count() const { return m_block_count; }
-
-  void allocate_like(vector_type& target, const_view prototype) const {
-    if (target.size() != prototype.size()) target.resize(prototype.size());
-  }
 
   double dot(const_view x, const_view y) const {
     double sum = 0.0;
@@ -44,13 +45,27 @@ class block_vector_space {
     }
     return sum;
   }
+  /// Euclidean norm, overflow-safe like eigen_vector_space::norm (per-block
+  /// maxima and scaled sums when Σ x_i² is out of range).
   double norm(const_view x) const {
     double sum = 0.0;
     for (int b = 0; b < m_block_count; ++b) {
       const auto [start, length] = block(b, x.size());
       sum += x.segment(start, length).squaredNorm();
     }
-    return std::sqrt(sum);
+    if (!detail::sum_of_squares_out_of_range(sum)) return std::sqrt(sum);
+    double largest = 0.0;
+    for (int b = 0; b < m_block_count; ++b) {
+      const auto [start, length] = block(b, x.size());
+      largest = std::max(largest, local_largest_magnitude(x.segment(start, length)));
+    }
+    if (!(largest > 0.0)) return detail::rescaled_norm(largest, 0.0, [](double local) { return local; });
+    double scaled = 0.0;
+    for (int b = 0; b < m_block_count; ++b) {
+      const auto [start, length] = block(b, x.size());
+      scaled += local_scaled_sum_of_squares(x.segment(start, length), largest);
+    }
+    return detail::rescaled_norm(largest, scaled, [](double total) { return total; });
   }
   bool all_finite(const_view x) const {
     bool finite = true;
@@ -62,14 +77,6 @@ class block_vector_space {
   }
   std::int64_t global_size(const_view x) const { return static_cast<std::int64_t>(x.size()); }
 
-  void add_scaled(double alpha, const_view x, state_view y) const { y.noalias() += alpha * x; }
-  void combine(double a, const_view x, double b, const_view y, state_view out) const { out.noalias() = a * x + b * y; }
-  void scale(double alpha, state_view x) const { x *= alpha; }
-  void copy(const_view from, state_view to) const { to = from; }
-  void fill(double value, state_view x) const { x.setConstant(value); }
-  void multiply(const_view weights, state_view x) const { x.array() *= weights.array(); }
-  void divide(const_view weights, state_view x) const { x.array() /= weights.array(); }
-  void add_product(const_view weights, const_view x, state_view y) const { y.array() += weights.array() * x.array(); }
   /// Per-block ratio tests combined with a min, as a distributed space would.
   double max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
     double step = std::numeric_limits<double>::infinity();

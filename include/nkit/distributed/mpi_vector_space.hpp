@@ -14,8 +14,9 @@
 /// Collective members (every rank of the communicator must call them, in the
 /// same order, and every rank receives the same value): dot, norm, all_finite,
 /// global_size, first_global_index, max_step_to_bounds, within_bounds,
-/// dot_many, any_of. Element-wise members
-/// touch only local data and never communicate.
+/// dot_many, any_of. Element-wise members come from local_vector_operations
+/// (shared with the serial space, OpenMP path included): they touch only
+/// local data and never communicate.
 ///
 /// Every rank takes the same branch in nkit's solvers because every decision
 /// is made from these reductions. That relies on MPI_Allreduce returning the
@@ -36,18 +37,21 @@
 #include <Eigen/Core>
 #include <cmath>
 #include <cstdint>
+#include <limits>
 #include <memory>
 
-#include "../core/eigen_vector_space.hpp"  // detail::local_max_step_to_bounds
+#include "../core/local_vector_operations.hpp"
 
 namespace nkit {
 
-class mpi_vector_space {
+class mpi_vector_space : public local_vector_operations<double> {
+  using base = local_vector_operations<double>;
+
  public:
-  using scalar_type = double;
-  using vector_type = Eigen::VectorXd;
-  using state_view = Eigen::Ref<vector_type>;
-  using const_view = Eigen::Ref<const vector_type>;
+  using base::const_view;
+  using base::scalar_type;
+  using base::state_view;
+  using base::vector_type;
 
   /// Uses `communicator` for every reduction. MPI must be initialised.
   explicit mpi_vector_space(MPI_Comm communicator)
@@ -64,14 +68,20 @@ class mpi_vector_space {
   /// copies (the solver keeps copies), for checking communication counts.
   std::int64_t reduction_count() const { return *m_reductions; }
 
-  void allocate_like(vector_type& target, const_view prototype) const {
-    if (target.size() != prototype.size()) target.resize(prototype.size());
-  }
-
   /// Σ over all ranks of the local x·y. Collective.
   double dot(const_view x, const_view y) const { return sum(x.dot(y)); }
-  /// Euclidean norm of the whole distributed vector. Collective.
-  double norm(const_view x) const { return std::sqrt(sum(x.squaredNorm())); }
+  /// Euclidean norm of the whole distributed vector. Collective: one
+  /// reduction, three when Σ x_i² overflows or underflows (then a global
+  /// maximum and a sum of scaled squares; every rank takes the same branch).
+  double norm(const_view x) const {
+    const double squares = sum(local_sum_of_squares(x));
+    if (!detail::sum_of_squares_out_of_range(squares)) return std::sqrt(squares);
+    const double largest = maximum(local_largest_magnitude(x));
+    const double local = largest > 0.0 && largest < std::numeric_limits<double>::infinity()
+                             ? local_scaled_sum_of_squares(x, largest)
+                             : 0.0;
+    return detail::rescaled_norm(largest, local, [this](double value) { return sum(value); });
+  }
   /// No NaN or Inf on any rank. Collective.
   bool all_finite(const_view x) const { return all(x.allFinite()); }
   /// Total number of unknowns over all ranks. Collective.
@@ -108,15 +118,6 @@ class mpi_vector_space {
     return result != 0;
   }
 
-  void add_scaled(double alpha, const_view x, state_view y) const { y.noalias() += alpha * x; }
-  void combine(double a, const_view x, double b, const_view y, state_view out) const { out.noalias() = a * x + b * y; }
-  void scale(double alpha, state_view x) const { x *= alpha; }
-  void copy(const_view from, state_view to) const { to = from; }
-  void fill(double value, state_view x) const { x.setConstant(value); }
-  void multiply(const_view weights, state_view x) const { x.array() *= weights.array(); }
-  void divide(const_view weights, state_view x) const { x.array() /= weights.array(); }
-  void add_product(const_view weights, const_view x, state_view y) const { y.array() += weights.array() * x.array(); }
-
   /// Largest t >= 0 with lower <= x + t d <= upper on every rank: the local
   /// ratio test, then a global minimum. Collective.
   double max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
@@ -136,6 +137,12 @@ class mpi_vector_space {
     double global = 0.0;
     ++*m_reductions;
     MPI_Allreduce(&local, &global, 1, MPI_DOUBLE, MPI_SUM, m_communicator);
+    return global;
+  }
+  double maximum(double local) const {
+    double global = 0.0;
+    ++*m_reductions;
+    MPI_Allreduce(&local, &global, 1, MPI_DOUBLE, MPI_MAX, m_communicator);
     return global;
   }
   bool all(bool local) const {

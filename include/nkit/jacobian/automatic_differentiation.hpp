@@ -35,6 +35,28 @@ using dual_number = Eigen::AutoDiffScalar<Eigen::Matrix<double, 1, 1>>;
 /// Vector of dual numbers, the type the residual is called with for J·v.
 using dual_vector = Eigen::Matrix<dual_number, Eigen::Dynamic, 1>;
 
+namespace detail {
+/// The forward-mode sweep every AD wrapper shares: seeds dual_state = u + εv,
+/// runs `sweep(dual_state, dual_residual)` (the residual on dual numbers) and
+/// reads jv = the ε parts, R'(u) v exactly to rounding. The two dual vectors
+/// are the caller's workspace, resized only when the size changes.
+template <class Sweep>
+void forward_mode_product(const Eigen::VectorXd& u, const Eigen::VectorXd& v, Eigen::VectorXd& jv,
+                          dual_vector& dual_state, dual_vector& dual_residual, Sweep&& sweep) {
+  const Eigen::Index n = u.size();
+  if (dual_state.size() != n) {
+    dual_state.resize(n);
+    dual_residual.resize(n);
+  }
+  for (Eigen::Index i = 0; i < n; ++i) {
+    dual_state(i).value() = u(i);
+    dual_state(i).derivatives()(0) = v(i);
+  }
+  sweep(static_cast<const dual_vector&>(dual_state), dual_residual);
+  for (Eigen::Index i = 0; i < n; ++i) jv(i) = dual_residual(i).derivatives()(0);
+}
+}  // namespace detail
+
 /// A scalar-templated residual with jacobian_product() by forward-mode AD.
 /// Keeps two dual vectors as workspace; they are allocated on the first
 /// product and reused while the size stays the same.
@@ -47,17 +69,8 @@ class residual_with_automatic_differentiation {
 
   /// jv = R'(u) v, exact to rounding; one residual sweep on dual numbers.
   void jacobian_product(const Eigen::VectorXd& u, const Eigen::VectorXd& v, Eigen::VectorXd& jv) {
-    const Eigen::Index n = u.size();
-    if (m_dual_state.size() != n) {
-      m_dual_state.resize(n);
-      m_dual_residual.resize(n);
-    }
-    for (Eigen::Index i = 0; i < n; ++i) {
-      m_dual_state(i).value() = u(i);
-      m_dual_state(i).derivatives()(0) = v(i);
-    }
-    m_residual(static_cast<const dual_vector&>(m_dual_state), m_dual_residual);
-    for (Eigen::Index i = 0; i < n; ++i) jv(i) = m_dual_residual(i).derivatives()(0);
+    detail::forward_mode_product(u, v, jv, m_dual_state, m_dual_residual,
+                                 [this](const dual_vector& x, dual_vector& r) { m_residual(x, r); });
   }
 
   Residual& residual() { return m_residual; }

@@ -176,8 +176,7 @@ class problem_access {
     check_size(m_variable_scale, m_variable_scaling, "variable_scale");
     check_size(m_residual_scale, m_residual_scaling, "residual_scale");
     m_ledger = &ledger;
-    if (m_variable_scaling || has_jacobian_product_v<Problem, vector_type> ||
-        detail::has_is_admissible<Problem, vector_type>::value) {
+    if (m_variable_scaling) {  // physical copies are needed only when the solver's variables are scaled
       m_space.allocate_like(m_physical, prototype);
       m_space.allocate_like(m_physical_direction, prototype);
     }
