@@ -384,7 +384,14 @@ TEST_CASE("bad input: NaN from a preconditioner's apply never reaches the iterat
     Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 2.0);
     nkit::solve_report report;
     check_quiet([&] { report = solver.solve(residual, u); });
-    CHECK(report.result == nkit::outcome::linear_solver_no_progress);
+    // The outcome names the preconditioner (it was a generic "no progress"),
+    // and the failed step stays in the history with GMRES's status.
+    CHECK(report.result == nkit::outcome::preconditioner_output_not_finite);
+    CHECK(std::string(report.message()).find("preconditioner returned NaN or Inf") != std::string::npos);
+    REQUIRE(report.history.size() == 1);
+    CHECK_FALSE(report.history[0].accepted);
+    CHECK(report.history[0].linear_status == nkit::linear_solve_status::non_finite);
+    CHECK(report.history[0].residual_norm == report.initial_residual_norm);
     CHECK(residual.non_finite_inputs == 0);  // regression: J·v used to evaluate R at u + δ·NaN
     CHECK(u == Eigen::VectorXd::Constant(4, 2.0));
   }
@@ -398,7 +405,7 @@ TEST_CASE("bad input: NaN from a preconditioner's apply never reaches the iterat
     check_quiet([&] { report = solver.solve(residual, u); });
     // Regression: the NaN update used to become the Newton step, and every
     // line-search trial evaluated R at a NaN state.
-    CHECK(report.result == nkit::outcome::linear_solver_no_progress);
+    CHECK(report.result == nkit::outcome::preconditioner_output_not_finite);
     CHECK(residual.non_finite_inputs == 0);
     CHECK(u == Eigen::VectorXd::Constant(4, 2.0));
   }
@@ -414,8 +421,11 @@ TEST_CASE("bad input: NaN from a preconditioner's apply never reaches the iterat
     nkit::solve_report report;
     check_quiet([&] { report = solver.solve(residual, u); });
     INFO(nkit::name(strategy) << ": " << nkit::name(report.result));
-    CHECK(report.result == nkit::outcome::linear_solver_no_progress);
+    CHECK(report.result == nkit::outcome::preconditioner_output_not_finite);
     CHECK(report.newton_steps == 2);
+    REQUIRE(report.history.size() == 3);  // two accepted steps and the failed third
+    CHECK(report.history[1].accepted);
+    CHECK_FALSE(report.history[2].accepted);
     CHECK(residual.non_finite_inputs == 0);
     CHECK(u.allFinite());
     CHECK(report.final_residual_norm == nkit_test::residual_norm_at(residual, u));
@@ -448,6 +458,12 @@ std::vector<invalid_setting> invalid_settings() {
        "nkit: newton_settings.relative_tolerance must be finite and >= 0 (got nan)"},
       {[=](newton_settings& s) { s.relative_tolerance = inf; },
        "nkit: newton_settings.relative_tolerance must be finite and >= 0 (got inf)"},
+      {[](newton_settings& s) { s.relative_tolerance = 1.0; },
+       "nkit: newton_settings.relative_tolerance must be < 1 (a relative tolerance of 1 or more is met by the initial "
+       "guess itself) (got 1)"},
+      {[](newton_settings& s) { s.relative_tolerance = 5.0; },
+       "nkit: newton_settings.relative_tolerance must be < 1 (a relative tolerance of 1 or more is met by the initial "
+       "guess itself) (got 5)"},
       {[](newton_settings& s) { s.absolute_tolerance = -1.0; },
        "nkit: newton_settings.absolute_tolerance must be finite and >= 0 (got -1)"},
       {[=](newton_settings& s) { s.absolute_tolerance = nan; },
@@ -479,6 +495,9 @@ std::vector<invalid_setting> invalid_settings() {
        "nkit: newton_settings.stagnation_factor must be in (0, 1) (got 1)"},
       {[](newton_settings& s) { s.stagnation_factor = 0.0; },
        "nkit: newton_settings.stagnation_factor must be in (0, 1) (got 0)"},
+      {[](newton_settings& s) { s.check_unwritten_residual_entries = static_cast<nkit::unwritten_entry_check>(3); },
+       "nkit: newton_settings.check_unwritten_residual_entries must be one of off, initial_residual, "
+       "every_evaluation (got 3)"},
       {[](newton_settings& s) { s.globalization = static_cast<nkit::globalization_strategy>(4); },
        "nkit: newton_settings.globalization must be one of line_search, full_step, trust_region, pseudo_transient "
        "(got 4)"},
@@ -660,4 +679,96 @@ TEST_CASE("bad input: huge but valid limits allocate only what a solve can use",
   // Workspace: 41 + 2 Krylov vectors and ten Newton vectors of 10 doubles, the
   // 41×40 Hessenberg matrix and 1024 history records: far below 1 MB.
   CHECK(report.workspace_bytes < 1000000);
+}
+
+// ---- residuals that leave entries of r unwritten -----------------------------------------
+
+namespace {
+/// A legacy-style residual whose grid has half the cells of the state: it
+/// writes r(0 .. n/2) only (R_i = u_i − 1 there), as after a grid-size mismatch.
+struct half_written_residual {
+  void operator()(const Eigen::VectorXd& u, Eigen::VectorXd& r) const {
+    for (Eigen::Index i = 0; i < u.size() / 2; ++i) r(i) = u(i) - 1.0;
+  }
+};
+}  // namespace
+
+TEST_CASE("bad input: a residual that leaves entries of r unwritten is caught, not converged", "[input]") {
+  // Without the check, nkit's r keeps what the previous call left in the
+  // other half (zeros from allocation), the solve reports convergence, and
+  // the second half of u never moves (its true R would be u − 1 = −1). The
+  // check fills r with a marker before the call and finds it afterwards.
+  const auto check =
+      GENERATE(nkit::unwritten_entry_check::initial_residual, nkit::unwritten_entry_check::every_evaluation);
+  nkit::newton_settings settings;
+  settings.check_unwritten_residual_entries = check;
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(8);
+  const call_result result = run_captured([&] { nkit::solve(half_written_residual{}, u, settings); });
+  INFO(nkit::name(check));
+  CHECK(result.invalid_argument ==
+        "nkit: the residual left 4 of 8 entries of r unwritten (the first at index 4); it must write every entry on "
+        "every call (a grid-size mismatch is the usual cause; the check is "
+        "newton_settings::check_unwritten_residual_entries)");
+  CHECK(result.printed.empty());
+  CHECK(u == Eigen::VectorXd::Zero(8));  // the user's state is untouched
+}
+
+TEST_CASE("bad input: entries written only on some calls are caught by the every-evaluation check", "[input]") {
+  // The residual skips its last entry from the third call on (e.g. a branch
+  // that forgets one cell): only the check of every call sees it.
+  long calls = 0;
+  auto residual = [&](const Eigen::VectorXd& u, Eigen::VectorXd& r) {
+    ++calls;
+    const Eigen::Index written = calls >= 3 ? u.size() - 1 : u.size();
+    for (Eigen::Index i = 0; i < written; ++i) r(i) = u(i) * u(i) - 2.0;
+  };
+  nkit::newton_settings settings;
+  settings.check_unwritten_residual_entries = nkit::unwritten_entry_check::every_evaluation;
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(3, 1.0);
+  const call_result result = run_captured([&] { nkit::solve(residual, u, settings); });
+  CHECK(result.invalid_argument.find("nkit: the residual left 1 of 3 entries of r unwritten (the first at index 2)") ==
+        0);
+  CHECK(u.allFinite());
+}
+
+TEST_CASE("bad input: the unwritten-entry check accepts residuals that write everything", "[input]") {
+  // The marker never survives a residual that writes every entry, NaN results included.
+  for (const auto check : {nkit::unwritten_entry_check::off, nkit::unwritten_entry_check::initial_residual,
+                           nkit::unwritten_entry_check::every_evaluation}) {
+    nkit::newton_settings settings;
+    settings.check_unwritten_residual_entries = check;
+    Eigen::VectorXd u = Eigen::VectorXd::Constant(3, 4.0);
+    nkit::solve_report report;
+    check_quiet([&] { report = nkit::solve(counted_cubic{}, u, settings); });
+    CHECK(report.converged());
+  }
+  Eigen::VectorXd nan_at_start = Eigen::VectorXd::Constant(2, 1.0);
+  auto nan_residual = [](const Eigen::VectorXd&, Eigen::VectorXd& r) {
+    r.setConstant(std::numeric_limits<double>::quiet_NaN());
+  };
+  nkit::newton_settings settings;
+  settings.check_unwritten_residual_entries = nkit::unwritten_entry_check::every_evaluation;
+  nkit::solve_report report;
+  check_quiet([&] { report = nkit::solve(nan_residual, nan_at_start, settings); });
+  CHECK(report.result == nkit::outcome::non_finite_initial_residual);  // a NaN the user wrote is not "unwritten"
+}
+
+TEST_CASE("bad input: a GMRES failure with a finite preconditioner is not blamed on it", "[input][preconditioner]") {
+  // An operator that cannot be inverted from the Krylov space GMRES may use
+  // (max_iterations = 1 on a system needing more, stagnating): the
+  // preconditioner's output is finite, so the generic cause stays.
+  auto residual = [](const Eigen::VectorXd& u, Eigen::VectorXd& r) {
+    r(0) = u(1);
+    r(1) = -u(0);  // J = [[0, 1], [-1, 0]]: GMRES(1) from x = 0 makes no progress on b = R
+  };
+  nkit::newton_settings settings;
+  settings.linear.restart_length = 1;
+  settings.linear.max_iterations = 1;
+  Eigen::VectorXd u(2);
+  u << 1.0, 0.0;
+  auto jacobi = nkit::make_preconditioner([](const Eigen::VectorXd& r, Eigen::VectorXd& z) { z = r; });
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, decltype(jacobi)> solver(settings, {}, jacobi);
+  nkit::solve_report report;
+  check_quiet([&] { report = solver.solve(residual, u); });
+  CHECK(report.result == nkit::outcome::linear_solver_no_progress);
 }

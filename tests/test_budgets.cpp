@@ -13,6 +13,7 @@
 #include <cstdint>
 #include <nkit/nkit.hpp>
 #include <thread>
+#include <vector>
 
 #include "support/reliability_problems.hpp"
 
@@ -181,5 +182,48 @@ TEST_CASE("budgets: a cancellation raised from another thread stops within one e
   CHECK(report.result == nkit::outcome::cancelled);
   CHECK(residual.calls == raise_at);
   CHECK(residual.calls_after_cancel == 0);
+  check_best_iterate(report, u);
+}
+
+TEST_CASE("budgets: no costly phase starts after the wall-clock limit", "[budget][timing]") {
+  // The limit is checked before every residual evaluation, J·v product,
+  // preconditioner setup and application, and after every GMRES iteration,
+  // so no such call starts after it and the solve overruns it by at most one
+  // call. Here a preconditioner setup takes 150 ms (it starts at t ≈ 0, before
+  // the 50 ms limit, and runs to its end) and each application 30 ms; J·v is
+  // exact (no residual evaluations inside GMRES). The check used to come only
+  // before residual evaluations and J·v, so applications started after the limit.
+  using clock = std::chrono::steady_clock;
+  struct slow_diagonal {
+    clock::time_point origin;
+    std::vector<double> starts;  ///< seconds after origin at which setups and applications began
+    Eigen::VectorXd inverse_diagonal;
+    void setup(const nkit::preconditioner_context<>& context) {
+      starts.push_back(std::chrono::duration<double>(clock::now() - origin).count());
+      std::this_thread::sleep_for(std::chrono::milliseconds(150));
+      inverse_diagonal = (3.0 * context.state.array().square()).inverse().matrix();
+    }
+    void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) {
+      starts.push_back(std::chrono::duration<double>(clock::now() - origin).count());
+      std::this_thread::sleep_for(std::chrono::milliseconds(30));
+      z = inverse_diagonal.cwiseProduct(r);
+    }
+  };
+  auto problem = nkit::with_jacobian_product(
+      counted_cubic{}, [](const Eigen::VectorXd& u, const Eigen::VectorXd& v, Eigen::VectorXd& jv) {
+        jv = (3.0 * u.array().square() * v.array()).matrix();
+      });
+  const double limit = 0.05;
+  nkit::newton_settings settings;
+  settings.wall_time_limit_seconds = limit;
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, slow_diagonal> solver(settings);
+  solver.preconditioner().origin = clock::now();
+  Eigen::VectorXd u = far_start;
+  const auto report = solver.solve(problem, u);
+  CHECK(report.result == nkit::outcome::wall_time_limit);
+  REQUIRE_FALSE(solver.preconditioner().starts.empty());
+  // Every call began before the limit (plus 10 ms for the check itself and scheduling).
+  for (const double start : solver.preconditioner().starts) CHECK(start <= limit + 0.01);
+  CHECK(report.wall_seconds <= limit + 0.15 + 0.1);  // one 150 ms setup past the limit, 0.1 s slack for load
   check_best_iterate(report, u);
 }

@@ -300,3 +300,30 @@ TEST_CASE("colored-difference Jacobians respect bounds and scaling", "[globaliza
   CHECK(scaled_report.newton_steps == report.newton_steps);
   CHECK_THAT(Eigen::VectorXd(c_milli / 1e3), is_close_to(c, 1e-9, 1e-9));
 }
+
+TEST_CASE("trust region: an accepted full Newton step costs no extra residual evaluations", "[globalization]") {
+  // The full Newton step is priced by the linear residual GMRES reached, so
+  // the two J·v products of the dogleg model (one residual evaluation each
+  // with forward differences) are taken only when a shorter point is needed.
+  // Near the root of r_i = u_i³ − (i + 1) every full step is accepted, so the
+  // trust region costs exactly what the line search costs (it used to cost 2
+  // evaluations more per Newton step).
+  auto residual = [](const Eigen::VectorXd& u, Eigen::VectorXd& r) {
+    for (Eigen::Index i = 0; i < u.size(); ++i) r(i) = u(i) * u(i) * u(i) - static_cast<double>(i + 1);
+  };
+  Eigen::VectorXd start(3);
+  start << 1.1, 1.3, 1.5;  // within 10 % of the roots cbrt(1..3)
+  nkit::newton_settings line_search;
+  nkit::newton_settings trust_region;
+  trust_region.globalization = nkit::globalization_strategy::trust_region;
+  Eigen::VectorXd u = start;
+  const auto searched = nkit::solve(residual, u, line_search);
+  Eigen::VectorXd v = start;
+  const auto trusted = nkit::solve(residual, v, trust_region);
+  REQUIRE(searched.converged());
+  REQUIRE(trusted.converged());
+  CHECK(searched.backtracks == 0);
+  CHECK(trusted.backtracks == 0);
+  CHECK(trusted.newton_steps == searched.newton_steps);
+  CHECK(trusted.residual_evaluations == searched.residual_evaluations);
+}

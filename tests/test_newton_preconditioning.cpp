@@ -4,7 +4,9 @@
 // reuse policy, report counts, and failure handling.
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <functional>
 #include <limits>
+#include <memory>
 #include <nkit/automatic_differentiation.hpp>
 #include <nkit/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/block_jacobi.hpp>
@@ -293,4 +295,49 @@ TEST_CASE("a failed setup stops the solve, a fallback keeps it going", "[newton]
     CHECK(report.preconditioner_fallbacks == report.preconditioner_setups);
     CHECK(relative_difference(t, exact_newton_solution()) <= 1e-8);
   }
+}
+
+namespace {
+/// A preconditioner that cannot move (it stands for one holding an Eigen
+/// sparse solver, which has no move constructor): the inverse diagonal of
+/// R'(u) for r_i = u_i³ − (i + 1), i.e. exact for that diagonal Jacobian.
+struct pinned_inverse_diagonal {
+  pinned_inverse_diagonal() = default;
+  pinned_inverse_diagonal(const pinned_inverse_diagonal&) = delete;
+  pinned_inverse_diagonal(pinned_inverse_diagonal&&) = delete;
+  Eigen::VectorXd inverse_diagonal;
+  int setups = 0;
+  void setup(const nkit::preconditioner_context<>& context) {
+    ++setups;
+    inverse_diagonal = (3.0 * context.state.array().square()).inverse().matrix();
+  }
+  void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) const { z = inverse_diagonal.cwiseProduct(r); }
+};
+struct cubic_diagonal {
+  void operator()(const Eigen::VectorXd& u, Eigen::VectorXd& r) const {
+    for (Eigen::Index i = 0; i < u.size(); ++i) r(i) = u(i) * u(i) * u(i) - static_cast<double>(i + 1);
+  }
+};
+}  // namespace
+
+TEST_CASE("a preconditioner that cannot move is used through std::ref or std::unique_ptr", "[newton][preconditioner]") {
+  // With the exact inverse of a diagonal Jacobian, GMRES needs one iteration
+  // per Newton step (M⁻¹J = I up to the finite-difference error of J·v).
+  const Eigen::VectorXd start = Eigen::VectorXd::Constant(6, 3.0);
+  pinned_inverse_diagonal referenced;
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, std::reference_wrapper<pinned_inverse_diagonal>>
+      by_reference({}, {}, std::ref(referenced));
+  Eigen::VectorXd u = start;
+  const auto report = by_reference.solve(cubic_diagonal{}, u);
+  REQUIRE(report.converged());
+  CHECK(referenced.setups == report.newton_steps);  // the caller's object was set up
+  CHECK(report.linear_iterations == report.newton_steps);
+
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, std::unique_ptr<pinned_inverse_diagonal>> owning(
+      {}, {}, std::make_unique<pinned_inverse_diagonal>());
+  Eigen::VectorXd v = start;
+  const auto owned_report = owning.solve(cubic_diagonal{}, v);
+  REQUIRE(owned_report.converged());
+  CHECK(owning.preconditioner()->setups == owned_report.newton_steps);
+  CHECK(v == u);  // the same arithmetic either way
 }

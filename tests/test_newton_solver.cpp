@@ -211,3 +211,97 @@ TEST_CASE("analytic and automatic-differentiation products drive the same Newton
   CHECK(a.residual_evaluations == a.newton_steps + 1);  // no evaluation inside J·v
   CHECK_THAT(u1, is_close_to(u2, 1e-14, 1e-14));
 }
+
+TEST_CASE("the component-wise step test keeps small unknowns from being declared converged early",
+          "[newton][convergence]") {
+  // R_1 = u_1 − 1e8 (root 1e8) and R_2 = 1e16 u_2³ − 1e-8 (root 1e-8), from
+  // u = (0, 2e-8), with exact J·v = diag(1, 3e16 u_2²) v. ‖R(u0)‖ ≈ 1e8 comes
+  // from row 1; R_2(u0) = 7e-8.
+  auto residual = [](const Eigen::VectorXd& u, Eigen::VectorXd& r) {
+    r(0) = u(0) - 1e8;
+    r(1) = 1e16 * u(1) * u(1) * u(1) - 1e-8;
+  };
+  auto problem = nkit::with_jacobian_product(
+      residual, [](const Eigen::VectorXd& u, const Eigen::VectorXd& v, Eigen::VectorXd& jv) {
+        jv(0) = v(0);
+        jv(1) = 3e16 * u(1) * u(1) * v(1);
+      });
+  Eigen::VectorXd start(2);
+  start << 0.0, 2e-8;
+
+  SECTION("inexact Newton (default forcing): the residual test alone accepts a wrong small unknown") {
+    // With η_0 = 0.5, one GMRES iteration suffices (row 1 dominates ‖R‖): x = αR
+    // with α = (R·JR)/‖JR‖² = 1 − O(1e-30), so x_2 = 7e-8 instead of 7e-8/12 and
+    // u_2 = 2e-8 − 7e-8 = −5e-8. Then |R_2| ≈ 1.3e-6 and ‖R‖/‖R0‖ ≈ 1.3e-14 meets
+    // relative_tolerance 1e-8: "converged" with u_2 of the wrong sign.
+    Eigen::VectorXd u = start;
+    const nkit::solve_report residual_test_only = nkit::solve(problem, u);
+    REQUIRE(residual_test_only.converged());
+    CHECK(residual_test_only.newton_steps == 1);
+    CHECK_THAT(u(1), Catch::Matchers::WithinRel(-5e-8, 1e-9));
+    // The report warns that R(u0)'s entries span 1e8/7e-8 ≈ 1.4e15 (> 1e8).
+    CHECK(residual_test_only.warnings.residual_magnitudes_spread_widely);
+    CHECK_THAT(residual_test_only.warnings.residual_magnitude_spread, Catch::Matchers::WithinRel(1e8 / 7e-8, 1e-12));
+    CHECK_FALSE(residual_test_only.warnings.state_magnitudes_spread_widely);  // u0 = (0, 2e-8): one nonzero entry
+  }
+  SECTION("exact linear solves: one step takes u_2 to 1.4167e-8, 42 % off, and the residual test stops") {
+    // Newton for the cube root: u ← u − (u³ − a³)/(3u²), a = 1e-8: 2e-8 − 7e-24/1.2e-15
+    // = 1.41667e-8 (closed form), where |R_2| = 1.84e-8 and ‖R‖/‖R0‖ ≈ 2e-16.
+    nkit::newton_settings settings;
+    settings.forcing.kind = nkit::forcing_term_kind::constant;
+    settings.forcing.constant_value = 1e-12;
+    Eigen::VectorXd u = start;
+    const nkit::solve_report report = nkit::solve(problem, u, settings);
+    REQUIRE(report.converged());
+    CHECK(report.newton_steps == 1);
+    CHECK_THAT(u(1), Catch::Matchers::WithinRel(1.4166666666666667e-8, 1e-12));
+  }
+  SECTION("with the component-wise test the small unknown converges too") {
+    // The solve goes on until the step in u_2 is below 1e-6·u_2; Newton
+    // converges quadratically there, so u_2 is then right to about (1e-6)²
+    // relative; allow 1e-9 for the inexact linear solves.
+    nkit::newton_settings settings;
+    settings.componentwise.enabled = true;
+    settings.componentwise.relative_tolerance = 1e-6;
+    Eigen::VectorXd u = start;
+    const nkit::solve_report both_tests = nkit::solve(problem, u, settings);
+    REQUIRE(both_tests.converged());
+    CHECK(both_tests.newton_steps > 1);
+    CHECK(both_tests.history.back().componentwise_step_ratio <= 1.0);
+    CHECK_THAT(u(1), Catch::Matchers::WithinRel(1e-8, 1e-9));
+    CHECK_THAT(u(0), Catch::Matchers::WithinRel(1e8, 1e-15));
+  }
+}
+
+TEST_CASE("the component-wise step test needs a vector space that measures it", "[newton][convergence]") {
+  nkit::newton_settings settings;
+  settings.componentwise.enabled = true;
+  settings.componentwise.relative_tolerance = 0.0;
+  CHECK_THROWS_WITH(nkit::newton_krylov_solver<>(settings),
+                    "nkit: newton_settings.componentwise.relative_tolerance must be > 0 when absolute_tolerance is 0 "
+                    "and the test is enabled (got 0)");
+}
+
+TEST_CASE("the live table shows the initial residual and the target first, and long GMRES solves", "[newton][output]") {
+  // The monitor's at_start runs once R(u0) is known, before any Newton step;
+  // with linear_progress_every = 1 every GMRES iteration prints its progress
+  // and the forcing term it aims at.
+  std::ostringstream out;
+  nkit::convergence_table_monitor table(out, 1);
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 2.0);
+  nkit::newton_krylov_solver<> solver;
+  const auto report = solver.solve(cubic_roots{}, u, table);
+  REQUIRE(report.converged());
+  const std::string text = out.str();
+  const auto target = text.find("converged at residual norm <=");
+  const auto first_linear = text.find("Newton step 1, GMRES iteration 1: relative linear residual");
+  const auto first_step = text.find("\n    1 | ");
+  REQUIRE(target != std::string::npos);
+  REQUIRE(first_linear != std::string::npos);
+  REQUIRE(first_step != std::string::npos);
+  CHECK(target < first_linear);
+  CHECK(first_linear < first_step);
+  CHECK(text.find("(forcing term 5.00e-01)") != std::string::npos);  // η_0 = 0.5 (Eisenstat–Walker default)
+  // The target is max(absolute, relative · ‖R(u0)‖) and the report keeps it.
+  CHECK(report.target_residual_norm == 1e-8 * report.initial_residual_norm);
+}

@@ -20,8 +20,10 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
+#include <type_traits>
 #include <utility>
 
+#include "../core/residual.hpp"
 #include "../core/vector_space.hpp"
 
 namespace nkit {
@@ -35,6 +37,13 @@ struct bordered_vector {
   /// Local length: the state's local length plus one (the replicated parameter).
   auto size() const { return state.size() + 1; }
 };
+
+/// The unwritten-entry check (newton/problem_access.hpp) on the state part;
+/// the parameter entry is written by nkit itself.
+template <class Vector, class Scalar>
+auto find_unwritten_entries(const bordered_vector<Vector, Scalar>& r) -> decltype(find_unwritten_entries(r.state)) {
+  return find_unwritten_entries(r.state);
+}
 
 /// Vector space over bordered_vector<Space::vector_type>. Holds a copy of the
 /// inner space (which may carry a communicator).
@@ -121,6 +130,24 @@ class bordered_vector_space {
   bool within_bounds(const_view x, const_view lower, const_view upper) const {
     return m_space.within_bounds(x.state, lower.state, upper.state) && x.parameter >= lower.parameter &&
            x.parameter <= upper.parameter;
+  }
+
+  /// The inner space's range combined with the parameter's magnitude. Collective.
+  template <class S = Space, class = std::enable_if_t<detail::has_magnitudes<S>::value>>
+  magnitude_range<scalar_type> magnitudes(const_view x) const {
+    magnitude_range<scalar_type> range = m_space.magnitudes(x.state);
+    const scalar_type parameter = std::abs(x.parameter);
+    range.largest = std::max(range.largest, parameter);
+    if (parameter > 0 && (range.smallest_nonzero == 0 || parameter < range.smallest_nonzero)) {
+      range.smallest_nonzero = parameter;
+    }
+    return range;
+  }
+  template <class S = Space, class = std::enable_if_t<detail::has_weighted_max_norm<S>::value>>
+  scalar_type weighted_max_norm(const_view x, const_view reference, scalar_type absolute, scalar_type relative) const {
+    const scalar_type state = m_space.weighted_max_norm(x.state, reference.state, absolute, relative);
+    const scalar_type parameter = std::abs(x.parameter) / (absolute + relative * std::abs(reference.parameter));
+    return parameter <= state ? state : parameter;
   }
 
   /// Collective OR, forwarded to the inner space.

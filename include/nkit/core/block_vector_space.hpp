@@ -76,6 +76,30 @@ class block_vector_space : public local_vector_operations<double> {
     return finite;
   }
   std::int64_t global_size(const_view x) const { return static_cast<std::int64_t>(x.size()); }
+  /// Per-block ranges combined (min of the nonzero smallest, max of the largest).
+  magnitude_range<double> magnitudes(const_view x) const {
+    magnitude_range<double> range;
+    for (int b = 0; b < m_block_count; ++b) {
+      const auto [start, length] = block(b, x.size());
+      const magnitude_range<double> part = local_magnitudes(x.segment(start, length));
+      range.largest = std::max(range.largest, part.largest);
+      if (part.smallest_nonzero > 0 &&
+          (range.smallest_nonzero == 0 || part.smallest_nonzero < range.smallest_nonzero)) {
+        range.smallest_nonzero = part.smallest_nonzero;
+      }
+    }
+    return range;
+  }
+  double weighted_max_norm(const_view x, const_view reference, double absolute, double relative) const {
+    double largest = 0.0;
+    for (int b = 0; b < m_block_count; ++b) {
+      const auto [start, length] = block(b, x.size());
+      const double part =
+          local_weighted_max_norm(x.segment(start, length), reference.segment(start, length), absolute, relative);
+      if (!(part <= largest)) largest = part;
+    }
+    return largest;
+  }
 
   /// Per-block ratio tests combined with a min, as a distributed space would.
   double max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {

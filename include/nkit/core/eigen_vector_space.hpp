@@ -64,6 +64,10 @@ class eigen_vector_space : public local_vector_operations<Scalar> {
     return x.allFinite();
   }
   std::int64_t global_size(const_view x) const { return static_cast<std::int64_t>(x.size()); }
+  magnitude_range<Scalar> magnitudes(const_view x) const { return base::local_magnitudes(x); }
+  Scalar weighted_max_norm(const_view x, const_view reference, Scalar absolute, Scalar relative) const {
+    return base::local_weighted_max_norm(x, reference, absolute, relative);
+  }
 
   /// Largest t >= 0 with lower <= x + t d <= upper (+inf if unbounded along d).
   Scalar max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {

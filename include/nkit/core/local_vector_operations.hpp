@@ -22,6 +22,7 @@
 #include <limits>
 
 #include "../detail/parallel_loops.hpp"
+#include "vector_space.hpp"
 
 namespace nkit {
 
@@ -134,6 +135,27 @@ class local_vector_operations {
   }
   /// max |x_i| of the local entries (0 when empty).
   static Scalar local_largest_magnitude(const_view x) { return x.size() > 0 ? x.cwiseAbs().maxCoeff() : Scalar(0); }
+  /// Smallest nonzero and largest |x_i| of the local entries.
+  static magnitude_range<Scalar> local_magnitudes(const_view x) {
+    magnitude_range<Scalar> range;
+    range.smallest_nonzero = std::numeric_limits<Scalar>::infinity();
+    for (Eigen::Index i = 0; i < x.size(); ++i) {
+      const Scalar magnitude = std::abs(x(i));
+      if (magnitude > range.largest) range.largest = magnitude;
+      if (magnitude > 0 && magnitude < range.smallest_nonzero) range.smallest_nonzero = magnitude;
+    }
+    if (range.smallest_nonzero == std::numeric_limits<Scalar>::infinity()) range.smallest_nonzero = 0;
+    return range;
+  }
+  /// max_i |x_i| / (absolute + relative·|reference_i|) over the local entries (0 when empty).
+  static Scalar local_weighted_max_norm(const_view x, const_view reference, Scalar absolute, Scalar relative) {
+    Scalar largest = 0;
+    for (Eigen::Index i = 0; i < x.size(); ++i) {
+      const Scalar ratio = std::abs(x(i)) / (absolute + relative * std::abs(reference(i)));
+      if (!(ratio <= largest)) largest = ratio;  // NaN propagates
+    }
+    return largest;
+  }
   /// Σ (x_i / largest)² of the local entries.
   static Scalar local_scaled_sum_of_squares(const_view x, Scalar largest) { return (x / largest).squaredNorm(); }
 

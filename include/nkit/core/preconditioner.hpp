@@ -116,6 +116,28 @@ struct has_runtime_changes<P, std::void_t<decltype(std::declval<const P&>().chan
 
 }  // namespace detail
 
+/// The preconditioner object a solver works with: the object itself, or the
+/// one a std::reference_wrapper or std::unique_ptr refers to. Those two let a
+/// solver use a preconditioner that cannot be moved (one holding an Eigen
+/// sparse solver, say): newton_krylov_solver<Space, std::reference_wrapper<P>>
+/// with std::ref(p), or newton_krylov_solver<Space, std::unique_ptr<P>>.
+template <class P>
+struct preconditioner_target {
+  using type = P;
+  static P& get(P& p) { return p; }
+  static const P& get(const P& p) { return p; }
+};
+template <class P>
+struct preconditioner_target<std::reference_wrapper<P>> {
+  using type = P;
+  static P& get(const std::reference_wrapper<P>& p) { return p.get(); }
+};
+template <class P, class Deleter>
+struct preconditioner_target<std::unique_ptr<P, Deleter>> {
+  using type = P;
+  static P& get(const std::unique_ptr<P, Deleter>& p) { return *p; }
+};
+
 /// Calls p.setup(context) when it exists; maps a void setup to ready.
 template <class Preconditioner, class Space>
 setup_status setup_preconditioner(Preconditioner& preconditioner, const preconditioner_context<Space>& context) {

@@ -22,6 +22,9 @@
 ///       the diagonal W of pseudo-transient continuation
 ///       (globalization/pseudo_transient.hpp).
 
+#include <Eigen/Core>
+#include <cstdint>
+#include <cstring>
 #include <type_traits>
 #include <utility>
 
@@ -61,6 +64,50 @@ struct has_pseudo_time_weights<Problem, Vector,
                                std::void_t<decltype(std::declval<Problem&>().pseudo_time_weights(
                                    std::declval<const Vector&>(), std::declval<Vector&>()))>> : std::true_type {};
 
+}  // namespace detail
+
+/// Entries of a residual output still holding the marker of an unwritten-entry
+/// check (newton_settings::check_unwritten_residual_entries (newton/newton_settings.hpp)).
+struct unwritten_entries {
+  std::int64_t count = 0;   ///< entries still holding the marker (local to this rank)
+  std::int64_t first = -1;  ///< local index of the first one (-1: none)
+};
+
+/// The marker written into r before a checked residual call: a quiet NaN
+/// whose payload spells "NKIT" (0x4E4B4954). Arithmetic never produces it; a
+/// residual that accumulates into r without clearing it propagates it.
+inline double unwritten_entry_marker() {
+  constexpr std::uint64_t bits = 0x7FF800004E4B4954ULL;
+  double value;
+  std::memcpy(&value, &bits, sizeof value);
+  return value;
+}
+
+/// Finds the entries of `r` that still hold unwritten_entry_marker(). An
+/// overload for another vector type (found by argument-dependent lookup)
+/// enables the check for a vector space built on it; without one the check
+/// is skipped for that type.
+template <class Derived>
+unwritten_entries find_unwritten_entries(const Eigen::DenseBase<Derived>& r) {
+  unwritten_entries found;
+  if constexpr (std::is_same_v<typename Derived::Scalar, double>) {
+    const double marker = unwritten_entry_marker();
+    for (Eigen::Index i = 0; i < r.size(); ++i) {
+      const double value = r.derived().coeff(i);
+      if (value != value && std::memcmp(&value, &marker, sizeof value) == 0) {
+        if (found.count++ == 0) found.first = static_cast<std::int64_t>(i);
+      }
+    }
+  }
+  return found;
+}
+
+namespace detail {
+template <class Vector, class = void>
+struct can_find_unwritten_entries : std::false_type {};
+template <class Vector>
+struct can_find_unwritten_entries<Vector, std::void_t<decltype(find_unwritten_entries(std::declval<const Vector&>()))>>
+    : std::true_type {};
 }  // namespace detail
 
 /// True when `Residual` can be called as residual(const Vector& u, Vector& r).

@@ -44,6 +44,15 @@
 ///     void dot_many(const vector_type* basis, int count, const_view w,
 ///                   scalar_type* out) const       out[i] = dot(basis[i], w), one reduction
 ///                                                 (fallback: a loop over dot)
+///     magnitude_range<scalar_type> magnitudes(const_view x) const
+///                                                 smallest nonzero and largest |x_i|
+///                                                 (collective; used for the scale-spread
+///                                                 warning of a solve's report)
+///     scalar_type weighted_max_norm(const_view x, const_view reference,
+///                                   scalar_type absolute, scalar_type relative) const
+///                                                 max_i |x_i| / (absolute + relative·|reference_i|)
+///                                                 (collective; the component-wise
+///                                                 convergence test)
 ///     bool any_of(bool local) const               collective logical OR, so that
 ///                                                 decisions taken from rank-local facts
 ///                                                 (wall clock, cancellation flag) agree
@@ -59,6 +68,15 @@
 #include <utility>
 
 namespace nkit {
+
+/// Smallest nonzero and largest magnitude of a vector's entries (both 0 for a zero vector).
+template <class Scalar = double>
+struct magnitude_range {
+  Scalar smallest_nonzero = 0;
+  Scalar largest = 0;
+  /// largest / smallest_nonzero (1 for a zero vector): how many orders of magnitude the entries span.
+  Scalar spread() const { return smallest_nonzero > 0 ? largest / smallest_nonzero : Scalar(1); }
+};
 
 namespace detail {
 
@@ -121,7 +139,27 @@ struct has_any_of : std::false_type {};
 template <class Space>
 struct has_any_of<Space, std::void_t<decltype(std::declval<const Space&>().any_of(true))>> : std::true_type {};
 
+template <class Space, class = void>
+struct has_magnitudes : std::false_type {};
+template <class Space>
+struct has_magnitudes<Space, std::void_t<decltype(std::declval<const Space&>().magnitudes(
+                                 std::declval<const typename Space::vector_type&>()))>> : std::true_type {};
+
+template <class Space, class = void>
+struct has_weighted_max_norm : std::false_type {};
+template <class Space>
+struct has_weighted_max_norm<
+    Space, std::void_t<decltype(std::declval<const Space&>().weighted_max_norm(
+               std::declval<const typename Space::vector_type&>(), std::declval<const typename Space::vector_type&>(),
+               std::declval<typename Space::scalar_type>(), std::declval<typename Space::scalar_type>()))>>
+    : std::true_type {};
+
 }  // namespace detail
+
+/// True when `Space` offers the optional reductions magnitudes() and weighted_max_norm().
+template <class Space>
+inline constexpr bool has_magnitude_reductions_v =
+    detail::has_magnitudes<Space>::value&& detail::has_weighted_max_norm<Space>::value;
 
 /// True when `Space` provides every required member of the vector-space concept.
 template <class Space>

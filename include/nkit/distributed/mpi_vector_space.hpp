@@ -92,6 +92,20 @@ class mpi_vector_space : public local_vector_operations<double> {
     MPI_Allreduce(&local, &global, 1, MPI_INT64_T, MPI_SUM, m_communicator);
     return global;
   }
+  /// Smallest nonzero and largest |x_i| over all ranks. Collective (one reduction).
+  magnitude_range<double> magnitudes(const_view x) const {
+    const magnitude_range<double> local = local_magnitudes(x);
+    // max of (largest, 1/smallest_nonzero) in one reduction; 1/0 = none on this rank.
+    double values[2] = {local.largest, local.smallest_nonzero > 0.0 ? 1.0 / local.smallest_nonzero : 0.0};
+    ++*m_reductions;
+    MPI_Allreduce(MPI_IN_PLACE, values, 2, MPI_DOUBLE, MPI_MAX, m_communicator);
+    return {values[1] > 0.0 ? 1.0 / values[1] : 0.0, values[0]};
+  }
+  /// max_i |x_i| / (absolute + relative·|reference_i|) over all ranks. Collective.
+  double weighted_max_norm(const_view x, const_view reference, double absolute, double relative) const {
+    return maximum(local_weighted_max_norm(x, reference, absolute, relative));
+  }
+
   /// Global index of this rank's first entry when ranks own consecutive
   /// ranges in rank order (exclusive prefix sum of the local sizes). Collective.
   std::int64_t first_global_index(const_view x) const {

@@ -142,6 +142,13 @@ inline double radius_after_acceptance(const trust_region_settings& settings, dou
   return radius;
 }
 
+/// The Cauchy point's length and its inner product with the Newton step:
+/// what the dogleg path needs besides ‖s_N‖.
+struct dogleg_geometry {
+  double cauchy_norm = 0.0;
+  double cauchy_dot_newton = 0.0;
+};
+
 /// The dogleg trust-region search of one Newton step, as a kernel: from the
 /// current `radius` (<= 0: start from the Newton step's length, capped at
 /// maximum_radius) take the dogleg point at that radius, have `trial(point)`
@@ -149,14 +156,22 @@ inline double radius_after_acceptance(const trust_region_settings& settings, dou
 /// is finite and actual/predicted reduction exceeds acceptance_ratio,
 /// otherwise shrink the radius to shrink_factor·min(radius, ‖s‖) and retry;
 /// give up once the radius falls below minimum_radius. `radius` is updated
-/// in place. Inputs are ‖s_N‖, ‖s_C‖, s_C·s_N and ‖R(u)‖ in the solver's norm.
-template <class Trial>
+/// in place. `geometry()` returns the dogleg_geometry; it is called only when
+/// the Newton step does not fit in the radius, so a caller can defer the
+/// products that the Cauchy point needs until then. ‖s_N‖ and ‖R(u)‖ are in
+/// the solver's norm.
+template <class Geometry, class Trial>
 trust_region_result dogleg_search(const trust_region_settings& settings, double& radius, double residual_norm,
-                                  double newton_norm, double cauchy_norm, double cauchy_dot_newton, Trial&& trial) {
+                                  double newton_norm, Geometry&& geometry, Trial&& trial) {
   trust_region_result result;
   if (!(radius > 0.0)) radius = std::min(newton_norm, settings.maximum_radius);
   for (int attempt = 0;; ++attempt) {
-    const trust_region_trial tried = trial(dogleg(radius, newton_norm, cauchy_norm, cauchy_dot_newton));
+    dogleg_point point;  // the Newton point
+    if (newton_norm > radius) {
+      const dogleg_geometry g = geometry();
+      point = dogleg(radius, newton_norm, g.cauchy_norm, g.cauchy_dot_newton);
+    }
+    const trust_region_trial tried = trial(point);
     const double actual = 0.5 * (residual_norm * residual_norm - tried.residual_norm * tried.residual_norm);
     const double ratio = tried.predicted_reduction > 0.0 ? actual / tried.predicted_reduction : -1.0;
     if (std::isfinite(tried.residual_norm) && ratio > settings.acceptance_ratio) {

@@ -21,8 +21,8 @@
 #include <string>
 #include <string_view>
 
-#include "../detail/checks.hpp"
 #include "../core/eigen_vector_space.hpp"
+#include "../detail/checks.hpp"
 
 namespace nkit {
 

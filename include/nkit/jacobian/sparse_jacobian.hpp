@@ -45,9 +45,9 @@
 #include <utility>
 #include <vector>
 
+#include "../core/preconditioner.hpp"
 #include "column_coloring.hpp"
 #include "finite_difference_jacobian.hpp"
-#include "../core/preconditioner.hpp"
 #include "sparsity_pattern.hpp"
 
 namespace nkit {

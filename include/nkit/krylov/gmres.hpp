@@ -35,14 +35,14 @@
 #include <type_traits>
 #include <vector>
 
-#include "../detail/checks.hpp"
-#include "../detail/givens.hpp"
-#include "../detail/timer.hpp"
 #include "../core/eigen_vector_space.hpp"
 #include "../core/linear_operator.hpp"
 #include "../core/preconditioner.hpp"
-#include "../report/trace.hpp"
 #include "../core/vector_space.hpp"
+#include "../detail/checks.hpp"
+#include "../detail/givens.hpp"
+#include "../detail/timer.hpp"
+#include "../report/trace.hpp"
 
 namespace nkit {
 

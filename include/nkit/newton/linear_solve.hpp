@@ -35,6 +35,8 @@ template <class Space, class Preconditioner>
 class preconditioned_linear_solve {
  public:
   using vector_type = typename Space::vector_type;
+  /// The preconditioner object itself (Preconditioner may be a std::reference_wrapper or std::unique_ptr to it).
+  using target_type = typename preconditioner_target<Preconditioner>::type;
 
   preconditioned_linear_solve(const newton_settings& settings, const Space& space, Preconditioner preconditioner)
       : m_space(space),
@@ -55,7 +57,7 @@ class preconditioned_linear_solve {
 
   /// Sizes the GMRES workspace and starts the rebuild schedule for a new solve.
   void start_solve(const vector_type& prototype) {
-    m_gmres.allocate_like(prototype, changes_between_applications(m_preconditioner));
+    m_gmres.allocate_like(prototype, changes_between_applications(target()));
     m_schedule.start_solve(prototype.size());
   }
 
@@ -66,17 +68,18 @@ class preconditioned_linear_solve {
   bool rebuild_if_due(problem_access<Space>& access, Problem& problem, phase_ledger& ledger, const vector_type& state,
                       const vector_type& residual, int k, const vector_type* shift, bool& failed) {
     failed = false;
-    if constexpr (has_setup_v<Preconditioner, Space>) {
+    if constexpr (has_setup_v<target_type, Space>) {
       if (!m_schedule.rebuild_due(k)) return false;
+      access.check_cancellation_and_clock();  // a setup can be long: do not start one past the limit
       phase_scope scope(ledger, trace_phase::preconditioner_setup, k + 1);
       setup_status status;
       if constexpr (can_assemble_jacobian_v<Problem, vector_type>) {
         typename problem_access<Space>::template assembled_jacobian_source<Problem> source(access, problem);
         preconditioner_context<Space> context{m_space, state, residual, k, shift, &source};
-        status = setup_preconditioner(m_preconditioner, context);
+        status = setup_preconditioner(target(), context);
       } else {
         preconditioner_context<Space> context{m_space, state, residual, k, shift, nullptr};
-        status = setup_preconditioner(m_preconditioner, context);
+        status = setup_preconditioner(target(), context);
       }
       scope.close();
       solve_report& report = ledger.report();
@@ -109,10 +112,10 @@ class preconditioned_linear_solve {
     // krylov_update phase; Gram–Schmidt time is booked to orthogonalization.
     phase_scope scope(ledger, trace_phase::linear_solve, report.newton_steps + 1);
     try {
-      if constexpr (std::is_same_v<Preconditioner, identity_preconditioner>) {
-        result = m_gmres.solve(op, m_preconditioner, rhs, x, eta, initial_guess::zero, observer);
+      if constexpr (std::is_same_v<target_type, identity_preconditioner>) {
+        result = m_gmres.solve(op, target(), rhs, x, eta, initial_guess::zero, observer);
       } else {
-        timed_preconditioner preconditioner{this, &ledger};
+        timed_preconditioner preconditioner{this, &ledger, &access};
         result = m_gmres.solve(op, preconditioner, rhs, x, eta, initial_guess::zero, observer);
       }
     } catch (const stop_signal&) {
@@ -129,19 +132,28 @@ class preconditioned_linear_solve {
     return result;
   }
 
-  std::size_t workspace_bytes() const {
-    return m_gmres.workspace_bytes() + preconditioner_memory_bytes(m_preconditioner);
+  /// Whether the preconditioner's output for `r` is finite (z is overwritten):
+  /// tells a preconditioner that produces NaN or Inf from other causes of a
+  /// failed linear solve. Not timed (a diagnosis after failure). Collective.
+  bool output_is_finite(const vector_type& r, vector_type& z) {
+    target().apply(r, z);
+    return m_space.all_finite(z);
   }
 
+  std::size_t workspace_bytes() const { return m_gmres.workspace_bytes() + preconditioner_memory_bytes(target()); }
+
  private:
-  /// Times each application of the user's preconditioner and checks its output size.
+  /// Times each application of the user's preconditioner and checks its
+  /// output size; the time limit and cancellation flag are checked first.
   struct timed_preconditioner {
     preconditioned_linear_solve* owner;
     phase_ledger* ledger;
+    const problem_access<Space>* access;
     void apply(const vector_type& r, vector_type& z) {
+      access->check_cancellation_and_clock();
       const auto start = clock_type::now();
       const auto expected = r.size();
-      owner->m_preconditioner.apply(r, z);
+      owner->target().apply(r, z);
       if (z.size() != expected) {
         throw std::invalid_argument("nkit: the preconditioner's apply() wrote a vector of size " +
                                     std::to_string(z.size()) + ", expected " + std::to_string(expected) +
@@ -150,8 +162,11 @@ class preconditioned_linear_solve {
       ledger->record(trace_phase::preconditioner_apply, start, clock_type::now());
       ++ledger->report().preconditioner_applications;
     }
-    bool changes_between_applications() const { return nkit::changes_between_applications(owner->m_preconditioner); }
+    bool changes_between_applications() const { return nkit::changes_between_applications(owner->target()); }
   };
+
+  target_type& target() { return preconditioner_target<Preconditioner>::get(m_preconditioner); }
+  const target_type& target() const { return preconditioner_target<Preconditioner>::get(m_preconditioner); }
 
   Space m_space;
   Preconditioner m_preconditioner;

@@ -9,9 +9,10 @@
 /// rebuild the preconditioner if the schedule says so
 /// (preconditioner_schedule.hpp), solve R'(u) x = R(u) with
 /// right-preconditioned GMRES to relative tolerance η using matrix-free
-/// Jacobian-vector products (problem_access.hpp), and move along s = −x with
-/// the chosen globalisation kernel: line search, full step, trust region or
-/// pseudo-transient continuation (globalization/). The caller may drive the
+/// Jacobian-vector products (problem_access.hpp, linear_solve.hpp), and move
+/// along s = −x with the chosen globalisation (step_control.hpp over the
+/// kernels in globalization/): line search, full step, trust region or
+/// pseudo-transient continuation. The caller may drive the
 /// loop itself with begin() and advance() (newton_run.hpp); solve() is
 /// exactly that loop.
 ///
@@ -46,9 +47,6 @@
 #include "../core/residual.hpp"
 #include "../core/vector_space.hpp"
 #include "../globalization/forcing_term.hpp"
-#include "../globalization/line_search.hpp"
-#include "../globalization/pseudo_transient.hpp"
-#include "../globalization/trust_region.hpp"
 #include "../krylov/gmres.hpp"
 #include "../report/monitor.hpp"
 #include "../report/outcome.hpp"
@@ -60,12 +58,18 @@
 #include "newton_settings.hpp"
 #include "preconditioner_schedule.hpp"
 #include "problem_access.hpp"
+#include "step_control.hpp"
 
 namespace nkit {
 
 template <class Space = eigen_vector_space<double>, class Preconditioner = identity_preconditioner>
 class newton_krylov_solver {
   static_assert(is_vector_space_v<Space>, "nkit: Space does not provide the vector-space members (vector_space.hpp)");
+  static_assert(std::is_move_constructible_v<Preconditioner>,
+                "nkit: the solver owns its preconditioner, so the preconditioner type must be movable. For one that "
+                "cannot move (e.g. it holds an Eigen sparse solver), use newton_krylov_solver<Space, "
+                "std::reference_wrapper<Type>> and pass std::ref(object), or newton_krylov_solver<Space, "
+                "std::unique_ptr<Type>> and pass the pointer");
 
  public:
   using space_type = Space;
@@ -79,7 +83,8 @@ class newton_krylov_solver {
       : m_settings(validated(settings)),
         m_space(std::move(space)),
         m_linear(m_settings, m_space, std::move(preconditioner)),
-        m_access(m_settings, m_space) {}
+        m_access(m_settings, m_space),
+        m_steps(m_settings, m_space) {}
 
   /// Validates and stores the settings; throws std::invalid_argument naming
   /// the first bad field. Must not be called while a run is in progress.
@@ -88,6 +93,7 @@ class newton_krylov_solver {
     m_settings = settings;
     m_linear.configure(settings);
     m_access.configure(settings);
+    m_steps.configure(settings);
   }
   const newton_settings& settings() const { return m_settings; }
   const Space& space() const { return m_space; }
@@ -144,10 +150,10 @@ class newton_krylov_solver {
   /// preconditioner's memory_bytes() and the history capacity.
   std::size_t workspace_bytes() const {
     std::size_t entries = 0;
-    for (const vector_type* v : {&m_state, &m_residual, &m_step, &m_trial_state, &m_trial_residual, &m_best_state,
-                                 &m_product, &m_cauchy, &m_cauchy_product, &m_weights, &m_shift}) {
+    for (const vector_type* v : {&m_state, &m_residual, &m_step, &m_best_state}) {
       entries += static_cast<std::size_t>(v->size());
     }
+    entries += m_steps.vector_entries();
     return sizeof(scalar_type) * entries + m_linear.workspace_bytes() + m_access.workspace_bytes() +
            m_report.history.capacity() * sizeof(newton_step_record);
   }
@@ -176,6 +182,10 @@ class newton_krylov_solver {
     // Collective: a rank may own no unknowns; only a globally empty state is an error.
     if (m_space.global_size(u) == 0) throw std::invalid_argument("nkit: the state vector u is empty");
     if (!m_space.all_finite(u)) throw std::invalid_argument("nkit: the initial guess u0 contains NaN or Inf entries");
+    if (!has_magnitude_reductions_v<Space> && m_settings.componentwise.enabled) {
+      throw std::invalid_argument(
+          "nkit: newton_settings.componentwise.enabled needs a vector space with weighted_max_norm() and magnitudes()");
+    }
 
     // Capped: max_newton_steps = INT_MAX ("no limit") must not reserve ~250 GB.
     // Longer solves grow the history once; the capacity is kept for later solves.
@@ -183,23 +193,9 @@ class newton_krylov_solver {
         m_history_capacity, static_cast<std::size_t>(std::min(m_settings.max_newton_steps, max_reserved_history)));
     m_ledger.begin(m_report, m_history_capacity);
 
-    for (vector_type* v :
-         {&m_state, &m_residual, &m_step, &m_trial_state, &m_trial_residual, &m_best_state, &m_product}) {
-      m_space.allocate_like(*v, u);
-    }
+    for (vector_type* v : {&m_state, &m_residual, &m_step, &m_best_state}) m_space.allocate_like(*v, u);
     m_access.template start<Problem>(m_ledger, m_state);
-    if (m_settings.globalization == globalization_strategy::trust_region) {
-      m_space.allocate_like(m_cauchy, u);
-      m_space.allocate_like(m_cauchy_product, u);
-    }
-    m_pseudo_transient = m_settings.globalization == globalization_strategy::pseudo_transient;
-    if (m_pseudo_transient) {
-      m_space.allocate_like(m_weights, u);
-      m_space.allocate_like(m_shift, u);
-      m_space.fill(1, m_weights);
-      m_pseudo_time_step = m_settings.pseudo_transient.initial_step;
-      m_access.set_diagonal_shift(&m_shift);
-    }
+    m_steps.start(m_state, m_access);
     m_linear.start_solve(m_state);
     m_access.load_state(problem, u, m_state);
 
@@ -209,7 +205,6 @@ class newton_krylov_solver {
     m_steps_since_best = 0;
     m_linear_budget_spent = false;
     m_monitor_stopped = false;
-    m_trust_radius = m_settings.trust_region.initial_radius;
 
     // Until R(u0) is known the norms are unknown (NaN), not those of an earlier
     // solve: a time limit or cancellation can stop the run before it is evaluated.
@@ -220,16 +215,47 @@ class newton_krylov_solver {
     m_report.initial_residual_norm = m_report.final_residual_norm = m_norm;
     m_best_norm = m_norm;
     m_target_norm = std::max(m_settings.absolute_tolerance, m_settings.relative_tolerance * m_norm);
+    m_report.target_residual_norm = m_target_norm;
     m_stagnation_reference = m_norm;
+    m_step_ratio = std::numeric_limits<double>::infinity();
+    check_magnitude_spread();
     if (m_ledger.trace() != nullptr) {
       m_ledger.record_counter(trace_counter::residual_norm, detail::clock_type::now(), m_norm);
     }
   }
 
-  /// After start(): the outcome when no step is needed or possible.
+  /// Tells the monitor the solve has started (R(u0), the target norm, warnings).
+  template <class Monitor>
+  void notify_start(Monitor& monitor) {
+    if constexpr (detail::has_at_start<std::remove_reference_t<Monitor>>::value) {
+      solve_start_record record;
+      record.initial_residual_norm = m_report.initial_residual_norm;
+      record.target_residual_norm = m_target_norm;
+      record.unknowns = m_space.global_size(m_state);
+      record.warnings = m_report.warnings;
+      detail::notify_start_timed(monitor, record, m_ledger);
+    } else {
+      static_cast<void>(monitor);
+    }
+  }
+
+  /// After start(): the outcome when no step is needed or possible (the
+  /// component-wise test needs a step, so u0 converges by the residual test alone).
   outcome initial_outcome() const {
     if (!m_space.all_finite(m_residual)) return outcome::non_finite_initial_residual;
-    return convergence();
+    return residual_convergence();
+  }
+
+  /// The report's warnings about widely spread magnitudes in u0 and R(u0).
+  void check_magnitude_spread() {
+    if constexpr (has_magnitude_reductions_v<Space>) {
+      solve_warnings& warnings = m_report.warnings;
+      warnings.state_magnitude_spread = m_space.magnitudes(m_state).spread();
+      warnings.residual_magnitude_spread = m_space.magnitudes(m_residual).spread();
+      const double threshold = m_settings.magnitude_spread_warning;
+      warnings.state_magnitudes_spread_widely = threshold > 0.0 && warnings.state_magnitude_spread > threshold;
+      warnings.residual_magnitudes_spread_widely = threshold > 0.0 && warnings.residual_magnitude_spread > threshold;
+    }
   }
 
   /// Ends the run: on a non-converged outcome u gets the best iterate.
@@ -249,12 +275,18 @@ class newton_krylov_solver {
     m_report.workspace_bytes = workspace_bytes();
   }
 
-  outcome convergence() const {
+  outcome residual_convergence() const {
     if (m_norm <= m_settings.absolute_tolerance) return outcome::converged_absolute_residual;
     if (m_norm <= m_settings.relative_tolerance * m_report.initial_residual_norm) {
       return outcome::converged_relative_residual;
     }
     return outcome::in_progress;
+  }
+  /// After a step: the residual test and, when enabled, the component-wise step test.
+  outcome convergence() const {
+    const outcome residual_test = residual_convergence();
+    if (residual_test == outcome::in_progress || !m_settings.componentwise.enabled) return residual_test;
+    return m_step_ratio <= 1.0 ? residual_test : outcome::in_progress;
   }
 
   // ---- one Newton step ----------------------------------------------------------
@@ -267,28 +299,48 @@ class newton_krylov_solver {
     record.step = k + 1;
     phase_scope step_scope(m_ledger, trace_phase::newton_step, record.step, /*traced=*/false);
 
+    const detail::step_inputs<Space> in{m_access, m_ledger, m_state, m_residual, m_step, m_norm, record};
     outcome early = outcome::in_progress;
-    if (m_pseudo_transient) {
-      early = pseudo_transient_step(problem, monitor, record);
+    if (m_steps.pseudo_transient()) {
+      bool phase_ended = false;
+      early = m_steps.pseudo_time_step(
+          problem, in, [&] { return newton_direction(problem, monitor, record); }, m_linear.schedule(), phase_ended);
+      if (phase_ended) {  // Newton with line search from here on
+        m_forcing.reset();
+        m_linear.schedule().request_rebuild();  // the preconditioner holds the pseudo-time shift
+      }
     } else {
       early = newton_direction(problem, monitor, record);
       if (early == outcome::in_progress) {
         early =
             m_settings.globalization == globalization_strategy::trust_region
-                ? trust_region_step(problem, record)
-                : line_search_step(problem, record, m_settings.globalization == globalization_strategy::line_search);
+                ? m_steps.trust_region(problem, in, m_linear_residual_norm, m_linear.gmres().cauchy_point_available())
+                : m_steps.line_search(problem, in, m_achieved_eta,
+                                      m_settings.globalization == globalization_strategy::line_search);
       }
     }
-    if (early != outcome::in_progress) return early;
+    if (early != outcome::in_progress) {
+      record_failed_step(record);
+      return early;
+    }
 
-    // The trial (m_trial_state, m_trial_residual, m_trial_norm) is accepted.
-    const double new_norm = m_trial_norm;
+    // The trial (state, residual and norm held by the step control) is accepted.
+    const double new_norm = m_steps.trial_norm();
+    if (m_settings.componentwise.enabled) {
+      if constexpr (has_magnitude_reductions_v<Space>) {
+        m_space.combine(1, m_steps.trial_state(), -1, m_state, m_steps.scratch());  // the step Δu
+        m_step_ratio = m_space.weighted_max_norm(m_steps.scratch(), m_steps.trial_state(),
+                                                 m_settings.componentwise.absolute_tolerance,
+                                                 m_settings.componentwise.relative_tolerance);
+        record.componentwise_step_ratio = m_step_ratio;
+      }
+    }
     if (m_best_is_current && !(new_norm < m_best_norm)) {
       m_space.copy(m_state, m_best_state);
       m_best_is_current = false;
     }
-    std::swap(m_state, m_trial_state);
-    std::swap(m_residual, m_trial_residual);
+    std::swap(m_state, m_steps.trial_state());
+    std::swap(m_residual, m_steps.trial_residual());
     m_norm = new_norm;
     if (new_norm < m_best_norm) {
       m_best_norm = new_norm;
@@ -321,7 +373,7 @@ class newton_krylov_solver {
         record.step_norm <= m_settings.step_tolerance * (1.0 + m_space.norm(m_state))) {
       return outcome::step_below_tolerance;
     }
-    if (!m_pseudo_transient && m_steps_since_best >= m_settings.stagnation_window) return outcome::stagnated;
+    if (!m_steps.pseudo_transient() && m_steps_since_best >= m_settings.stagnation_window) return outcome::stagnated;
     if (m_linear_budget_spent) return outcome::linear_iteration_budget;
     return outcome::in_progress;
   }
@@ -334,16 +386,17 @@ class newton_krylov_solver {
     record.forcing_term = eta;
     m_access.linearize_at(m_state, m_residual);
     bool setup_failed = false;
-    record.preconditioner_rebuilt = m_linear.rebuild_if_due(m_access, problem, m_ledger, m_state, m_residual, k,
-                                                            m_pseudo_transient ? &m_shift : nullptr, setup_failed);
+    record.preconditioner_rebuilt =
+        m_linear.rebuild_if_due(m_access, problem, m_ledger, m_state, m_residual, k, m_steps.shift(), setup_failed);
     if (setup_failed) return outcome::preconditioner_failed;
     const std::int64_t budget_left = m_settings.linear_iteration_budget - m_report.linear_iterations;
     if (budget_left <= 0) return outcome::linear_iteration_budget;
     const std::int64_t used_before = m_report.linear_iterations;
     auto observer = [&](int iteration, double relative) {
       m_report.linear_iterations = used_before + iteration;
-      if (detail::notify_linear_iteration_timed(monitor, iteration, relative, m_ledger, record.step) ==
-          monitor_decision::stop_now) {
+      m_access.check_cancellation_and_clock();  // after every Arnoldi step: the time limit holds within GMRES
+      if (detail::notify_linear_iteration_timed(monitor, linear_iteration_record{record.step, iteration, relative, eta},
+                                                m_ledger) == monitor_decision::stop_now) {
         m_monitor_stopped = true;
         return false;
       }
@@ -353,151 +406,42 @@ class newton_krylov_solver {
       }
       return true;
     };
-    const bool trust_region = m_settings.globalization == globalization_strategy::trust_region && !m_pseudo_transient;
-    const linear_solve_result linear = m_linear.solve(m_access, problem, m_ledger, m_residual, m_step, eta, observer,
-                                                      trust_region ? &m_cauchy : nullptr);
+    const linear_solve_result linear =
+        m_linear.solve(m_access, problem, m_ledger, m_residual, m_step, eta, observer, m_steps.cauchy_target());
     if (m_monitor_stopped) return outcome::stopped_by_monitor;
     record.linear_iterations = linear.iterations;
     record.linear_status = linear.status;
     m_achieved_eta = linear.relative_residual();
+    m_linear_residual_norm = linear.final_residual_norm;
     record.relative_linear_residual = m_achieved_eta;
-    if (linear.iterations == 0 || !(m_achieved_eta < 1.0)) return outcome::linear_solver_no_progress;
+    if (linear.iterations == 0 || !(m_achieved_eta < 1.0)) return no_direction_cause();
     m_forcing.record(eta, m_norm, linear.final_residual_norm);
     return outcome::in_progress;
   }
 
-  /// Evaluates R at m_trial_state = u − t x; returns ‖R‖ (+inf when inadmissible).
-  template <class Problem>
-  double trial(Problem& problem, const vector_type& x, double t) {
-    m_space.combine(1, m_state, -t, x, m_trial_state);
-    return m_access.evaluate_trial(problem, m_trial_state, m_trial_residual);
-  }
-
-  template <class Problem>
-  outcome line_search_step(Problem& problem, newton_step_record& record, bool require_decrease) {
-    phase_scope scope(m_ledger, trace_phase::globalization, record.step);
-    const double limit = m_access.bound_limit(m_state, m_step);
-    record.bound_active = limit < 1.0;
-    // Shortening the direction to t·s raises the linear-model residual to (1 − t(1 − η))‖R‖.
-    const double eta = 1.0 - limit * (1.0 - m_achieved_eta);
-    const line_search_result search = backtracking_line_search(
-        m_settings.line_search, m_norm, eta, require_decrease,
-        [&](double lambda) { return trial(problem, m_step, lambda * limit); },
-        [&]() {
-          m_access.apply_jacobian(problem, m_step, m_product);  // φ'(0) = Rᵀ R'(u) s with s = −limit·x
-          return -limit * m_space.dot(m_residual, m_product);
-        });
-    scope.close();
-    record.backtracks = search.trials - 1;
-    m_report.backtracks += search.trials - 1;
-    m_report.non_finite_trials += search.non_finite_trials;
-    if (!search.accepted) return outcome::line_search_failed;
-    // The last trial evaluated is the accepted one: m_trial_* hold it.
-    m_trial_norm = search.residual_norm;
-    record.step_length = search.step_length * limit;
-    record.step_norm = record.step_length * m_space.norm(m_step);
-    return outcome::in_progress;
-  }
-
-  /// Dogleg between the Krylov-subspace Cauchy point and the Newton step
-  /// (globalization/trust_region.hpp); two J·v products give the linear model.
-  template <class Problem>
-  outcome trust_region_step(Problem& problem, newton_step_record& record) {
-    phase_scope scope(m_ledger, trace_phase::globalization, record.step);
-    // Newton point x_N = m_step, Cauchy point x_C = m_cauchy (both for R'(u) x = R(u); s = −x).
-    if (!m_linear.gmres().cauchy_point_available()) m_space.fill(0, m_cauchy);
-    m_access.apply_jacobian(problem, m_step, m_product);
-    m_access.apply_jacobian(problem, m_cauchy, m_cauchy_product);
-    dogleg_model model;
-    model.residual_squared = m_norm * m_norm;
-    model.residual_dot_cauchy = -m_space.dot(m_residual, m_cauchy_product);  // R·J s_C with s_C = −x_C
-    model.residual_dot_newton = -m_space.dot(m_residual, m_product);
-    model.cauchy_squared = m_space.dot(m_cauchy_product, m_cauchy_product);
-    model.newton_squared = m_space.dot(m_product, m_product);
-    model.cauchy_dot_newton = m_space.dot(m_cauchy_product, m_product);
-    const double newton_norm = m_space.norm(m_step);
-    const double cauchy_norm = m_space.norm(m_cauchy);
-    const double cauchy_dot_newton = m_space.dot(m_cauchy, m_step);
-    double limit = 1.0;
-    const trust_region_result result = dogleg_search(
-        m_settings.trust_region, m_trust_radius, m_norm, newton_norm, cauchy_norm, cauchy_dot_newton,
-        [&](const dogleg_point& point) {
-          // x = a x_C + b x_N (held in m_trial_residual until the trial is evaluated).
-          m_space.combine(point.cauchy_weight, m_cauchy, point.newton_weight, m_step, m_trial_residual);
-          limit = m_access.bound_limit(m_state, m_trial_residual);
-          trust_region_trial tried;
-          tried.step_norm = limit * m_space.norm(m_trial_residual);
-          tried.predicted_reduction =
-              model.predicted_reduction(point.cauchy_weight * limit, point.newton_weight * limit);
-          m_space.scale(limit, m_trial_residual);
-          m_space.combine(1, m_state, -1, m_trial_residual, m_trial_state);
-          const std::int64_t inadmissible_before = m_report.inadmissible_trials;
-          tried.residual_norm = m_access.evaluate_trial(problem, m_trial_state, m_trial_residual);
-          if (!std::isfinite(tried.residual_norm) && m_report.inadmissible_trials == inadmissible_before) {
-            ++m_report.non_finite_trials;
-          }
-          return tried;
-        });
-    scope.close();
-    if (!result.accepted) return outcome::trust_region_collapsed;
-    m_trial_norm = result.residual_norm;
-    record.step_length = 1.0;
-    record.step_norm = result.step_norm;
-    record.trust_radius = m_trust_radius;
-    record.bound_active = limit < 1.0;
-    record.backtracks = result.rejected_trials;
-    m_report.backtracks += result.rejected_trials;
-    return outcome::in_progress;
-  }
-
-  /// One pseudo-time step: (W/δ + R'(u)) x = R(u), u ← u − x; δ by SER
-  /// (globalization/pseudo_transient.hpp), retried with a smaller δ on failure.
-  template <class Problem, class Monitor>
-  outcome pseudo_transient_step(Problem& problem, Monitor& monitor, newton_step_record& record) {
-    const pseudo_transient_settings& ptc = m_settings.pseudo_transient;
-    if constexpr (detail::has_pseudo_time_weights<Problem, vector_type>::value) {
-      problem.pseudo_time_weights(m_access.physical_state(m_state), m_weights);
-      // In scaled variables the term is D_r⁻¹ (W/δ) D_u.
-      m_access.scale_pseudo_time_weights(m_weights);
+  /// Why GMRES gave no direction: a preconditioner whose output is not finite
+  /// (checked by applying it once more to R(u)), or anything else.
+  outcome no_direction_cause() {
+    if constexpr (!std::is_same_v<typename detail::preconditioned_linear_solve<Space, Preconditioner>::target_type,
+                                  identity_preconditioner>) {
+      if (m_linear.output_is_finite(m_residual, m_steps.scratch())) return outcome::linear_solver_no_progress;
+      return outcome::preconditioner_output_not_finite;
+    } else {
+      return outcome::linear_solver_no_progress;
     }
-    outcome abandoned = outcome::in_progress;
-    double limit = 1.0;
-    const pseudo_time_step_result result =
-        pseudo_time_step_search(ptc, m_pseudo_time_step, m_norm, [&](double delta, int attempt) {
-          m_space.copy(m_weights, m_shift);
-          m_space.scale(1 / delta, m_shift);
-          if (attempt > 0) m_linear.schedule().request_rebuild();  // the shift changed
-          pseudo_time_attempt tried;
-          abandoned = newton_direction(problem, monitor, record);
-          if (abandoned != outcome::in_progress) {
-            tried.abandoned = true;
-            return tried;
-          }
-          phase_scope scope(m_ledger, trace_phase::globalization, record.step);
-          limit = m_access.bound_limit(m_state, m_step);
-          const std::int64_t inadmissible_before = m_report.inadmissible_trials;
-          tried.residual_norm = trial(problem, m_step, limit);
-          if (!std::isfinite(tried.residual_norm) && m_report.inadmissible_trials == inadmissible_before) {
-            ++m_report.non_finite_trials;
-          }
-          return tried;
-        });
-    if (result.abandoned) return abandoned;
-    if (!result.accepted) return outcome::pseudo_time_step_collapsed;
-    record.pseudo_time_step = result.used_step;
-    record.step_length = limit;
-    record.step_norm = limit * m_space.norm(m_step);
-    record.bound_active = limit < 1.0;
-    record.backtracks = result.rejected_attempts;
-    m_report.backtracks += result.rejected_attempts;
-    m_trial_norm = result.residual_norm;
-    if (pseudo_transient_phase_ends(ptc, result.residual_norm, m_report.initial_residual_norm, m_pseudo_time_step)) {
-      m_pseudo_transient = false;  // Newton with line search from here on
-      m_access.set_diagonal_shift(nullptr);
-      m_forcing.reset();
-      m_linear.schedule().request_rebuild();  // the preconditioner holds the pseudo-time shift
-    }
-    return outcome::in_progress;
+  }
+
+  /// Keeps a step that could not be completed in the history (accepted =
+  /// false, state unchanged), when it got as far as a Newton direction.
+  void record_failed_step(newton_step_record& record) {
+    if (!(record.forcing_term > 0.0)) return;
+    record.accepted = false;
+    record.residual_norm = m_norm;
+    record.relative_residual_norm =
+        m_report.initial_residual_norm > 0.0 ? m_norm / m_report.initial_residual_norm : 0.0;
+    record.elapsed_seconds = m_ledger.elapsed_seconds();
+    record.residual_evaluations = m_report.residual_evaluations;
+    m_report.history.push_back(record);
   }
 
   // ---- members ------------------------------------------------------------------------
@@ -511,24 +455,23 @@ class newton_krylov_solver {
   solve_report m_report;
   std::size_t m_history_capacity = 0;
 
+  detail::newton_step_control<Space> m_steps;
+
   // Newton vectors (scaled variables when scaling is set).
-  vector_type m_state, m_residual, m_step, m_trial_state, m_trial_residual, m_best_state, m_product;
-  vector_type m_cauchy, m_cauchy_product;  // trust region
-  vector_type m_weights, m_shift;          // pseudo-transient term W/δ
+  vector_type m_state, m_residual, m_step, m_best_state;
 
   double m_norm = 0.0;
-  double m_trial_norm = 0.0;
   double m_best_norm = 0.0;
   double m_target_norm = 0.0;
   double m_achieved_eta = 0.0;
+  double m_linear_residual_norm = 0.0;
+  double m_step_ratio =
+      0.0;  // component-wise measure of the last accepted step  // ‖R + J s‖ GMRES reached for the last direction
   double m_stagnation_reference = 0.0;
   int m_steps_since_best = 0;
   bool m_best_is_current = true;
   bool m_linear_budget_spent = false;
   bool m_monitor_stopped = false;
-  double m_trust_radius = 0.0;      // trust region
-  double m_pseudo_time_step = 0.0;  // pseudo-transient continuation
-  bool m_pseudo_transient = false;  // still in the pseudo-transient phase
 };
 
 /// One-shot convenience: solve R(u) = 0 from u with the default vector space,

@@ -32,6 +32,7 @@ class newton_run {
       : m_solver(&solver), m_problem(&problem), m_u(u), m_monitor(std::forward<Monitor>(monitor)) {
     try {
       m_solver->start(*m_problem, m_u);
+      m_solver->notify_start(m_monitor);
       if (const outcome early = m_solver->initial_outcome(); early != outcome::in_progress) {
         m_solver->finish(early, m_u);
       }

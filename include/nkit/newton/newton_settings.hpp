@@ -51,8 +51,60 @@ constexpr std::string_view name(globalization_strategy value) {
   return "unknown";
 }
 
+/// How nkit makes sure the residual writes every entry of its output r. A
+/// residual that leaves entries unwritten (a grid-size mismatch is the usual
+/// cause) would otherwise hand nkit whatever an earlier call left there, and a
+/// solve can then be reported converged while part of u never moved. Before a
+/// checked call nkit fills r with a marker value (a quiet NaN with a payload
+/// no arithmetic produces) and afterwards throws std::invalid_argument if any
+/// entry still holds it. Each checked call costs one extra write and one read
+/// of r (measured on the benchmark model problem: about 0.1 work units).
+enum class unwritten_entry_check {
+  off,               ///< never (the residual is trusted)
+  initial_residual,  ///< the first call of every solve, R(u0): catches entries a residual never writes
+  every_evaluation   ///< every call, J·v and assembly included: also catches entries written only sometimes
+};
+
+constexpr std::string_view name(unwritten_entry_check value) {
+  switch (value) {
+    case unwritten_entry_check::off:
+      return "off";
+    case unwritten_entry_check::initial_residual:
+      return "initial_residual";
+    case unwritten_entry_check::every_evaluation:
+      return "every_evaluation";
+  }
+  return "unknown";
+}
+
+/// A component-wise convergence test on the Newton step, alongside the
+/// residual-norm test. With unknowns of very different magnitudes the
+/// Euclidean residual norm is dominated by the rows of the large ones, and a
+/// solve can meet relative_tolerance while small unknowns are still far off;
+/// this test looks at every unknown. When enabled, a solve converges only
+/// when the residual test holds and the last accepted step satisfies
+///   max_i |Δu_i| / (absolute_tolerance + relative_tolerance·|u_i|) <= 1
+/// (a scaled max-norm, in the solver's variables: ũ = u / variable_scale when
+/// scaling is set). Needs a vector space with weighted_max_norm() (every
+/// space nkit provides has it).
+struct componentwise_step_test {
+  bool enabled = false;
+  double relative_tolerance = 1e-8;
+  double absolute_tolerance = 0.0;
+
+  void validate(std::string_view prefix = "componentwise_step_test") const {
+    const std::string p(prefix);
+    detail::require_non_negative(p + ".relative_tolerance", relative_tolerance);
+    detail::require_non_negative(p + ".absolute_tolerance", absolute_tolerance);
+    if (enabled && relative_tolerance == 0.0 && absolute_tolerance == 0.0) {
+      detail::throw_invalid_setting(p + ".relative_tolerance",
+                                    "> 0 when absolute_tolerance is 0 and the test is enabled", relative_tolerance);
+    }
+  }
+};
+
 struct newton_settings {
-  /// Converged when ‖R(u)‖ <= relative_tolerance · ‖R(u0)‖.
+  /// Converged when ‖R(u)‖ <= relative_tolerance · ‖R(u0)‖; in [0, 1).
   double relative_tolerance = 1e-8;
   /// Converged when ‖R(u)‖ <= absolute_tolerance (0 = off).
   double absolute_tolerance = 0.0;
@@ -64,7 +116,9 @@ struct newton_settings {
   std::int64_t residual_evaluation_budget = std::numeric_limits<std::int64_t>::max();
   /// GMRES iterations allowed over the whole solve.
   std::int64_t linear_iteration_budget = std::numeric_limits<std::int64_t>::max();
-  /// Wall-clock limit, checked before each residual evaluation.
+  /// Wall-clock limit, checked before every residual evaluation, J·v product,
+  /// preconditioner setup and application, and after every GMRES iteration:
+  /// a solve overruns it by at most one such call.
   double wall_time_limit_seconds = std::numeric_limits<double>::infinity();
   /// Stop (outcome::stagnated) when, within this many Newton steps, the
   /// residual norm never fell below stagnation_factor times its value at the
@@ -73,6 +127,22 @@ struct newton_settings {
   double stagnation_factor = 0.99;
   /// When not null, raising the flag stops the solve before the next residual evaluation.
   const std::atomic<bool>* cancellation_flag = nullptr;
+  /// Which residual calls are checked for entries of r left unwritten: every
+  /// call in builds without NDEBUG (debug builds), the initial residual of
+  /// every solve otherwise.
+#if defined(NDEBUG)
+  unwritten_entry_check check_unwritten_residual_entries = unwritten_entry_check::initial_residual;
+#else
+  unwritten_entry_check check_unwritten_residual_entries = unwritten_entry_check::every_evaluation;
+#endif
+
+  /// The component-wise step test (off by default).
+  componentwise_step_test componentwise;
+  /// When the entries of u0 or of R(u0) (in the solver's variables) span more
+  /// than this factor between the largest and the smallest nonzero magnitude,
+  /// the report carries a warning (solve_warnings): the Euclidean norms then
+  /// hide the small ones; set_scaling or the component-wise test help. 0 = never.
+  double magnitude_spread_warning = 1e8;
 
   globalization_strategy globalization = globalization_strategy::line_search;
   forcing_term_settings forcing;
@@ -87,6 +157,12 @@ struct newton_settings {
   /// Throws std::invalid_argument naming the first bad field and its value.
   void validate() const {
     detail::require_non_negative("newton_settings.relative_tolerance", relative_tolerance);
+    if (!(relative_tolerance < 1.0)) {
+      // ‖R(u0)‖ <= 1·‖R(u0)‖ holds before any step: such a solve "converges" without doing anything.
+      detail::throw_invalid_setting("newton_settings.relative_tolerance",
+                                    "< 1 (a relative tolerance of 1 or more is met by the initial guess itself)",
+                                    relative_tolerance);
+    }
     detail::require_non_negative("newton_settings.absolute_tolerance", absolute_tolerance);
     if (relative_tolerance == 0.0 && absolute_tolerance == 0.0) {
       detail::throw_invalid_setting("newton_settings.relative_tolerance",
@@ -99,9 +175,13 @@ struct newton_settings {
     detail::require_at_least<std::int64_t>("newton_settings.linear_iteration_budget", linear_iteration_budget, 1);
     detail::require_positive("newton_settings.wall_time_limit_seconds", wall_time_limit_seconds, true);
     detail::require_at_least("newton_settings.stagnation_window", stagnation_window, 1);
+    detail::require_enumerator("newton_settings.check_unwritten_residual_entries", check_unwritten_residual_entries,
+                               unwritten_entry_check::every_evaluation, "off, initial_residual, every_evaluation");
     detail::require_open_interval("newton_settings.stagnation_factor", stagnation_factor, 0.0, 1.0);
     detail::require_enumerator("newton_settings.globalization", globalization, globalization_strategy::pseudo_transient,
                                "line_search, full_step, trust_region, pseudo_transient");
+    componentwise.validate("newton_settings.componentwise");
+    detail::require_non_negative("newton_settings.magnitude_spread_warning", magnitude_spread_warning);
     forcing.validate("newton_settings.forcing");
     line_search.validate("newton_settings.line_search");
     trust_region.validate("newton_settings.trust_region");

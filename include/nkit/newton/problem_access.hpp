@@ -31,6 +31,7 @@
 #include <cmath>
 #include <cstddef>
 #include <cstdint>
+#include <cstring>
 #include <limits>
 #include <stdexcept>
 #include <string>
@@ -94,6 +95,7 @@ class problem_access {
     m_jacobian_settings = settings.jacobian;
     m_bound_settings = settings.bounds;
     m_evaluation_budget = settings.residual_evaluation_budget;
+    m_unwritten_check = settings.check_unwritten_residual_entries;
     m_wall_time_limit = settings.wall_time_limit_seconds;
     m_cancellation_flag = settings.cancellation_flag;
   }
@@ -258,6 +260,11 @@ class problem_access {
       return;
     }
     const auto expected = x.size();
+    const bool checked =
+        detail::can_find_unwritten_entries<vector_type>::value &&
+        (m_unwritten_check == unwritten_entry_check::every_evaluation ||
+         (m_unwritten_check == unwritten_entry_check::initial_residual && report.residual_evaluations == 0));
+    if (checked) m_space.fill(unwritten_entry_marker(), r);
     const auto start = detail::clock_type::now();
     problem(physical, r);
     const auto stop = detail::clock_type::now();
@@ -268,7 +275,23 @@ class problem_access {
                                   std::to_string(expected) + " to " + std::to_string(r.size()) +
                                   "; it must write into r without resizing it");
     }
+    if constexpr (detail::can_find_unwritten_entries<vector_type>::value) {
+      if (checked) require_every_entry_written(r);
+    }
     if (m_residual_scaling) m_space.divide(m_residual_scale, r);
+  }
+
+  /// Throws std::invalid_argument when entries of r still hold the marker
+  /// (collective: every rank throws when any rank found one).
+  void require_every_entry_written(const vector_type& r) const {
+    const unwritten_entries found = find_unwritten_entries(r);
+    if (!any_of(m_space, found.count > 0)) return;
+    throw std::invalid_argument("nkit: the residual left " + std::to_string(found.count) + " of " +
+                                std::to_string(r.size()) + " entries of r unwritten" +
+                                (found.first >= 0 ? " (the first at index " + std::to_string(found.first) + ")"
+                                                  : std::string(" on another rank")) +
+                                "; it must write every entry on every call (a grid-size mismatch is the usual cause; "
+                                "the check is newton_settings::check_unwritten_residual_entries)");
   }
 
   /// R at a trial state into `trial_residual`; returns ‖R‖, or +inf without
@@ -508,6 +531,7 @@ class problem_access {
   jacobian_settings m_jacobian_settings;
   bound_settings m_bound_settings;
   std::int64_t m_evaluation_budget = std::numeric_limits<std::int64_t>::max();
+  unwritten_entry_check m_unwritten_check = unwritten_entry_check::initial_residual;
   double m_wall_time_limit = std::numeric_limits<double>::infinity();
   const std::atomic<bool>* m_cancellation_flag = nullptr;
   phase_ledger* m_ledger = nullptr;

@@ -49,9 +49,9 @@
 #include <string>
 #include <vector>
 
-#include "algebraic_multigrid_settings.hpp"
 #include "../core/preconditioner.hpp"
 #include "../distributed/row_partition.hpp"
+#include "algebraic_multigrid_settings.hpp"
 
 namespace nkit {
 

@@ -11,23 +11,24 @@
 namespace nkit {
 
 enum class outcome {
-  in_progress,                  ///< the caller-driven loop has not stopped yet
-  converged_absolute_residual,  ///< ‖R(u)‖ <= absolute_tolerance
-  converged_relative_residual,  ///< ‖R(u)‖ <= relative_tolerance · ‖R(u0)‖
-  step_below_tolerance,         ///< accepted step shorter than step_tolerance; residual not small
-  newton_step_limit,            ///< max_newton_steps reached
-  residual_evaluation_budget,   ///< residual_evaluation_budget spent
-  linear_iteration_budget,      ///< linear_iteration_budget spent
-  wall_time_limit,              ///< wall_time_limit_seconds passed
-  stagnated,                    ///< no significant progress (stagnation_factor) within stagnation_window steps
-  line_search_failed,           ///< no acceptable step length within max_backtracks
-  linear_solver_no_progress,    ///< GMRES did not reduce the linear residual at all
-  non_finite_initial_residual,  ///< R(u0) has NaN or Inf entries; no step was taken
-  preconditioner_failed,        ///< preconditioner setup failed and its fallback failed too
-  trust_region_collapsed,       ///< trust-region radius fell below its minimum
-  pseudo_time_step_collapsed,   ///< pseudo-transient step fell below its minimum
-  cancelled,                    ///< the cancellation flag was raised
-  stopped_by_monitor            ///< a monitor returned monitor_decision::stop_now
+  in_progress,                       ///< the caller-driven loop has not stopped yet
+  converged_absolute_residual,       ///< ‖R(u)‖ <= absolute_tolerance
+  converged_relative_residual,       ///< ‖R(u)‖ <= relative_tolerance · ‖R(u0)‖
+  step_below_tolerance,              ///< accepted step shorter than step_tolerance; residual not small
+  newton_step_limit,                 ///< max_newton_steps reached
+  residual_evaluation_budget,        ///< residual_evaluation_budget spent
+  linear_iteration_budget,           ///< linear_iteration_budget spent
+  wall_time_limit,                   ///< wall_time_limit_seconds passed
+  stagnated,                         ///< no significant progress (stagnation_factor) within stagnation_window steps
+  line_search_failed,                ///< no acceptable step length within max_backtracks
+  linear_solver_no_progress,         ///< GMRES did not reduce the linear residual at all
+  non_finite_initial_residual,       ///< R(u0) has NaN or Inf entries; no step was taken
+  preconditioner_failed,             ///< preconditioner setup failed and its fallback failed too
+  preconditioner_output_not_finite,  ///< the preconditioner returned NaN or Inf, so GMRES had no direction
+  trust_region_collapsed,            ///< trust-region radius fell below its minimum
+  pseudo_time_step_collapsed,        ///< pseudo-transient step fell below its minimum
+  cancelled,                         ///< the cancellation flag was raised
+  stopped_by_monitor                 ///< a monitor returned monitor_decision::stop_now
 };
 
 /// True for the two converged outcomes.
@@ -64,6 +65,8 @@ constexpr std::string_view name(outcome value) {
       return "non_finite_initial_residual";
     case outcome::preconditioner_failed:
       return "preconditioner_failed";
+    case outcome::preconditioner_output_not_finite:
+      return "preconditioner_output_not_finite";
     case outcome::trust_region_collapsed:
       return "trust_region_collapsed";
     case outcome::pseudo_time_step_collapsed:
@@ -107,6 +110,9 @@ constexpr std::string_view describe(outcome value) {
       return "Stopped: the residual at the initial guess contains NaN or Inf; no step was taken.";
     case outcome::preconditioner_failed:
       return "Stopped: the preconditioner could not be set up, and its fallback failed as well.";
+    case outcome::preconditioner_output_not_finite:
+      return "Stopped: the preconditioner returned NaN or Inf entries, so GMRES found no Newton direction (a zero or "
+             "tiny pivot in its factors, or a setup from a non-finite Jacobian, is the usual cause).";
     case outcome::trust_region_collapsed:
       return "Stopped: the trust-region radius shrank below its minimum without an acceptable step.";
     case outcome::pseudo_time_step_collapsed:

@@ -77,10 +77,13 @@ struct phase_calls {
   std::int64_t monitor = 0;
 };
 
-/// One completed Newton step. Norms are Euclidean norms of the residual as
-/// the solver sees it (scaled when residual scaling is set).
+/// One Newton step. Norms are Euclidean norms of the residual as the solver
+/// sees it (scaled when residual scaling is set). A step that could not be
+/// completed (no direction, no acceptable step) ends the history with
+/// accepted = false; its norms are those of the unchanged state.
 struct newton_step_record {
-  int step = 0;                           ///< 1-based index of the completed step
+  int step = 0;                           ///< 1-based index of the step
+  bool accepted = true;                   ///< false: the step failed and the solve stopped
   double residual_norm = 0.0;             ///< ‖R(u_k)‖ after the step
   double relative_residual_norm = 0.0;    ///< ‖R(u_k)‖ / ‖R(u0)‖
   double forcing_term = 0.0;              ///< η requested from GMRES
@@ -91,11 +94,30 @@ struct newton_step_record {
   double step_norm = 0.0;    ///< ‖u_k − u_{k−1}‖
   int backtracks = 0;        ///< rejected trial points in this step
   bool preconditioner_rebuilt = false;
+  /// max_i |Δu_i| / (absolute + relative·|u_i|) of this step when the
+  /// component-wise test is enabled (<= 1 passes), else 0.
+  double componentwise_step_ratio = 0.0;
   bool bound_active = false;              ///< a bound or admissibility limit shortened the step
   double pseudo_time_step = 0.0;          ///< δ of the pseudo-transient term (0 when off)
   double trust_radius = 0.0;              ///< trust-region radius after the step (0 when off)
   double elapsed_seconds = 0.0;           ///< since the solve began
   std::int64_t residual_evaluations = 0;  ///< cumulative
+};
+
+/// What nkit noticed about the problem at the start of a solve. Warnings
+/// never stop a solve; they say where its results need a closer look.
+struct solve_warnings {
+  /// Largest / smallest nonzero magnitude of the entries of u0 and of R(u0)
+  /// (solver's variables; 1 when not measured).
+  double state_magnitude_spread = 1.0;
+  double residual_magnitude_spread = 1.0;
+  /// The spreads exceed newton_settings::magnitude_spread_warning: the
+  /// Euclidean norms that decide convergence are dominated by the largest
+  /// entries. Give typical magnitudes with set_scaling, or enable
+  /// newton_settings::componentwise.
+  bool state_magnitudes_spread_widely = false;
+  bool residual_magnitudes_spread_widely = false;
+  bool any() const { return state_magnitudes_spread_widely || residual_magnitudes_spread_widely; }
 };
 
 struct solve_report {
@@ -115,9 +137,12 @@ struct solve_report {
   std::int64_t non_finite_trials = 0;    ///< trial points whose residual had NaN/Inf
   std::int64_t inadmissible_trials = 0;  ///< trial points rejected by is_admissible (residual not evaluated)
   std::int64_t bound_limited_steps = 0;  ///< steps shortened by bounds or admissibility
+  solve_warnings warnings;
 
   /// ‖R(u0)‖; NaN when the solve stopped (time limit, cancellation) before R(u0) was evaluated.
   double initial_residual_norm = 0.0;
+  /// The residual norm that counts as converged: max(absolute_tolerance, relative_tolerance·‖R(u0)‖).
+  double target_residual_norm = 0.0;
   double final_residual_norm = 0.0;  ///< ‖R(u)‖ at the returned u (NaN as above)
   double wall_seconds = 0.0;
   phase_seconds time;

@@ -94,12 +94,42 @@ inline void print_cost_breakdown(std::ostream& os, const solve_report& report) {
   detail::breakdown_line(os, "total (wall)", total, -1, total, unit);
 }
 
+namespace detail {
+/// One line per start-of-solve warning (nothing when there is none).
+inline void print_warnings(std::ostream& os, const solve_warnings& warnings) {
+  char line[400];
+  if (warnings.state_magnitudes_spread_widely) {
+    std::snprintf(line, sizeof line,
+                  "warning: the entries of u0 span a factor %.1e between the largest and the smallest nonzero "
+                  "magnitude; the Euclidean norms that decide convergence hide the small ones (give typical "
+                  "magnitudes with set_scaling, or enable newton_settings::componentwise)\n",
+                  warnings.state_magnitude_spread);
+    os << line;
+  }
+  if (warnings.residual_magnitudes_spread_widely) {
+    std::snprintf(line, sizeof line,
+                  "warning: the entries of R(u0) span a factor %.1e between the largest and the smallest nonzero "
+                  "magnitude; the residual norm is dominated by the largest rows (give typical residual "
+                  "magnitudes with set_scaling, or enable newton_settings::componentwise)\n",
+                  warnings.residual_magnitude_spread);
+    os << line;
+  }
+}
+/// The table's first row: the initial residual, and the norm that counts as converged.
+inline void initial_row(std::ostream& os, double initial_norm, double target_norm) {
+  char line[256];
+  std::snprintf(line, sizeof line, "%5d | %14.6e | %10.3e |   converged at residual norm <= %.6e\n", 0, initial_norm,
+                1.0, target_norm);
+  os << line;
+}
+}  // namespace detail
+
 /// Prints the per-step table, the outcome, the counts and the cost breakdown.
 inline void print_convergence_table(std::ostream& os, const solve_report& report) {
+  detail::print_warnings(os, report.warnings);
   detail::table_header(os);
   char line[256];
-  std::snprintf(line, sizeof line, "%5d | %14.6e | %10.3e |\n", 0, report.initial_residual_norm, 1.0);
-  os << line;
+  detail::initial_row(os, report.initial_residual_norm, report.target_residual_norm);
   for (const auto& record : report.history) detail::table_row(os, record);
   os << "outcome: " << name(report.result) << ". " << report.message() << '\n';
   std::snprintf(line, sizeof line,
@@ -142,18 +172,43 @@ inline void write_history_csv(std::ostream& os, const solve_report& report) {
   for (const auto& record : report.history) write_history_csv_row(os, record);
 }
 
-/// Live table: prints a header before the first step and a row per step.
+/// Live table: at the start the warnings, the header and the initial residual
+/// with the norm that counts as converged; then a row per Newton step; and,
+/// with `linear_progress_every` = k > 0, a progress line every k GMRES
+/// iterations (for long linear solves).
 class convergence_table_monitor {
  public:
-  explicit convergence_table_monitor(std::ostream& os) : m_os(&os) {}
+  explicit convergence_table_monitor(std::ostream& os, int linear_progress_every = 0)
+      : m_os(&os), m_linear_progress_every(linear_progress_every) {}
+  void at_start(const solve_start_record& start) {
+    detail::print_warnings(*m_os, start.warnings);
+    detail::table_header(*m_os);
+    detail::initial_row(*m_os, start.initial_residual_norm, start.target_residual_norm);
+    m_started = true;
+  }
   monitor_decision after_newton_step(const newton_step_record& record) {
-    if (record.step == 1) detail::table_header(*m_os);
+    if (!m_started) {  // used outside a Newton solve's run: no start record
+      detail::table_header(*m_os);
+      m_started = true;
+    }
     detail::table_row(*m_os, record);
+    return monitor_decision::keep_going;
+  }
+  monitor_decision after_linear_iteration(const linear_iteration_record& record) {
+    if (m_linear_progress_every > 0 && record.iteration % m_linear_progress_every == 0) {
+      char line[200];
+      std::snprintf(line, sizeof line,
+                    "      Newton step %d, GMRES iteration %d: relative linear residual %.3e (forcing term %.2e)\n",
+                    record.newton_step, record.iteration, record.relative_linear_residual, record.forcing_term);
+      *m_os << line;
+    }
     return monitor_decision::keep_going;
   }
 
  private:
   std::ostream* m_os;
+  int m_linear_progress_every = 0;
+  bool m_started = false;
 };
 
 /// Live CSV: header before the first step, one row per step.
