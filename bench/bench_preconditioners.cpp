@@ -39,11 +39,11 @@
 #include <nkit/preconditioners/suitesparse_direct.hpp>
 #endif
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 namespace {
 
-using model = nkit_examples::heat_conduction_model_problem;
+using model = nkit_problems::heat_conduction_model_problem;
 
 /// Resident-set figures of this process from /proc/self/status, bytes (0 if unavailable).
 double status_bytes(const char* field) {

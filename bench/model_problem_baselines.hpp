@@ -14,11 +14,11 @@
 #include <string>
 #include <vector>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 namespace nkit_bench {
 
-using model = nkit_examples::heat_conduction_model_problem;
+using model = nkit_problems::heat_conduction_model_problem;
 using column_matrix = Eigen::SparseMatrix<double, Eigen::ColMajor, int>;
 
 /// §15's convergence criterion: ‖R‖₂ <= 1e-8 ‖R(T0)‖₂.

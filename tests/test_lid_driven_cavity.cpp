@@ -3,7 +3,7 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 
-#include "lid_driven_cavity/cavity_solve.hpp"
+#include "problems/flow/cavity_solve.hpp"
 
 using Catch::Matchers::WithinAbs;
 using Catch::Matchers::WithinRel;
@@ -11,7 +11,7 @@ using Catch::Matchers::WithinRel;
 TEST_CASE("cavity Jacobian matches finite differences of the residual", "[examples][cavity]") {
   // Definition of the Jacobian: column j ≈ [R(u + δe_j) − R(u − δe_j)]/(2δ);
   // the residual is quadratic, so the central difference is exact up to round-off.
-  nkit_examples::lid_driven_cavity cavity(6, 250.0);
+  nkit_problems::lid_driven_cavity cavity(6, 250.0);
   Eigen::VectorXd state = Eigen::VectorXd::LinSpaced(cavity.unknowns(), -0.3, 0.7).array().sin();
   nkit::sparse_matrix jacobian;
   cavity.assemble_jacobian(state, jacobian);
@@ -37,10 +37,10 @@ constexpr int ghia_intervals = 128;
 TEST_CASE("cavity at Re = 100 matches Ghia et al. (1982) on their 129 x 129 grid", "[examples][cavity][ghia]") {
   const int intervals = ghia_intervals;
   {
-    const auto solution = nkit_examples::solve_cavity(intervals, 100.0);
+    const auto solution = nkit_problems::solve_cavity(intervals, 100.0);
     REQUIRE(solution.converged);
-    const nkit_examples::lid_driven_cavity cavity(intervals, 100.0);
-    const auto deviation = nkit_examples::compare_with_ghia(cavity, solution.state, false);
+    const nkit_problems::lid_driven_cavity cavity(intervals, 100.0);
+    const auto deviation = nkit_problems::compare_with_ghia(cavity, solution.state, false);
     CAPTURE(deviation.max_u_deviation, deviation.worst_u_position, deviation.max_v_deviation,
             deviation.worst_v_position);
     // Ghia et al. (1982) Tables I–II (majority transcription, references §1): both
@@ -51,19 +51,19 @@ TEST_CASE("cavity at Re = 100 matches Ghia et al. (1982) on their 129 x 129 grid
     // Primary vortex, Ghia et al. (1982) Table V: ψ = −0.103423 at (0.6172, 0.7344).
     // FROM MEMORY (not in the shared references), so a 2 % tolerance and one cell.
     const auto vortex = cavity.primary_vortex(solution.state);
-    CHECK_THAT(vortex.streamfunction, WithinRel(nkit_examples::ghia_1982::primary_vortex_re_100.streamfunction, 0.02));
-    CHECK_THAT(vortex.x, WithinAbs(nkit_examples::ghia_1982::primary_vortex_re_100.x, 1.0 / intervals + 1e-4));
-    CHECK_THAT(vortex.y, WithinAbs(nkit_examples::ghia_1982::primary_vortex_re_100.y, 1.0 / intervals + 1e-4));
+    CHECK_THAT(vortex.streamfunction, WithinRel(nkit_problems::ghia_1982::primary_vortex_re_100.streamfunction, 0.02));
+    CHECK_THAT(vortex.x, WithinAbs(nkit_problems::ghia_1982::primary_vortex_re_100.x, 1.0 / intervals + 1e-4));
+    CHECK_THAT(vortex.y, WithinAbs(nkit_problems::ghia_1982::primary_vortex_re_100.y, 1.0 / intervals + 1e-4));
   }
 }
 
 TEST_CASE("cavity at Re = 1000 matches Ghia et al. (1982) on their 129 x 129 grid", "[examples][cavity][ghia]") {
   const int intervals = ghia_intervals;
   {
-    const auto solution = nkit_examples::solve_cavity(intervals, 1000.0);
+    const auto solution = nkit_problems::solve_cavity(intervals, 1000.0);
     REQUIRE(solution.converged);
-    const nkit_examples::lid_driven_cavity cavity(intervals, 1000.0);
-    const auto deviation = nkit_examples::compare_with_ghia(cavity, solution.state, true);
+    const nkit_problems::lid_driven_cavity cavity(intervals, 1000.0);
+    const auto deviation = nkit_problems::compare_with_ghia(cavity, solution.state, true);
     CAPTURE(deviation.max_u_deviation, deviation.worst_u_position, deviation.max_v_deviation,
             deviation.worst_v_position);
     // Thinner boundary layers at Re = 1000: the brief's bound is 0.02 (measured: u 0.0137, v 0.0079).
@@ -72,8 +72,8 @@ TEST_CASE("cavity at Re = 1000 matches Ghia et al. (1982) on their 129 x 129 gri
     // Primary vortex, Ghia et al. (1982) Table V: ψ = −0.117929 at (0.5313, 0.5625).
     // FROM MEMORY; central differences on 129² underpredict it by about 2 % (measured −0.11547), so 3 %.
     const auto vortex = cavity.primary_vortex(solution.state);
-    CHECK_THAT(vortex.streamfunction, WithinRel(nkit_examples::ghia_1982::primary_vortex_re_1000.streamfunction, 0.03));
-    CHECK_THAT(vortex.x, WithinAbs(nkit_examples::ghia_1982::primary_vortex_re_1000.x, 1.0 / intervals + 1e-4));
-    CHECK_THAT(vortex.y, WithinAbs(nkit_examples::ghia_1982::primary_vortex_re_1000.y, 1.0 / intervals + 1e-4));
+    CHECK_THAT(vortex.streamfunction, WithinRel(nkit_problems::ghia_1982::primary_vortex_re_1000.streamfunction, 0.03));
+    CHECK_THAT(vortex.x, WithinAbs(nkit_problems::ghia_1982::primary_vortex_re_1000.x, 1.0 / intervals + 1e-4));
+    CHECK_THAT(vortex.y, WithinAbs(nkit_problems::ghia_1982::primary_vortex_re_1000.y, 1.0 / intervals + 1e-4));
   }
 }

@@ -20,10 +20,10 @@
 #include <nkit/preconditioners/suitesparse_direct.hpp>
 #endif
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 #include "support/matchers.hpp"
 
-using nkit_examples::heat_conduction_model_problem;
+using nkit_problems::heat_conduction_model_problem;
 
 namespace {
 

@@ -15,15 +15,15 @@
 #include <string>
 #include <vector>
 
-#include "baseplate/baseplate.hpp"
-#include "baseplate/baseplate_solvers.hpp"
+#include "problems/heat/baseplate.hpp"
+#include "problems/heat/baseplate_solvers.hpp"
 #include "common/command_line.hpp"
 #include "common/run_output.hpp"
 #include "common/vtk_legacy.hpp"
 
 namespace {
 
-using nkit_examples::baseplate_conduction;
+using nkit_problems::baseplate_conduction;
 constexpr double kelvin_offset = 273.15;
 
 struct run_summary {
@@ -61,9 +61,9 @@ void print_side_by_side(const std::vector<run_summary>& runs) {
 
 /// Max temperature per region and per chip: the limits a designer checks.
 void print_temperature_limits(const baseplate_conduction& problem, const Eigen::VectorXd& t) {
-  const auto& table = nkit_examples::material_table();
+  const auto& table = nkit_problems::material_table();
   std::printf("\nTemperature limits (deg C):\n  %-28s %10s %10s\n", "region", "minimum", "maximum");
-  for (int region = 0; region < nkit_examples::region_count; ++region) {
+  for (int region = 0; region < nkit_problems::region_count; ++region) {
     double low = 1e300, high = -1e300;
     for (Eigen::Index p = 0; p < t.size(); ++p) {
       if (problem.regions()(p) != region) continue;
@@ -89,7 +89,7 @@ void print_temperature_limits(const baseplate_conduction& problem, const Eigen::
   }
 }
 
-void write_picard_csv(const std::filesystem::path& path, const nkit_examples::picard_report& report) {
+void write_picard_csv(const std::filesystem::path& path, const nkit_problems::picard_report& report) {
   std::ofstream out(path);
   out << "iteration,residual_norm,relative_residual_norm,elapsed_seconds,residual_evaluations\n";
   out << 0 << ',' << report.initial_residual_norm << ",1,0,1\n";
@@ -174,7 +174,7 @@ int run(int argc, char** argv) {
   nkit_examples::reset_peak_memory();
   const double baseline_memory = nkit_examples::resident_memory_bytes();
   const double newton_cpu_start = nkit_examples::process_cpu_seconds();
-  const nkit::solve_report report = nkit_examples::solve_by_newton_gmres(problem, newton_t, choice, settings);
+  const nkit::solve_report report = nkit_problems::solve_by_newton_gmres(problem, newton_t, choice, settings);
   const double newton_cpu = nkit_examples::process_cpu_seconds() - newton_cpu_start;
   const double newton_peak = nkit_examples::peak_memory_bytes() - baseline_memory;
   std::printf("Newton-GMRES, preconditioner %s:\n", choice.c_str());
@@ -193,8 +193,8 @@ int run(int argc, char** argv) {
     nkit_examples::reset_peak_memory();
     const double before = nkit_examples::resident_memory_bytes();
     const double picard_cpu_start = nkit_examples::process_cpu_seconds();
-    const nkit_examples::picard_report picard =
-        nkit_examples::solve_by_picard_iteration(problem, picard_t, settings.relative_tolerance, 200);
+    const nkit_problems::picard_report picard =
+        nkit_problems::solve_by_picard_iteration(problem, picard_t, settings.relative_tolerance, 200);
     const double picard_cpu = nkit_examples::process_cpu_seconds() - picard_cpu_start;
     const double picard_peak = nkit_examples::peak_memory_bytes() - before;
     std::printf("\nPicard (frozen k, sparse LDL^T per iteration):\n iteration | residual norm | reduction\n");

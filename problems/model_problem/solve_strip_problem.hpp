@@ -1,8 +1,8 @@
 // Solves the strip-split model problem (strip_heat_problem.hpp) with nkit on
 // an MPI communicator, with one of the distributed preconditioners. Shared by
 // the example program, the MPI tests and the benchmark.
-#ifndef NKIT_EXAMPLES_SOLVE_STRIP_PROBLEM_HPP
-#define NKIT_EXAMPLES_SOLVE_STRIP_PROBLEM_HPP
+#ifndef NKIT_PROBLEMS_MODEL_PROBLEM_SOLVE_STRIP_PROBLEM_HPP
+#define NKIT_PROBLEMS_MODEL_PROBLEM_SOLVE_STRIP_PROBLEM_HPP
 
 #include <mpi.h>
 
@@ -16,9 +16,9 @@
 #include <string>
 #include <string_view>
 
-#include "distributed_heat/strip_heat_problem.hpp"
+#include "problems/model_problem/strip_heat_problem.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 enum class strip_preconditioner { schwarz_incomplete_lu, schwarz_direct, algebraic_multigrid, none };
 
@@ -83,6 +83,6 @@ inline strip_solve_result solve_strip_problem(MPI_Comm communicator, int cells_p
   return result;
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_SOLVE_STRIP_PROBLEM_HPP
+#endif  // NKIT_PROBLEMS_MODEL_PROBLEM_SOLVE_STRIP_PROBLEM_HPP

@@ -5,8 +5,8 @@
 //  * the hand-rolled fixed-point (Picard) loop that Newton–Krylov replaces:
 //    freeze k at the current iterate, assemble A(T_k), solve A(T_k) T_{k+1} = b
 //    by the same sparse LDLᵀ, repeat until ‖R(T)‖₂ <= tolerance · ‖R(T0)‖₂.
-#ifndef NKIT_EXAMPLES_BASEPLATE_SOLVERS_HPP
-#define NKIT_EXAMPLES_BASEPLATE_SOLVERS_HPP
+#ifndef NKIT_PROBLEMS_HEAT_BASEPLATE_SOLVERS_HPP
+#define NKIT_PROBLEMS_HEAT_BASEPLATE_SOLVERS_HPP
 
 #include <Eigen/SparseCholesky>
 #include <algorithm>
@@ -22,9 +22,9 @@
 #include <string>
 #include <vector>
 
-#include "baseplate/baseplate.hpp"
+#include "problems/heat/baseplate.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 /// M = A(T̂), the frozen-coefficient conduction matrix at the state the driver
 /// hands to setup(), factored by sparse LDLᵀ. The symbolic analysis is done
@@ -155,6 +155,6 @@ inline picard_report solve_by_picard_iteration(baseplate_conduction& problem, Ei
   return report;
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_BASEPLATE_SOLVERS_HPP
+#endif  // NKIT_PROBLEMS_HEAT_BASEPLATE_SOLVERS_HPP

@@ -2,7 +2,7 @@
 //   −∇·(k(T)∇T) = S(x, y),  k(T) = k0 (1 + βT),
 // on a rectangle, cell-centred finite volume on a uniform nx × ny grid with
 // the same harmonic-mean face formula as the baseplate demo
-// (common/harmonic_face.hpp). Dirichlet walls use the half-cell distance and
+// (harmonic_face.hpp). Dirichlet walls use the half-cell distance and
 // the harmonic mean of k(T_P) and k(T_wall); insulated walls carry no flux.
 // The source is the point value at the cell centre times the cell area
 // (second-order accurate). Residual per cell (per unit depth):
@@ -22,8 +22,8 @@
 //    (2002) 4–10, from memory): T = 1 + a sin(πx) sin(πy) + b x y on the unit
 //    square with Dirichlet data from T itself and S = −∇·(k(T)∇T)
 //    = −k0 [(1 + βT) ΔT + β |∇T|²] worked out analytically below.
-#ifndef NKIT_EXAMPLES_NONLINEAR_CONDUCTION_HPP
-#define NKIT_EXAMPLES_NONLINEAR_CONDUCTION_HPP
+#ifndef NKIT_PROBLEMS_HEAT_NONLINEAR_CONDUCTION_HPP
+#define NKIT_PROBLEMS_HEAT_NONLINEAR_CONDUCTION_HPP
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
@@ -32,9 +32,9 @@
 #include <stdexcept>
 #include <vector>
 
-#include "common/harmonic_face.hpp"
+#include "problems/heat/harmonic_face.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 inline constexpr double pi = 3.14159265358979323846;
 
@@ -210,6 +210,6 @@ struct manufactured_conduction {
   }
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_NONLINEAR_CONDUCTION_HPP
+#endif  // NKIT_PROBLEMS_HEAT_NONLINEAR_CONDUCTION_HPP

@@ -6,12 +6,12 @@
 // Status (shared references §1): VERIFIED as consistent independent
 // transcriptions; the majority values are used, not the known transcription
 // typos (Re=1000 v(0.8047) = −0.31966, u(0.9531) = 0.46604, u(0.9609) = 0.51117).
-#ifndef NKIT_EXAMPLES_GHIA_1982_HPP
-#define NKIT_EXAMPLES_GHIA_1982_HPP
+#ifndef NKIT_PROBLEMS_FLOW_GHIA_1982_HPP
+#define NKIT_PROBLEMS_FLOW_GHIA_1982_HPP
 
 #include <array>
 
-namespace nkit_examples::ghia_1982 {
+namespace nkit_problems::ghia_1982 {
 
 struct centre_line_point {
   double position;  ///< y for Table I, x for Table II
@@ -70,6 +70,6 @@ struct primary_vortex {
 inline constexpr primary_vortex primary_vortex_re_100{-0.103423, 0.6172, 0.7344};
 inline constexpr primary_vortex primary_vortex_re_1000{-0.117929, 0.5313, 0.5625};
 
-}  // namespace nkit_examples::ghia_1982
+}  // namespace nkit_problems::ghia_1982
 
-#endif  // NKIT_EXAMPLES_GHIA_1982_HPP
+#endif  // NKIT_PROBLEMS_FLOW_GHIA_1982_HPP

@@ -6,11 +6,11 @@
 // end_row) and exchanges one row of halo cells with each neighbour (MPI
 // point-to-point, inside the residual) before every evaluation.
 //
-// Global numbering p = i + n·j, as in the serial examples/model_problem; the
+// Global numbering p = i + n·j, as in the serial model_problem.hpp; the
 // strips are rank-contiguous in it, so the distributed Jacobian layout of
 // nkit/row_partition.hpp applies directly: local rows, global columns.
-#ifndef NKIT_EXAMPLES_STRIP_HEAT_PROBLEM_HPP
-#define NKIT_EXAMPLES_STRIP_HEAT_PROBLEM_HPP
+#ifndef NKIT_PROBLEMS_MODEL_PROBLEM_STRIP_HEAT_PROBLEM_HPP
+#define NKIT_PROBLEMS_MODEL_PROBLEM_STRIP_HEAT_PROBLEM_HPP
 
 #include <mpi.h>
 
@@ -21,7 +21,7 @@
 #include <string>
 #include <vector>
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 class strip_heat_problem {
  public:
@@ -186,6 +186,6 @@ class strip_heat_problem {
   std::int64_t m_halo_exchanges = 0;
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_STRIP_HEAT_PROBLEM_HPP
+#endif  // NKIT_PROBLEMS_MODEL_PROBLEM_STRIP_HEAT_PROBLEM_HPP

@@ -14,8 +14,8 @@
 // The registry at the end (problem_entry, more_garbow_hillstrom_problems) holds
 // type-erased double-precision residuals plus exact Jacobian-vector products by
 // automatic differentiation, for harnesses that loop over all problems.
-#ifndef NKIT_TESTS_PROBLEMS_MORE_GARBOW_HILLSTROM_HPP
-#define NKIT_TESTS_PROBLEMS_MORE_GARBOW_HILLSTROM_HPP
+#ifndef NKIT_PROBLEMS_TEST_SETS_MORE_GARBOW_HILLSTROM_HPP
+#define NKIT_PROBLEMS_TEST_SETS_MORE_GARBOW_HILLSTROM_HPP
 
 #include <Eigen/Core>
 #include <cmath>
@@ -27,7 +27,7 @@
 #include <utility>
 #include <vector>
 
-namespace nkit_test::more_garbow_hillstrom {
+namespace nkit_problems::more_garbow_hillstrom {
 
 template <class Scalar>
 using vector_of = Eigen::Matrix<Scalar, Eigen::Dynamic, 1>;
@@ -326,6 +326,6 @@ inline std::vector<problem_entry> more_garbow_hillstrom_problems(Eigen::Index va
   return entries;
 }
 
-}  // namespace nkit_test::more_garbow_hillstrom
+}  // namespace nkit_problems::more_garbow_hillstrom
 
-#endif  // NKIT_TESTS_PROBLEMS_MORE_GARBOW_HILLSTROM_HPP
+#endif  // NKIT_PROBLEMS_TEST_SETS_MORE_GARBOW_HILLSTROM_HPP

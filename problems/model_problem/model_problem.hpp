@@ -6,15 +6,15 @@
 //   interior face P|Q:  k_f = ½(k(T_P) + k(T_Q)),  flux = k_f (T_P − T_Q)
 //   wall face:          flux = 2·½(k(T_P) + k(0))·T_P = (k(T_P) + 1) T_P
 //   R_P = Σ_faces flux − q h²   (not divided by h², so ‖R(0)‖₂ = q/n)
-#ifndef NKIT_EXAMPLES_MODEL_PROBLEM_HPP
-#define NKIT_EXAMPLES_MODEL_PROBLEM_HPP
+#ifndef NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP
+#define NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
 #include <stdexcept>
 #include <vector>
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 class heat_conduction_model_problem {
  public:
@@ -157,6 +157,6 @@ class heat_conduction_model_problem {
   double m_source;
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_MODEL_PROBLEM_HPP
+#endif  // NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP

@@ -5,8 +5,8 @@
 // starts from the converged flow at the previous Re), with nkit's
 // backtracking line search inside each Newton solve. From rest, Newton
 // converges directly at Re = 100; Re = 1000 is reached through a short ramp.
-#ifndef NKIT_EXAMPLES_CAVITY_SOLVE_HPP
-#define NKIT_EXAMPLES_CAVITY_SOLVE_HPP
+#ifndef NKIT_PROBLEMS_FLOW_CAVITY_SOLVE_HPP
+#define NKIT_PROBLEMS_FLOW_CAVITY_SOLVE_HPP
 
 #include <Eigen/OrderingMethods>
 #include <Eigen/SparseLU>
@@ -18,10 +18,10 @@
 #include <string>
 #include <vector>
 
-#include "lid_driven_cavity/cavity.hpp"
-#include "lid_driven_cavity/ghia_1982.hpp"
+#include "problems/flow/cavity.hpp"
+#include "problems/flow/ghia_1982.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 /// The Re values visited on the way to `target`: 100, then ×4 steps (common practice: small enough
 /// that each Newton solve starts inside its basin).
@@ -196,6 +196,6 @@ inline ghia_comparison compare_with_ghia(const lid_driven_cavity& cavity, const 
   return result;
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_CAVITY_SOLVE_HPP
+#endif  // NKIT_PROBLEMS_FLOW_CAVITY_SOLVE_HPP
