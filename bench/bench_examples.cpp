@@ -20,10 +20,10 @@
 #include <nkit/preconditioners/sparse_direct.hpp>
 #include <string>
 
+#include "problems/baselines/process_resources.hpp"
+#include "problems/flow/cavity_solve.hpp"
 #include "problems/heat/baseplate.hpp"
 #include "problems/heat/baseplate_solvers.hpp"
-#include "common/run_output.hpp"
-#include "problems/flow/cavity_solve.hpp"
 
 namespace {
 
@@ -44,10 +44,10 @@ void publish(benchmark::State& state, const measured& m) {
 
 template <class Run>
 measured with_memory(Run&& run) {
-  nkit_examples::reset_peak_memory();
-  const double before = nkit_examples::resident_memory_bytes();
+  nkit_problems::reset_peak_memory();
+  const double before = nkit_problems::resident_memory_bytes();
   measured m = run();
-  m.peak_mib = nkit_examples::mebibytes(nkit_examples::peak_memory_bytes() - before);
+  m.peak_mib = nkit_problems::mebibytes(nkit_problems::peak_memory_bytes() - before);
   return m;
 }
 

@@ -15,11 +15,12 @@
 #include <string>
 #include <vector>
 
-#include "problems/heat/baseplate.hpp"
-#include "problems/heat/baseplate_solvers.hpp"
 #include "common/command_line.hpp"
 #include "common/run_output.hpp"
 #include "common/vtk_legacy.hpp"
+#include "problems/baselines/process_resources.hpp"
+#include "problems/heat/baseplate.hpp"
+#include "problems/heat/baseplate_solvers.hpp"
 
 namespace {
 
@@ -171,18 +172,18 @@ int run(int argc, char** argv) {
   const double coolant = problem.design().coolant_temperature;
   Eigen::VectorXd newton_t = Eigen::VectorXd::Constant(problem.unknowns(), coolant);
   const std::string choice = options.text("preconditioner");
-  nkit_examples::reset_peak_memory();
-  const double baseline_memory = nkit_examples::resident_memory_bytes();
-  const double newton_cpu_start = nkit_examples::process_cpu_seconds();
+  nkit_problems::reset_peak_memory();
+  const double baseline_memory = nkit_problems::resident_memory_bytes();
+  const double newton_cpu_start = nkit_problems::process_cpu_seconds();
   const nkit::solve_report report = nkit_problems::solve_by_newton_gmres(problem, newton_t, choice, settings);
-  const double newton_cpu = nkit_examples::process_cpu_seconds() - newton_cpu_start;
-  const double newton_peak = nkit_examples::peak_memory_bytes() - baseline_memory;
+  const double newton_cpu = nkit_problems::process_cpu_seconds() - newton_cpu_start;
+  const double newton_peak = nkit_problems::peak_memory_bytes() - baseline_memory;
   std::printf("Newton-GMRES, preconditioner %s:\n", choice.c_str());
   nkit::print_convergence_table(std::cout, report);
   std::vector<run_summary> runs;
   runs.push_back({"Newton-GMRES " + choice, report.converged(), report.newton_steps, report.linear_iterations,
                   report.residual_evaluations, report.preconditioner_setups, report.wall_seconds, newton_cpu,
-                  report.work_units(), nkit_examples::mebibytes(newton_peak),
+                  report.work_units(), nkit_problems::mebibytes(newton_peak),
                   report.final_residual_norm / report.initial_residual_norm});
   nkit_examples::write_history(folder, "newton_history.csv", report);
 
@@ -190,20 +191,20 @@ int run(int argc, char** argv) {
   bool picard_ok = true;
   if (!options.is_set("skip_picard")) {
     Eigen::VectorXd picard_t = Eigen::VectorXd::Constant(problem.unknowns(), coolant);
-    nkit_examples::reset_peak_memory();
-    const double before = nkit_examples::resident_memory_bytes();
-    const double picard_cpu_start = nkit_examples::process_cpu_seconds();
+    nkit_problems::reset_peak_memory();
+    const double before = nkit_problems::resident_memory_bytes();
+    const double picard_cpu_start = nkit_problems::process_cpu_seconds();
     const nkit_problems::picard_report picard =
         nkit_problems::solve_by_picard_iteration(problem, picard_t, settings.relative_tolerance, 200);
-    const double picard_cpu = nkit_examples::process_cpu_seconds() - picard_cpu_start;
-    const double picard_peak = nkit_examples::peak_memory_bytes() - before;
+    const double picard_cpu = nkit_problems::process_cpu_seconds() - picard_cpu_start;
+    const double picard_peak = nkit_problems::peak_memory_bytes() - before;
     std::printf("\nPicard (frozen k, sparse LDL^T per iteration):\n iteration | residual norm | reduction\n");
     for (const auto& h : picard.history) {
       std::printf(" %9d | %13.6e | %9.3e\n", h.iteration, h.residual_norm, h.relative_residual_norm);
     }
     runs.push_back({"Picard + LDL^T", picard.converged, picard.iterations, 0, picard.residual_evaluations,
                     picard.factorizations, picard.wall_seconds, picard_cpu, picard.work_units(),
-                    nkit_examples::mebibytes(picard_peak), picard.final_residual_norm / picard.initial_residual_norm});
+                    nkit_problems::mebibytes(picard_peak), picard.final_residual_norm / picard.initial_residual_norm});
     write_picard_csv(folder / "picard_history.csv", picard);
     const double difference = (picard_t - newton_t).cwiseAbs().maxCoeff();
     std::printf("max |T_Newton - T_Picard| = %.3e K\n", difference);

@@ -14,6 +14,7 @@
 #include "common/command_line.hpp"
 #include "common/run_output.hpp"
 #include "common/vtk_legacy.hpp"
+#include "problems/baselines/process_resources.hpp"
 #include "problems/flow/cavity_solve.hpp"
 
 namespace {
@@ -103,7 +104,7 @@ int run(int argc, char** argv) {
   std::printf(
       "total: %lld Newton steps, %lld GMRES iterations, %lld residual evaluations, %.2f s, peak memory %.0f MiB\n",
       solution.newton_steps, solution.linear_iterations, solution.residual_evaluations, solution.seconds,
-      nkit_examples::mebibytes(nkit_examples::peak_memory_bytes()));
+      nkit_problems::mebibytes(nkit_problems::peak_memory_bytes()));
   std::printf("\nlast Newton solve (Re = %g):\n", re);
   nkit::print_convergence_table(std::cout, solution.reports.back());
   nkit_examples::write_history(folder, "newton_history.csv", solution.reports.back());
