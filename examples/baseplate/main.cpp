@@ -200,7 +200,7 @@ int run(int argc, char** argv) {
     const double picard_peak = nkit_problems::peak_memory_bytes() - before;
     std::printf("\nPicard (frozen k, sparse LDL^T per iteration):\n iteration | residual norm | reduction\n");
     for (const auto& h : picard.history) {
-      std::printf(" %9d | %13.6e | %9.3e\n", h.iteration, h.residual_norm, h.relative_residual_norm);
+      std::printf(" %9lld | %13.6e | %9.3e\n", h.iteration, h.residual_norm, h.relative_residual_norm);
     }
     runs.push_back({"Picard + LDL^T", picard.converged, picard.iterations, 0, picard.residual_evaluations,
                     picard.factorizations, picard.wall_seconds, picard_cpu, picard.work_units(),

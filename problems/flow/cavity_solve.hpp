@@ -18,6 +18,7 @@
 #include <string>
 #include <vector>
 
+#include "problems/baselines/picard_iteration.hpp"
 #include "problems/flow/cavity.hpp"
 #include "problems/flow/ghia_1982.hpp"
 
@@ -109,46 +110,39 @@ struct cavity_picard_result {
 
 /// The fixed-point (Picard / Oseen) iteration with the same continuation in
 /// Re: x ← x − M(x)⁻¹ R(x), M the frozen-velocity matrix, factored by SparseLU
-/// every iteration. Converged like Newton: ‖R‖ <= relative_tolerance ‖R(start)‖
-/// at the target Re (1e-3 at intermediate Re).
+/// every iteration (the shared loop of baselines/picard_iteration.hpp; one
+/// symbolic analysis for all Re). Converged like Newton: ‖R‖ <= relative_tolerance ‖R(start)‖
+/// at the target Re (1e-3 at intermediate Re), or ‖R‖ <= 1e-11. `max_iterations`
+/// counts the iterations of all continuation steps together.
 inline cavity_picard_result solve_cavity_by_picard(int intervals, double target_reynolds,
                                                    double relative_tolerance = 1e-10, int max_iterations = 2000) {
+  using matrix_type = Eigen::SparseMatrix<double, Eigen::ColMajor, int>;
   const auto start = std::chrono::steady_clock::now();
   lid_driven_cavity cavity(intervals, target_reynolds);
   cavity_picard_result result;
   result.state = Eigen::VectorXd::Zero(cavity.unknowns());
-  Eigen::VectorXd r(cavity.unknowns());
-  Eigen::SparseMatrix<double, Eigen::ColMajor, int> matrix;
-  Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>, Eigen::COLAMDOrdering<int>> factor;
-  bool analysed = false;
+  picard_iteration<Eigen::SparseLU<matrix_type, Eigen::COLAMDOrdering<int>>> picard;
+  const auto assemble = [&](const Eigen::VectorXd& state, matrix_type& matrix) {
+    cavity.assemble_picard_matrix(state, matrix);
+  };
   const std::vector<double> ramp = reynolds_ramp(target_reynolds);
   result.converged = true;
   for (const double re : ramp) {
     cavity.set_reynolds(re);
     const bool last = re == ramp.back();
-    cavity(result.state, r);
-    ++result.residual_evaluations;
-    const double initial = r.norm();
-    const double target = std::max(1e-11, (last ? relative_tolerance : 1e-3) * initial);
-    double norm = initial;
-    while (norm > target && result.iterations < max_iterations) {
-      cavity.assemble_picard_matrix(result.state, matrix);
-      if (!analysed) {
-        factor.analyzePattern(matrix);
-        analysed = true;
-      }
-      factor.factorize(matrix);
-      ++result.factorizations;
-      if (factor.info() != Eigen::Success) break;
-      result.state -= factor.solve(r);
-      ++result.iterations;
-      cavity(result.state, r);
-      ++result.residual_evaluations;
-      norm = r.norm();
-      if (!std::isfinite(norm)) break;
-      if (last) result.relative_residuals.push_back(norm / initial);
+    picard_settings stage;
+    stage.relative_tolerance = last ? relative_tolerance : 1e-3;
+    stage.absolute_tolerance = 1e-11;
+    stage.max_iterations = max_iterations - result.iterations;
+    const picard_report report = picard.subtract_correction(cavity, assemble, result.state, stage);
+    result.iterations += report.iterations;
+    result.residual_evaluations += report.residual_evaluations;
+    result.factorizations += report.factorizations;
+    if (last) {
+      for (const picard_step_record& step : report.history)
+        result.relative_residuals.push_back(step.relative_residual_norm);
     }
-    if (!(norm <= target)) {
+    if (!report.converged) {
       result.converged = false;
       break;
     }
