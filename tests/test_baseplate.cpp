@@ -6,6 +6,7 @@
 
 #include "problems/heat/baseplate.hpp"
 #include "problems/heat/baseplate_solvers.hpp"
+#include "support/jacobian_check.hpp"
 
 using Catch::Matchers::WithinRel;
 
@@ -13,22 +14,9 @@ TEST_CASE("baseplate analytic Jacobian matches central differences of the residu
   // Definition of the Jacobian; central differences have O(δ²) truncation error
   // (common practice), δ = 1e-3 K on temperatures of ~300 K.
   nkit_problems::baseplate_conduction problem(12, 10);
-  Eigen::VectorXd t = Eigen::VectorXd::LinSpaced(problem.unknowns(), 300.0, 420.0);
-  nkit::sparse_matrix jacobian;
-  problem.assemble_jacobian(t, jacobian);
-  const Eigen::MatrixXd dense(jacobian);
-  Eigen::VectorXd plus(problem.unknowns()), minus(problem.unknowns());
-  const double delta = 1e-3;
-  double worst = 0.0;
-  for (Eigen::Index j = 0; j < problem.unknowns(); ++j) {
-    Eigen::VectorXd shifted = t;
-    shifted(j) += delta;
-    problem(shifted, plus);
-    shifted(j) -= 2 * delta;
-    problem(shifted, minus);
-    worst = std::max(worst, ((plus - minus) / (2 * delta) - dense.col(j)).cwiseAbs().maxCoeff());
-  }
-  CHECK(worst < 1e-6 * dense.cwiseAbs().maxCoeff());
+  const Eigen::VectorXd t = Eigen::VectorXd::LinSpaced(problem.unknowns(), 300.0, 420.0);
+  const auto deviation = nkit_test::central_difference_deviation(problem, t, 1e-3);
+  CHECK(deviation.worst < 1e-6 * deviation.largest_entry);
 }
 
 TEST_CASE("baseplate: Newton-GMRES and the Picard loop reach the same temperatures and conserve energy",
