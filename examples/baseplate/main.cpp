@@ -7,7 +7,6 @@
 //                  [--output=baseplate_output] [--skip_picard] [--help]
 #include <algorithm>
 #include <cstdio>
-#include <exception>
 #include <fstream>
 #include <iostream>
 #include <map>
@@ -249,11 +248,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

@@ -5,7 +5,6 @@
 //
 //   conduction_verification [--coarsest=16] [--levels=4] [--beta=1] [--output=conduction_output]
 #include <cstdio>
-#include <exception>
 #include <fstream>
 #include <iostream>
 #include <string>
@@ -117,11 +116,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

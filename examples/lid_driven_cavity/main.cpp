@@ -5,7 +5,6 @@
 //   lid_driven_cavity [--intervals=128] [--reynolds=1000] [--preconditioner=sparse_direct]
 //                     [--output=cavity_output]
 #include <cstdio>
-#include <exception>
 #include <fstream>
 #include <iostream>
 #include <nkit/preconditioners/incomplete_lut.hpp>
@@ -158,11 +157,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

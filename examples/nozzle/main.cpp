@@ -5,7 +5,6 @@
 //
 //   nozzle [--cells=400] [--back_pressure=0.75] [--initial_cfl=2] [--output=nozzle_output]
 #include <cstdio>
-#include <exception>
 #include <fstream>
 #include <iostream>
 #include <string>
@@ -98,11 +97,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

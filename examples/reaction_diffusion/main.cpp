@@ -7,7 +7,6 @@
 //
 //   reaction_diffusion [--cells=128] [--preconditioner=both|block_jacobi|ilu_zero] [--output=reaction_output]
 #include <cstdio>
-#include <exception>
 #include <iostream>
 #include <string>
 #include <vector>
@@ -87,11 +86,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }
