@@ -142,22 +142,11 @@ BENCHMARK(nkit_amg)
     ->UseRealTime()
     ->Unit(benchmark::kSecond);
 // Baselines: n = 2048 is not run (SparseLU-Newton needs ~14 min and ~9 GiB there; extrapolate).
-BENCHMARK(exact_newton_sparse_lu)
-    ->ArgName("n")
-    ->Arg(256)
-    ->Arg(512)
-    ->Arg(1024)
-    ->Iterations(1)
-    ->UseRealTime()
-    ->Unit(benchmark::kSecond);
-BENCHMARK(picard_sparse_cholesky)
-    ->ArgName("n")
-    ->Arg(256)
-    ->Arg(512)
-    ->Arg(1024)
-    ->Iterations(1)
-    ->UseRealTime()
-    ->Unit(benchmark::kSecond);
+void baseline_sizes(benchmark::internal::Benchmark* baseline) {
+  baseline->ArgName("n")->Arg(256)->Arg(512)->Arg(1024)->Iterations(1)->UseRealTime()->Unit(benchmark::kSecond);
+}
+BENCHMARK(exact_newton_sparse_lu)->Apply(baseline_sizes);
+BENCHMARK(picard_sparse_cholesky)->Apply(baseline_sizes);
 
 /// Swallows the output of ranks other than 0.
 class silent_reporter : public benchmark::BenchmarkReporter {
