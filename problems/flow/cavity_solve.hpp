@@ -170,23 +170,24 @@ struct ghia_comparison {
 inline ghia_comparison compare_with_ghia(const lid_driven_cavity& cavity, const Eigen::VectorXd& state,
                                          bool reynolds_1000) {
   const int n = cavity.intervals(), half = n / 2;
+  // Largest |computed − tabulated| over one table; `sample(k)` is the velocity at node k of the line.
+  const auto compare = [&](const auto& table, auto&& sample, double& max_deviation, double& worst_position) {
+    for (const auto& point : table) {
+      const double computed = interpolate_along(n, point.position, sample);
+      const double deviation = std::abs(computed - (reynolds_1000 ? point.re_1000 : point.re_100));
+      if (deviation > max_deviation) {
+        max_deviation = deviation;
+        worst_position = point.position;
+      }
+    }
+  };
   ghia_comparison result;
-  for (const auto& point : ghia_1982::u_vertical_centre_line) {
-    const double computed = interpolate_along(n, point.position, [&](int j) { return cavity.u(state, half, j); });
-    const double deviation = std::abs(computed - (reynolds_1000 ? point.re_1000 : point.re_100));
-    if (deviation > result.max_u_deviation) {
-      result.max_u_deviation = deviation;
-      result.worst_u_position = point.position;
-    }
-  }
-  for (const auto& point : ghia_1982::v_horizontal_centre_line) {
-    const double computed = interpolate_along(n, point.position, [&](int i) { return cavity.v(state, i, half); });
-    const double deviation = std::abs(computed - (reynolds_1000 ? point.re_1000 : point.re_100));
-    if (deviation > result.max_v_deviation) {
-      result.max_v_deviation = deviation;
-      result.worst_v_position = point.position;
-    }
-  }
+  compare(
+      ghia_1982::u_vertical_centre_line, [&](int j) { return cavity.u(state, half, j); }, result.max_u_deviation,
+      result.worst_u_position);
+  compare(
+      ghia_1982::v_horizontal_centre_line, [&](int i) { return cavity.v(state, i, half); }, result.max_v_deviation,
+      result.worst_v_position);
   return result;
 }
 
