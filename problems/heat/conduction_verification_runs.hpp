@@ -68,7 +68,8 @@ inline verification_run run_manufactured(int cells, const manufactured_conductio
   return run;
 }
 
-/// p = ln(e_coarse / e_fine) / ln(h_coarse / h_fine) (references §14).
+/// p = ln(e_coarse / e_fine) / ln(h_coarse / h_fine) (observed order of
+/// accuracy: K. Salari & P. Knupp, SAND2000-1444, 2000).
 inline double observed_order(double coarse_error, double fine_error, double refinement_ratio) {
   return std::log(coarse_error / fine_error) / std::log(refinement_ratio);
 }

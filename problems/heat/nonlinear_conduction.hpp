@@ -14,8 +14,8 @@
 //    T(x) = [−1 + √((1 + βT1)² + ((1 + βT2)² − (1 + βT1)²) x/L)] / β,
 //    heat flux q = k0 [(T1 − T2) + β(T1² − T2²)/2] / L
 //    (transform: Kirchhoff 1894 as presented in F.P. Incropera & D.P. DeWitt,
-//    "Fundamentals of Heat and Mass Transfer"; closed form derived in the
-//    shared references §13);
+//    "Fundamentals of Heat and Mass Transfer"; the closed form follows from
+//    U(T(x)) = U(T1) + (U(T2) − U(T1)) x/L, solved for T);
 //  * 2D manufactured solution (method of manufactured solutions: K. Salari &
 //    P. Knupp, "Code Verification by the Method of Manufactured Solutions",
 //    Sandia report SAND2000-1444, 2000; P.J. Roache, J. Fluids Eng. 124(1)
@@ -166,7 +166,7 @@ class nonlinear_conduction {
 
 // ---- exact solutions ----------------------------------------------------------
 
-/// 1D plane wall, k = k0(1 + βT), T(0) = T1, T(L) = T2 (Kirchhoff transform; references §13).
+/// 1D plane wall, k = k0(1 + βT), T(0) = T1, T(L) = T2 (Kirchhoff transform; file comment).
 struct kirchhoff_plane_wall {
   double k0 = 1.0, beta = 1.0, t1 = 1.0, t2 = 0.0, length = 1.0;
   double temperature(double x) const {

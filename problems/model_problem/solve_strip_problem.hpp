@@ -34,7 +34,7 @@ inline strip_preconditioner strip_preconditioner_from_name(std::string_view text
 /// Settings used for the distributed model problem unless the caller overrides them.
 inline nkit::newton_settings strip_default_settings() {
   nkit::newton_settings settings;
-  settings.relative_tolerance = 1e-8;  // references §15 convergence criterion
+  settings.relative_tolerance = 1e-8;  // the model problem's convergence criterion (problems/README.md)
   settings.linear.restart_length = 50;
   settings.linear.max_iterations = 5000;
   // Two fused reductions per Arnoldi step instead of j + 2 (see docs/scaling_model.md).

@@ -8,7 +8,8 @@
 // interior nodes per direction, h = 1/(n + 1) (2D: p = i + n·j). Both are
 // written as −(discrete Laplacian) − λ e^u, so R_u = −Δ_h − λ diag(e^u) is
 // symmetric positive definite at λ = 0 and becomes singular at the fold.
-// Facts used by the tests are in nkit's shared references, section 2.
+// Published facts the tests use (exact 1D solution, folds) are cited where
+// they are checked: tests/test_continuation.cpp and problems/README.md.
 #ifndef NKIT_PROBLEMS_REACTION_DIFFUSION_BRATU_HPP
 #define NKIT_PROBLEMS_REACTION_DIFFUSION_BRATU_HPP
 
