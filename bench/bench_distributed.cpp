@@ -31,8 +31,8 @@
 #include <string>
 #include <vector>
 
-#include "distributed_heat/solve_strip_problem.hpp"
 #include "model_problem_baselines.hpp"
+#include "problems/model_problem/solve_strip_problem.hpp"
 
 namespace {
 
@@ -64,15 +64,15 @@ double median_residual_seconds(Problem& problem, const Eigen::VectorXd& t) {
 
 void nkit_amg(benchmark::State& state) {
   const int n = static_cast<int>(state.range(0));
-  nkit::newton_settings settings = nkit_examples::strip_default_settings();
+  nkit::newton_settings settings = nkit_problems::strip_default_settings();
   settings.preconditioner_reuse.rebuild_every_newton_steps = static_cast<int>(state.range(1));
   settings.linear.restart_length = static_cast<int>(state.range(2));
   nkit::algebraic_multigrid_settings multigrid;
   multigrid.aggressive_coarsening_levels = static_cast<int>(state.range(3));
-  nkit_examples::strip_solve_result result;
+  nkit_problems::strip_solve_result result;
   for (auto _ : state) {
-    result = nkit_examples::solve_strip_problem(
-        MPI_COMM_WORLD, n, nkit_examples::strip_preconditioner::algebraic_multigrid, settings, multigrid);
+    result = nkit_problems::solve_strip_problem(
+        MPI_COMM_WORLD, n, nkit_problems::strip_preconditioner::algebraic_multigrid, settings, multigrid);
   }
   const nkit::solve_report& report = result.report;
   if (!report.converged()) {
@@ -101,7 +101,7 @@ void serial_baseline(benchmark::State& state, Baseline&& baseline, const char* s
     state.SkipWithError("serial baseline: run with one rank");
     return;
   }
-  const nkit_examples::heat_conduction_model_problem problem(n);
+  const nkit_problems::heat_conduction_model_problem problem(n);
   Eigen::VectorXd t;
   nkit_bench::baseline_result result;
   double solve_seconds = 0.0;
@@ -142,22 +142,11 @@ BENCHMARK(nkit_amg)
     ->UseRealTime()
     ->Unit(benchmark::kSecond);
 // Baselines: n = 2048 is not run (SparseLU-Newton needs ~14 min and ~9 GiB there; extrapolate).
-BENCHMARK(exact_newton_sparse_lu)
-    ->ArgName("n")
-    ->Arg(256)
-    ->Arg(512)
-    ->Arg(1024)
-    ->Iterations(1)
-    ->UseRealTime()
-    ->Unit(benchmark::kSecond);
-BENCHMARK(picard_sparse_cholesky)
-    ->ArgName("n")
-    ->Arg(256)
-    ->Arg(512)
-    ->Arg(1024)
-    ->Iterations(1)
-    ->UseRealTime()
-    ->Unit(benchmark::kSecond);
+void baseline_sizes(benchmark::internal::Benchmark* baseline) {
+  baseline->ArgName("n")->Arg(256)->Arg(512)->Arg(1024)->Iterations(1)->UseRealTime()->Unit(benchmark::kSecond);
+}
+BENCHMARK(exact_newton_sparse_lu)->Apply(baseline_sizes);
+BENCHMARK(picard_sparse_cholesky)->Apply(baseline_sizes);
 
 /// Swallows the output of ranks other than 0.
 class silent_reporter : public benchmark::BenchmarkReporter {

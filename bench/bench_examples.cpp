@@ -1,5 +1,5 @@
 // Side-by-side cost of the example solvers, one run per configuration:
-//  * baseplate flagship (examples/baseplate, invented data) at 256² and 512²
+//  * baseplate flagship (problems/heat/baseplate.hpp, invented data) at 256² and 512²
 //    cells: Newton–GMRES with the user-supplied frozen-conduction LDLᵀ
 //    preconditioner, the Picard loop it replaces, and exact Newton (nkit's
 //    sparse_direct, SparseLU of the Jacobian every step). nkit's ILU(0) and
@@ -20,10 +20,10 @@
 #include <nkit/preconditioners/sparse_direct.hpp>
 #include <string>
 
-#include "baseplate/baseplate.hpp"
-#include "baseplate/baseplate_solvers.hpp"
-#include "common/run_output.hpp"
-#include "lid_driven_cavity/cavity_solve.hpp"
+#include "problems/baselines/process_resources.hpp"
+#include "problems/flow/cavity_solve.hpp"
+#include "problems/heat/baseplate.hpp"
+#include "problems/heat/baseplate_solvers.hpp"
 
 namespace {
 
@@ -44,10 +44,10 @@ void publish(benchmark::State& state, const measured& m) {
 
 template <class Run>
 measured with_memory(Run&& run) {
-  nkit_examples::reset_peak_memory();
-  const double before = nkit_examples::resident_memory_bytes();
+  nkit_problems::reset_peak_memory();
+  const double before = nkit_problems::resident_memory_bytes();
   measured m = run();
-  m.peak_mib = nkit_examples::mebibytes(nkit_examples::peak_memory_bytes() - before);
+  m.peak_mib = nkit_problems::mebibytes(nkit_problems::peak_memory_bytes() - before);
   return m;
 }
 
@@ -63,14 +63,14 @@ nkit::newton_settings baseplate_settings() {
 /// Newton–GMRES on the baseplate with the demo's --preconditioner choice;
 /// exact Newton (sparse_direct) refactorises every step.
 void baseplate_newton(benchmark::State& state, const std::string& preconditioner) {
-  nkit_examples::baseplate_conduction problem(static_cast<int>(state.range(0)), static_cast<int>(state.range(0)));
+  nkit_problems::baseplate_conduction problem(static_cast<int>(state.range(0)), static_cast<int>(state.range(0)));
   nkit::newton_settings settings = baseplate_settings();
   if (preconditioner == "sparse_direct") settings.preconditioner_reuse.rebuild_every_newton_steps = 1;
   measured m;
   for (auto _ : state) {
     m = with_memory([&] {
       Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.unknowns(), problem.design().coolant_temperature);
-      const auto report = nkit_examples::solve_by_newton_gmres(problem, t, preconditioner, settings);
+      const auto report = nkit_problems::solve_by_newton_gmres(problem, t, preconditioner, settings);
       return measured{double(report.newton_steps),         double(report.linear_iterations),
                       double(report.residual_evaluations), double(report.preconditioner_setups),
                       report.converged() ? 1.0 : 0.0,      0.0};
@@ -80,12 +80,12 @@ void baseplate_newton(benchmark::State& state, const std::string& preconditioner
 }
 
 void baseplate_picard(benchmark::State& state) {
-  nkit_examples::baseplate_conduction problem(static_cast<int>(state.range(0)), static_cast<int>(state.range(0)));
+  nkit_problems::baseplate_conduction problem(static_cast<int>(state.range(0)), static_cast<int>(state.range(0)));
   measured m;
   for (auto _ : state) {
     m = with_memory([&] {
       Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.unknowns(), problem.design().coolant_temperature);
-      const auto report = nkit_examples::solve_by_picard_iteration(problem, t, 1e-8, 200);
+      const auto report = nkit_problems::solve_by_picard_iteration(problem, t, 1e-8, 200);
       return measured{double(report.iterations),           0.0,
                       double(report.residual_evaluations), double(report.factorizations),
                       report.converged ? 1.0 : 0.0,        0.0};
@@ -100,7 +100,7 @@ void cavity_newton(benchmark::State& state) {
   measured m;
   for (auto _ : state) {
     m = with_memory([&] {
-      const auto solution = nkit_examples::solve_cavity<Preconditioner>(intervals, 1000.0);
+      const auto solution = nkit_problems::solve_cavity<Preconditioner>(intervals, 1000.0);
       return measured{double(solution.newton_steps),         double(solution.linear_iterations),
                       double(solution.residual_evaluations), double(solution.preconditioner_setups),
                       solution.converged ? 1.0 : 0.0,        0.0};
@@ -114,7 +114,7 @@ void cavity_picard(benchmark::State& state) {
   measured m;
   for (auto _ : state) {
     m = with_memory([&] {
-      const auto result = nkit_examples::solve_cavity_by_picard(intervals, 1000.0, 1e-10, cavity_picard_cap);
+      const auto result = nkit_problems::solve_cavity_by_picard(intervals, 1000.0, 1e-10, cavity_picard_cap);
       return measured{double(result.iterations),           0.0,
                       double(result.residual_evaluations), double(result.factorizations),
                       result.converged ? 1.0 : 0.0,        0.0};

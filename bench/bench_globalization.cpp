@@ -1,7 +1,7 @@
 // Hard cases × globalisation strategies, side by side in one run: residual
 // evaluations, Newton steps, linear iterations and time to converge (or the
 // outcome when a strategy fails). Feeds the README's "which globalisation
-// when" table. Cases (tests/problems/hard_problems.hpp, examples/model_problem):
+// when" table. Cases (problems/test_sets/hard_problems.hpp, problems/model_problem):
 //   cubic_reaction_diffusion  local minimum of ‖R‖ that is not a root (cold start)
 //   square_root_reaction      first Newton step leaves the physical range (c < 0)
 //   model_problem_large_source  k = 1 + T², q = 1e5: strongly nonlinear conduction
@@ -10,8 +10,8 @@
 #include <limits>
 #include <nkit/nkit.hpp>
 
-#include "model_problem/model_problem.hpp"
-#include "problems/hard_problems.hpp"
+#include "problems/model_problem/model_problem.hpp"
+#include "problems/test_sets/hard_problems.hpp"
 
 namespace {
 
@@ -38,7 +38,7 @@ nkit::newton_settings settings_for(globalization_strategy strategy, double pseud
 
 void cubic_reaction_diffusion(benchmark::State& state, globalization_strategy strategy) {
   const int n = static_cast<int>(state.range(0));
-  auto problem = nkit::with_automatic_differentiation(nkit_test::cubic_reaction_diffusion{n, 0.01});
+  auto problem = nkit::with_automatic_differentiation(nkit_problems::cubic_reaction_diffusion{n, 0.01});
   nkit::newton_krylov_solver<> solver(settings_for(strategy, 0.1));
   Eigen::VectorXd u(n * n);
   nkit::solve_report report;
@@ -61,7 +61,7 @@ void square_root_reaction(benchmark::State& state, globalization_strategy strate
   nkit::solve_report report;
   long negative = 0;
   for (auto _ : state) {
-    nkit_test::square_root_reaction problem{n, 30.0};
+    nkit_problems::square_root_reaction problem{n, 30.0};
     c.setOnes();
     report = solver.solve(problem, c);
     negative = problem.negative_evaluations;
@@ -72,7 +72,7 @@ void square_root_reaction(benchmark::State& state, globalization_strategy strate
 
 void model_problem_large_source(benchmark::State& state, globalization_strategy strategy) {
   const int n = static_cast<int>(state.range(0));
-  nkit_examples::heat_conduction_model_problem problem(n, 1e5);
+  nkit_problems::heat_conduction_model_problem problem(n, 1e5);
   nkit::newton_krylov_solver<> solver(settings_for(strategy, 1.0));
   Eigen::VectorXd t(problem.unknowns());
   nkit::solve_report report;

@@ -25,7 +25,6 @@
 #include <cstdio>
 #include <cstring>
 #include <ctime>
-#include <fstream>
 #include <map>
 #include <nkit/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
@@ -39,21 +38,13 @@
 #include <nkit/preconditioners/suitesparse_direct.hpp>
 #endif
 
-#include "model_problem/model_problem.hpp"
+#include "problems/baselines/process_resources.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 namespace {
 
-using model = nkit_examples::heat_conduction_model_problem;
+using model = nkit_problems::heat_conduction_model_problem;
 
-/// Resident-set figures of this process from /proc/self/status, bytes (0 if unavailable).
-double status_bytes(const char* field) {
-  std::ifstream status("/proc/self/status");
-  std::string line;
-  while (std::getline(status, line)) {
-    if (line.rfind(field, 0) == 0) return 1024.0 * std::stod(line.substr(std::strlen(field)));
-  }
-  return 0.0;
-}
 /// CPU time of this thread, seconds: on a shared machine it is steadier
 /// than wall time for per-call cost ratios.
 double thread_cpu_seconds() {
@@ -138,7 +129,7 @@ nkit::solve_report solve_once(int n, case_id id, double* rss_before_solve = null
   model problem(n);
   Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, Preconditioner> solver(settings_for(id));
-  if (rss_before_solve != nullptr) *rss_before_solve = status_bytes("VmRSS:");
+  if (rss_before_solve != nullptr) *rss_before_solve = nkit_problems::resident_memory_bytes();
   nkit::solve_report report = solver.solve(problem, t);
   benchmark::DoNotOptimize(t.data());
   return report;
@@ -368,7 +359,7 @@ int main(int argc, char** argv) {
     const bool built = with_case_type(static_cast<case_id>(id), [&](auto tag) {
       converged = solve_once<decltype(tag)>(n, static_cast<case_id>(id), &before_solve).converged();
     });
-    std::printf("%.0f %.0f\n", status_bytes("VmHWM:"), before_solve);
+    std::printf("%.0f %.0f\n", nkit_problems::peak_memory_bytes(), before_solve);
     return built && converged ? 0 : 1;
   }
   for (int k = 1; k < argc; ++k) {  // our own flag, removed before Google Benchmark parses the rest

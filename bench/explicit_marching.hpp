@@ -83,54 +83,54 @@ inline double stable_rk4_step(const model& problem) {
   return 0.9 * 2.785 / gershgorin_bound(problem, hot);
 }
 
-inline baseline_result explicit_runge_kutta4(const model& problem, Eigen::VectorXd& t, double time_cap) {
+/// Shared by both steppers: R(T0) for the watch, then `integrate(system,
+/// watch)` until the watch stops it; counts every residual evaluation.
+template <class Integrate>
+baseline_result march_to_steady_state(const model& problem, Eigen::VectorXd& t, double time_cap,
+                                      Integrate&& integrate) {
   baseline_result result;
   Eigen::VectorXd r(t.size());
   problem(t, r);
   ++result.residual_evaluations;
   steady_state_watch watch(problem, r.norm(), time_cap, result);
   std::int64_t evaluations = 0;
-  odeint::runge_kutta4<Eigen::VectorXd, double, Eigen::VectorXd, double, odeint::vector_space_algebra> stepper;
-  const double step = stable_rk4_step(problem);
-  double time = 0.0;
   try {
-    for (;;) {
-      stepper.do_step(pseudo_time_system{&problem, &evaluations}, t, time, step);
-      time += step;
-      watch.after_step(t);
-    }
+    integrate(pseudo_time_system{&problem, &evaluations}, watch);
   } catch (const steady_state_watch::stop&) {
   }
   result.residual_evaluations += evaluations;
   return result;
 }
 
+inline baseline_result explicit_runge_kutta4(const model& problem, Eigen::VectorXd& t, double time_cap) {
+  return march_to_steady_state(problem, t, time_cap, [&](pseudo_time_system system, steady_state_watch& watch) {
+    odeint::runge_kutta4<Eigen::VectorXd, double, Eigen::VectorXd, double, odeint::vector_space_algebra> stepper;
+    const double step = stable_rk4_step(problem);
+    double time = 0.0;
+    for (;;) {
+      stepper.do_step(system, t, time, step);
+      time += step;
+      watch.after_step(t);
+    }
+  });
+}
+
 inline baseline_result explicit_dormand_prince(const model& problem, Eigen::VectorXd& t, double time_cap) {
-  baseline_result result;
-  Eigen::VectorXd r(t.size());
-  problem(t, r);
-  ++result.residual_evaluations;
-  steady_state_watch watch(problem, r.norm(), time_cap, result);
-  std::int64_t evaluations = 0;
-  using dopri5 =
-      odeint::runge_kutta_dopri5<Eigen::VectorXd, double, Eigen::VectorXd, double, odeint::vector_space_algebra>;
-  // Local-error tolerance (absolute and relative) 4e-9 h²: an adaptive
-  // explicit march hovers at the stability limit with stiff components of
-  // amplitude about the tolerance, which floors the residual; R scales with
-  // h² (§15), so the tolerance must too. Measured at n = 64: 1e-12 (= 4e-9 h²)
-  // reaches 1e-8 ‖R(T0)‖ in 10,100 steps; 1e-10 stalls above it; 1e-3 stalls
-  // near 1e-2.
-  const double h = problem.cell_size();
-  const double tolerance = 4e-9 * h * h;
-  auto stepper = odeint::make_controlled(tolerance, tolerance, dopri5());
-  try {
-    odeint::integrate_adaptive(stepper, pseudo_time_system{&problem, &evaluations}, t, 0.0,
-                               std::numeric_limits<double>::max(), stable_rk4_step(problem),
+  return march_to_steady_state(problem, t, time_cap, [&](pseudo_time_system system, steady_state_watch& watch) {
+    using dopri5 =
+        odeint::runge_kutta_dopri5<Eigen::VectorXd, double, Eigen::VectorXd, double, odeint::vector_space_algebra>;
+    // Local-error tolerance (absolute and relative) 4e-9 h²: an adaptive
+    // explicit march hovers at the stability limit with stiff components of
+    // amplitude about the tolerance, which floors the residual; R scales with
+    // h² (§15), so the tolerance must too. Measured at n = 64: 1e-12 (= 4e-9 h²)
+    // reaches 1e-8 ‖R(T0)‖ in 10,100 steps; 1e-10 stalls above it; 1e-3 stalls
+    // near 1e-2.
+    const double h = problem.cell_size();
+    const double tolerance = 4e-9 * h * h;
+    auto stepper = odeint::make_controlled(tolerance, tolerance, dopri5());
+    odeint::integrate_adaptive(stepper, system, t, 0.0, std::numeric_limits<double>::max(), stable_rk4_step(problem),
                                [&](const Eigen::VectorXd& state, double /*time*/) { watch.after_step(state); });
-  } catch (const steady_state_watch::stop&) {
-  }
-  result.residual_evaluations += evaluations;
-  return result;
+  });
 }
 
 }  // namespace nkit_bench

@@ -3,32 +3,23 @@
 // again (fork + exec through /bin/sh, under coreutils `timeout`), it measures
 // and prints "key value" lines, the parent parses them. Peak memory is the
 // child's VmHWM (peak resident set) from /proc/self/status, read by the
-// child just before it exits; start_rss_bytes is its VmRSS before it built
-// anything (the program itself and its libraries). Linux only.
+// child just before it exits (problems/baselines/process_resources.hpp);
+// start_rss_bytes is its VmRSS before it built anything (the program itself
+// and its libraries). Linux only.
 #ifndef NKIT_BENCH_FRESH_PROCESS_HPP
 #define NKIT_BENCH_FRESH_PROCESS_HPP
 
 #include <sys/resource.h>
+#include <sys/wait.h>
 #include <unistd.h>
 
 #include <cstdio>
-#include <cstring>
-#include <fstream>
+#include <cstdlib>
 #include <map>
 #include <sstream>
 #include <string>
 
 namespace nkit_bench {
-
-/// A field of /proc/self/status in bytes ("VmHWM:", "VmRSS:"); 0 if absent.
-inline double status_bytes(const char* field) {
-  std::ifstream status("/proc/self/status");
-  std::string line;
-  while (std::getline(status, line)) {
-    if (line.rfind(field, 0) == 0) return 1024.0 * std::stod(line.substr(std::strlen(field)));
-  }
-  return 0.0;
-}
 
 /// Path of the running executable.
 inline std::string own_executable() {

@@ -1,9 +1,10 @@
 // The loops users replace with nkit, written as they usually are, on the
 // heat-conduction model problem (shared references §15): exact Newton with
 // an assembled Jacobian and a sparse direct solver, the frozen-coefficient
-// (Picard) iteration with a direct solve, and explicit pseudo-time marching
-// to steady state with Boost.Odeint. Each stops at ‖R‖ <= 1e-8 ‖R(T0)‖ (§15)
-// or at a wall-time cap, and reports how far it got.
+// (Picard) iteration with a direct solve (problems/baselines/picard_iteration.hpp),
+// and explicit pseudo-time marching to steady state with Boost.Odeint. Each
+// stops at ‖R‖ <= 1e-8 ‖R(T0)‖ (§15) or at a wall-time cap, and reports how
+// far it got.
 #ifndef NKIT_BENCH_MODEL_PROBLEM_BASELINES_HPP
 #define NKIT_BENCH_MODEL_PROBLEM_BASELINES_HPP
 
@@ -14,11 +15,12 @@
 #include <string>
 #include <vector>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/baselines/picard_iteration.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 namespace nkit_bench {
 
-using model = nkit_examples::heat_conduction_model_problem;
+using model = nkit_problems::heat_conduction_model_problem;
 using column_matrix = Eigen::SparseMatrix<double, Eigen::ColMajor, int>;
 
 /// §15's convergence criterion: ‖R‖₂ <= 1e-8 ‖R(T0)‖₂.
@@ -89,48 +91,31 @@ baseline_result exact_newton(const model& problem, Eigen::VectorXd& t, double ti
   return result;
 }
 
-/// Picard: T_{k+1} = A(T_k)⁻¹ q h², the loop users replace. `DirectSolver`
-/// is SparseLU or SimplicialLDLT (A is SPD: the strongest hand-rolled loop).
+/// Picard: T_{k+1} = A(T_k)⁻¹ q h², the loop users replace (the shared loop of
+/// problems/baselines/picard_iteration.hpp). `DirectSolver` is SparseLU or
+/// SimplicialLDLT (A is SPD: the strongest hand-rolled loop).
 template <class DirectSolver>
 baseline_result picard(const model& problem, Eigen::VectorXd& t, double time_cap) {
-  wall_clock clock;
-  baseline_result result;
-  Eigen::VectorXd r(t.size());
   const double h = problem.cell_size();
   const Eigen::VectorXd load = Eigen::VectorXd::Constant(t.size(), problem.source() * h * h);
-  problem(t, r);
-  ++result.residual_evaluations;
-  const double initial = r.norm();
-  double norm = initial;
-  column_matrix a;
   std::vector<Eigen::Triplet<double>> entries;
   entries.reserve(static_cast<std::size_t>(5 * t.size()));
-  DirectSolver solver;
-  while (norm > target_reduction * initial) {
-    if (clock.seconds() > time_cap) {
-      result.failure = "time cap";
-      break;
-    }
-    problem.assemble_frozen_conduction(t, a, entries);
-    if (result.iterations == 0) solver.analyzePattern(a);
-    solver.factorize(a);
-    ++result.factorizations;
-    if (solver.info() != Eigen::Success) {
-      result.failure = "factorization failed";
-      break;
-    }
-    t = solver.solve(load);
-    problem(t, r);
-    ++result.residual_evaluations;
-    norm = r.norm();
-    ++result.iterations;
-    if (!std::isfinite(norm)) {
-      result.failure = "diverged";
-      break;
-    }
-  }
-  result.relative_residual = norm / initial;
-  result.reached = norm <= target_reduction * initial;
+  const auto assemble = [&](const Eigen::VectorXd& state, column_matrix& a) -> const Eigen::VectorXd& {
+    problem.assemble_frozen_conduction(state, a, entries);
+    return load;
+  };
+  nkit_problems::picard_settings settings;
+  settings.relative_tolerance = target_reduction;
+  settings.time_limit_seconds = time_cap;
+  nkit_problems::picard_iteration<DirectSolver> loop;
+  const nkit_problems::picard_report report = loop.solve_for_iterate(problem, assemble, t, settings);
+  baseline_result result;
+  result.reached = report.converged;
+  result.relative_residual = report.final_residual_norm / report.initial_residual_norm;
+  result.iterations = report.iterations;
+  result.residual_evaluations = report.residual_evaluations;
+  result.factorizations = report.factorizations;
+  if (!report.converged) result.failure = nkit_problems::describe(report.stop_reason);
   return result;
 }
 

@@ -33,6 +33,7 @@
 
 #include "fresh_process.hpp"
 #include "model_problem_baselines.hpp"
+#include "problems/baselines/process_resources.hpp"
 
 namespace nkit_bench {
 
@@ -243,7 +244,7 @@ inline const std::vector<configuration>& configurations() {
 /// --threads=<t> --memory-limit-gib=<g>. Prints the results and returns 0;
 /// 2 on bad arguments.
 inline int run_configuration_in_child(int argc, char** argv) {
-  const double start_rss = status_bytes("VmRSS:");
+  const double start_rss = nkit_problems::resident_memory_bytes();
   std::string name;
   int n = 0, threads = 1;
   double cap = 600.0, memory = 22.0;
@@ -275,7 +276,7 @@ inline int run_configuration_in_child(int argc, char** argv) {
     emit("reached", 0);
     emit_text("failure", "out of memory (address-space limit)");
   }
-  emit("peak_rss_bytes", status_bytes("VmHWM:"));
+  emit("peak_rss_bytes", nkit_problems::peak_memory_bytes());
   emit("start_rss_bytes", start_rss);
   return 0;
 }

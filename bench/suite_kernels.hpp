@@ -17,7 +17,7 @@
 #include <omp.h>
 #endif
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 namespace nkit_bench {
 
@@ -40,7 +40,7 @@ inline constexpr Eigen::Index dram_triad_length = Eigen::Index(1) << 24;  // 3 a
 /// One residual evaluation of the model problem at n × n (the work unit).
 inline void residual_evaluation(benchmark::State& state) {
   const int n = static_cast<int>(state.range(0));
-  const nkit_examples::heat_conduction_model_problem problem(n);
+  const nkit_problems::heat_conduction_model_problem problem(n);
   Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.unknowns(), 0.3), r(problem.unknowns());
   for (auto _ : state) {
     problem(t, r);
@@ -200,7 +200,7 @@ inline void broyden_tridiagonal_solve(benchmark::State& state) {
 /// median seconds per solve of each and the ratios to the first. Tracing off
 /// must cost nothing measurable: detached_over_none ≈ 1 within noise.
 inline void trace_overhead(benchmark::State& state) {
-  const nkit_examples::heat_conduction_model_problem problem(48);
+  const nkit_problems::heat_conduction_model_problem problem(48);
   nkit::newton_krylov_solver<> never, recording, detached;
   nkit::trace_recorder recorder(1u << 20);
   recording.record_trace(&recorder);

@@ -1,5 +1,5 @@
 // Robustness score: every Moré–Garbow–Hillstrom system of
-// tests/problems/more_garbow_hillstrom.hpp, from x0, 10·x0 and 100·x0 — the
+// problems/test_sets/more_garbow_hillstrom.hpp, from x0, 10·x0 and 100·x0 — the
 // protocol of J.J. Moré, B.S. Garbow & K.E. Hillstrom, "Testing unconstrained
 // optimization software", ACM TOMS 7(1) (1981) 17–41 — with each
 // globalisation, using nkit's defaults otherwise (finite-difference J·v,
@@ -40,9 +40,9 @@
 #include <string>
 #include <vector>
 
-#include "problems/more_garbow_hillstrom.hpp"
+#include "problems/test_sets/more_garbow_hillstrom.hpp"
 
-namespace mgh = nkit_test::more_garbow_hillstrom;
+namespace mgh = nkit_problems::more_garbow_hillstrom;
 
 namespace {
 

@@ -4,48 +4,36 @@
 #include <cmath>
 #include <nkit/nkit.hpp>
 
-#include "baseplate/baseplate.hpp"
-#include "baseplate/baseplate_solvers.hpp"
+#include "problems/heat/baseplate.hpp"
+#include "problems/heat/baseplate_solvers.hpp"
+#include "support/jacobian_check.hpp"
 
 using Catch::Matchers::WithinRel;
 
 TEST_CASE("baseplate analytic Jacobian matches central differences of the residual", "[examples][baseplate]") {
   // Definition of the Jacobian; central differences have O(δ²) truncation error
   // (common practice), δ = 1e-3 K on temperatures of ~300 K.
-  nkit_examples::baseplate_conduction problem(12, 10);
-  Eigen::VectorXd t = Eigen::VectorXd::LinSpaced(problem.unknowns(), 300.0, 420.0);
-  nkit::sparse_matrix jacobian;
-  problem.assemble_jacobian(t, jacobian);
-  const Eigen::MatrixXd dense(jacobian);
-  Eigen::VectorXd plus(problem.unknowns()), minus(problem.unknowns());
-  const double delta = 1e-3;
-  double worst = 0.0;
-  for (Eigen::Index j = 0; j < problem.unknowns(); ++j) {
-    Eigen::VectorXd shifted = t;
-    shifted(j) += delta;
-    problem(shifted, plus);
-    shifted(j) -= 2 * delta;
-    problem(shifted, minus);
-    worst = std::max(worst, ((plus - minus) / (2 * delta) - dense.col(j)).cwiseAbs().maxCoeff());
-  }
-  CHECK(worst < 1e-6 * dense.cwiseAbs().maxCoeff());
+  nkit_problems::baseplate_conduction problem(12, 10);
+  const Eigen::VectorXd t = Eigen::VectorXd::LinSpaced(problem.unknowns(), 300.0, 420.0);
+  const auto deviation = nkit_test::central_difference_deviation(problem, t, 1e-3);
+  CHECK(deviation.worst < 1e-6 * deviation.largest_entry);
 }
 
 TEST_CASE("baseplate: Newton-GMRES and the Picard loop reach the same temperatures and conserve energy",
           "[examples][baseplate]") {
-  nkit_examples::baseplate_conduction problem(96, 64);
+  nkit_problems::baseplate_conduction problem(96, 64);
   const double coolant = problem.design().coolant_temperature;
   Eigen::VectorXd newton_t = Eigen::VectorXd::Constant(problem.unknowns(), coolant);
   nkit::newton_settings settings;
   settings.relative_tolerance = 1e-10;
   settings.preconditioner_reuse.rebuild_every_newton_steps = 100;
   settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 15;
-  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit_examples::frozen_conduction_preconditioner> solver(
-      settings, {}, nkit_examples::frozen_conduction_preconditioner(problem));
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit_problems::frozen_conduction_preconditioner> solver(
+      settings, {}, nkit_problems::frozen_conduction_preconditioner(problem));
   const auto report = solver.solve(problem, newton_t);
   REQUIRE(report.converged());
   Eigen::VectorXd picard_t = Eigen::VectorXd::Constant(problem.unknowns(), coolant);
-  const auto picard = nkit_examples::solve_by_picard_iteration(problem, picard_t, 1e-10, 200);
+  const auto picard = nkit_problems::solve_by_picard_iteration(problem, picard_t, 1e-10, 200);
   REQUIRE(picard.converged);
   // Both solve the same discrete equations to 1e-10 relative residual: they agree far below 1 mK.
   CHECK((newton_t - picard_t).cwiseAbs().maxCoeff() < 1e-5);

@@ -16,10 +16,10 @@
 #include <nkit/block_vector_space.hpp>
 #include <nkit/newton_krylov_solver.hpp>
 
-#include "problems/more_garbow_hillstrom.hpp"
+#include "problems/test_sets/more_garbow_hillstrom.hpp"
 #include "support/matchers.hpp"
 
-namespace mgh = nkit_test::more_garbow_hillstrom;
+namespace mgh = nkit_problems::more_garbow_hillstrom;
 
 namespace {
 

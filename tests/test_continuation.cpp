@@ -15,7 +15,7 @@
 //    folds", SIAM J. Sci. Stat. Comput. 7 (1986) 1081–1104, via secondary
 //    transcriptions; citation from memory).
 // Discretisation: second-order finite differences on uniform grids
-// (examples/bratu_continuation/bratu.hpp), so discrete values differ from the
+// (problems/reaction_diffusion/bratu.hpp), so discrete values differ from the
 // continuum ones by C h² + O(h⁴) (common practice: the truncation error of the
 // 3- and 5-point Laplacians is (h²/12)(∂⁴u) per direction).
 #include <catch2/catch.hpp>
@@ -23,11 +23,11 @@
 #include <functional>
 #include <nkit/block_vector_space.hpp>
 #include <nkit/continuation.hpp>
+#include <nkit/preconditioners/sparse_direct.hpp>
 #include <vector>
 
-#include "bratu_continuation/bratu.hpp"
+#include "problems/reaction_diffusion/bratu.hpp"
 #include "support/matchers.hpp"
-#include "support/sparse_lu_preconditioner.hpp"
 
 using Catch::Matchers::WithinAbs;
 using Catch::Matchers::WithinRel;
@@ -130,7 +130,7 @@ TEST_CASE("the bordered space reduces like the stacked vector (u, λ)", "[contin
 TEST_CASE("AD of a parametrised residual differentiates in u and λ together", "[continuation][ad]") {
   // Check against a central difference of R along (v, μ), whose error is
   // O(δ²‖R'''‖) ≈ 1e-8 relative at δ = 1e-4 (common practice).
-  const nkit_examples::bratu_1d bratu(15);
+  const nkit_problems::bratu_1d bratu(15);
   auto problem = nkit::with_parametrised_automatic_differentiation(bratu);
   const Eigen::VectorXd u = Eigen::VectorXd::LinSpaced(15, 0.1, 0.9).array().sin();
   const Eigen::VectorXd v = Eigen::VectorXd::LinSpaced(15, -1.0, 1.0);
@@ -142,7 +142,7 @@ TEST_CASE("AD of a parametrised residual differentiates in u and λ together", "
   const Eigen::VectorXd central = (plus - minus) / (2 * delta);
   CHECK_THAT(exact, is_close_to(central, 1e-6 * central.lpNorm<Eigen::Infinity>()));
   STATIC_REQUIRE(nkit::has_parametrised_jacobian_product_v<decltype(problem), Eigen::VectorXd>);
-  STATIC_REQUIRE_FALSE(nkit::has_parametrised_jacobian_product_v<nkit_examples::bratu_1d, Eigen::VectorXd>);
+  STATIC_REQUIRE_FALSE(nkit::has_parametrised_jacobian_product_v<nkit_problems::bratu_1d, Eigen::VectorXd>);
 }
 
 TEST_CASE("the bordering preconditioner inverts the bordered Jacobian when P = R_u", "[continuation][preconditioner]") {
@@ -152,7 +152,7 @@ TEST_CASE("the bordering preconditioner inverts the bordered Jacobian when P = R
   using space = nkit::eigen_vector_space<double>;
   using bordered = nkit::bordered_vector<Eigen::VectorXd>;
   const nkit::bordered_vector_space<space> bordered_space;
-  auto problem = nkit::with_parametrised_automatic_differentiation(nkit_examples::bratu_1d(31));
+  auto problem = nkit::with_parametrised_automatic_differentiation(nkit_problems::bratu_1d(31));
   nkit::bordered_residual<decltype(problem), space> residual(problem, bordered_space);
   const bordered x{Eigen::VectorXd::LinSpaced(31, 0.0, 3.0).array().sin() * 0.3, 2.0};
   const bordered tangent{Eigen::VectorXd::Constant(31, 0.4), 0.6};
@@ -162,7 +162,7 @@ TEST_CASE("the bordering preconditioner inverts the bordered Jacobian when P = R
   residual(x, r);
 
   // The preconditioner takes R_u from the residual (the problem's assemble_jacobian(u, λ, J)).
-  nkit::bordered_preconditioner<nkit_test::sparse_lu_preconditioner, space> preconditioner;
+  nkit::bordered_preconditioner<nkit::sparse_direct_preconditioner, space> preconditioner;
   preconditioner.attach(&residual);
   REQUIRE(preconditioner.setup(nkit::preconditioner_context<nkit::bordered_vector_space<space>>{
               bordered_space, x, r, 0, nullptr, nullptr}) == nkit::setup_status::ready);
@@ -220,7 +220,7 @@ TEST_CASE("continuation settings are validated with the field named", "[continua
   settings.parameter_lower_bound = 1.0;
   nkit::continuation_solver<> solver(settings);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(4);
-  CHECK_THROWS_AS(solver.trace_branch(nkit_examples::bratu_1d(4), u, 0.5), std::invalid_argument);
+  CHECK_THROWS_AS(solver.trace_branch(nkit_problems::bratu_1d(4), u, 0.5), std::invalid_argument);
 }
 
 // ---- 1D Bratu --------------------------------------------------------------------
@@ -240,9 +240,9 @@ TEST_CASE("1D Bratu: the discrete fold converges to λc at second order", "[cont
   const double exact_fold = 8.0 * (alpha * alpha - 1.0);
   std::vector<double> errors;
   for (int intervals : {32, 64, 128, 256}) {
-    nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit_test::sparse_lu_preconditioner> solver(
+    nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(
         bratu_settings());
-    const nkit::fold_record fold = first_fold(solver, nkit_examples::bratu_1d(intervals - 1), intervals - 1);
+    const nkit::fold_record fold = first_fold(solver, nkit_problems::bratu_1d(intervals - 1), intervals - 1);
     INFO("h = 1/" << intervals << ": discrete fold " << fold.point.parameter);
     CHECK(fold.located);
     errors.push_back(fold.point.parameter - exact_fold);
@@ -272,13 +272,13 @@ TEST_CASE("1D Bratu: going around the fold reaches the upper branch at λ = 1", 
     const int n = intervals - 1;
     nkit::continuation_settings settings = bratu_settings();
     settings.parameter_lower_bound = 1.0;
-    nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit_test::sparse_lu_preconditioner> solver(settings);
+    nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(settings);
     Eigen::VectorXd u = Eigen::VectorXd::Zero(n);
     double lower_peak = 0.0;
     auto record_start = [&](const nkit::continuation_point& point, const Eigen::VectorXd& state) {
       if (point.kind == nkit::point_kind::start) lower_peak = state(n / 2);
     };
-    const nkit::continuation_report report = solver.trace_branch(nkit_examples::bratu_1d(n), u, 1.0, record_start);
+    const nkit::continuation_report report = solver.trace_branch(nkit_problems::bratu_1d(n), u, 1.0, record_start);
     REQUIRE(report.result == nkit::continuation_outcome::reached_parameter_bound);
     REQUIRE(report.folds.size() == 1);
     const nkit::continuation_point& last = report.points.back();
@@ -314,11 +314,11 @@ TEMPLATE_TEST_CASE("1D Bratu fold: finite differences, AD and preconditioning ag
   constexpr int n = 31;
   nkit::continuation_settings settings = bratu_settings();
   nkit::continuation_solver<TestType> plain(settings);
-  const nkit::fold_record by_differences = first_fold(plain, nkit_examples::bratu_1d(n), n);
+  const nkit::fold_record by_differences = first_fold(plain, nkit_problems::bratu_1d(n), n);
   const nkit::fold_record by_ad =
-      first_fold(plain, nkit::with_parametrised_automatic_differentiation(nkit_examples::bratu_1d(n)), n);
-  nkit::continuation_solver<TestType, nkit_test::sparse_lu_preconditioner> preconditioned(settings);
-  const nkit::fold_record with_lu = first_fold(preconditioned, nkit_examples::bratu_1d(n), n);
+      first_fold(plain, nkit::with_parametrised_automatic_differentiation(nkit_problems::bratu_1d(n)), n);
+  nkit::continuation_solver<TestType, nkit::sparse_direct_preconditioner> preconditioned(settings);
+  const nkit::fold_record with_lu = first_fold(preconditioned, nkit_problems::bratu_1d(n), n);
   CHECK(by_differences.located);
   CHECK(by_ad.located);
   CHECK(with_lu.located);
@@ -327,7 +327,7 @@ TEMPLATE_TEST_CASE("1D Bratu fold: finite differences, AD and preconditioning ag
   // The exact bordering preconditioner leaves a handful of GMRES iterations
   // per solve instead of tens.
   CHECK(with_lu.point.linear_iterations * 5 < by_differences.point.linear_iterations);
-  CHECK(preconditioned.preconditioner().setups() > 0);
+  CHECK(preconditioned.preconditioner().factorization() != nullptr);  // it was set up
 }
 
 TEST_CASE("the start tangent is (du/dλ, 1) normalised in the arclength metric", "[continuation][bratu]") {
@@ -339,7 +339,7 @@ TEST_CASE("the start tangent is (du/dλ, 1) normalised in the arclength metric",
   settings.corrector.relative_tolerance = 1e-12;
   settings.corrector.absolute_tolerance = 1e-10;  // R's entries are O(1/h²): rounding level about 1e-12
   nkit::continuation_solver<> solver(settings);
-  auto problem = nkit::with_parametrised_automatic_differentiation(nkit_examples::bratu_1d(n));
+  auto problem = nkit::with_parametrised_automatic_differentiation(nkit_problems::bratu_1d(n));
   const double delta = 1e-4;
   Eigen::VectorXd above = Eigen::VectorXd::Zero(n), below = Eigen::VectorXd::Zero(n), at = Eigen::VectorXd::Zero(n);
   REQUIRE(solver.trace_branch(problem, above, 1.0 + delta).result == nkit::continuation_outcome::reached_point_limit);
@@ -364,14 +364,14 @@ TEST_CASE("natural-parameter continuation stops honestly at the fold", "[continu
   // the same grid gives λc(h).
   constexpr int n = 63;
   nkit::continuation_solver<> arclength(bratu_settings());
-  const double discrete_fold = first_fold(arclength, nkit_examples::bratu_1d(n), n).point.parameter;
+  const double discrete_fold = first_fold(arclength, nkit_problems::bratu_1d(n), n).point.parameter;
 
   nkit::continuation_settings settings = bratu_settings();
   settings.method = nkit::continuation_method::natural_parameter;
   settings.initial_step = 0.25;
   nkit::continuation_solver<> natural(settings);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(n);
-  const nkit::continuation_report report = natural.trace_branch(nkit_examples::bratu_1d(n), u, 1.0);
+  const nkit::continuation_report report = natural.trace_branch(nkit_problems::bratu_1d(n), u, 1.0);
   CHECK(report.result == nkit::continuation_outcome::step_below_minimum);
   CHECK_FALSE(report.finished());
   CHECK(report.rejected_steps > 0);
@@ -397,7 +397,7 @@ TEST_CASE("continuation outcomes: point limit, callback stop, failed start", "[c
   settings.max_points = 4;
   nkit::continuation_solver<> solver(settings);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(n);
-  const nkit::continuation_report limited = solver.trace_branch(nkit_examples::bratu_1d(n), u, 1.0);
+  const nkit::continuation_report limited = solver.trace_branch(nkit_problems::bratu_1d(n), u, 1.0);
   CHECK(limited.result == nkit::continuation_outcome::reached_point_limit);
   CHECK(limited.finished());
   CHECK(limited.points.size() == 4);
@@ -410,7 +410,7 @@ TEST_CASE("continuation outcomes: point limit, callback stop, failed start", "[c
 
   int calls = 0;
   const nkit::continuation_report stopped = solver.trace_branch(
-      nkit_examples::bratu_1d(n), u, 1.0, [&](const nkit::continuation_point&, const Eigen::VectorXd&) {
+      nkit_problems::bratu_1d(n), u, 1.0, [&](const nkit::continuation_point&, const Eigen::VectorXd&) {
         return ++calls == 2 ? nkit::monitor_decision::stop_now : nkit::monitor_decision::keep_going;
       });
   CHECK(stopped.result == nkit::continuation_outcome::stopped_by_callback);
@@ -418,7 +418,7 @@ TEST_CASE("continuation outcomes: point limit, callback stop, failed start", "[c
 
   // No solution exists for λ > λc ≈ 3.51: the start solve cannot converge, and u is left as given.
   Eigen::VectorXd guess = Eigen::VectorXd::Constant(n, 0.25);
-  const nkit::continuation_report failed = solver.trace_branch(nkit_examples::bratu_1d(n), guess, 5.0);
+  const nkit::continuation_report failed = solver.trace_branch(nkit_problems::bratu_1d(n), guess, 5.0);
   CHECK(failed.result == nkit::continuation_outcome::start_point_failed);
   CHECK(failed.points.empty());
   CHECK(guess == Eigen::VectorXd::Constant(n, 0.25));
@@ -428,9 +428,9 @@ TEST_CASE("continuation outcomes: point limit, callback stop, failed start", "[c
 
 namespace {
 double bratu_2d_discrete_fold(int nodes_per_side) {
-  nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit_test::sparse_lu_preconditioner> solver(
+  nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(
       bratu_settings());
-  const nkit_examples::bratu_2d problem(nodes_per_side);
+  const nkit_problems::bratu_2d problem(nodes_per_side);
   const nkit::fold_record fold = first_fold(solver, problem, problem.unknowns(), 5.0);  // fewer points than from 1
   CHECK(fold.located);
   return fold.point.parameter;

@@ -28,10 +28,10 @@
 #include <string>
 #include <vector>
 
-#include "problems/more_garbow_hillstrom.hpp"
+#include "problems/test_sets/more_garbow_hillstrom.hpp"
 #include "support/matchers.hpp"
 
-namespace mgh = nkit_test::more_garbow_hillstrom;
+namespace mgh = nkit_problems::more_garbow_hillstrom;
 
 namespace {
 

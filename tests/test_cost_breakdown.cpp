@@ -10,7 +10,7 @@
 #include <sstream>
 #include <string>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 namespace {
 
@@ -56,7 +56,7 @@ TEST_CASE("the phases add up to the wall time for every globalisation", "[report
                nkit::globalization_strategy::trust_region, nkit::globalization_strategy::pseudo_transient);
   const std::string strategy_name(nkit::name(strategy));
   CAPTURE(strategy_name);
-  nkit_examples::heat_conduction_model_problem problem(16);
+  nkit_problems::heat_conduction_model_problem problem(16);
   Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
   nkit::newton_settings settings;
   settings.globalization = strategy;
@@ -112,7 +112,7 @@ TEST_CASE("time spent in user callbacks lands in the phase that ran them", "[rep
     spin_for(per_apply);
     z = r / 4.0;  // the model problem's interior diagonal is about 4 k at T = 0
   });
-  nkit_examples::heat_conduction_model_problem problem(8);
+  nkit_problems::heat_conduction_model_problem problem(8);
   Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, decltype(preconditioner)> solver({}, {}, preconditioner);
   const auto report = solver.solve(problem, t, slow_monitor{});
@@ -143,7 +143,7 @@ TEST_CASE("a solve stopped inside GMRES or a globalisation step keeps its breakd
   // non-negative, and the Newton-update remainder must not have absorbed
   // the interrupted work (it holds copies and norms only: under 25 % of
   // the time spent in J·v and residual evaluations).
-  nkit_examples::heat_conduction_model_problem model(12);
+  nkit_problems::heat_conduction_model_problem model(12);
   auto residual = [&](const Eigen::VectorXd& x, Eigen::VectorXd& r) {
     model(x, r);
     spin_for(5e-5);
@@ -186,7 +186,7 @@ TEST_CASE("on a residual-dominated solve the unattributed time is under 2 % of t
   // microsecond, no allocation on a repeat solve). A ratio above 2 % means a
   // part of the solve escaped the measured phases. The best of three solves
   // is taken so that one preemption of the test process cannot decide it.
-  nkit_examples::heat_conduction_model_problem model(20);
+  nkit_problems::heat_conduction_model_problem model(20);
   auto residual = [&](const Eigen::VectorXd& x, Eigen::VectorXd& r) {
     model(x, r);
     spin_for(1e-4);
@@ -237,7 +237,7 @@ TEST_CASE("workspace_bytes equals a hand count of the solver's buffers", "[repor
   const std::size_t empty_pattern = sizeof(int);
   const std::size_t expected_without_jacobian = sizeof(double) * (vectors * n + dense) + history + empty_pattern;
 
-  nkit_examples::heat_conduction_model_problem problem(30);
+  nkit_problems::heat_conduction_model_problem problem(30);
   SECTION("matrix-free, no preconditioner") {
     nkit::newton_krylov_solver<> solver(settings);
     Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
@@ -263,7 +263,7 @@ TEST_CASE("workspace_bytes equals a hand count of the solver's buffers", "[repor
 }
 
 TEST_CASE("the cost breakdown printer lists every phase, its share and the total", "[report][cost][output]") {
-  nkit_examples::heat_conduction_model_problem problem(12);
+  nkit_problems::heat_conduction_model_problem problem(12);
   Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
   nkit::newton_krylov_solver<> solver;
   const auto report = solver.solve(problem, t);

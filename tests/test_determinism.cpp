@@ -4,17 +4,17 @@
 // preconditioner. This holds in a serial build because every reduction runs
 // in a fixed order; DEVELOPERS.md says what holds with threads. (Moved here
 // from test_newton_solver.cpp and extended.) The problems are the MGH 1981
-// Broyden banded system (problem 31, tests/problems) from 10·x0, where the
+// Broyden banded system (problem 31, problems/test_sets) from 10·x0, where the
 // line search backtracks, and an invented cubic system.
 #include <catch2/catch.hpp>
 #include <cstring>
 #include <nkit/nkit.hpp>
 #include <vector>
 
-#include "problems/more_garbow_hillstrom.hpp"
+#include "problems/test_sets/more_garbow_hillstrom.hpp"
 #include "support/reliability_problems.hpp"
 
-namespace mgh = nkit_test::more_garbow_hillstrom;
+namespace mgh = nkit_problems::more_garbow_hillstrom;
 using nkit_test::all_globalizations;
 
 namespace {

@@ -8,13 +8,13 @@
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <nkit/sparse_jacobian.hpp>
 
-#include "problems/hard_problems.hpp"
+#include "problems/test_sets/hard_problems.hpp"
 #include "support/matchers.hpp"
 
 using nkit_test::is_close_to;
 
-using nkit_test::cubic_reaction_diffusion;
-using nkit_test::square_root_reaction;
+using nkit_problems::cubic_reaction_diffusion;
+using nkit_problems::square_root_reaction;
 
 TEST_CASE("pseudo-transient continuation converges where line-search Newton stalls",
           "[globalization][pseudo_transient]") {

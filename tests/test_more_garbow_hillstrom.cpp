@@ -1,6 +1,6 @@
 // The nonlinear systems of Moré, Garbow & Hillstrom, "Testing unconstrained
 // optimization software", ACM TOMS 7(1) (1981) 17–41, as collected in the
-// shared references §5 (definitions in tests/problems/more_garbow_hillstrom.hpp):
+// shared references §5 (definitions in problems/test_sets/more_garbow_hillstrom.hpp):
 //  1. ‖F(x0)‖ against the values computed there, which validates the definitions;
 //  2. nkit's default line-search Newton–GMRES from each standard start;
 //  3. a cross-check of the roots against a general-purpose reference solver,
@@ -15,11 +15,11 @@
 #include <string>
 #include <unsupported/Eigen/NonLinearOptimization>
 
-#include "problems/more_garbow_hillstrom.hpp"
+#include "problems/test_sets/more_garbow_hillstrom.hpp"
 #include "support/matchers.hpp"
 #include "support/tridiagonal_preconditioner.hpp"
 
-namespace mgh = nkit_test::more_garbow_hillstrom;
+namespace mgh = nkit_problems::more_garbow_hillstrom;
 
 namespace {
 

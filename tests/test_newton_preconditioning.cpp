@@ -4,6 +4,7 @@
 // reuse policy, report counts, and failure handling.
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <cstdint>
 #include <functional>
 #include <limits>
 #include <memory>
@@ -22,10 +23,10 @@
 #include <nkit/preconditioners/suitesparse_direct.hpp>
 #endif
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 #include "support/matchers.hpp"
 
-using nkit_examples::heat_conduction_model_problem;
+using nkit_problems::heat_conduction_model_problem;
 
 namespace {
 
@@ -57,16 +58,25 @@ nkit::newton_settings tight_settings() {
   return settings;
 }
 
-/// Exact Newton with Eigen's SparseLU as the preconditioner.
-const Eigen::VectorXd& exact_newton_solution() {
-  static const Eigen::VectorXd solution = [] {
+/// Exact Newton with Eigen's SparseLU as the preconditioner, from T0 = 0.
+struct exact_newton_run {
+  Eigen::VectorXd temperature = Eigen::VectorXd::Zero(cells * cells);
+  nkit::solve_report report;
+  std::int64_t symbolic_analyses = 0;
+  exact_newton_run() {
     exact_model model;
-    Eigen::VectorXd t = Eigen::VectorXd::Zero(cells * cells);
     nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(
         tight_settings());
-    const nkit::solve_report report = solver.solve(model, t);
-    REQUIRE(report.converged());
-    return t;
+    report = solver.solve(model, temperature);
+    symbolic_analyses = solver.preconditioner().symbolic_analyses();
+  }
+};
+
+const Eigen::VectorXd& exact_newton_solution() {
+  static const Eigen::VectorXd solution = [] {
+    const exact_newton_run run;
+    REQUIRE(run.report.converged());
+    return run.temperature;
   }();
   return solution;
 }
@@ -76,11 +86,8 @@ double relative_difference(const Eigen::VectorXd& a, const Eigen::VectorXd& b) {
 }  // namespace
 
 TEST_CASE("exact Newton: the direct preconditioner makes GMRES converge in one iteration", "[newton][exact]") {
-  exact_model model;
-  Eigen::VectorXd t = Eigen::VectorXd::Zero(cells * cells);
-  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(
-      tight_settings());
-  const nkit::solve_report report = solver.solve(model, t);
+  const exact_newton_run run;
+  const nkit::solve_report& report = run.report;
   REQUIRE(report.converged());
   // M = J and exact J·v: A M⁻¹ = I, so the first Krylov vector solves the
   // system (Saad & Schultz 1986: GMRES terminates once the Krylov space holds
@@ -90,8 +97,8 @@ TEST_CASE("exact Newton: the direct preconditioner makes GMRES converge in one i
   CHECK(report.jacobian_assemblies == report.preconditioner_setups);
   // Sanity value from references §15: max T ≈ 0.6466 at fine grids; on 16²
   // the cell centres sit off the peak, so only the first two digits are checked (computed).
-  CHECK_THAT(t.maxCoeff(), Catch::Matchers::WithinAbs(0.64, 0.02));
-  CHECK(solver.preconditioner().symbolic_analyses() == 1);  // analysed once, refactorised per step
+  CHECK_THAT(run.temperature.maxCoeff(), Catch::Matchers::WithinAbs(0.64, 0.02));
+  CHECK(run.symbolic_analyses == 1);  // analysed once, refactorised per step
 }
 
 TEST_CASE("every preconditioner reaches the exact-Newton solution", "[newton][preconditioner]") {

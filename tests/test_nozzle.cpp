@@ -5,7 +5,7 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 
-#include "nozzle/nozzle_solve.hpp"
+#include "problems/flow/nozzle_solve.hpp"
 
 using Catch::Matchers::WithinAbs;
 using Catch::Matchers::WithinRel;
@@ -75,29 +75,29 @@ struct nozzle_check {
 };
 
 nozzle_check run(int cells, const exact_nozzle& exact, double exact_shock) {
-  nkit_examples::nozzle_setup setup;
+  nkit_problems::nozzle_setup setup;
   setup.back_pressure = exact.back_pressure;
-  const nkit_examples::quasi_one_dimensional_nozzle problem(cells, setup);
+  const nkit_problems::quasi_one_dimensional_nozzle problem(cells, setup);
   Eigen::VectorXd u = problem.initial_guess();  // crude: at rest, linear pressure
-  const auto report = nkit_examples::solve_nozzle(problem, u);
+  const auto report = nkit_problems::solve_nozzle(problem, u);
   REQUIRE(report.converged());
   nozzle_check check{};
   check.dx = problem.spacing();
-  const double shock = nkit_examples::captured_shock_position(problem, u);
+  const double shock = nkit_problems::captured_shock_position(problem, u);
   check.shock_error = std::abs(shock - exact_shock);
   // Mach away from the shock (more than 6 cells) and away from the sonic throat
   // (|x − 1.5| > 0.15, where dM/dx is unbounded in the exact solution).
   for (int i = 0; i < cells; ++i) {
     const double x = problem.x(i);
     if (std::abs(x - exact_shock) < 6 * check.dx || std::abs(x - 1.5) < 0.15) continue;
-    const double m = nkit_examples::quasi_one_dimensional_nozzle::mach(problem.cell(u, i));
+    const double m = nkit_problems::quasi_one_dimensional_nozzle::mach(problem.cell(u, i));
     check.smooth_error = std::max(check.smooth_error, std::abs(m - exact.mach(x, exact_shock)));
   }
   // Post-shock Mach: the first cell 3 cells behind the captured shock, against
   // the exact subsonic flow there.
   for (int i = 0; i < cells; ++i) {
     if (problem.x(i) < shock + 3 * check.dx) continue;
-    const double m = nkit_examples::quasi_one_dimensional_nozzle::mach(problem.cell(u, i));
+    const double m = nkit_problems::quasi_one_dimensional_nozzle::mach(problem.cell(u, i));
     check.post_shock_error = std::abs(m - exact.mach(problem.x(i), exact_shock));
     break;
   }

@@ -20,11 +20,11 @@
 #include <nkit/preconditioners/suitesparse_direct.hpp>
 #endif
 
-#include "support/convection_diffusion.hpp"
+#include "problems/test_sets/convection_diffusion.hpp"
 #include "support/matchers.hpp"
 
-using nkit_test::convection_diffusion_matrix;
-using nkit_test::coupled_convection_diffusion_matrix;
+using nkit_problems::convection_diffusion_matrix;
+using nkit_problems::coupled_convection_diffusion_matrix;
 
 namespace {
 
@@ -104,7 +104,7 @@ TEST_CASE("modified ILU(0) keeps the row sums of the matrix", "[preconditioner][
 
 TEST_CASE("ILU(0) cuts GMRES iterations at least 5x on upwinded convection-diffusion at 128^2",
           "[preconditioner][ilu_zero][convection_diffusion]") {
-  // Model: tests/support/convection_diffusion.hpp (Elman, Silvester & Wathen
+  // Model: problems/test_sets/convection_diffusion.hpp (Elman, Silvester & Wathen
   // 2005, ch. 3, upwinded), mesh Péclet number 10 and 100, 128 × 128 nodes.
   // The factor 5 is this project's requirement (no published value). With the
   // wind following the natural ordering, ILU(0) is close to exact for
@@ -123,7 +123,7 @@ TEST_CASE("ILU(0) cuts GMRES iterations at least 5x on upwinded convection-diffu
 TEST_CASE("block Jacobi beats point Jacobi on a two-unknown-per-cell system",
           "[preconditioner][block_jacobi][convection_diffusion]") {
   // Two convected species coupled inside each cell by a stiff reaction block
-  // (tests/support/convection_diffusion.hpp, invented coefficients). Point
+  // (problems/test_sets/convection_diffusion.hpp, invented coefficients). Point
   // Jacobi drops the in-cell coupling that block Jacobi inverts exactly.
   const double peclet = GENERATE(10.0, 100.0);
   const nkit::sparse_matrix a = coupled_convection_diffusion_matrix(48, peclet, 1000.0);

@@ -6,16 +6,16 @@
 #include <cmath>
 #include <nkit/automatic_differentiation.hpp>
 
-#include "reaction_diffusion/reaction_runs.hpp"
+#include "problems/reaction_diffusion/gray_scott_runs.hpp"
 
 TEST_CASE("reaction-diffusion converges at second order to its manufactured solution with a colored-FD Jacobian",
           "[examples][reaction_diffusion]") {
   // Method of manufactured solutions (Salari & Knupp, SAND2000-1444, 2000):
   // cell-centred five-point scheme, second order; Newton converged to 1e-10
   // relative, far below the discretisation error, so p = ln(e_h/e_{h/2})/ln 2 ≈ 2.
-  const auto g16 = nkit_examples::run_reaction_diffusion(16, nkit::ilu_zero_preconditioner());
-  const auto g32 = nkit_examples::run_reaction_diffusion(32, nkit::ilu_zero_preconditioner());
-  const auto g64 = nkit_examples::run_reaction_diffusion(64, nkit::ilu_zero_preconditioner());
+  const auto g16 = nkit_problems::run_reaction_diffusion(16, nkit::ilu_zero_preconditioner());
+  const auto g32 = nkit_problems::run_reaction_diffusion(32, nkit::ilu_zero_preconditioner());
+  const auto g64 = nkit_problems::run_reaction_diffusion(64, nkit::ilu_zero_preconditioner());
   REQUIRE(g16.report.converged());
   REQUIRE(g32.report.converged());
   REQUIRE(g64.report.converged());
@@ -41,8 +41,8 @@ TEST_CASE("reaction-diffusion: ILU(0) needs fewer GMRES iterations than block Ja
   // Iterative Methods for Sparse Linear Systems, 2nd ed., SIAM 2003, ch. 10),
   // so on this diffusion-dominated problem it must need fewer iterations; both
   // reach the same discrete solution (to the Newton tolerance).
-  const auto block = nkit_examples::run_reaction_diffusion(32, nkit::block_jacobi_preconditioner(2));
-  const auto ilu = nkit_examples::run_reaction_diffusion(32, nkit::ilu_zero_preconditioner());
+  const auto block = nkit_problems::run_reaction_diffusion(32, nkit::block_jacobi_preconditioner(2));
+  const auto ilu = nkit_problems::run_reaction_diffusion(32, nkit::ilu_zero_preconditioner());
   REQUIRE(block.report.converged());
   REQUIRE(ilu.report.converged());
   CAPTURE(block.report.linear_iterations, ilu.report.linear_iterations);
@@ -56,7 +56,7 @@ TEST_CASE("reaction-diffusion residual: forward-mode AD Jacobian matches the col
   // (Eigen's AutoDiffScalar through nkit's dual numbers). The colored forward
   // differences carry an O(√ε) error per entry (sparse_jacobian.hpp), so 1e-6
   // relative to the largest entry.
-  const nkit_examples::gray_scott_steady problem(5);
+  const nkit_problems::gray_scott_steady problem(5);
   const Eigen::VectorXd w = problem.initial_guess() + 0.1 * Eigen::VectorXd::LinSpaced(problem.unknowns(), -1, 1);
   Eigen::MatrixXd exact(problem.unknowns(), problem.unknowns());
   nkit::dual_vector x(problem.unknowns()), r(problem.unknowns());

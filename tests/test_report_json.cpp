@@ -6,7 +6,7 @@
 #include <nkit/report_json.hpp>
 #include <sstream>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 // A new field in these structs must also be written by report_json.hpp
 // (and listed below): the sizes catch an addition that forgot it.
@@ -14,7 +14,7 @@ static_assert(sizeof(nkit::phase_seconds) == 11 * sizeof(double), "update report
 static_assert(sizeof(nkit::phase_calls) == 10 * sizeof(std::int64_t), "update report_json.hpp and this test");
 
 TEST_CASE("the report's JSON parses and carries every field", "[report][json]") {
-  nkit_examples::heat_conduction_model_problem problem(16);
+  nkit_problems::heat_conduction_model_problem problem(16);
   Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
   nkit::newton_krylov_solver<> solver;
   const nkit::solve_report report = solver.solve(problem, t);

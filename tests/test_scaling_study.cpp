@@ -11,7 +11,7 @@
 #include <string>
 #include <vector>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 using Catch::Matchers::WithinAbs;
 using Catch::Matchers::WithinRel;
@@ -189,7 +189,7 @@ TEST_CASE("a study of the heat-conduction model problem tabulates real solves", 
   nkit::scaling_study_settings settings;
   settings.size_parameters = {8, 16, 32};
   const auto result = nkit::run_scaling_study(settings, [](long long size) {
-    nkit_examples::heat_conduction_model_problem problem(static_cast<int>(size));
+    nkit_problems::heat_conduction_model_problem problem(static_cast<int>(size));
     Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
     nkit::newton_settings newton;
     newton.relative_tolerance = 1e-8;

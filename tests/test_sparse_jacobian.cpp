@@ -13,10 +13,10 @@
 #include <nkit/sparsity_pattern.hpp>
 #include <vector>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 #include "support/matchers.hpp"
 
-using nkit_examples::heat_conduction_model_problem;
+using nkit_problems::heat_conduction_model_problem;
 
 namespace {
 

@@ -49,7 +49,7 @@ TEST_CASE("a traced solve records one event per phase call, Newton step and line
 #if NKIT_HAS_JSON
 #include <nlohmann/json.hpp>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 namespace {
 /// Jacobi from the assembled model Jacobian: the trace then has assembly,
@@ -75,7 +75,7 @@ struct span {
 
 TEST_CASE("the trace file parses as JSON, counts every call and nests phases inside their Newton step",
           "[trace][json]") {
-  nkit_examples::heat_conduction_model_problem problem(16);
+  nkit_problems::heat_conduction_model_problem problem(16);
   Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
   nkit::trace_recorder recorder;
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, traced_jacobi> solver;

@@ -7,7 +7,6 @@
 //                  [--output=baseplate_output] [--skip_picard] [--help]
 #include <algorithm>
 #include <cstdio>
-#include <exception>
 #include <fstream>
 #include <iostream>
 #include <map>
@@ -15,15 +14,16 @@
 #include <string>
 #include <vector>
 
-#include "baseplate/baseplate.hpp"
-#include "baseplate/baseplate_solvers.hpp"
 #include "common/command_line.hpp"
 #include "common/run_output.hpp"
 #include "common/vtk_legacy.hpp"
+#include "problems/baselines/process_resources.hpp"
+#include "problems/heat/baseplate.hpp"
+#include "problems/heat/baseplate_solvers.hpp"
 
 namespace {
 
-using nkit_examples::baseplate_conduction;
+using nkit_problems::baseplate_conduction;
 constexpr double kelvin_offset = 273.15;
 
 struct run_summary {
@@ -61,9 +61,9 @@ void print_side_by_side(const std::vector<run_summary>& runs) {
 
 /// Max temperature per region and per chip: the limits a designer checks.
 void print_temperature_limits(const baseplate_conduction& problem, const Eigen::VectorXd& t) {
-  const auto& table = nkit_examples::material_table();
+  const auto& table = nkit_problems::material_table();
   std::printf("\nTemperature limits (deg C):\n  %-28s %10s %10s\n", "region", "minimum", "maximum");
-  for (int region = 0; region < nkit_examples::region_count; ++region) {
+  for (int region = 0; region < nkit_problems::region_count; ++region) {
     double low = 1e300, high = -1e300;
     for (Eigen::Index p = 0; p < t.size(); ++p) {
       if (problem.regions()(p) != region) continue;
@@ -89,7 +89,7 @@ void print_temperature_limits(const baseplate_conduction& problem, const Eigen::
   }
 }
 
-void write_picard_csv(const std::filesystem::path& path, const nkit_examples::picard_report& report) {
+void write_picard_csv(const std::filesystem::path& path, const nkit_problems::picard_report& report) {
   std::ofstream out(path);
   out << "iteration,residual_norm,relative_residual_norm,elapsed_seconds,residual_evaluations\n";
   out << 0 << ',' << report.initial_residual_norm << ",1,0,1\n";
@@ -171,18 +171,18 @@ int run(int argc, char** argv) {
   const double coolant = problem.design().coolant_temperature;
   Eigen::VectorXd newton_t = Eigen::VectorXd::Constant(problem.unknowns(), coolant);
   const std::string choice = options.text("preconditioner");
-  nkit_examples::reset_peak_memory();
-  const double baseline_memory = nkit_examples::resident_memory_bytes();
-  const double newton_cpu_start = nkit_examples::process_cpu_seconds();
-  const nkit::solve_report report = nkit_examples::solve_by_newton_gmres(problem, newton_t, choice, settings);
-  const double newton_cpu = nkit_examples::process_cpu_seconds() - newton_cpu_start;
-  const double newton_peak = nkit_examples::peak_memory_bytes() - baseline_memory;
+  nkit_problems::reset_peak_memory();
+  const double baseline_memory = nkit_problems::resident_memory_bytes();
+  const double newton_cpu_start = nkit_problems::process_cpu_seconds();
+  const nkit::solve_report report = nkit_problems::solve_by_newton_gmres(problem, newton_t, choice, settings);
+  const double newton_cpu = nkit_problems::process_cpu_seconds() - newton_cpu_start;
+  const double newton_peak = nkit_problems::peak_memory_bytes() - baseline_memory;
   std::printf("Newton-GMRES, preconditioner %s:\n", choice.c_str());
   nkit::print_convergence_table(std::cout, report);
   std::vector<run_summary> runs;
   runs.push_back({"Newton-GMRES " + choice, report.converged(), report.newton_steps, report.linear_iterations,
                   report.residual_evaluations, report.preconditioner_setups, report.wall_seconds, newton_cpu,
-                  report.work_units(), nkit_examples::mebibytes(newton_peak),
+                  report.work_units(), nkit_problems::mebibytes(newton_peak),
                   report.final_residual_norm / report.initial_residual_norm});
   nkit_examples::write_history(folder, "newton_history.csv", report);
 
@@ -190,20 +190,20 @@ int run(int argc, char** argv) {
   bool picard_ok = true;
   if (!options.is_set("skip_picard")) {
     Eigen::VectorXd picard_t = Eigen::VectorXd::Constant(problem.unknowns(), coolant);
-    nkit_examples::reset_peak_memory();
-    const double before = nkit_examples::resident_memory_bytes();
-    const double picard_cpu_start = nkit_examples::process_cpu_seconds();
-    const nkit_examples::picard_report picard =
-        nkit_examples::solve_by_picard_iteration(problem, picard_t, settings.relative_tolerance, 200);
-    const double picard_cpu = nkit_examples::process_cpu_seconds() - picard_cpu_start;
-    const double picard_peak = nkit_examples::peak_memory_bytes() - before;
+    nkit_problems::reset_peak_memory();
+    const double before = nkit_problems::resident_memory_bytes();
+    const double picard_cpu_start = nkit_problems::process_cpu_seconds();
+    const nkit_problems::picard_report picard =
+        nkit_problems::solve_by_picard_iteration(problem, picard_t, settings.relative_tolerance, 200);
+    const double picard_cpu = nkit_problems::process_cpu_seconds() - picard_cpu_start;
+    const double picard_peak = nkit_problems::peak_memory_bytes() - before;
     std::printf("\nPicard (frozen k, sparse LDL^T per iteration):\n iteration | residual norm | reduction\n");
     for (const auto& h : picard.history) {
-      std::printf(" %9d | %13.6e | %9.3e\n", h.iteration, h.residual_norm, h.relative_residual_norm);
+      std::printf(" %9lld | %13.6e | %9.3e\n", h.iteration, h.residual_norm, h.relative_residual_norm);
     }
     runs.push_back({"Picard + LDL^T", picard.converged, picard.iterations, 0, picard.residual_evaluations,
                     picard.factorizations, picard.wall_seconds, picard_cpu, picard.work_units(),
-                    nkit_examples::mebibytes(picard_peak), picard.final_residual_norm / picard.initial_residual_norm});
+                    nkit_problems::mebibytes(picard_peak), picard.final_residual_norm / picard.initial_residual_norm});
     write_picard_csv(folder / "picard_history.csv", picard);
     const double difference = (picard_t - newton_t).cwiseAbs().maxCoeff();
     std::printf("max |T_Newton - T_Picard| = %.3e K\n", difference);
@@ -248,11 +248,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

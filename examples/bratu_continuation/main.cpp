@@ -19,7 +19,7 @@
 #include <nkit/preconditioners/sparse_direct.hpp>
 #include <string>
 
-#include "bratu_continuation/bratu.hpp"
+#include "problems/reaction_diffusion/bratu.hpp"
 
 namespace {
 
@@ -47,7 +47,7 @@ int main(int argc, char** argv) {
     std::cerr << "usage: bratu_continuation [nodes_per_side >= 3] [max_height > 0] [output_prefix]\n";
     return 2;
   }
-  const nkit_examples::bratu_2d problem(nodes);
+  const nkit_problems::bratu_2d problem(nodes);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(problem.unknowns());
 
   nkit::continuation_settings settings;

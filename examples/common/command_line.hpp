@@ -5,6 +5,7 @@
 #define NKIT_EXAMPLES_COMMON_COMMAND_LINE_HPP
 
 #include <cstdlib>
+#include <exception>
 #include <iomanip>
 #include <iostream>
 #include <map>
@@ -122,6 +123,18 @@ class command_line {
   std::vector<std::string> m_order;
   std::map<std::string, entry> m_entries;
 };
+
+/// The body of an example's main(): runs `run(argc, argv)` and turns an
+/// exception (a bad option, an unwritable output folder, ...) into its message
+/// on stderr and exit status 2.
+inline int run_reporting_errors(int (*run)(int, char**), int argc, char** argv) {
+  try {
+    return run(argc, argv);
+  } catch (const std::exception& error) {
+    std::cerr << error.what() << '\n';
+    return 2;
+  }
+}
 
 }  // namespace nkit_examples
 

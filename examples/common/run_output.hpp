@@ -1,17 +1,11 @@
-// Output plumbing for the examples: the output folder, peak memory, the
-// convergence CSV, and gnuplot (optional: without it we print how to plot).
-// Shared example plumbing (not part of the nkit library).
+// Output plumbing for the examples: the output folder, the convergence CSV,
+// and gnuplot (optional: without it we print how to plot). Shared example
+// plumbing (not part of the nkit library); peak memory and CPU time are in
+// problems/baselines/process_resources.hpp (the benchmarks use them too).
 #ifndef NKIT_EXAMPLES_COMMON_RUN_OUTPUT_HPP
 #define NKIT_EXAMPLES_COMMON_RUN_OUTPUT_HPP
 
-#include <sys/resource.h>
-#ifdef __GLIBC__
-#include <malloc.h>
-#endif
-
-#include <cstdio>
 #include <cstdlib>
-#include <ctime>
 #include <filesystem>
 #include <fstream>
 #include <iostream>
@@ -29,56 +23,6 @@ inline std::filesystem::path make_output_folder(const std::string& folder) {
   std::filesystem::create_directories(path);
   return path;
 }
-
-/// Peak resident memory of this process so far, bytes: VmHWM from
-/// /proc/self/status when readable, otherwise getrusage's ru_maxrss (KiB on Linux).
-inline double peak_memory_bytes() {
-  std::ifstream status("/proc/self/status");
-  std::string line;
-  while (std::getline(status, line)) {
-    if (line.rfind("VmHWM:", 0) == 0) return 1024.0 * std::strtod(line.c_str() + 6, nullptr);
-  }
-  rusage usage{};
-  if (getrusage(RUSAGE_SELF, &usage) == 0) return 1024.0 * static_cast<double>(usage.ru_maxrss);
-  return 0.0;
-}
-
-/// Resets the peak-memory mark to the current resident size (Linux: writes 5
-/// to /proc/self/clear_refs), so two methods run one after the other in the
-/// same process each get their own peak (freed heap is first returned to
-/// the system with malloc_trim where glibc provides it). Returns false when not supported
-/// (the peak then covers the whole process so far).
-inline bool reset_peak_memory() {
-#ifdef __GLIBC__
-  malloc_trim(0);  // hand freed heap back first, so the next growth is really new memory
-#endif
-  std::ofstream clear("/proc/self/clear_refs");
-  if (!clear) return false;
-  clear << "5";
-  clear.flush();
-  return static_cast<bool>(clear);
-}
-
-/// Current resident memory, bytes (VmRSS; 0 when unavailable).
-inline double resident_memory_bytes() {
-  std::ifstream status("/proc/self/status");
-  std::string line;
-  while (std::getline(status, line)) {
-    if (line.rfind("VmRSS:", 0) == 0) return 1024.0 * std::strtod(line.c_str() + 6, nullptr);
-  }
-  return 0.0;
-}
-
-/// CPU time used by this process so far, seconds (all threads; user +
-/// system), from clock_gettime(CLOCK_PROCESS_CPUTIME_ID). On a machine shared
-/// with other jobs it is a steadier measure of a method's cost than wall time.
-inline double process_cpu_seconds() {
-  timespec now{};
-  if (clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &now) != 0) return 0.0;
-  return static_cast<double>(now.tv_sec) + 1e-9 * static_cast<double>(now.tv_nsec);
-}
-
-inline double mebibytes(double bytes) { return bytes / (1024.0 * 1024.0); }
 
 /// Writes nkit's per-step history as CSV into folder/file_name; returns the path.
 inline std::filesystem::path write_history(const std::filesystem::path& folder, const std::string& file_name,

@@ -5,7 +5,6 @@
 //
 //   conduction_verification [--coarsest=16] [--levels=4] [--beta=1] [--output=conduction_output]
 #include <cstdio>
-#include <exception>
 #include <fstream>
 #include <iostream>
 #include <string>
@@ -14,7 +13,7 @@
 #include "common/command_line.hpp"
 #include "common/run_output.hpp"
 #include "common/vtk_legacy.hpp"
-#include "conduction_verification/verification_runs.hpp"
+#include "problems/heat/conduction_verification_runs.hpp"
 
 namespace {
 
@@ -34,24 +33,24 @@ int run(int argc, char** argv) {
   csv << "case,cells,cell_size,max_error,rms_error,flux_error,newton_steps,linear_iterations\n";
   bool all_converged = true;
 
-  nkit_examples::kirchhoff_plane_wall wall;
+  nkit_problems::kirchhoff_plane_wall wall;
   wall.beta = options.number("beta");
   wall.t1 = 1.0;
   wall.t2 = 0.0;
   std::printf("1D plane wall, k = %g (1 + %g T), T(0) = %g, T(1) = %g: exact Kirchhoff-transform solution\n", wall.k0,
               wall.beta, wall.t1, wall.t2);
   std::printf("  cells |  max |T - T_exact| | order |  flux error | order | Newton steps\n");
-  std::vector<nkit_examples::verification_run> runs1d;
+  std::vector<nkit_problems::verification_run> runs1d;
   for (int level = 0; level < levels; ++level) {
-    runs1d.push_back(nkit_examples::run_kirchhoff_wall(coarsest << level, wall));
+    runs1d.push_back(nkit_problems::run_kirchhoff_wall(coarsest << level, wall));
     const auto& r = runs1d.back();
     all_converged = all_converged && r.report.converged();
     char order[32] = "     ", flux_order[32] = "     ";
     if (level > 0) {
       std::snprintf(order, sizeof order, "%5.2f",
-                    nkit_examples::observed_order(runs1d[level - 1].max_error, r.max_error, 2));
+                    nkit_problems::observed_order(runs1d[level - 1].max_error, r.max_error, 2));
       std::snprintf(flux_order, sizeof flux_order, "%5.2f",
-                    nkit_examples::observed_order(runs1d[level - 1].flux_error, r.flux_error, 2));
+                    nkit_problems::observed_order(runs1d[level - 1].flux_error, r.flux_error, 2));
     }
     std::printf("  %5d | %18.3e | %s | %11.3e | %s | %d\n", r.cells, r.max_error, order, r.flux_error, flux_order,
                 r.report.newton_steps);
@@ -59,22 +58,22 @@ int run(int argc, char** argv) {
         << r.flux_error << ',' << r.report.newton_steps << ',' << r.report.linear_iterations << '\n';
   }
 
-  nkit_examples::manufactured_conduction solution;
+  nkit_problems::manufactured_conduction solution;
   solution.beta = options.number("beta");
   std::printf("\n2D manufactured solution T = 1 + %g sin(pi x) sin(pi y) + %g x y, k = %g (1 + %g T)\n", solution.a,
               solution.b, solution.k0, solution.beta);
   std::printf("  cells |  max |T - T_exact| | order |   rms error | order | Newton steps | GMRES its\n");
-  std::vector<nkit_examples::verification_run> runs2d;
+  std::vector<nkit_problems::verification_run> runs2d;
   for (int level = 0; level < levels; ++level) {
-    runs2d.push_back(nkit_examples::run_manufactured(coarsest << level, solution));
+    runs2d.push_back(nkit_problems::run_manufactured(coarsest << level, solution));
     const auto& r = runs2d.back();
     all_converged = all_converged && r.report.converged();
     char order[32] = "     ", rms_order[32] = "     ";
     if (level > 0) {
       std::snprintf(order, sizeof order, "%5.2f",
-                    nkit_examples::observed_order(runs2d[level - 1].max_error, r.max_error, 2));
+                    nkit_problems::observed_order(runs2d[level - 1].max_error, r.max_error, 2));
       std::snprintf(rms_order, sizeof rms_order, "%5.2f",
-                    nkit_examples::observed_order(runs2d[level - 1].rms_error, r.rms_error, 2));
+                    nkit_problems::observed_order(runs2d[level - 1].rms_error, r.rms_error, 2));
     }
     std::printf("  %5d | %18.3e | %s | %11.3e | %s | %12d | %lld\n", r.cells, r.max_error, order, r.rms_error,
                 rms_order, r.report.newton_steps, static_cast<long long>(r.report.linear_iterations));
@@ -117,11 +116,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

@@ -12,7 +12,7 @@
 #include <iostream>
 #include <nkit/report_output.hpp>
 
-#include "distributed_heat/solve_strip_problem.hpp"
+#include "problems/model_problem/solve_strip_problem.hpp"
 
 int main(int argc, char** argv) {
   MPI_Init(&argc, &argv);
@@ -23,10 +23,10 @@ int main(int argc, char** argv) {
   int status = 0;
   try {
     const int n = argc > 1 ? std::atoi(argv[1]) : 128;
-    const auto choice = nkit_examples::strip_preconditioner_from_name(argc > 2 ? argv[2] : "amg");
-    nkit::newton_settings settings = nkit_examples::strip_default_settings();
+    const auto choice = nkit_problems::strip_preconditioner_from_name(argc > 2 ? argv[2] : "amg");
+    nkit::newton_settings settings = nkit_problems::strip_default_settings();
     if (argc > 3) settings.preconditioner_reuse.rebuild_every_newton_steps = std::atoi(argv[3]);
-    const auto result = nkit_examples::solve_strip_problem(MPI_COMM_WORLD, n, choice, settings);
+    const auto result = nkit_problems::solve_strip_problem(MPI_COMM_WORLD, n, choice, settings);
     double local_maximum = result.local_temperature.size() > 0 ? result.local_temperature.maxCoeff() : 0.0;
     double maximum = 0.0;
     MPI_Allreduce(&local_maximum, &maximum, 1, MPI_DOUBLE, MPI_MAX, MPI_COMM_WORLD);

@@ -5,7 +5,6 @@
 //   lid_driven_cavity [--intervals=128] [--reynolds=1000] [--preconditioner=sparse_direct]
 //                     [--output=cavity_output]
 #include <cstdio>
-#include <exception>
 #include <fstream>
 #include <iostream>
 #include <nkit/preconditioners/incomplete_lut.hpp>
@@ -14,11 +13,12 @@
 #include "common/command_line.hpp"
 #include "common/run_output.hpp"
 #include "common/vtk_legacy.hpp"
-#include "lid_driven_cavity/cavity_solve.hpp"
+#include "problems/baselines/process_resources.hpp"
+#include "problems/flow/cavity_solve.hpp"
 
 namespace {
 
-using nkit_examples::lid_driven_cavity;
+using nkit_problems::lid_driven_cavity;
 
 void write_centre_lines(const std::filesystem::path& folder, const lid_driven_cavity& cavity,
                         const Eigen::VectorXd& state, bool reynolds_1000) {
@@ -30,9 +30,9 @@ void write_centre_lines(const std::filesystem::path& folder, const lid_driven_ca
   }
   std::ofstream reference(folder / "ghia_1982.csv");
   reference << "position,u_table_1,position,v_table_2\n";
-  for (std::size_t m = 0; m < nkit_examples::ghia_1982::u_vertical_centre_line.size(); ++m) {
-    const auto& u = nkit_examples::ghia_1982::u_vertical_centre_line[m];
-    const auto& v = nkit_examples::ghia_1982::v_horizontal_centre_line[m];
+  for (std::size_t m = 0; m < nkit_problems::ghia_1982::u_vertical_centre_line.size(); ++m) {
+    const auto& u = nkit_problems::ghia_1982::u_vertical_centre_line[m];
+    const auto& v = nkit_problems::ghia_1982::v_horizontal_centre_line[m];
     reference << u.position << ',' << (reynolds_1000 ? u.re_1000 : u.re_100) << ',' << v.position << ','
               << (reynolds_1000 ? v.re_1000 : v.re_100) << '\n';
   }
@@ -83,13 +83,13 @@ int run(int argc, char** argv) {
               n + 1, n + 1, static_cast<long long>(2 * static_cast<long long>(n - 1) * (n - 1)), re,
               options.summary().c_str());
 
-  const auto settings = nkit_examples::cavity_newton_settings(options.number("relative_tolerance"));
+  const auto settings = nkit_problems::cavity_newton_settings(options.number("relative_tolerance"));
   const std::string choice = options.text("preconditioner");
-  nkit_examples::cavity_solution solution;
+  nkit_problems::cavity_solution solution;
   if (choice == "sparse_direct") {
-    solution = nkit_examples::solve_cavity<nkit::sparse_direct_preconditioner>(n, re, settings);
+    solution = nkit_problems::solve_cavity<nkit::sparse_direct_preconditioner>(n, re, settings);
   } else if (choice == "ilut") {
-    solution = nkit_examples::solve_cavity<nkit::incomplete_lut_preconditioner>(n, re, settings);
+    solution = nkit_problems::solve_cavity<nkit::incomplete_lut_preconditioner>(n, re, settings);
   } else {
     throw std::invalid_argument("lid_driven_cavity: unknown --preconditioner " + choice);
   }
@@ -103,7 +103,7 @@ int run(int argc, char** argv) {
   std::printf(
       "total: %lld Newton steps, %lld GMRES iterations, %lld residual evaluations, %.2f s, peak memory %.0f MiB\n",
       solution.newton_steps, solution.linear_iterations, solution.residual_evaluations, solution.seconds,
-      nkit_examples::mebibytes(nkit_examples::peak_memory_bytes()));
+      nkit_problems::mebibytes(nkit_problems::peak_memory_bytes()));
   std::printf("\nlast Newton solve (Re = %g):\n", re);
   nkit::print_convergence_table(std::cout, solution.reports.back());
   nkit_examples::write_history(folder, "newton_history.csv", solution.reports.back());
@@ -111,15 +111,15 @@ int run(int argc, char** argv) {
   lid_driven_cavity cavity(n, re);
   const bool reynolds_1000 = re == 1000.0;
   if (re == 100.0 || reynolds_1000) {
-    const auto comparison = nkit_examples::compare_with_ghia(cavity, solution.state, reynolds_1000);
+    const auto comparison = nkit_problems::compare_with_ghia(cavity, solution.state, reynolds_1000);
     std::printf(
         "\nGhia, Ghia & Shin (1982), Tables I-II at Re = %g: max |u - u_Ghia| = %.4f (at y = %.4f), "
         "max |v - v_Ghia| = %.4f (at x = %.4f)\n",
         re, comparison.max_u_deviation, comparison.worst_u_position, comparison.max_v_deviation,
         comparison.worst_v_position);
     const auto vortex = cavity.primary_vortex(solution.state);
-    const auto& reference = reynolds_1000 ? nkit_examples::ghia_1982::primary_vortex_re_1000
-                                          : nkit_examples::ghia_1982::primary_vortex_re_100;
+    const auto& reference = reynolds_1000 ? nkit_problems::ghia_1982::primary_vortex_re_1000
+                                          : nkit_problems::ghia_1982::primary_vortex_re_100;
     std::printf(
         "primary vortex: psi = %.6f at (%.4f, %.4f); Ghia et al. (Table V, value from memory): %.6f at "
         "(%.4f, %.4f)\n",
@@ -157,11 +157,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

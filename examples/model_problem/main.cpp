@@ -5,7 +5,7 @@
 #include <iostream>
 #include <nkit/nkit.hpp>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 int main(int argc, char** argv) {
   const int n = argc > 1 ? std::atoi(argv[1]) : 128;
@@ -13,7 +13,7 @@ int main(int argc, char** argv) {
     std::cerr << "usage: model_problem_demo [cells_per_side >= 2]\n";
     return 2;
   }
-  nkit_examples::heat_conduction_model_problem problem(n);
+  nkit_problems::heat_conduction_model_problem problem(n);
   Eigen::VectorXd temperature = Eigen::VectorXd::Zero(problem.unknowns());
 
   nkit::newton_settings settings;

@@ -1,11 +1,10 @@
 // Quasi-1D Euler flow through a converging–diverging nozzle with a standing
-// normal shock (nozzle.hpp), converged from a crude start by nkit's
-// pseudo-transient continuation with Newton–GMRES (nozzle_solve.hpp), compared with the exact
+// normal shock (problems/flow/nozzle.hpp), converged from a crude start by nkit's
+// pseudo-transient continuation with Newton–GMRES (problems/flow/nozzle_solve.hpp), compared with the exact
 // isentropic/normal-shock solution (isentropic_relations.hpp).
 //
 //   nozzle [--cells=400] [--back_pressure=0.75] [--initial_cfl=2] [--output=nozzle_output]
 #include <cstdio>
-#include <exception>
 #include <fstream>
 #include <iostream>
 #include <string>
@@ -14,11 +13,11 @@
 #include "common/run_output.hpp"
 #include "common/vtk_legacy.hpp"
 #include "nozzle/isentropic_relations.hpp"
-#include "nozzle/nozzle_solve.hpp"
+#include "problems/flow/nozzle_solve.hpp"
 
 namespace {
 
-using nkit_examples::quasi_one_dimensional_nozzle;
+using nkit_problems::quasi_one_dimensional_nozzle;
 
 int run(int argc, char** argv) {
   nkit_examples::command_line options("nozzle",
@@ -29,7 +28,7 @@ int run(int argc, char** argv) {
   options.option("relative_tolerance", "1e-10", "stop when ||R|| <= this * ||R(crude start)||");
   options.option("output", "nozzle_output", "folder for CSV, VTK and PNG files");
   if (!options.parse(argc, argv)) return 0;
-  nkit_examples::nozzle_setup setup;
+  nkit_problems::nozzle_setup setup;
   setup.back_pressure = options.number("back_pressure");
   const quasi_one_dimensional_nozzle problem(options.integer("cells"), setup);
   const auto folder = nkit_examples::make_output_folder(options.text("output"));
@@ -38,8 +37,8 @@ int run(int argc, char** argv) {
 
   Eigen::VectorXd u = problem.initial_guess();
   const auto settings =
-      nkit_examples::nozzle_newton_settings(options.number("initial_cfl"), options.number("relative_tolerance"));
-  const nkit::solve_report report = nkit_examples::solve_nozzle(problem, u, settings);
+      nkit_problems::nozzle_newton_settings(options.number("initial_cfl"), options.number("relative_tolerance"));
+  const nkit::solve_report report = nkit_problems::solve_nozzle(problem, u, settings);
   std::printf(" step | pseudo-time step (CFL) |  residual norm |  reduction | GMRES its\n");
   for (const auto& h : report.history) {
     std::printf(" %4d | %22.3e | %14.6e | %10.3e | %9d\n", h.step, h.pseudo_time_step, h.residual_norm,
@@ -50,7 +49,7 @@ int run(int argc, char** argv) {
   nkit_examples::compressible::shocked_nozzle_flow exact{[&](double x) { return setup.area(x); }, 1.5, setup.length,
                                                          setup.back_pressure / setup.total_pressure};
   exact.locate_shock();
-  const double shock = nkit_examples::captured_shock_position(problem, u);
+  const double shock = nkit_problems::captured_shock_position(problem, u);
   const double m1 = nkit_examples::compressible::mach_from_area_ratio(setup.area(exact.shock_position), true);
   std::printf(
       "\nshock position: captured %.4f, exact %.4f (normal-shock + area-Mach relations, NACA 1135); "
@@ -98,11 +97,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

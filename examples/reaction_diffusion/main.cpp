@@ -1,5 +1,5 @@
 // Steady two-species reaction–diffusion (Gray–Scott kinetics, manufactured
-// solution; reaction_diffusion.hpp) solved by Newton–GMRES with NO
+// solution; problems/reaction_diffusion/gray_scott.hpp) solved by Newton–GMRES with NO
 // hand-written Jacobian: the problem declares its sparsity pattern, nkit
 // assembles the Jacobian by colored finite differences (10 residual
 // evaluations for a 5-point stencil with 2 unknowns per cell) and builds
@@ -7,7 +7,6 @@
 //
 //   reaction_diffusion [--cells=128] [--preconditioner=both|block_jacobi|ilu_zero] [--output=reaction_output]
 #include <cstdio>
-#include <exception>
 #include <iostream>
 #include <string>
 #include <vector>
@@ -15,7 +14,7 @@
 #include "common/command_line.hpp"
 #include "common/run_output.hpp"
 #include "common/vtk_legacy.hpp"
-#include "reaction_diffusion/reaction_runs.hpp"
+#include "problems/reaction_diffusion/gray_scott_runs.hpp"
 
 namespace {
 
@@ -39,13 +38,13 @@ int run(int argc, char** argv) {
       cells, cells, 2LL * cells * cells, options.summary().c_str());
 
   std::vector<nkit_examples::history_curve> curves;
-  std::vector<std::pair<std::string, nkit_examples::reaction_run>> runs;
+  std::vector<std::pair<std::string, nkit_problems::reaction_run>> runs;
   if (choice != "ilu_zero") {
     runs.emplace_back("block_jacobi",
-                      nkit_examples::run_reaction_diffusion(cells, nkit::block_jacobi_preconditioner(2)));
+                      nkit_problems::run_reaction_diffusion(cells, nkit::block_jacobi_preconditioner(2)));
   }
   if (choice != "block_jacobi") {
-    runs.emplace_back("ilu_zero", nkit_examples::run_reaction_diffusion(cells, nkit::ilu_zero_preconditioner()));
+    runs.emplace_back("ilu_zero", nkit_problems::run_reaction_diffusion(cells, nkit::ilu_zero_preconditioner()));
   }
   bool converged = true;
   for (const auto& [name, result] : runs) {
@@ -87,11 +86,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

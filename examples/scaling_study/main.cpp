@@ -17,7 +17,7 @@
 #include <nkit/scaling_study.hpp>
 #include <string>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 namespace {
 
@@ -66,7 +66,7 @@ int main(int argc, char** argv) {
   settings.linear.max_iterations = 20000;
 
   const nkit::scaling_study_result result = nkit::run_scaling_study(study, [&](long long cells_per_side) {
-    nkit_examples::heat_conduction_model_problem problem(static_cast<int>(cells_per_side));
+    nkit_problems::heat_conduction_model_problem problem(static_cast<int>(cells_per_side));
     Eigen::VectorXd temperature = Eigen::VectorXd::Zero(problem.unknowns());
     nkit::newton_krylov_solver<> solver(settings);
     nkit::solve_report report = solver.solve(problem, temperature);

@@ -25,7 +25,7 @@ std::atomic<long> eigen_heap_requests{0};
 #include <nkit/nkit.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
 
-#include "model_problem/model_problem.hpp"
+#include "problems/model_problem/model_problem.hpp"
 
 // noinline: the pairing of new with malloc and delete with free is deliberate;
 // inlining would let the compiler flag it as a mismatch.
@@ -211,7 +211,7 @@ TEST_CASE("the counters do see allocations (so the checks above can fail)", "[al
 }
 
 TEST_CASE("ILU(0) preconditioned Newton repeats without allocating", "[allocation][ilu_zero]") {
-  nkit_examples::heat_conduction_model_problem problem(24);
+  nkit_problems::heat_conduction_model_problem problem(24);
   nkit::newton_settings settings;
   // Keep the factor across steps and solves (as in implicit time stepping): the
   // model problem's own assemble_jacobian allocates, nkit's apply must not.

@@ -1,16 +1,16 @@
-// The strip-split model problem (examples/distributed_heat) solved by nkit
+// The strip-split model problem (problems/model_problem/strip_heat_problem.hpp) solved by nkit
 // on MPI_COMM_WORLD with each distributed preconditioner, against the same
 // solve on one rank, and against the serial definition of references §15.
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nkit/eigen_vector_space.hpp>
 
-#include "distributed_heat/solve_strip_problem.hpp"
-#include "model_problem/model_problem.hpp"
 #include "mpi/mpi_support.hpp"
+#include "problems/model_problem/model_problem.hpp"
+#include "problems/model_problem/solve_strip_problem.hpp"
 #include "support/matchers.hpp"
 
-using nkit_examples::strip_preconditioner;
+using nkit_problems::strip_preconditioner;
 using nkit_test::gather_all;
 
 namespace {
@@ -30,12 +30,12 @@ const char* label(strip_preconditioner choice) {
 }  // namespace
 
 TEST_CASE("the strip residual and Jacobian equal the serial model problem's", "[mpi][distributed]") {
-  // Reference: examples/model_problem/model_problem.hpp, the definition of
+  // Reference: problems/model_problem/model_problem.hpp, the definition of
   // references §15. Face fluxes are summed in another order, so residuals
   // agree to rounding: a few ε times the largest flux (O(1) here).
   const int n = 24;
-  nkit_examples::strip_heat_problem strip(MPI_COMM_WORLD, n);
-  const nkit_examples::heat_conduction_model_problem serial(n);
+  nkit_problems::strip_heat_problem strip(MPI_COMM_WORLD, n);
+  const nkit_problems::heat_conduction_model_problem serial(n);
   Eigen::VectorXd t_global(n * n);
   for (int p = 0; p < n * n; ++p) t_global(p) = 0.6 * std::sin(0.1 * p) * std::cos(0.05 * p);
   const Eigen::VectorXd t = t_global.segment(strip.first_global_index(), strip.local_unknowns());
@@ -68,11 +68,11 @@ TEST_CASE("distributed solves equal the one-rank solve and every rank takes the 
   // discrete solution: ‖δT‖ ≤ ‖J⁻¹‖ ‖R‖ with ‖J⁻¹‖ ≈ n²/(2π²) (smallest
   // eigenvalue of the h²-scaled 5-point operator, common practice) and
   // ‖R‖ ≤ 1e-12 · q/n, so ‖δT‖/‖T‖ stays near 1e-12 ≪ 1e-10.
-  nkit::newton_settings settings = nkit_examples::strip_default_settings();
+  nkit::newton_settings settings = nkit_problems::strip_default_settings();
   settings.relative_tolerance = 1e-12;
 
-  const auto distributed = nkit_examples::solve_strip_problem(MPI_COMM_WORLD, n, choice, settings);
-  const auto one_rank = nkit_examples::solve_strip_problem(MPI_COMM_SELF, n, choice, settings);
+  const auto distributed = nkit_problems::solve_strip_problem(MPI_COMM_WORLD, n, choice, settings);
+  const auto one_rank = nkit_problems::solve_strip_problem(MPI_COMM_SELF, n, choice, settings);
   REQUIRE(distributed.report.converged());
   REQUIRE(one_rank.report.converged());
 
@@ -86,18 +86,18 @@ TEST_CASE("distributed solves equal the one-rank solve and every rank takes the 
   CHECK(nkit_test::same_on_every_rank(MPI_COMM_WORLD, nkit_test::decision_hash(distributed.report)));
 
   // The gathered solution solves the serial definition (references §15).
-  const nkit_examples::heat_conduction_model_problem serial(n);
+  const nkit_problems::heat_conduction_model_problem serial(n);
   Eigen::VectorXd r(n * n);
   serial(solution, r);
   CHECK(r.norm() <= 1e-11 * (10.0 / n));  // ‖R(T0)‖ = q/n (references §15)
 }
 
 TEST_CASE("preconditioner rebuilds follow the driver's reuse settings on every rank", "[mpi][distributed]") {
-  nkit::newton_settings settings = nkit_examples::strip_default_settings();
+  nkit::newton_settings settings = nkit_problems::strip_default_settings();
   settings.preconditioner_reuse.rebuild_every_newton_steps = 3;
   settings.preconditioner_reuse.rebuild_after_linear_failure = false;
   const auto result =
-      nkit_examples::solve_strip_problem(MPI_COMM_WORLD, 48, strip_preconditioner::algebraic_multigrid, settings);
+      nkit_problems::solve_strip_problem(MPI_COMM_WORLD, 48, strip_preconditioner::algebraic_multigrid, settings);
   REQUIRE(result.report.converged());
   // Setups at steps 0, 3, 6, ...: ceil(steps / 3).
   CHECK(result.report.preconditioner_setups == (result.report.newton_steps + 2) / 3);
@@ -112,11 +112,11 @@ TEST_CASE("BoomerAMG keeps GMRES iterations per Newton step nearly mesh independ
   // (additive Schwarz) they grow like the condition number's square root,
   // about ×2 per halving of h (common practice), so the same check fails for
   // it; checked from n = 32 to 128 to keep the test fast.
-  nkit::newton_settings settings = nkit_examples::strip_default_settings();
+  nkit::newton_settings settings = nkit_problems::strip_default_settings();
   settings.forcing.kind = nkit::forcing_term_kind::constant;
   settings.forcing.constant_value = 1e-6;
   const auto per_step = [&](int n, strip_preconditioner choice) {
-    const auto result = nkit_examples::solve_strip_problem(MPI_COMM_WORLD, n, choice, settings);
+    const auto result = nkit_problems::solve_strip_problem(MPI_COMM_WORLD, n, choice, settings);
     REQUIRE(result.report.converged());
     return static_cast<double>(result.report.linear_iterations) / result.report.newton_steps;
   };
@@ -133,7 +133,7 @@ TEST_CASE("BoomerAMG keeps GMRES iterations per Newton step nearly mesh independ
 TEST_CASE("the distributed solution has the computed maximum temperature of references §15", "[mpi][distributed]") {
   // max T ≈ 0.64659 at n = 256 (references §15: computed, a sanity check only).
   const auto result =
-      nkit_examples::solve_strip_problem(MPI_COMM_WORLD, 256, strip_preconditioner::algebraic_multigrid);
+      nkit_problems::solve_strip_problem(MPI_COMM_WORLD, 256, strip_preconditioner::algebraic_multigrid);
   REQUIRE(result.report.converged());
   double local = result.local_temperature.maxCoeff(), maximum = 0.0;
   MPI_Allreduce(&local, &maximum, 1, MPI_DOUBLE, MPI_MAX, MPI_COMM_WORLD);

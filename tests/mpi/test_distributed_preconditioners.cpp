@@ -6,9 +6,9 @@
 #include <nkit/mpi_vector_space.hpp>
 #include <nkit/preconditioners/additive_schwarz.hpp>
 
-#include "distributed_heat/solve_strip_problem.hpp"
-#include "model_problem/model_problem.hpp"
 #include "mpi/mpi_support.hpp"
+#include "problems/model_problem/model_problem.hpp"
+#include "problems/model_problem/solve_strip_problem.hpp"
 #include "support/matchers.hpp"
 
 namespace {
@@ -23,7 +23,7 @@ class fixed_jacobian final : public nkit::jacobian_source {
 };
 
 struct strip_setup {
-  nkit_examples::strip_heat_problem problem;
+  nkit_problems::strip_heat_problem problem;
   Eigen::VectorXd state;
   Eigen::VectorXd residual;
   fixed_jacobian jacobian;
@@ -157,13 +157,13 @@ TEST_CASE("every multigrid option gives a working preconditioner", "[mpi][multig
       break;
   }
   INFO("option " << option);
-  nkit::newton_settings settings = nkit_examples::strip_default_settings();
+  nkit::newton_settings settings = nkit_problems::strip_default_settings();
   settings.forcing.kind = nkit::forcing_term_kind::constant;
   settings.forcing.constant_value = 1e-6;
-  const auto result = nkit_examples::solve_strip_problem(
-      MPI_COMM_WORLD, 32, nkit_examples::strip_preconditioner::algebraic_multigrid, settings, multigrid);
+  const auto result = nkit_problems::solve_strip_problem(
+      MPI_COMM_WORLD, 32, nkit_problems::strip_preconditioner::algebraic_multigrid, settings, multigrid);
   const auto plain =
-      nkit_examples::solve_strip_problem(MPI_COMM_WORLD, 32, nkit_examples::strip_preconditioner::none, settings);
+      nkit_problems::solve_strip_problem(MPI_COMM_WORLD, 32, nkit_problems::strip_preconditioner::none, settings);
   REQUIRE(result.report.converged());
   REQUIRE(plain.report.converged());
   const auto per_step = [](const nkit::solve_report& report) {
@@ -175,21 +175,21 @@ TEST_CASE("every multigrid option gives a working preconditioner", "[mpi][multig
 }
 
 TEST_CASE("the BoomerAMG adapter works in a serial code with the plain Eigen space", "[multigrid]") {
-  // The serial model problem (references §15, examples/model_problem) with
+  // The serial model problem (references §15, problems/model_problem) with
   // nkit's default vector space and the adapter on MPI_COMM_SELF, against the
   // strip problem solved on one rank: same discretisation, so the same
   // solution to the solver tolerance (see test_distributed_heat.cpp).
   const int n = 40;
-  nkit::newton_settings settings = nkit_examples::strip_default_settings();
+  nkit::newton_settings settings = nkit_problems::strip_default_settings();
   settings.relative_tolerance = 1e-12;
-  nkit_examples::heat_conduction_model_problem problem(n);
+  nkit_problems::heat_conduction_model_problem problem(n);
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::algebraic_multigrid_preconditioner> solver(
       settings, {}, nkit::algebraic_multigrid_preconditioner(MPI_COMM_SELF));
   Eigen::VectorXd temperature = Eigen::VectorXd::Zero(problem.unknowns());
   const nkit::solve_report report = solver.solve(problem, temperature);
   REQUIRE(report.converged());
-  const auto strip = nkit_examples::solve_strip_problem(
-      MPI_COMM_SELF, n, nkit_examples::strip_preconditioner::algebraic_multigrid, settings);
+  const auto strip = nkit_problems::solve_strip_problem(
+      MPI_COMM_SELF, n, nkit_problems::strip_preconditioner::algebraic_multigrid, settings);
   CHECK((temperature - strip.local_temperature).norm() <= 1e-10 * strip.local_temperature.norm());
   CHECK(report.newton_steps == strip.report.newton_steps);
   CHECK(report.preconditioner_setups == report.newton_steps);

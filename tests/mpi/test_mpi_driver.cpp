@@ -5,8 +5,8 @@
 #include <nkit/mpi_vector_space.hpp>
 #include <nkit/newton_krylov_solver.hpp>
 
-#include "distributed_heat/strip_heat_problem.hpp"
 #include "mpi/mpi_support.hpp"
+#include "problems/model_problem/strip_heat_problem.hpp"
 
 TEST_CASE("a rank that owns no unknowns takes part in the solve", "[mpi][newton]") {
   // x_i³ = 8 for every unknown, all unknowns on rank 0 and none on the others
@@ -58,7 +58,7 @@ TEST_CASE("the pseudo-time shift lands on the global diagonal of a distributed J
   // Distributed layout (row_partition.hpp): local row i is global row
   // first + i, so the shift W/δ belongs at column first + i. Reference: the
   // strip problem's own Jacobian plus diag(shift) at those positions.
-  nkit_examples::strip_heat_problem problem(MPI_COMM_WORLD, 16);
+  nkit_problems::strip_heat_problem problem(MPI_COMM_WORLD, 16);
   const nkit::mpi_vector_space space(MPI_COMM_WORLD);
   nkit::newton_settings settings;
   settings.globalization = nkit::globalization_strategy::pseudo_transient;

@@ -1,12 +1,12 @@
 // Small discretisations that defeat plain line-search Newton in documented
 // ways; shared by tests/test_globalization.cpp and bench/bench_globalization.cpp.
-#ifndef NKIT_TESTS_PROBLEMS_HARD_PROBLEMS_HPP
-#define NKIT_TESTS_PROBLEMS_HARD_PROBLEMS_HPP
+#ifndef NKIT_PROBLEMS_TEST_SETS_HARD_PROBLEMS_HPP
+#define NKIT_PROBLEMS_TEST_SETS_HARD_PROBLEMS_HPP
 
 #include <Eigen/Core>
 #include <cmath>
 
-namespace nkit_test {
+namespace nkit_problems {
 
 /// −D Δu + f(u) + s(x, y) = 0 on the unit square, homogeneous Neumann walls,
 /// cell-centred (n×n), f(u) = u³ − 2u + 2, s = −sin πx sin πy.
@@ -57,6 +57,6 @@ struct square_root_reaction {
   }
 };
 
-}  // namespace nkit_test
+}  // namespace nkit_problems
 
-#endif  // NKIT_TESTS_PROBLEMS_HARD_PROBLEMS_HPP
+#endif  // NKIT_PROBLEMS_TEST_SETS_HARD_PROBLEMS_HPP

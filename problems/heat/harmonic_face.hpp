@@ -12,10 +12,10 @@
 // Hemisphere 1980, §4.2.3 — section number from memory). For a Dirichlet
 // wall, pass the wall temperature as T_q, k(T_wall) as k_q, zero as its
 // derivative, and g for the half-cell distance.
-#ifndef NKIT_EXAMPLES_COMMON_HARMONIC_FACE_HPP
-#define NKIT_EXAMPLES_COMMON_HARMONIC_FACE_HPP
+#ifndef NKIT_PROBLEMS_HEAT_HARMONIC_FACE_HPP
+#define NKIT_PROBLEMS_HEAT_HARMONIC_FACE_HPP
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 struct face_flux {
   double flux = 0.0;                ///< F, positive from p to q
@@ -37,6 +37,6 @@ inline face_flux harmonic_face(double g, double t_p, double t_q, double k_p, dou
   return f;
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_COMMON_HARMONIC_FACE_HPP
+#endif  // NKIT_PROBLEMS_HEAT_HARMONIC_FACE_HPP

@@ -2,7 +2,7 @@
 //   −∇·(k(T)∇T) = S(x, y),  k(T) = k0 (1 + βT),
 // on a rectangle, cell-centred finite volume on a uniform nx × ny grid with
 // the same harmonic-mean face formula as the baseplate demo
-// (common/harmonic_face.hpp). Dirichlet walls use the half-cell distance and
+// (harmonic_face.hpp). Dirichlet walls use the half-cell distance and
 // the harmonic mean of k(T_P) and k(T_wall); insulated walls carry no flux.
 // The source is the point value at the cell centre times the cell area
 // (second-order accurate). Residual per cell (per unit depth):
@@ -14,16 +14,16 @@
 //    T(x) = [−1 + √((1 + βT1)² + ((1 + βT2)² − (1 + βT1)²) x/L)] / β,
 //    heat flux q = k0 [(T1 − T2) + β(T1² − T2²)/2] / L
 //    (transform: Kirchhoff 1894 as presented in F.P. Incropera & D.P. DeWitt,
-//    "Fundamentals of Heat and Mass Transfer"; closed form derived in the
-//    shared references §13);
+//    "Fundamentals of Heat and Mass Transfer"; the closed form follows from
+//    U(T(x)) = U(T1) + (U(T2) − U(T1)) x/L, solved for T);
 //  * 2D manufactured solution (method of manufactured solutions: K. Salari &
 //    P. Knupp, "Code Verification by the Method of Manufactured Solutions",
 //    Sandia report SAND2000-1444, 2000; P.J. Roache, J. Fluids Eng. 124(1)
 //    (2002) 4–10, from memory): T = 1 + a sin(πx) sin(πy) + b x y on the unit
 //    square with Dirichlet data from T itself and S = −∇·(k(T)∇T)
 //    = −k0 [(1 + βT) ΔT + β |∇T|²] worked out analytically below.
-#ifndef NKIT_EXAMPLES_NONLINEAR_CONDUCTION_HPP
-#define NKIT_EXAMPLES_NONLINEAR_CONDUCTION_HPP
+#ifndef NKIT_PROBLEMS_HEAT_NONLINEAR_CONDUCTION_HPP
+#define NKIT_PROBLEMS_HEAT_NONLINEAR_CONDUCTION_HPP
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
@@ -32,9 +32,9 @@
 #include <stdexcept>
 #include <vector>
 
-#include "common/harmonic_face.hpp"
+#include "problems/heat/harmonic_face.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 inline constexpr double pi = 3.14159265358979323846;
 
@@ -166,7 +166,7 @@ class nonlinear_conduction {
 
 // ---- exact solutions ----------------------------------------------------------
 
-/// 1D plane wall, k = k0(1 + βT), T(0) = T1, T(L) = T2 (Kirchhoff transform; references §13).
+/// 1D plane wall, k = k0(1 + βT), T(0) = T1, T(L) = T2 (Kirchhoff transform; file comment).
 struct kirchhoff_plane_wall {
   double k0 = 1.0, beta = 1.0, t1 = 1.0, t2 = 0.0, length = 1.0;
   double temperature(double x) const {
@@ -210,6 +210,6 @@ struct manufactured_conduction {
   }
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_NONLINEAR_CONDUCTION_HPP
+#endif  // NKIT_PROBLEMS_HEAT_NONLINEAR_CONDUCTION_HPP

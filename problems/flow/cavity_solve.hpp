@@ -5,8 +5,8 @@
 // starts from the converged flow at the previous Re), with nkit's
 // backtracking line search inside each Newton solve. From rest, Newton
 // converges directly at Re = 100; Re = 1000 is reached through a short ramp.
-#ifndef NKIT_EXAMPLES_CAVITY_SOLVE_HPP
-#define NKIT_EXAMPLES_CAVITY_SOLVE_HPP
+#ifndef NKIT_PROBLEMS_FLOW_CAVITY_SOLVE_HPP
+#define NKIT_PROBLEMS_FLOW_CAVITY_SOLVE_HPP
 
 #include <Eigen/OrderingMethods>
 #include <Eigen/SparseLU>
@@ -18,10 +18,11 @@
 #include <string>
 #include <vector>
 
-#include "lid_driven_cavity/cavity.hpp"
-#include "lid_driven_cavity/ghia_1982.hpp"
+#include "problems/baselines/picard_iteration.hpp"
+#include "problems/flow/cavity.hpp"
+#include "problems/flow/ghia_1982.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 /// The Re values visited on the way to `target`: 100, then ×4 steps (common practice: small enough
 /// that each Newton solve starts inside its basin).
@@ -109,46 +110,39 @@ struct cavity_picard_result {
 
 /// The fixed-point (Picard / Oseen) iteration with the same continuation in
 /// Re: x ← x − M(x)⁻¹ R(x), M the frozen-velocity matrix, factored by SparseLU
-/// every iteration. Converged like Newton: ‖R‖ <= relative_tolerance ‖R(start)‖
-/// at the target Re (1e-3 at intermediate Re).
+/// every iteration (the shared loop of baselines/picard_iteration.hpp; one
+/// symbolic analysis for all Re). Converged like Newton: ‖R‖ <= relative_tolerance ‖R(start)‖
+/// at the target Re (1e-3 at intermediate Re), or ‖R‖ <= 1e-11. `max_iterations`
+/// counts the iterations of all continuation steps together.
 inline cavity_picard_result solve_cavity_by_picard(int intervals, double target_reynolds,
                                                    double relative_tolerance = 1e-10, int max_iterations = 2000) {
+  using matrix_type = Eigen::SparseMatrix<double, Eigen::ColMajor, int>;
   const auto start = std::chrono::steady_clock::now();
   lid_driven_cavity cavity(intervals, target_reynolds);
   cavity_picard_result result;
   result.state = Eigen::VectorXd::Zero(cavity.unknowns());
-  Eigen::VectorXd r(cavity.unknowns());
-  Eigen::SparseMatrix<double, Eigen::ColMajor, int> matrix;
-  Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>, Eigen::COLAMDOrdering<int>> factor;
-  bool analysed = false;
+  picard_iteration<Eigen::SparseLU<matrix_type, Eigen::COLAMDOrdering<int>>> picard;
+  const auto assemble = [&](const Eigen::VectorXd& state, matrix_type& matrix) {
+    cavity.assemble_picard_matrix(state, matrix);
+  };
   const std::vector<double> ramp = reynolds_ramp(target_reynolds);
   result.converged = true;
   for (const double re : ramp) {
     cavity.set_reynolds(re);
     const bool last = re == ramp.back();
-    cavity(result.state, r);
-    ++result.residual_evaluations;
-    const double initial = r.norm();
-    const double target = std::max(1e-11, (last ? relative_tolerance : 1e-3) * initial);
-    double norm = initial;
-    while (norm > target && result.iterations < max_iterations) {
-      cavity.assemble_picard_matrix(result.state, matrix);
-      if (!analysed) {
-        factor.analyzePattern(matrix);
-        analysed = true;
-      }
-      factor.factorize(matrix);
-      ++result.factorizations;
-      if (factor.info() != Eigen::Success) break;
-      result.state -= factor.solve(r);
-      ++result.iterations;
-      cavity(result.state, r);
-      ++result.residual_evaluations;
-      norm = r.norm();
-      if (!std::isfinite(norm)) break;
-      if (last) result.relative_residuals.push_back(norm / initial);
+    picard_settings stage;
+    stage.relative_tolerance = last ? relative_tolerance : 1e-3;
+    stage.absolute_tolerance = 1e-11;
+    stage.max_iterations = max_iterations - result.iterations;
+    const picard_report report = picard.subtract_correction(cavity, assemble, result.state, stage);
+    result.iterations += report.iterations;
+    result.residual_evaluations += report.residual_evaluations;
+    result.factorizations += report.factorizations;
+    if (last) {
+      for (const picard_step_record& step : report.history)
+        result.relative_residuals.push_back(step.relative_residual_norm);
     }
-    if (!(norm <= target)) {
+    if (!report.converged) {
       result.converged = false;
       break;
     }
@@ -176,26 +170,27 @@ struct ghia_comparison {
 inline ghia_comparison compare_with_ghia(const lid_driven_cavity& cavity, const Eigen::VectorXd& state,
                                          bool reynolds_1000) {
   const int n = cavity.intervals(), half = n / 2;
+  // Largest |computed − tabulated| over one table; `sample(k)` is the velocity at node k of the line.
+  const auto compare = [&](const auto& table, auto&& sample, double& max_deviation, double& worst_position) {
+    for (const auto& point : table) {
+      const double computed = interpolate_along(n, point.position, sample);
+      const double deviation = std::abs(computed - (reynolds_1000 ? point.re_1000 : point.re_100));
+      if (deviation > max_deviation) {
+        max_deviation = deviation;
+        worst_position = point.position;
+      }
+    }
+  };
   ghia_comparison result;
-  for (const auto& point : ghia_1982::u_vertical_centre_line) {
-    const double computed = interpolate_along(n, point.position, [&](int j) { return cavity.u(state, half, j); });
-    const double deviation = std::abs(computed - (reynolds_1000 ? point.re_1000 : point.re_100));
-    if (deviation > result.max_u_deviation) {
-      result.max_u_deviation = deviation;
-      result.worst_u_position = point.position;
-    }
-  }
-  for (const auto& point : ghia_1982::v_horizontal_centre_line) {
-    const double computed = interpolate_along(n, point.position, [&](int i) { return cavity.v(state, i, half); });
-    const double deviation = std::abs(computed - (reynolds_1000 ? point.re_1000 : point.re_100));
-    if (deviation > result.max_v_deviation) {
-      result.max_v_deviation = deviation;
-      result.worst_v_position = point.position;
-    }
-  }
+  compare(
+      ghia_1982::u_vertical_centre_line, [&](int j) { return cavity.u(state, half, j); }, result.max_u_deviation,
+      result.worst_u_position);
+  compare(
+      ghia_1982::v_horizontal_centre_line, [&](int i) { return cavity.v(state, i, half); }, result.max_v_deviation,
+      result.worst_v_position);
   return result;
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_CAVITY_SOLVE_HPP
+#endif  // NKIT_PROBLEMS_FLOW_CAVITY_SOLVE_HPP

@@ -33,8 +33,8 @@
 // The analytic Jacobian of this residual is assemble_jacobian(); the
 // frozen-coefficient (Picard) matrix, symmetric positive definite, is
 // assemble_frozen_conduction().
-#ifndef NKIT_EXAMPLES_BASEPLATE_HPP
-#define NKIT_EXAMPLES_BASEPLATE_HPP
+#ifndef NKIT_PROBLEMS_HEAT_BASEPLATE_HPP
+#define NKIT_PROBLEMS_HEAT_BASEPLATE_HPP
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
@@ -45,9 +45,9 @@
 #include <type_traits>
 #include <vector>
 
-#include "common/harmonic_face.hpp"
+#include "problems/heat/harmonic_face.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 /// Invented material model: k(T) = reference (T_ref/T)^exponent (1 + slope (T − T_ref)).
 struct baseplate_material {
@@ -297,6 +297,6 @@ class baseplate_conduction {
   std::vector<Eigen::Triplet<double, int>> m_triplets;
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_BASEPLATE_HPP
+#endif  // NKIT_PROBLEMS_HEAT_BASEPLATE_HPP

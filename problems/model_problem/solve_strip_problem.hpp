@@ -1,8 +1,8 @@
 // Solves the strip-split model problem (strip_heat_problem.hpp) with nkit on
 // an MPI communicator, with one of the distributed preconditioners. Shared by
 // the example program, the MPI tests and the benchmark.
-#ifndef NKIT_EXAMPLES_SOLVE_STRIP_PROBLEM_HPP
-#define NKIT_EXAMPLES_SOLVE_STRIP_PROBLEM_HPP
+#ifndef NKIT_PROBLEMS_MODEL_PROBLEM_SOLVE_STRIP_PROBLEM_HPP
+#define NKIT_PROBLEMS_MODEL_PROBLEM_SOLVE_STRIP_PROBLEM_HPP
 
 #include <mpi.h>
 
@@ -16,9 +16,9 @@
 #include <string>
 #include <string_view>
 
-#include "distributed_heat/strip_heat_problem.hpp"
+#include "problems/model_problem/strip_heat_problem.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 enum class strip_preconditioner { schwarz_incomplete_lu, schwarz_direct, algebraic_multigrid, none };
 
@@ -34,7 +34,7 @@ inline strip_preconditioner strip_preconditioner_from_name(std::string_view text
 /// Settings used for the distributed model problem unless the caller overrides them.
 inline nkit::newton_settings strip_default_settings() {
   nkit::newton_settings settings;
-  settings.relative_tolerance = 1e-8;  // references §15 convergence criterion
+  settings.relative_tolerance = 1e-8;  // the model problem's convergence criterion (problems/README.md)
   settings.linear.restart_length = 50;
   settings.linear.max_iterations = 5000;
   // Two fused reductions per Arnoldi step instead of j + 2 (see docs/scaling_model.md).
@@ -83,6 +83,6 @@ inline strip_solve_result solve_strip_problem(MPI_Comm communicator, int cells_p
   return result;
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_SOLVE_STRIP_PROBLEM_HPP
+#endif  // NKIT_PROBLEMS_MODEL_PROBLEM_SOLVE_STRIP_PROBLEM_HPP

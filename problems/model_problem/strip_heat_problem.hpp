@@ -1,16 +1,16 @@
-// The benchmark model problem of nkit's shared references, section 15
-// (steady nonlinear heat conduction, −∇·(k(T)∇T) = q, k(T) = 1 + T², q = 10,
-// T = 0 on the walls of the unit square, cell-centred finite volume on an n×n
-// grid, R_P = Σ_faces flux − q h²), split the way an in-house MPI code would
-// split it: each rank owns a strip of whole grid rows j ∈ [first_row,
-// end_row) and exchanges one row of halo cells with each neighbour (MPI
-// point-to-point, inside the residual) before every evaluation.
+// The benchmark model problem of model_problem.hpp (steady nonlinear heat
+// conduction, −∇·(k(T)∇T) = q, k(T) = 1 + T², q = 10, T = 0 on the walls of
+// the unit square, cell-centred finite volume on an n×n grid,
+// R_P = Σ_faces flux − q h²), split the way an in-house MPI code would split
+// it: each rank owns a strip of whole grid rows j ∈ [first_row, end_row) and
+// exchanges one row of halo cells with each neighbour (MPI point-to-point,
+// inside the residual) before every evaluation.
 //
-// Global numbering p = i + n·j, as in the serial examples/model_problem; the
+// Global numbering p = i + n·j, as in the serial model_problem.hpp; the
 // strips are rank-contiguous in it, so the distributed Jacobian layout of
 // nkit/row_partition.hpp applies directly: local rows, global columns.
-#ifndef NKIT_EXAMPLES_STRIP_HEAT_PROBLEM_HPP
-#define NKIT_EXAMPLES_STRIP_HEAT_PROBLEM_HPP
+#ifndef NKIT_PROBLEMS_MODEL_PROBLEM_STRIP_HEAT_PROBLEM_HPP
+#define NKIT_PROBLEMS_MODEL_PROBLEM_STRIP_HEAT_PROBLEM_HPP
 
 #include <mpi.h>
 
@@ -21,7 +21,7 @@
 #include <string>
 #include <vector>
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 class strip_heat_problem {
  public:
@@ -89,7 +89,7 @@ class strip_heat_problem {
     }
   }
 
-  /// Analytic Jacobian (references §15) of this rank's rows with global
+  /// Analytic Jacobian (as in model_problem.hpp) of this rank's rows with global
   /// column indices, in the layout of nkit/row_partition.hpp. Writes the
   /// compressed-row arrays directly; the storage is reused when the matrix
   /// already has this shape. Collective (halo exchange).
@@ -186,6 +186,6 @@ class strip_heat_problem {
   std::int64_t m_halo_exchanges = 0;
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_STRIP_HEAT_PROBLEM_HPP
+#endif  // NKIT_PROBLEMS_MODEL_PROBLEM_STRIP_HEAT_PROBLEM_HPP

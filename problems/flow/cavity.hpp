@@ -23,15 +23,15 @@
 //
 // Unknowns: ψ and ω at the (n−1)² interior nodes, interleaved per node
 // (ψ at 2p, ω at 2p+1, p = (i−1) + (n−1)(j−1)): b = 2 unknowns per node.
-#ifndef NKIT_EXAMPLES_CAVITY_HPP
-#define NKIT_EXAMPLES_CAVITY_HPP
+#ifndef NKIT_PROBLEMS_FLOW_CAVITY_HPP
+#define NKIT_PROBLEMS_FLOW_CAVITY_HPP
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
 #include <stdexcept>
 #include <vector>
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 class lid_driven_cavity {
  public:
@@ -185,6 +185,6 @@ class lid_driven_cavity {
   double m_h = 0.0;
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_CAVITY_HPP
+#endif  // NKIT_PROBLEMS_FLOW_CAVITY_HPP

@@ -1,17 +1,17 @@
 // Solves the verification cases of nonlinear_conduction.hpp with nkit's
 // Newton–GMRES and measures the discretisation error against the exact
 // solutions. Used by the example program and by tests/test_conduction_verification.cpp.
-#ifndef NKIT_EXAMPLES_CONDUCTION_VERIFICATION_RUNS_HPP
-#define NKIT_EXAMPLES_CONDUCTION_VERIFICATION_RUNS_HPP
+#ifndef NKIT_PROBLEMS_HEAT_CONDUCTION_VERIFICATION_RUNS_HPP
+#define NKIT_PROBLEMS_HEAT_CONDUCTION_VERIFICATION_RUNS_HPP
 
 #include <algorithm>
 #include <cmath>
 #include <nkit/nkit.hpp>
 #include <nkit/preconditioners/sparse_direct.hpp>
 
-#include "conduction_verification/nonlinear_conduction.hpp"
+#include "problems/heat/nonlinear_conduction.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 struct verification_run {
   int cells = 0;
@@ -68,11 +68,12 @@ inline verification_run run_manufactured(int cells, const manufactured_conductio
   return run;
 }
 
-/// p = ln(e_coarse / e_fine) / ln(h_coarse / h_fine) (references §14).
+/// p = ln(e_coarse / e_fine) / ln(h_coarse / h_fine) (observed order of
+/// accuracy: K. Salari & P. Knupp, SAND2000-1444, 2000).
 inline double observed_order(double coarse_error, double fine_error, double refinement_ratio) {
   return std::log(coarse_error / fine_error) / std::log(refinement_ratio);
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_CONDUCTION_VERIFICATION_RUNS_HPP
+#endif  // NKIT_PROBLEMS_HEAT_CONDUCTION_VERIFICATION_RUNS_HPP

@@ -8,9 +8,10 @@
 // interior nodes per direction, h = 1/(n + 1) (2D: p = i + n·j). Both are
 // written as −(discrete Laplacian) − λ e^u, so R_u = −Δ_h − λ diag(e^u) is
 // symmetric positive definite at λ = 0 and becomes singular at the fold.
-// Facts used by the tests are in nkit's shared references, section 2.
-#ifndef NKIT_EXAMPLES_BRATU_HPP
-#define NKIT_EXAMPLES_BRATU_HPP
+// Published facts the tests use (exact 1D solution, folds) are cited where
+// they are checked: tests/test_continuation.cpp and problems/README.md.
+#ifndef NKIT_PROBLEMS_REACTION_DIFFUSION_BRATU_HPP
+#define NKIT_PROBLEMS_REACTION_DIFFUSION_BRATU_HPP
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
@@ -18,7 +19,7 @@
 #include <stdexcept>
 #include <vector>
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 /// 1D Bratu, 3-point stencil: R_i = (−u_{i−1} + 2u_i − u_{i+1})/h² − λ e^{u_i}.
 class bratu_1d {
@@ -118,6 +119,6 @@ class bratu_2d {
   int m_n;
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_BRATU_HPP
+#endif  // NKIT_PROBLEMS_REACTION_DIFFUSION_BRATU_HPP

@@ -1,9 +1,8 @@
 // Systems of nonlinear equations F(x) = 0 from the standard test set of
 //   J.J. Moré, B.S. Garbow & K.E. Hillstrom, "Testing unconstrained optimization
 //   software", ACM Trans. Math. Softw. 7(1) (1981) 17–41,
-// in the form collected in the shared references, section 5 (definitions verified
-// there against published transcriptions of the paper; problem numbers are the
-// paper's). Throughout h = 1/(n+1), t_i = i h (1-based i) and x_0 = x_{n+1} = 0.
+// (definitions checked against published transcriptions of the paper; problem
+// numbers are the paper's). Throughout h = 1/(n+1), t_i = i h (1-based i) and x_0 = x_{n+1} = 0.
 //
 // Every residual is a template on its scalar type so that nkit's automatic
 // differentiation (nkit::with_automatic_differentiation) can run it on dual
@@ -14,8 +13,8 @@
 // The registry at the end (problem_entry, more_garbow_hillstrom_problems) holds
 // type-erased double-precision residuals plus exact Jacobian-vector products by
 // automatic differentiation, for harnesses that loop over all problems.
-#ifndef NKIT_TESTS_PROBLEMS_MORE_GARBOW_HILLSTROM_HPP
-#define NKIT_TESTS_PROBLEMS_MORE_GARBOW_HILLSTROM_HPP
+#ifndef NKIT_PROBLEMS_TEST_SETS_MORE_GARBOW_HILLSTROM_HPP
+#define NKIT_PROBLEMS_TEST_SETS_MORE_GARBOW_HILLSTROM_HPP
 
 #include <Eigen/Core>
 #include <cmath>
@@ -27,7 +26,7 @@
 #include <utility>
 #include <vector>
 
-namespace nkit_test::more_garbow_hillstrom {
+namespace nkit_problems::more_garbow_hillstrom {
 
 template <class Scalar>
 using vector_of = Eigen::Matrix<Scalar, Eigen::Dynamic, 1>;
@@ -65,7 +64,7 @@ struct helical_valley {
   static constexpr int number = 7;
   Eigen::Index dimension() const { return 3; }
 
-  /// θ(x1, x2). On x1 = 0 the paper's limit values ±0.25 apply (references §5),
+  /// θ(x1, x2). On x1 = 0 the paper's limit values ±0.25 apply,
   /// +0.25 for x2 > 0 and −0.25 for x2 < 0 (the limits from x1 > 0). They are
   /// evaluated as ±0.25 − (1/2π) arctan(x1/x2): exactly ±0.25 in value, since
   /// arctan(0) = 0, and with the correct first derivatives of θ there, so a
@@ -95,7 +94,7 @@ struct helical_valley {
 
 /// Problem 13, Powell singular (n = 4): f1 = x1 + 10x2, f2 = √5(x3 − x4),
 /// f3 = (x2 − 2x3)², f4 = √10(x1 − x4)². The factor in f4 is √10 as published
-/// (references §5 warns that one transcription has √2). The Jacobian is
+/// (at least one public transcription has √2 instead). The Jacobian is
 /// singular at the solution x* = 0.
 struct powell_singular {
   static constexpr bool variable_dimension = false;
@@ -326,6 +325,6 @@ inline std::vector<problem_entry> more_garbow_hillstrom_problems(Eigen::Index va
   return entries;
 }
 
-}  // namespace nkit_test::more_garbow_hillstrom
+}  // namespace nkit_problems::more_garbow_hillstrom
 
-#endif  // NKIT_TESTS_PROBLEMS_MORE_GARBOW_HILLSTROM_HPP
+#endif  // NKIT_PROBLEMS_TEST_SETS_MORE_GARBOW_HILLSTROM_HPP

@@ -1,8 +1,8 @@
 // Solves the reaction–diffusion example with nkit's Newton–GMRES and a
 // built-in preconditioner fed by the colored finite-difference Jacobian.
 // Used by the example program and tests/test_reaction_diffusion.cpp.
-#ifndef NKIT_EXAMPLES_REACTION_RUNS_HPP
-#define NKIT_EXAMPLES_REACTION_RUNS_HPP
+#ifndef NKIT_PROBLEMS_REACTION_DIFFUSION_GRAY_SCOTT_RUNS_HPP
+#define NKIT_PROBLEMS_REACTION_DIFFUSION_GRAY_SCOTT_RUNS_HPP
 
 #include <cmath>
 #include <nkit/nkit.hpp>
@@ -10,9 +10,9 @@
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <nkit/sparse_jacobian.hpp>
 
-#include "reaction_diffusion/reaction_diffusion.hpp"
+#include "problems/reaction_diffusion/gray_scott.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 struct reaction_run {
   nkit::solve_report report;
@@ -45,6 +45,6 @@ reaction_run run_reaction_diffusion(int cells, Preconditioner preconditioner,
   return run;
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_REACTION_RUNS_HPP
+#endif  // NKIT_PROBLEMS_REACTION_DIFFUSION_GRAY_SCOTT_RUNS_HPP

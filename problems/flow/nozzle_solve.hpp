@@ -7,15 +7,15 @@
 // sparse_direct_preconditioner, an exact sparse LU of R'(U) + W/δ: the driver
 // assembles R'(U) by colored finite differences from the problem's
 // jacobian_pattern() and adds the pseudo-time diagonal.
-#ifndef NKIT_EXAMPLES_NOZZLE_SOLVE_HPP
-#define NKIT_EXAMPLES_NOZZLE_SOLVE_HPP
+#ifndef NKIT_PROBLEMS_FLOW_NOZZLE_SOLVE_HPP
+#define NKIT_PROBLEMS_FLOW_NOZZLE_SOLVE_HPP
 
 #include <nkit/nkit.hpp>
 #include <nkit/preconditioners/sparse_direct.hpp>
 
-#include "nozzle/nozzle.hpp"
+#include "problems/flow/nozzle.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 /// Settings of the nozzle solve: pseudo-transient from CFL `initial_cfl`,
 /// converged when ‖R(U)‖₂ <= relative_tolerance · ‖R(U0)‖₂.
@@ -49,6 +49,6 @@ inline double captured_shock_position(const quasi_one_dimensional_nozzle& proble
   return -1.0;
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_NOZZLE_SOLVE_HPP
+#endif  // NKIT_PROBLEMS_FLOW_NOZZLE_SOLVE_HPP

@@ -3,15 +3,15 @@
 // equations and a multigrid method", J. Comput. Phys. 48 (1982) 387–411,
 // Table I (u along the vertical centre line x = 0.5) and Table II (v along
 // the horizontal centre line y = 0.5), 129 × 129 grid, lid velocity 1.
-// Status (shared references §1): VERIFIED as consistent independent
-// transcriptions; the majority values are used, not the known transcription
+// Status: checked against consistent independent published transcriptions
+// of the tables; the majority values are used, not the known transcription
 // typos (Re=1000 v(0.8047) = −0.31966, u(0.9531) = 0.46604, u(0.9609) = 0.51117).
-#ifndef NKIT_EXAMPLES_GHIA_1982_HPP
-#define NKIT_EXAMPLES_GHIA_1982_HPP
+#ifndef NKIT_PROBLEMS_FLOW_GHIA_1982_HPP
+#define NKIT_PROBLEMS_FLOW_GHIA_1982_HPP
 
 #include <array>
 
-namespace nkit_examples::ghia_1982 {
+namespace nkit_problems::ghia_1982 {
 
 struct centre_line_point {
   double position;  ///< y for Table I, x for Table II
@@ -62,14 +62,14 @@ inline constexpr std::array<centre_line_point, 17> v_horizontal_centre_line{{
 }};
 
 /// Primary vortex (minimum streamfunction and its position), Ghia et al.
-/// (1982) Table V. Status: FROM MEMORY (not in the shared references; not
-/// confirmed against the paper) — use with a tolerance that reflects doubt.
+/// (1982) Table V. Status: FROM MEMORY (not confirmed against the paper or
+/// a transcription) — use with a tolerance that reflects doubt.
 struct primary_vortex {
   double streamfunction, x, y;
 };
 inline constexpr primary_vortex primary_vortex_re_100{-0.103423, 0.6172, 0.7344};
 inline constexpr primary_vortex primary_vortex_re_1000{-0.117929, 0.5313, 0.5625};
 
-}  // namespace nkit_examples::ghia_1982
+}  // namespace nkit_problems::ghia_1982
 
-#endif  // NKIT_EXAMPLES_GHIA_1982_HPP
+#endif  // NKIT_PROBLEMS_FLOW_GHIA_1982_HPP

@@ -27,8 +27,8 @@
 //  * subsonic outflow: static back pressure given; ρ and u extrapolated.
 //
 // Unknowns interleaved per cell: (ρ, ρu, E) at 3i, 3i+1, 3i+2 (b = 3).
-#ifndef NKIT_EXAMPLES_NOZZLE_HPP
-#define NKIT_EXAMPLES_NOZZLE_HPP
+#ifndef NKIT_PROBLEMS_FLOW_NOZZLE_HPP
+#define NKIT_PROBLEMS_FLOW_NOZZLE_HPP
 
 #include <Eigen/Core>
 #include <algorithm>
@@ -39,7 +39,7 @@
 #include <stdexcept>
 #include <vector>
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 inline constexpr double nozzle_gamma = 1.4;
 
@@ -191,6 +191,6 @@ class quasi_one_dimensional_nozzle {
   nkit::sparsity_pattern m_pattern;
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_NOZZLE_HPP
+#endif  // NKIT_PROBLEMS_FLOW_NOZZLE_HPP

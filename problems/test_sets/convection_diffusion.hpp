@@ -6,15 +6,15 @@
 // and Fast Iterative Solvers", Oxford 2005, ch. 3, here in finite-difference
 // form: common practice). Péclet number Pe = |b|·L/ε with L = 1; the wind is
 // b = (cos 30°, sin 30°). Rows are multiplied by h².
-#ifndef NKIT_TESTS_SUPPORT_CONVECTION_DIFFUSION_HPP
-#define NKIT_TESTS_SUPPORT_CONVECTION_DIFFUSION_HPP
+#ifndef NKIT_PROBLEMS_TEST_SETS_CONVECTION_DIFFUSION_HPP
+#define NKIT_PROBLEMS_TEST_SETS_CONVECTION_DIFFUSION_HPP
 
 #include <Eigen/SparseCore>
 #include <cmath>
 #include <nkit/preconditioner.hpp>
 #include <vector>
 
-namespace nkit_test {
+namespace nkit_problems {
 
 /// One-unknown-per-node matrix for Péclet number `peclet`.
 inline nkit::sparse_matrix convection_diffusion_matrix(int n, double peclet) {
@@ -67,6 +67,6 @@ inline nkit::sparse_matrix coupled_convection_diffusion_matrix(int n, double pec
   return matrix;
 }
 
-}  // namespace nkit_test
+}  // namespace nkit_problems
 
-#endif  // NKIT_TESTS_SUPPORT_CONVECTION_DIFFUSION_HPP
+#endif  // NKIT_PROBLEMS_TEST_SETS_CONVECTION_DIFFUSION_HPP

@@ -1,20 +1,20 @@
 // The benchmark model problem: steady nonlinear heat conduction
 //   −∇·(k(T)∇T) = q on the unit square, k(T) = 1 + T², q = 10, T = 0 on the walls,
 // cell-centred finite volume on an n×n grid (h = 1/n, unknown p = i + n·j).
-// Definition: nkit's shared references, section 15 (common practice; defined
-// there so every benchmark measures the same work):
+// Definition (common practice; our own benchmark problem, defined here once so
+// that every benchmark measures the same work; problems/README.md):
 //   interior face P|Q:  k_f = ½(k(T_P) + k(T_Q)),  flux = k_f (T_P − T_Q)
 //   wall face:          flux = 2·½(k(T_P) + k(0))·T_P = (k(T_P) + 1) T_P
 //   R_P = Σ_faces flux − q h²   (not divided by h², so ‖R(0)‖₂ = q/n)
-#ifndef NKIT_EXAMPLES_MODEL_PROBLEM_HPP
-#define NKIT_EXAMPLES_MODEL_PROBLEM_HPP
+#ifndef NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP
+#define NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
 #include <stdexcept>
 #include <vector>
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 class heat_conduction_model_problem {
  public:
@@ -110,8 +110,8 @@ class heat_conduction_model_problem {
 
   /// The frozen-coefficient (Picard) matrix A(T): every face conductance
   /// evaluated at T (interior ½(k_P + k_Q), wall k_P + 1), so that
-  /// A(T) T − q h² = R(T) exactly; symmetric positive definite (references
-  /// §15). `entries` is scratch space that repeated calls reuse.
+  /// A(T) T − q h² = R(T) exactly; symmetric positive definite (common
+  /// practice). `entries` is scratch space that repeated calls reuse.
   template <class SparseMatrix>
   void assemble_frozen_conduction(
       const Eigen::VectorXd& t, SparseMatrix& a,
@@ -157,6 +157,6 @@ class heat_conduction_model_problem {
   double m_source;
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_MODEL_PROBLEM_HPP
+#endif  // NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP

@@ -4,13 +4,12 @@
 //    sparse LDLᵀ (Eigen::SimplicialLDLT) and reused over Newton steps;
 //  * the hand-rolled fixed-point (Picard) loop that Newton–Krylov replaces:
 //    freeze k at the current iterate, assemble A(T_k), solve A(T_k) T_{k+1} = b
-//    by the same sparse LDLᵀ, repeat until ‖R(T)‖₂ <= tolerance · ‖R(T0)‖₂.
-#ifndef NKIT_EXAMPLES_BASEPLATE_SOLVERS_HPP
-#define NKIT_EXAMPLES_BASEPLATE_SOLVERS_HPP
+//    by the same sparse LDLᵀ, repeat until ‖R(T)‖₂ <= tolerance · ‖R(T0)‖₂
+//    (the shared loop of baselines/picard_iteration.hpp).
+#ifndef NKIT_PROBLEMS_HEAT_BASEPLATE_SOLVERS_HPP
+#define NKIT_PROBLEMS_HEAT_BASEPLATE_SOLVERS_HPP
 
 #include <Eigen/SparseCholesky>
-#include <algorithm>
-#include <chrono>
 #include <cstddef>
 #include <memory>
 #include <nkit/newton_krylov_solver.hpp>
@@ -20,11 +19,11 @@
 #include <nkit/preconditioners/sparse_direct.hpp>
 #include <stdexcept>
 #include <string>
-#include <vector>
 
-#include "baseplate/baseplate.hpp"
+#include "problems/baselines/picard_iteration.hpp"
+#include "problems/heat/baseplate.hpp"
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 /// M = A(T̂), the frozen-coefficient conduction matrix at the state the driver
 /// hands to setup(), factored by sparse LDLᵀ. The symbolic analysis is done
@@ -83,78 +82,24 @@ inline nkit::solve_report solve_by_newton_gmres(baseplate_conduction& problem, E
   throw std::invalid_argument("baseplate: unknown preconditioner '" + preconditioner + "'");
 }
 
-/// One Picard iteration's record.
-struct picard_step_record {
-  int iteration = 0;
-  double residual_norm = 0.0;
-  double relative_residual_norm = 0.0;
-  double elapsed_seconds = 0.0;
-  long long residual_evaluations = 0;
-};
-
-struct picard_report {
-  bool converged = false;
-  int iterations = 0;
-  long long residual_evaluations = 0;
-  long long factorizations = 0;
-  double initial_residual_norm = 0.0;
-  double final_residual_norm = 0.0;
-  double wall_seconds = 0.0;
-  double median_residual_seconds = 0.0;
-  double factor_bytes = 0.0;
-  std::vector<picard_step_record> history;
-  double work_units() const { return median_residual_seconds > 0.0 ? wall_seconds / median_residual_seconds : 0.0; }
-};
-
-/// The fixed-point loop the demo compares with. `t` is the initial guess on
-/// entry and the last iterate on exit.
+/// The fixed-point loop the demo compares with (baselines/picard_iteration.hpp):
+/// T ← A(T)⁻¹ b(T) by sparse LDLᵀ until ‖R(T)‖₂ <= relative_tolerance · ‖R(T0)‖₂
+/// or max_iterations. `t` is the initial guess on entry and the last iterate on exit.
 inline picard_report solve_by_picard_iteration(baseplate_conduction& problem, Eigen::VectorXd& t,
                                                double relative_tolerance, int max_iterations) {
-  using clock = std::chrono::steady_clock;
-  const auto seconds_since = [](clock::time_point start) {
-    return std::chrono::duration<double>(clock::now() - start).count();
+  using matrix_type = Eigen::SparseMatrix<double, Eigen::ColMajor, int>;
+  picard_iteration<Eigen::SimplicialLDLT<matrix_type>> picard;
+  picard_settings settings;
+  settings.relative_tolerance = relative_tolerance;
+  settings.max_iterations = max_iterations;
+  Eigen::VectorXd right_hand_side(t.size());
+  const auto assemble = [&](const Eigen::VectorXd& state, matrix_type& matrix) -> const Eigen::VectorXd& {
+    problem.assemble_frozen_conduction(state, matrix, right_hand_side);
+    return right_hand_side;
   };
-  const auto start = clock::now();
-  picard_report report;
-  std::vector<double> residual_times;
-  Eigen::VectorXd r(t.size()), b(t.size());
-  auto evaluate = [&]() {
-    const auto s = clock::now();
-    problem(t, r);
-    residual_times.push_back(seconds_since(s));
-    ++report.residual_evaluations;
-    return r.norm();
-  };
-  Eigen::SparseMatrix<double, Eigen::ColMajor, int> a;
-  Eigen::SimplicialLDLT<Eigen::SparseMatrix<double, Eigen::ColMajor, int>> factor;
-  report.initial_residual_norm = report.final_residual_norm = evaluate();
-  const double target = relative_tolerance * report.initial_residual_norm;
-  bool analysed = false;
-  while (report.final_residual_norm > target && report.iterations < max_iterations) {
-    problem.assemble_frozen_conduction(t, a, b);
-    if (!analysed) {
-      factor.analyzePattern(a);
-      analysed = true;
-    }
-    factor.factorize(a);
-    ++report.factorizations;
-    if (factor.info() != Eigen::Success) break;
-    t = factor.solve(b);
-    ++report.iterations;
-    report.final_residual_norm = evaluate();
-    report.history.push_back({report.iterations, report.final_residual_norm,
-                              report.final_residual_norm / report.initial_residual_norm, seconds_since(start),
-                              report.residual_evaluations});
-  }
-  report.converged = report.final_residual_norm <= target;
-  report.wall_seconds = seconds_since(start);
-  report.factor_bytes =
-      static_cast<double>(factor.matrixL().nestedExpression().nonZeros()) * (sizeof(double) + sizeof(int));
-  std::sort(residual_times.begin(), residual_times.end());
-  if (!residual_times.empty()) report.median_residual_seconds = residual_times[residual_times.size() / 2];
-  return report;
+  return picard.solve_for_iterate(problem, assemble, t, settings);
 }
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_BASEPLATE_SOLVERS_HPP
+#endif  // NKIT_PROBLEMS_HEAT_BASEPLATE_SOLVERS_HPP

@@ -20,15 +20,15 @@
 //   R_u = D_u Σ_faces g (u_P − u_Q) + h² [Da (u v² − F(1 − u)) − s_u],
 //   g = 1 for an interior face, 2 for a wall face.
 // Unknowns interleaved per cell: u at 2p, v at 2p+1, p = i + n j.
-#ifndef NKIT_EXAMPLES_REACTION_DIFFUSION_HPP
-#define NKIT_EXAMPLES_REACTION_DIFFUSION_HPP
+#ifndef NKIT_PROBLEMS_REACTION_DIFFUSION_GRAY_SCOTT_HPP
+#define NKIT_PROBLEMS_REACTION_DIFFUSION_GRAY_SCOTT_HPP
 
 #include <Eigen/Core>
 #include <cmath>
 #include <nkit/sparsity_pattern.hpp>
 #include <stdexcept>
 
-namespace nkit_examples {
+namespace nkit_problems {
 
 struct gray_scott_parameters {
   double diffusion_u = 1.0, diffusion_v = 0.5;
@@ -150,6 +150,6 @@ class gray_scott_steady {
   Eigen::VectorXd m_source;
 };
 
-}  // namespace nkit_examples
+}  // namespace nkit_problems
 
-#endif  // NKIT_EXAMPLES_REACTION_DIFFUSION_HPP
+#endif  // NKIT_PROBLEMS_REACTION_DIFFUSION_GRAY_SCOTT_HPP
