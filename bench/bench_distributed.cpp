@@ -65,7 +65,7 @@ double median_residual_seconds(Problem& problem, const Eigen::VectorXd& t) {
 void nkit_amg(benchmark::State& state) {
   const int n = static_cast<int>(state.range(0));
   nkit::newton_settings settings = nkit_problems::strip_default_settings();
-  settings.preconditioner_reuse.rebuild_every_newton_steps = static_cast<int>(state.range(1));
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = static_cast<int>(state.range(1));
   settings.linear.restart_length = static_cast<int>(state.range(2));
   nkit::algebraic_multigrid_settings multigrid;
   multigrid.aggressive_coarsening_levels = static_cast<int>(state.range(3));
@@ -76,7 +76,7 @@ void nkit_amg(benchmark::State& state) {
   }
   const nkit::solve_report& report = result.report;
   if (!report.converged()) {
-    state.SkipWithError(("not converged: " + std::string(nkit::name(report.result))).c_str());
+    state.SkipWithError(("not converged: " + std::string(nkit::name(report.reason))).c_str());
     return;
   }
   state.SetComplexityN(static_cast<int64_t>(n) * n);

@@ -54,9 +54,9 @@ measured with_memory(Run&& run) {
 nkit::newton_settings baseplate_settings() {
   nkit::newton_settings settings;  // as the demo's defaults
   settings.linear.restart_length = 40;
-  settings.linear.max_iterations = 2000;
-  settings.preconditioner_reuse.rebuild_every_newton_steps = 100;
-  settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 15;
+  settings.linear.maximum_iterations = 2000;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = 100;
+  settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = 15;
   return settings;
 }
 
@@ -65,7 +65,7 @@ nkit::newton_settings baseplate_settings() {
 void baseplate_newton(benchmark::State& state, const std::string& preconditioner) {
   nkit_problems::baseplate_conduction problem(static_cast<int>(state.range(0)), static_cast<int>(state.range(0)));
   nkit::newton_settings settings = baseplate_settings();
-  if (preconditioner == "sparse_direct") settings.preconditioner_reuse.rebuild_every_newton_steps = 1;
+  if (preconditioner == "sparse_direct") settings.preconditioner_rebuild.rebuild_every_newton_steps = 1;
   measured m;
   for (auto _ : state) {
     m = with_memory([&] {

@@ -23,15 +23,15 @@ void publish(benchmark::State& state, const nkit::solve_report& report) {
   state.counters["residual_evaluations"] = static_cast<double>(report.residual_evaluations);
   state.counters["linear_iterations"] = static_cast<double>(report.linear_iterations);
   state.counters["final_relative_residual"] = report.final_residual_norm / report.initial_residual_norm;
-  state.SetLabel(std::string(nkit::name(report.result)));
+  state.SetLabel(std::string(nkit::name(report.reason)));
 }
 
 nkit::newton_settings settings_for(globalization_strategy strategy, double pseudo_time_step) {
   nkit::newton_settings settings;
   settings.globalization = strategy;
-  settings.max_newton_steps = 300;
+  settings.newton_step_budget = 300;
   settings.linear.restart_length = 50;
-  settings.linear.max_iterations = 3000;
+  settings.linear.maximum_iterations = 3000;
   settings.pseudo_transient.initial_step = pseudo_time_step;
   return settings;
 }

@@ -26,12 +26,12 @@
 #include <cstring>
 #include <ctime>
 #include <map>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/jacobian/sparse_jacobian.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <nkit/preconditioners/incomplete_lut.hpp>
 #include <nkit/preconditioners/jacobi.hpp>
 #include <nkit/preconditioners/sparse_direct.hpp>
-#include <nkit/sparse_jacobian.hpp>
 #include <string>
 #include <vector>
 #if NKIT_HAS_SUITESPARSE
@@ -89,16 +89,16 @@ std::map<int, double>& exact_newton_seconds() {
 
 nkit::newton_settings settings_for(case_id id) {
   nkit::newton_settings settings;
-  settings.max_newton_steps = 30;
+  settings.newton_step_budget = 30;
   settings.linear.restart_length = 50;
-  settings.linear.max_iterations = 4000;
+  settings.linear.maximum_iterations = 4000;
   settings.stagnation_window = 30;
   if (id == milu_zero) settings.linear.restart_length = 40;  // measured: fewer iterations per second than 20 or 50
   if (id == ilu_zero_lagged || id == ilut_lagged) {
     // Lagging: keep the factor for up to 4 Newton steps, rebuilding sooner
     // when the last linear solve needed more than 200 iterations.
-    settings.preconditioner_reuse.rebuild_every_newton_steps = 4;
-    settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 200;
+    settings.preconditioner_rebuild.rebuild_every_newton_steps = 4;
+    settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = 200;
   }
   return settings;
 }

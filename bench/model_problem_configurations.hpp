@@ -28,7 +28,7 @@
 #if NKIT_BENCH_HAS_HYPRE
 #include <mpi.h>
 
-#include <nkit/hypre_algebraic_multigrid.hpp>
+#include <nkit/preconditioners/hypre_algebraic_multigrid.hpp>
 #endif
 
 #include "fresh_process.hpp"
@@ -65,9 +65,9 @@ inline double residual_seconds(const model& problem) {
 inline nkit::newton_settings suite_newton_settings(double time_cap) {
   nkit::newton_settings settings;
   settings.relative_tolerance = target_reduction;
-  settings.max_newton_steps = 100;
-  settings.linear.max_iterations = 20000;
-  settings.wall_time_limit_seconds = time_cap;
+  settings.newton_step_budget = 100;
+  settings.linear.maximum_iterations = 20000;
+  settings.wall_time_budget_seconds = time_cap;
   return settings;
 }
 
@@ -87,7 +87,7 @@ inline void emit_report(const nkit::solve_report& report) {
   emit("preconditioner_fraction",
        (report.time.preconditioner_setup + report.time.preconditioner_apply + report.time.jacobian_assembly) /
            report.wall_seconds);
-  if (!report.converged()) emit_text("failure", std::string(nkit::name(report.result)));
+  if (!report.converged()) emit_text("failure", std::string(nkit::name(report.reason)));
 }
 
 /// Solves the model problem with nkit from T0 = 0 and prints the figures.
@@ -103,8 +103,8 @@ void run_nkit(const model& problem, const nkit::newton_settings& settings, Preco
 /// Lagged preconditioner: kept for up to 4 Newton steps, rebuilt sooner
 /// when the last linear solve needed more than 30 iterations.
 inline nkit::newton_settings lagged(nkit::newton_settings settings) {
-  settings.preconditioner_reuse.rebuild_every_newton_steps = 4;
-  settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 30;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = 4;
+  settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = 30;
   return settings;
 }
 

@@ -121,7 +121,7 @@ inline void orthogonalization(benchmark::State& state) {
   const Eigen::Index length = static_cast<Eigen::Index>(n) * n;
   nkit::gmres_settings settings;
   settings.restart_length = 30;
-  settings.max_iterations = 30;
+  settings.maximum_iterations = 30;
   settings.reorthogonalization =
       default_policy ? nkit::reorthogonalization_policy::when_needed : nkit::reorthogonalization_policy::never;
   nkit::gmres_solver<> gmres(settings);

@@ -36,7 +36,8 @@
 #include <cstdio>
 #include <cstdlib>
 #include <cstring>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -61,7 +62,7 @@ struct case_result {
   bool solved = false;
   int newton_steps = 0;
   long residual_evaluations = 0;
-  nkit::outcome result = nkit::outcome::in_progress;
+  nkit::stop_reason_if_stopped reason;
 };
 
 double residual_norm(const mgh::problem_entry& entry, const Eigen::VectorXd& x) {
@@ -75,7 +76,7 @@ case_result run_case(const mgh::problem_entry& entry, double start_factor, nkit:
   nkit::newton_settings settings;
   settings.absolute_tolerance = solved_below;
   settings.relative_tolerance = 0.0;
-  settings.max_newton_steps = 200;
+  settings.newton_step_budget = 200;
   settings.residual_evaluation_budget = 20000;
   settings.globalization = strategy;
   const Eigen::VectorXd start = start_factor * entry.standard_start;
@@ -92,7 +93,7 @@ case_result run_case(const mgh::problem_entry& entry, double start_factor, nkit:
   case_result result;
   result.newton_steps = report.newton_steps;
   result.residual_evaluations = static_cast<long>(report.residual_evaluations);
-  result.result = report.result;
+  result.reason = report.reason;
   result.solved = report.converged() && x.allFinite() && residual_norm(entry, x) <= solved_below;
   return result;
 }
@@ -134,7 +135,7 @@ int main(int argc, char** argv) {
           if (s < 3) any = true;
           std::printf(" yes %d / %ld |", r.newton_steps, r.residual_evaluations);
         } else {
-          const std::string why(nkit::name(r.result));
+          const std::string why(nkit::name(r.reason));
           std::printf(" no (%s) %d / %ld |", why.c_str(), r.newton_steps, r.residual_evaluations);
         }
       }

@@ -56,7 +56,7 @@ void check_quiet(Call&& call) {
 template <class Solver, class Problem>
 Eigen::VectorXd iterate_after(Solver& solver, Problem& problem, Eigen::VectorXd u, int steps) {
   auto run = solver.begin(problem, u);
-  for (int k = 0; k < steps; ++k) REQUIRE(run.advance() == nkit::outcome::in_progress);
+  for (int k = 0; k < steps; ++k) REQUIRE(run.advance() == nkit::run_state::running);
   return u;
 }
 
@@ -180,7 +180,7 @@ TEST_CASE("bad input: a NaN or Inf residual at the initial guess stops before an
   };
   nkit::solve_report report;
   check_quiet([&] { report = nkit::solve(residual, u, nkit_test::settings_for(strategy)); });
-  CHECK(report.result == nkit::outcome::non_finite_initial_residual);
+  CHECK(report.reason == nkit::stop_reason::non_finite_initial_residual);
   CHECK(report.newton_steps == 0);
   CHECK(report.linear_iterations == 0);
   CHECK(calls == 1);
@@ -206,7 +206,7 @@ TEST_CASE("bad input: a NaN residual at a trial point shrinks the step and the s
   Eigen::VectorXd u = Eigen::VectorXd::Zero(1);
   nkit::solve_report report;
   check_quiet([&] { report = nkit::solve(problem, u, settings); });
-  INFO(nkit::name(strategy) << ": " << nkit::name(report.result));
+  INFO(nkit::name(strategy) << ": " << nkit::name(report.reason));
   CHECK(report.converged());
   CHECK(nan_results >= 1);
   CHECK(report.non_finite_trials >= 1);
@@ -234,7 +234,7 @@ TEST_CASE("bad input: a Newton step that would overflow the state is never evalu
   Eigen::VectorXd u = Eigen::VectorXd::Constant(1, 1.0);
   nkit::solve_report report;
   check_quiet([&] { report = solver.solve(problem, u); });
-  INFO(nkit::name(strategy) << ": " << nkit::name(report.result));
+  INFO(nkit::name(strategy) << ": " << nkit::name(report.reason));
   CHECK(non_finite_calls == 0);
   CHECK(u.allFinite());
   CHECK_FALSE(report.converged());
@@ -312,8 +312,8 @@ TEST_CASE("bad input: after an exception a caller-driven run refuses to continue
   Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 3.0);
   nkit::newton_krylov_solver<> solver;
   auto run = solver.begin(residual, u);
-  REQUIRE(run.advance() == nkit::outcome::in_progress);
-  REQUIRE(run.advance() == nkit::outcome::in_progress);
+  REQUIRE(run.advance() == nkit::run_state::running);
+  REQUIRE(run.advance() == nkit::run_state::running);
   const Eigen::VectorXd accepted = u;
   residual.calls_before_failure = residual.calls + 1;  // fail at the third step's first J·v product
   CHECK_THROWS_WITH(run.advance(), "mesh tangled");
@@ -349,7 +349,7 @@ TEST_CASE("bad input: a preconditioner setup that fails stops with preconditione
   Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 3.0);
   nkit::solve_report report;
   check_quiet([&] { report = solver.solve(residual, u); });
-  CHECK(report.result == nkit::outcome::preconditioner_failed);
+  CHECK(report.reason == nkit::stop_reason::preconditioner_setup_failed);
   CHECK(report.newton_steps == failing_step);
   CHECK(report.preconditioner_setups == failing_step + 1);
   // u is the best iterate and the report's final norm is its residual norm.
@@ -386,7 +386,7 @@ TEST_CASE("bad input: NaN from a preconditioner's apply never reaches the iterat
     check_quiet([&] { report = solver.solve(residual, u); });
     // The outcome names the preconditioner (it was a generic "no progress"),
     // and the failed step stays in the history with GMRES's status.
-    CHECK(report.result == nkit::outcome::preconditioner_output_not_finite);
+    CHECK(report.reason == nkit::stop_reason::preconditioner_output_not_finite);
     CHECK(std::string(report.message()).find("preconditioner returned NaN or Inf") != std::string::npos);
     REQUIRE(report.history.size() == 1);
     CHECK_FALSE(report.history[0].accepted);
@@ -405,7 +405,7 @@ TEST_CASE("bad input: NaN from a preconditioner's apply never reaches the iterat
     check_quiet([&] { report = solver.solve(residual, u); });
     // Regression: the NaN update used to become the Newton step, and every
     // line-search trial evaluated R at a NaN state.
-    CHECK(report.result == nkit::outcome::preconditioner_output_not_finite);
+    CHECK(report.reason == nkit::stop_reason::preconditioner_output_not_finite);
     CHECK(residual.non_finite_inputs == 0);
     CHECK(u == Eigen::VectorXd::Constant(4, 2.0));
   }
@@ -420,8 +420,8 @@ TEST_CASE("bad input: NaN from a preconditioner's apply never reaches the iterat
     Eigen::VectorXd u = Eigen::VectorXd::Constant(4, 3.0);
     nkit::solve_report report;
     check_quiet([&] { report = solver.solve(residual, u); });
-    INFO(nkit::name(strategy) << ": " << nkit::name(report.result));
-    CHECK(report.result == nkit::outcome::preconditioner_output_not_finite);
+    INFO(nkit::name(strategy) << ": " << nkit::name(report.reason));
+    CHECK(report.reason == nkit::stop_reason::preconditioner_output_not_finite);
     CHECK(report.newton_steps == 2);
     REQUIRE(report.history.size() == 3);  // two accepted steps and the failed third
     CHECK(report.history[1].accepted);
@@ -445,7 +445,7 @@ struct invalid_setting {
 /// Every constrained field of every settings struct, with values outside its
 /// range (NaN and infinity included where the field is a double). Fields with
 /// no invalid value: cancellation_flag (any pointer), the bools
-/// forcing.avoid_oversolving and preconditioner_reuse.rebuild_after_linear_failure.
+/// forcing.avoid_oversolving and preconditioner_rebuild.rebuild_after_linear_failure.
 std::vector<invalid_setting> invalid_settings() {
   const double nan = not_a_number;
   const double inf = infinity;
@@ -471,24 +471,24 @@ std::vector<invalid_setting> invalid_settings() {
       {[](newton_settings& s) { s.relative_tolerance = s.absolute_tolerance = 0.0; },
        "nkit: newton_settings.relative_tolerance must be > 0 when absolute_tolerance is 0 (otherwise nothing can "
        "converge) (got 0)"},
-      {[](newton_settings& s) { s.step_tolerance = -1e-9; },
-       "nkit: newton_settings.step_tolerance must be finite and >= 0 (got -1e-09)"},
-      {[=](newton_settings& s) { s.step_tolerance = nan; },
-       "nkit: newton_settings.step_tolerance must be finite and >= 0 (got nan)"},
-      {[](newton_settings& s) { s.max_newton_steps = 0; },
-       "nkit: newton_settings.max_newton_steps must be >= 1 (got 0)"},
-      {[](newton_settings& s) { s.max_newton_steps = -5; },
-       "nkit: newton_settings.max_newton_steps must be >= 1 (got -5)"},
+      {[](newton_settings& s) { s.negligible_step_size = -1e-9; },
+       "nkit: newton_settings.negligible_step_size must be finite and >= 0 (got -1e-09)"},
+      {[=](newton_settings& s) { s.negligible_step_size = nan; },
+       "nkit: newton_settings.negligible_step_size must be finite and >= 0 (got nan)"},
+      {[](newton_settings& s) { s.newton_step_budget = 0; },
+       "nkit: newton_settings.newton_step_budget must be >= 1 (got 0)"},
+      {[](newton_settings& s) { s.newton_step_budget = -5; },
+       "nkit: newton_settings.newton_step_budget must be >= 1 (got -5)"},
       {[](newton_settings& s) { s.residual_evaluation_budget = 0; },
        "nkit: newton_settings.residual_evaluation_budget must be >= 1 (got 0)"},
       {[](newton_settings& s) { s.linear_iteration_budget = -1; },
        "nkit: newton_settings.linear_iteration_budget must be >= 1 (got -1)"},
-      {[](newton_settings& s) { s.wall_time_limit_seconds = -1.0; },
-       "nkit: newton_settings.wall_time_limit_seconds must be > 0 (got -1)"},
-      {[](newton_settings& s) { s.wall_time_limit_seconds = 0.0; },
-       "nkit: newton_settings.wall_time_limit_seconds must be > 0 (got 0)"},
-      {[=](newton_settings& s) { s.wall_time_limit_seconds = nan; },
-       "nkit: newton_settings.wall_time_limit_seconds must be > 0 (got nan)"},
+      {[](newton_settings& s) { s.wall_time_budget_seconds = -1.0; },
+       "nkit: newton_settings.wall_time_budget_seconds must be > 0 (got -1)"},
+      {[](newton_settings& s) { s.wall_time_budget_seconds = 0.0; },
+       "nkit: newton_settings.wall_time_budget_seconds must be > 0 (got 0)"},
+      {[=](newton_settings& s) { s.wall_time_budget_seconds = nan; },
+       "nkit: newton_settings.wall_time_budget_seconds must be > 0 (got nan)"},
       {[](newton_settings& s) { s.stagnation_window = 0; },
        "nkit: newton_settings.stagnation_window must be >= 1 (got 0)"},
       {[](newton_settings& s) { s.stagnation_factor = 1.0; },
@@ -505,8 +505,8 @@ std::vector<invalid_setting> invalid_settings() {
        "nkit: newton_settings.globalization must be one of line_search, full_step, trust_region, pseudo_transient "
        "(got -1)"},
       // forcing_term_settings
-      {[](newton_settings& s) { s.forcing.kind = static_cast<nkit::forcing_term_kind>(3); },
-       "nkit: newton_settings.forcing.kind must be one of constant, eisenstat_walker_choice_1, "
+      {[](newton_settings& s) { s.forcing.formula = static_cast<nkit::forcing_term_formula>(3); },
+       "nkit: newton_settings.forcing.formula must be one of constant, eisenstat_walker_choice_1, "
        "eisenstat_walker_choice_2 (got 3)"},
       {[](newton_settings& s) { s.forcing.constant_value = 1.0; },
        "nkit: newton_settings.forcing.constant_value must be in (0, 1) (got 1)"},
@@ -525,14 +525,14 @@ std::vector<invalid_setting> invalid_settings() {
       // line_search_settings
       {[](newton_settings& s) { s.line_search.sufficient_decrease = 0.0; },
        "nkit: newton_settings.line_search.sufficient_decrease must be in (0, 1) (got 0)"},
-      {[](newton_settings& s) { s.line_search.minimum_shrink = 1.0; },
-       "nkit: newton_settings.line_search.minimum_shrink must be in (0, 1) (got 1)"},
-      {[=](newton_settings& s) { s.line_search.maximum_shrink = nan; },
-       "nkit: newton_settings.line_search.maximum_shrink must be in (0, 1) (got nan)"},
-      {[](newton_settings& s) { s.line_search.minimum_shrink = 0.6; },
-       "nkit: newton_settings.line_search.minimum_shrink must be <= maximum_shrink (0.5) (got 0.6)"},
-      {[](newton_settings& s) { s.line_search.max_backtracks = -1; },
-       "nkit: newton_settings.line_search.max_backtracks must be >= 0 (got -1)"},
+      {[](newton_settings& s) { s.line_search.minimum_shrink_factor = 1.0; },
+       "nkit: newton_settings.line_search.minimum_shrink_factor must be in (0, 1) (got 1)"},
+      {[=](newton_settings& s) { s.line_search.maximum_shrink_factor = nan; },
+       "nkit: newton_settings.line_search.maximum_shrink_factor must be in (0, 1) (got nan)"},
+      {[](newton_settings& s) { s.line_search.minimum_shrink_factor = 0.6; },
+       "nkit: newton_settings.line_search.minimum_shrink_factor must be <= maximum_shrink_factor (0.5) (got 0.6)"},
+      {[](newton_settings& s) { s.line_search.maximum_rejected_trials = -1; },
+       "nkit: newton_settings.line_search.maximum_rejected_trials must be >= 0 (got -1)"},
       // trust_region_settings
       {[](newton_settings& s) { s.trust_region.initial_radius = -1.0; },
        "nkit: newton_settings.trust_region.initial_radius must be finite and >= 0 (got -1)"},
@@ -568,10 +568,10 @@ std::vector<invalid_setting> invalid_settings() {
       {[](newton_settings& s) { s.pseudo_transient.initial_step = 1e13; },
        "nkit: newton_settings.pseudo_transient.initial_step must be in [minimum_step, maximum_step] = [1e-12, "
        "1e+12] (got 1e+13)"},
-      {[](newton_settings& s) { s.pseudo_transient.growth_limit = 1.0; },
-       "nkit: newton_settings.pseudo_transient.growth_limit must be > 1 (got 1)"},
-      {[](newton_settings& s) { s.pseudo_transient.failure_shrink = 1.0; },
-       "nkit: newton_settings.pseudo_transient.failure_shrink must be in (0, 1) (got 1)"},
+      {[](newton_settings& s) { s.pseudo_transient.maximum_step_growth = 1.0; },
+       "nkit: newton_settings.pseudo_transient.maximum_step_growth must be > 1 (got 1)"},
+      {[](newton_settings& s) { s.pseudo_transient.shrink_factor = 1.0; },
+       "nkit: newton_settings.pseudo_transient.shrink_factor must be in (0, 1) (got 1)"},
       {[](newton_settings& s) { s.pseudo_transient.maximum_residual_growth = 0.5; },
        "nkit: newton_settings.pseudo_transient.maximum_residual_growth must be >= 1 (got 0.5)"},
       {[](newton_settings& s) { s.pseudo_transient.switch_ratio = 1.5; },
@@ -584,8 +584,8 @@ std::vector<invalid_setting> invalid_settings() {
       // gmres_settings
       {[](newton_settings& s) { s.linear.restart_length = 0; },
        "nkit: newton_settings.linear.restart_length must be >= 1 (got 0)"},
-      {[](newton_settings& s) { s.linear.max_iterations = -3; },
-       "nkit: newton_settings.linear.max_iterations must be >= 1 (got -3)"},
+      {[](newton_settings& s) { s.linear.maximum_iterations = -3; },
+       "nkit: newton_settings.linear.maximum_iterations must be >= 1 (got -3)"},
       {[](newton_settings& s) { s.linear.variant = static_cast<nkit::gmres_variant>(2); },
        "nkit: newton_settings.linear.variant must be one of standard, flexible (got 2)"},
       {[](newton_settings& s) { s.linear.orthogonalization = static_cast<nkit::orthogonalization_method>(9); },
@@ -600,11 +600,11 @@ std::vector<invalid_setting> invalid_settings() {
        "nkit: newton_settings.jacobian.residual_relative_noise must be in [0, 1) (got 1)"},
       {[=](newton_settings& s) { s.jacobian.residual_relative_noise = nan; },
        "nkit: newton_settings.jacobian.residual_relative_noise must be in [0, 1) (got nan)"},
-      // preconditioner_reuse_settings
-      {[](newton_settings& s) { s.preconditioner_reuse.rebuild_every_newton_steps = 0; },
-       "nkit: newton_settings.preconditioner_reuse.rebuild_every_newton_steps must be >= 1 (got 0)"},
-      {[](newton_settings& s) { s.preconditioner_reuse.rebuild_when_linear_iterations_exceed = -1; },
-       "nkit: newton_settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed must be >= 0 (got -1)"},
+      // preconditioner_rebuild_settings
+      {[](newton_settings& s) { s.preconditioner_rebuild.rebuild_every_newton_steps = 0; },
+       "nkit: newton_settings.preconditioner_rebuild.rebuild_every_newton_steps must be >= 1 (got 0)"},
+      {[](newton_settings& s) { s.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = -1; },
+       "nkit: newton_settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed must be >= 0 (got -1)"},
   };
   return table;
 }
@@ -621,7 +621,7 @@ TEST_CASE("bad input: every invalid setting is rejected with its field and value
     check_rejected([&] { nkit::newton_krylov_solver<> rejected(settings); }, entry.message);
     // configure() rejects it too and keeps the settings in force.
     check_rejected([&] { solver.configure(settings); }, entry.message);
-    CHECK(solver.settings().max_newton_steps == nkit::newton_settings{}.max_newton_steps);
+    CHECK(solver.settings().newton_step_budget == nkit::newton_settings{}.newton_step_budget);
     CHECK(solver.settings().globalization == nkit::globalization_strategy::line_search);
   }
   // The solver still works after all those rejections.
@@ -636,10 +636,10 @@ TEST_CASE("bad input: boundary values of every setting's range are accepted", "[
         s.relative_tolerance = 0.0;
         s.absolute_tolerance = 1e-10;
       },
-      [](nkit::newton_settings& s) { s.max_newton_steps = std::numeric_limits<int>::max(); },
-      [](nkit::newton_settings& s) { s.wall_time_limit_seconds = infinity; },
-      [](nkit::newton_settings& s) { s.line_search.max_backtracks = 0; },
-      [](nkit::newton_settings& s) { s.line_search.minimum_shrink = s.line_search.maximum_shrink = 0.5; },
+      [](nkit::newton_settings& s) { s.newton_step_budget = std::numeric_limits<int>::max(); },
+      [](nkit::newton_settings& s) { s.wall_time_budget_seconds = infinity; },
+      [](nkit::newton_settings& s) { s.line_search.maximum_rejected_trials = 0; },
+      [](nkit::newton_settings& s) { s.line_search.minimum_shrink_factor = s.line_search.maximum_shrink_factor = 0.5; },
       [](nkit::newton_settings& s) {
         s.forcing.choice_2_gamma = 0.0;
         s.forcing.choice_2_alpha = 2.0;
@@ -652,7 +652,7 @@ TEST_CASE("bad input: boundary values of every setting's range are accepted", "[
       [](nkit::newton_settings& s) { s.pseudo_transient.maximum_residual_growth = 1.0; },
       [](nkit::newton_settings& s) { s.pseudo_transient.maximum_step = infinity; },
       [](nkit::newton_settings& s) { s.jacobian.residual_relative_noise = 0.0; },
-      [](nkit::newton_settings& s) { s.linear.restart_length = s.linear.max_iterations = 1; },
+      [](nkit::newton_settings& s) { s.linear.restart_length = s.linear.maximum_iterations = 1; },
   };
   for (std::size_t i = 0; i < valid.size(); ++i) {
     nkit::newton_settings settings;
@@ -663,14 +663,14 @@ TEST_CASE("bad input: boundary values of every setting's range are accepted", "[
 }
 
 TEST_CASE("bad input: huge but valid limits allocate only what a solve can use", "[input][settings]") {
-  // Regressions: max_newton_steps = INT_MAX (meaning "no limit") used to
+  // Regressions: newton_step_budget = INT_MAX (meaning "no limit") used to
   // reserve a history of ~250 GB (std::bad_alloc), and a huge restart_length
-  // allocated that many Krylov vectors although max_iterations caps every
+  // allocated that many Krylov vectors although maximum_iterations caps every
   // cycle (the process was killed for lack of memory).
   nkit::newton_settings settings;
-  settings.max_newton_steps = std::numeric_limits<int>::max();
+  settings.newton_step_budget = std::numeric_limits<int>::max();
   settings.linear.restart_length = std::numeric_limits<int>::max();
-  settings.linear.max_iterations = 40;
+  settings.linear.maximum_iterations = 40;
   nkit::newton_krylov_solver<> solver(settings);
   Eigen::VectorXd u = Eigen::VectorXd::Constant(10, 2.0);
   nkit::solve_report report;
@@ -750,12 +750,12 @@ TEST_CASE("bad input: the unwritten-entry check accepts residuals that write eve
   settings.check_unwritten_residual_entries = nkit::unwritten_entry_check::every_evaluation;
   nkit::solve_report report;
   check_quiet([&] { report = nkit::solve(nan_residual, nan_at_start, settings); });
-  CHECK(report.result == nkit::outcome::non_finite_initial_residual);  // a NaN the user wrote is not "unwritten"
+  CHECK(report.reason == nkit::stop_reason::non_finite_initial_residual);  // a NaN the user wrote is not "unwritten"
 }
 
 TEST_CASE("bad input: a GMRES failure with a finite preconditioner is not blamed on it", "[input][preconditioner]") {
   // An operator that cannot be inverted from the Krylov space GMRES may use
-  // (max_iterations = 1 on a system needing more, stagnating): the
+  // (maximum_iterations = 1 on a system needing more, stagnating): the
   // preconditioner's output is finite, so the generic cause stays.
   auto residual = [](const Eigen::VectorXd& u, Eigen::VectorXd& r) {
     r(0) = u(1);
@@ -763,12 +763,12 @@ TEST_CASE("bad input: a GMRES failure with a finite preconditioner is not blamed
   };
   nkit::newton_settings settings;
   settings.linear.restart_length = 1;
-  settings.linear.max_iterations = 1;
+  settings.linear.maximum_iterations = 1;
   Eigen::VectorXd u(2);
   u << 1.0, 0.0;
   auto jacobi = nkit::make_preconditioner([](const Eigen::VectorXd& r, Eigen::VectorXd& z) { z = r; });
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, decltype(jacobi)> solver(settings, {}, jacobi);
   nkit::solve_report report;
   check_quiet([&] { report = solver.solve(residual, u); });
-  CHECK(report.result == nkit::outcome::linear_solver_no_progress);
+  CHECK(report.reason == nkit::stop_reason::no_newton_direction);
 }

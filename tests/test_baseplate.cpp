@@ -26,8 +26,8 @@ TEST_CASE("baseplate: Newton-GMRES and the Picard loop reach the same temperatur
   Eigen::VectorXd newton_t = Eigen::VectorXd::Constant(problem.unknowns(), coolant);
   nkit::newton_settings settings;
   settings.relative_tolerance = 1e-10;
-  settings.preconditioner_reuse.rebuild_every_newton_steps = 100;
-  settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 15;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = 100;
+  settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = 15;
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit_problems::frozen_conduction_preconditioner> solver(
       settings, {}, nkit_problems::frozen_conduction_preconditioner(problem));
   const auto report = solver.solve(problem, newton_t);

@@ -9,8 +9,8 @@
 #include <Eigen/Eigenvalues>
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <nkit/automatic_differentiation.hpp>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/jacobian/automatic_differentiation.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 
 #include "support/matchers.hpp"
 #include "support/tridiagonal_preconditioner.hpp"
@@ -102,7 +102,7 @@ grid_result solve_on_grid(double lambda, Eigen::Index intervals, double theta) {
   const nkit::solve_report report = solver.solve(problem, u);
   INFO("λ = " << lambda << ", N = " << intervals << ": " << report.message() << " after " << report.newton_steps
               << " Newton steps, final ‖R‖ " << report.final_residual_norm);
-  REQUIRE(report.result == nkit::outcome::converged_absolute_residual);
+  REQUIRE(report.reason == nkit::stop_reason::absolute_tolerance_met);
   Eigen::VectorXd r(n);
   residual(u, r);
   CHECK(r.norm() <= 1e-10);

@@ -38,7 +38,7 @@ void check_best_iterate(const nkit::solve_report& report, const Eigen::VectorXd&
 nkit::newton_settings demanding(nkit::globalization_strategy strategy) {
   nkit::newton_settings settings = nkit_test::settings_for(strategy);
   settings.relative_tolerance = 1e-14;
-  settings.max_newton_steps = 200;
+  settings.newton_step_budget = 200;
   return settings;
 }
 const Eigen::VectorXd far_start =
@@ -50,11 +50,11 @@ TEST_CASE("budgets: the Newton-step limit holds for every globalisation", "[budg
   const auto strategy = GENERATE(from_range(all_globalizations));
   const int limit = GENERATE(1, 3, 8);
   nkit::newton_settings settings = demanding(strategy);
-  settings.max_newton_steps = limit;
+  settings.newton_step_budget = limit;
   Eigen::VectorXd u = far_start;
   const auto report = nkit::solve(counted_cubic{}, u, settings);
-  INFO(nkit::name(strategy) << ", limit " << limit << ": " << nkit::name(report.result));
-  CHECK(report.result == nkit::outcome::newton_step_limit);
+  INFO(nkit::name(strategy) << ", limit " << limit << ": " << nkit::name(report.reason));
+  CHECK(report.reason == nkit::stop_reason::newton_step_budget_spent);
   CHECK(report.newton_steps == limit);
   CHECK(report.history.size() == static_cast<std::size_t>(limit));
   check_best_iterate(report, u);
@@ -68,8 +68,8 @@ TEST_CASE("budgets: the residual-evaluation budget holds for every globalisation
   counted_cubic residual;
   Eigen::VectorXd u = far_start;
   const auto report = nkit::solve(residual, u, settings);
-  INFO(nkit::name(strategy) << ", budget " << budget << ": " << nkit::name(report.result));
-  CHECK(report.result == nkit::outcome::residual_evaluation_budget);
+  INFO(nkit::name(strategy) << ", budget " << budget << ": " << nkit::name(report.reason));
+  CHECK(report.reason == nkit::stop_reason::residual_evaluation_budget_spent);
   CHECK(residual.calls <= budget);
   CHECK(report.residual_evaluations == residual.calls);
   check_best_iterate(report, u);
@@ -84,8 +84,8 @@ TEST_CASE("budgets: the linear-iteration budget holds for every globalisation", 
   settings.linear_iteration_budget = budget;
   Eigen::VectorXd u = far_start;
   const auto report = nkit::solve(counted_cubic{}, u, settings);
-  INFO(nkit::name(strategy) << ", budget " << budget << ": " << nkit::name(report.result));
-  CHECK(report.result == nkit::outcome::linear_iteration_budget);
+  INFO(nkit::name(strategy) << ", budget " << budget << ": " << nkit::name(report.reason));
+  CHECK(report.reason == nkit::stop_reason::linear_iteration_budget_spent);
   CHECK(report.linear_iterations <= budget);
   check_best_iterate(report, u);
 }
@@ -107,11 +107,11 @@ TEST_CASE("budgets: the wall-clock limit holds for every globalisation", "[budge
   } residual;
   const double limit = 0.05;
   nkit::newton_settings settings = demanding(strategy);
-  settings.wall_time_limit_seconds = limit;
+  settings.wall_time_budget_seconds = limit;
   Eigen::VectorXd u = far_start;
   const auto report = nkit::solve(residual, u, settings);
-  INFO(nkit::name(strategy) << ": " << nkit::name(report.result) << " after " << report.wall_seconds << " s");
-  CHECK(report.result == nkit::outcome::wall_time_limit);
+  INFO(nkit::name(strategy) << ": " << nkit::name(report.reason) << " after " << report.wall_seconds << " s");
+  CHECK(report.reason == nkit::stop_reason::wall_time_budget_spent);
   CHECK(report.wall_seconds >= limit);
   CHECK(report.wall_seconds <= limit + residual.longest + 0.1);  // 0.1 s: slack for a loaded machine
   check_best_iterate(report, u);
@@ -123,12 +123,12 @@ TEST_CASE("budgets: a time limit that passed before R(u0) reports no residual no
   Eigen::VectorXd u = Eigen::VectorXd::Constant(3, 4.0);
   REQUIRE(solver.solve(counted_cubic{}, u).converged());
   nkit::newton_settings settings;
-  settings.wall_time_limit_seconds = 1e-300;  // already passed at the first check
+  settings.wall_time_budget_seconds = 1e-300;  // already passed at the first check
   solver.configure(settings);
   u = Eigen::VectorXd::Constant(3, 4.0);
   counted_cubic residual;
   const auto report = solver.solve(residual, u);
-  CHECK(report.result == nkit::outcome::wall_time_limit);
+  CHECK(report.reason == nkit::stop_reason::wall_time_budget_spent);
   CHECK(residual.calls == 0);
   CHECK(report.residual_evaluations == 0);
   CHECK(std::isnan(report.initial_residual_norm));
@@ -177,9 +177,9 @@ TEST_CASE("budgets: a cancellation raised from another thread stops within one e
   Eigen::VectorXd u = far_start;
   const auto report = nkit::solve(residual, u, settings);
   watcher.join();
-  INFO(nkit::name(strategy) << ", raised during evaluation " << raise_at << ": " << nkit::name(report.result));
+  INFO(nkit::name(strategy) << ", raised during evaluation " << raise_at << ": " << nkit::name(report.reason));
   CHECK_FALSE(residual.waited_too_long);
-  CHECK(report.result == nkit::outcome::cancelled);
+  CHECK(report.reason == nkit::stop_reason::cancellation_flag_raised);
   CHECK(residual.calls == raise_at);
   CHECK(residual.calls_after_cancel == 0);
   check_best_iterate(report, u);
@@ -215,12 +215,12 @@ TEST_CASE("budgets: no costly phase starts after the wall-clock limit", "[budget
       });
   const double limit = 0.05;
   nkit::newton_settings settings;
-  settings.wall_time_limit_seconds = limit;
+  settings.wall_time_budget_seconds = limit;
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, slow_diagonal> solver(settings);
   solver.preconditioner().origin = clock::now();
   Eigen::VectorXd u = far_start;
   const auto report = solver.solve(problem, u);
-  CHECK(report.result == nkit::outcome::wall_time_limit);
+  CHECK(report.reason == nkit::stop_reason::wall_time_budget_spent);
   REQUIRE_FALSE(solver.preconditioner().starts.empty());
   // Every call began before the limit (plus 10 ms for the check itself and scheduling).
   for (const double start : solver.preconditioner().starts) CHECK(start <= limit + 0.01);

@@ -1,6 +1,6 @@
 // Parameter continuation (continuation.hpp) on the Liouville–Bratu–Gelfand
 // problem, and the pieces it is built from: the bordered vector space, the
-// bordered residual and preconditioner, AD of parametrised residuals.
+// bordered residual and preconditioner, AD of parametrized residuals.
 //
 // Reference values: nkit's shared references, section 2.
 //  - 1D, u'' + λe^u = 0, u(0) = u(1) = 0: u(x) = −2 ln[cosh((x − ½)θ/2)/cosh(θ/4)],
@@ -21,8 +21,8 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <functional>
-#include <nkit/block_vector_space.hpp>
-#include <nkit/continuation.hpp>
+#include <nkit/continuation/continuation.hpp>
+#include <nkit/core/block_vector_space.hpp>
 #include <nkit/preconditioners/sparse_direct.hpp>
 #include <vector>
 
@@ -80,7 +80,7 @@ double bratu_1d_exact(double x, double theta) {
 nkit::continuation_settings bratu_settings() {
   nkit::continuation_settings settings;
   settings.corrector.linear.restart_length = 60;
-  settings.corrector.linear.max_iterations = 600;
+  settings.corrector.linear.maximum_iterations = 600;
   return settings;
 }
 
@@ -93,8 +93,8 @@ nkit::fold_record first_fold(Solver& solver, Problem&& problem, Eigen::Index unk
   auto stop_after_fold = [](const nkit::continuation_point& point, const Eigen::VectorXd&) {
     return point.kind == nkit::point_kind::fold ? nkit::monitor_decision::stop_now : nkit::monitor_decision::keep_going;
   };
-  const nkit::continuation_report report = solver.trace_branch(problem, u, start, stop_after_fold);
-  REQUIRE(report.result == nkit::continuation_outcome::stopped_by_callback);
+  const nkit::continuation_report report = solver.follow_branch(problem, u, start, stop_after_fold);
+  REQUIRE(report.reason == nkit::continuation_stop_reason::monitor_requested_stop);
   REQUIRE(report.folds.size() == 1);
   return report.folds.front();
 }
@@ -127,11 +127,11 @@ TEST_CASE("the bordered space reduces like the stacked vector (u, λ)", "[contin
   CHECK_FALSE(space.all_finite(x));
 }
 
-TEST_CASE("AD of a parametrised residual differentiates in u and λ together", "[continuation][ad]") {
+TEST_CASE("AD of a parametrized residual differentiates in u and λ together", "[continuation][ad]") {
   // Check against a central difference of R along (v, μ), whose error is
   // O(δ²‖R'''‖) ≈ 1e-8 relative at δ = 1e-4 (common practice).
   const nkit_problems::bratu_1d bratu(15);
-  auto problem = nkit::with_parametrised_automatic_differentiation(bratu);
+  auto problem = nkit::with_parametrized_automatic_differentiation(bratu);
   const Eigen::VectorXd u = Eigen::VectorXd::LinSpaced(15, 0.1, 0.9).array().sin();
   const Eigen::VectorXd v = Eigen::VectorXd::LinSpaced(15, -1.0, 1.0);
   const double lambda = 2.0, mu = 0.7, delta = 1e-4;
@@ -141,8 +141,8 @@ TEST_CASE("AD of a parametrised residual differentiates in u and λ together", "
   problem(Eigen::VectorXd(u - delta * v), lambda - delta * mu, minus);
   const Eigen::VectorXd central = (plus - minus) / (2 * delta);
   CHECK_THAT(exact, is_close_to(central, 1e-6 * central.lpNorm<Eigen::Infinity>()));
-  STATIC_REQUIRE(nkit::has_parametrised_jacobian_product_v<decltype(problem), Eigen::VectorXd>);
-  STATIC_REQUIRE_FALSE(nkit::has_parametrised_jacobian_product_v<nkit_problems::bratu_1d, Eigen::VectorXd>);
+  STATIC_REQUIRE(nkit::has_parametrized_jacobian_product_v<decltype(problem), Eigen::VectorXd>);
+  STATIC_REQUIRE_FALSE(nkit::has_parametrized_jacobian_product_v<nkit_problems::bratu_1d, Eigen::VectorXd>);
 }
 
 TEST_CASE("the bordering preconditioner inverts the bordered Jacobian when P = R_u", "[continuation][preconditioner]") {
@@ -152,7 +152,7 @@ TEST_CASE("the bordering preconditioner inverts the bordered Jacobian when P = R
   using space = nkit::eigen_vector_space<double>;
   using bordered = nkit::bordered_vector<Eigen::VectorXd>;
   const nkit::bordered_vector_space<space> bordered_space;
-  auto problem = nkit::with_parametrised_automatic_differentiation(nkit_problems::bratu_1d(31));
+  auto problem = nkit::with_parametrized_automatic_differentiation(nkit_problems::bratu_1d(31));
   nkit::bordered_residual<decltype(problem), space> residual(problem, bordered_space);
   const bordered x{Eigen::VectorXd::LinSpaced(31, 0.0, 3.0).array().sin() * 0.3, 2.0};
   const bordered tangent{Eigen::VectorXd::Constant(31, 0.4), 0.6};
@@ -207,20 +207,20 @@ TEST_CASE("continuation settings are validated with the field named", "[continua
   settings.minimum_step = 0.5;
   CHECK_THROWS_WITH(settings.validate(), Catch::Contains("continuation_settings.minimum_step"));
   settings = {};
-  settings.step_reduction_after_failure = 1.0;
-  CHECK_THROWS_WITH(settings.validate(), Catch::Contains("continuation_settings.step_reduction_after_failure"));
+  settings.shrink_factor = 1.0;
+  CHECK_THROWS_WITH(settings.validate(), Catch::Contains("continuation_settings.shrink_factor"));
   settings = {};
   settings.parameter_lower_bound = 2.0;
   settings.parameter_upper_bound = 1.0;
   CHECK_THROWS_WITH(settings.validate(), Catch::Contains("continuation_settings.parameter_lower_bound"));
   settings = {};
-  settings.corrector.max_newton_steps = 0;
-  CHECK_THROWS_WITH(settings.validate(), Catch::Contains("newton_settings.max_newton_steps"));
+  settings.corrector.newton_step_budget = 0;
+  CHECK_THROWS_WITH(settings.validate(), Catch::Contains("newton_settings.newton_step_budget"));
   settings = {};
   settings.parameter_lower_bound = 1.0;
   nkit::continuation_solver<> solver(settings);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(4);
-  CHECK_THROWS_AS(solver.trace_branch(nkit_problems::bratu_1d(4), u, 0.5), std::invalid_argument);
+  CHECK_THROWS_AS(solver.follow_branch(nkit_problems::bratu_1d(4), u, 0.5), std::invalid_argument);
 }
 
 // ---- 1D Bratu --------------------------------------------------------------------
@@ -278,8 +278,8 @@ TEST_CASE("1D Bratu: going around the fold reaches the upper branch at λ = 1", 
     auto record_start = [&](const nkit::continuation_point& point, const Eigen::VectorXd& state) {
       if (point.kind == nkit::point_kind::start) lower_peak = state(n / 2);
     };
-    const nkit::continuation_report report = solver.trace_branch(nkit_problems::bratu_1d(n), u, 1.0, record_start);
-    REQUIRE(report.result == nkit::continuation_outcome::reached_parameter_bound);
+    const nkit::continuation_report report = solver.follow_branch(nkit_problems::bratu_1d(n), u, 1.0, record_start);
+    REQUIRE(report.reason == nkit::continuation_stop_reason::parameter_bound_reached);
     REQUIRE(report.folds.size() == 1);
     const nkit::continuation_point& last = report.points.back();
     CHECK(last.kind == nkit::point_kind::parameter_bound);
@@ -316,7 +316,7 @@ TEMPLATE_TEST_CASE("1D Bratu fold: finite differences, AD and preconditioning ag
   nkit::continuation_solver<TestType> plain(settings);
   const nkit::fold_record by_differences = first_fold(plain, nkit_problems::bratu_1d(n), n);
   const nkit::fold_record by_ad =
-      first_fold(plain, nkit::with_parametrised_automatic_differentiation(nkit_problems::bratu_1d(n)), n);
+      first_fold(plain, nkit::with_parametrized_automatic_differentiation(nkit_problems::bratu_1d(n)), n);
   nkit::continuation_solver<TestType, nkit::sparse_direct_preconditioner> preconditioned(settings);
   const nkit::fold_record with_lu = first_fold(preconditioned, nkit_problems::bratu_1d(n), n);
   CHECK(by_differences.located);
@@ -335,25 +335,27 @@ TEST_CASE("the start tangent is (du/dλ, 1) normalised in the arclength metric",
   // δ = 1e-4 gives about 1e-8 relative; common practice). Metric: ds² = ‖du‖²/N + dλ².
   constexpr int n = 31;
   nkit::continuation_settings settings = bratu_settings();
-  settings.max_points = 1;
+  settings.point_budget = 1;
   settings.corrector.relative_tolerance = 1e-12;
   settings.corrector.absolute_tolerance = 1e-10;  // R's entries are O(1/h²): rounding level about 1e-12
   nkit::continuation_solver<> solver(settings);
-  auto problem = nkit::with_parametrised_automatic_differentiation(nkit_problems::bratu_1d(n));
+  auto problem = nkit::with_parametrized_automatic_differentiation(nkit_problems::bratu_1d(n));
   const double delta = 1e-4;
   Eigen::VectorXd above = Eigen::VectorXd::Zero(n), below = Eigen::VectorXd::Zero(n), at = Eigen::VectorXd::Zero(n);
-  REQUIRE(solver.trace_branch(problem, above, 1.0 + delta).result == nkit::continuation_outcome::reached_point_limit);
-  REQUIRE(solver.trace_branch(problem, below, 1.0 - delta).result == nkit::continuation_outcome::reached_point_limit);
-  const nkit::continuation_report report = solver.trace_branch(problem, at, 1.0);
-  REQUIRE(report.result == nkit::continuation_outcome::reached_point_limit);
+  REQUIRE(solver.follow_branch(problem, above, 1.0 + delta).reason ==
+          nkit::continuation_stop_reason::point_budget_spent);
+  REQUIRE(solver.follow_branch(problem, below, 1.0 - delta).reason ==
+          nkit::continuation_stop_reason::point_budget_spent);
+  const nkit::continuation_report report = solver.follow_branch(problem, at, 1.0);
+  REQUIRE(report.reason == nkit::continuation_stop_reason::point_budget_spent);
   const Eigen::VectorXd derivative = (above - below) / (2 * delta);
   const double expected = 1.0 / std::sqrt(derivative.squaredNorm() / n + 1.0);
   CHECK_THAT(report.points.front().tangent_parameter, WithinRel(expected, 1e-6));
 
   settings.initial_direction = nkit::parameter_direction::decreasing;
   solver.configure(settings);
-  const nkit::continuation_report reversed = solver.trace_branch(problem, at, 1.0);
-  REQUIRE(reversed.result == nkit::continuation_outcome::reached_point_limit);
+  const nkit::continuation_report reversed = solver.follow_branch(problem, at, 1.0);
+  REQUIRE(reversed.reason == nkit::continuation_stop_reason::point_budget_spent);
   CHECK_THAT(reversed.points.front().tangent_parameter, WithinRel(-expected, 1e-6));
 }
 
@@ -371,9 +373,9 @@ TEST_CASE("natural-parameter continuation stops honestly at the fold", "[continu
   settings.initial_step = 0.25;
   nkit::continuation_solver<> natural(settings);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(n);
-  const nkit::continuation_report report = natural.trace_branch(nkit_problems::bratu_1d(n), u, 1.0);
-  CHECK(report.result == nkit::continuation_outcome::step_below_minimum);
-  CHECK_FALSE(report.finished());
+  const nkit::continuation_report report = natural.follow_branch(nkit_problems::bratu_1d(n), u, 1.0);
+  CHECK(report.reason == nkit::continuation_stop_reason::step_below_minimum);
+  CHECK_FALSE(report.completed());
   CHECK(report.rejected_steps > 0);
   CHECK_THAT(std::string(report.message()), Catch::Contains("fold"));
   CHECK(report.folds.empty());
@@ -394,32 +396,32 @@ TEST_CASE("natural-parameter continuation stops honestly at the fold", "[continu
 TEST_CASE("continuation outcomes: point limit, callback stop, failed start", "[continuation]") {
   constexpr int n = 15;
   nkit::continuation_settings settings = bratu_settings();
-  settings.max_points = 4;
+  settings.point_budget = 4;
   nkit::continuation_solver<> solver(settings);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(n);
-  const nkit::continuation_report limited = solver.trace_branch(nkit_problems::bratu_1d(n), u, 1.0);
-  CHECK(limited.result == nkit::continuation_outcome::reached_point_limit);
-  CHECK(limited.finished());
+  const nkit::continuation_report limited = solver.follow_branch(nkit_problems::bratu_1d(n), u, 1.0);
+  CHECK(limited.reason == nkit::continuation_stop_reason::point_budget_spent);
+  CHECK(limited.completed());
   CHECK(limited.points.size() == 4);
   double previous = 0.0;
   for (const auto& point : limited.points) {
     CHECK(point.parameter > previous);  // λ increases on the lower branch
-    CHECK(nkit::is_converged(point.corrector_result));
+    CHECK(nkit::is_converged(point.corrector_reason));
     previous = point.parameter;
   }
 
   int calls = 0;
-  const nkit::continuation_report stopped = solver.trace_branch(
+  const nkit::continuation_report stopped = solver.follow_branch(
       nkit_problems::bratu_1d(n), u, 1.0, [&](const nkit::continuation_point&, const Eigen::VectorXd&) {
         return ++calls == 2 ? nkit::monitor_decision::stop_now : nkit::monitor_decision::keep_going;
       });
-  CHECK(stopped.result == nkit::continuation_outcome::stopped_by_callback);
+  CHECK(stopped.reason == nkit::continuation_stop_reason::monitor_requested_stop);
   CHECK(stopped.points.size() == 2);
 
   // No solution exists for λ > λc ≈ 3.51: the start solve cannot converge, and u is left as given.
   Eigen::VectorXd guess = Eigen::VectorXd::Constant(n, 0.25);
-  const nkit::continuation_report failed = solver.trace_branch(nkit_problems::bratu_1d(n), guess, 5.0);
-  CHECK(failed.result == nkit::continuation_outcome::start_point_failed);
+  const nkit::continuation_report failed = solver.follow_branch(nkit_problems::bratu_1d(n), guess, 5.0);
+  CHECK(failed.reason == nkit::continuation_stop_reason::start_point_not_converged);
   CHECK(failed.points.empty());
   CHECK(guess == Eigen::VectorXd::Constant(n, 0.25));
 }

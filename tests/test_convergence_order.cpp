@@ -22,8 +22,9 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <limits>
-#include <nkit/automatic_differentiation.hpp>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/jacobian/automatic_differentiation.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
+#include <optional>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -58,7 +59,7 @@ struct newton_step_data {
   double residual_after;        // ‖F(x_{k+1})‖
   double forcing_term;          // η_k requested
   double linear_residual;       // achieved relative linear residual
-  double step_length;           // λ
+  double step_fraction;         // λ
   double singular_value_bound;  // σ_k >= min_i |3 − 4x_i| − 3 at x_k
 };
 
@@ -67,7 +68,7 @@ double singular_value_lower_bound(const Eigen::VectorXd& x) { return (3.0 - 4.0 
 /// Runs the caller-driven loop, recording x_k-dependent data before each step.
 template <class Problem>
 std::vector<newton_step_data> run_newton(Problem& problem, Eigen::Index n, const nkit::newton_settings& settings,
-                                         nkit::outcome& result) {
+                                         nkit::stop_reason_if_stopped& result) {
   Eigen::VectorXd x = Eigen::VectorXd::Constant(n, -1.0);  // standard start of problem 30
   nkit::newton_krylov_solver<> solver(settings);
   auto run = solver.begin(problem, x);
@@ -75,15 +76,15 @@ std::vector<newton_step_data> run_newton(Problem& problem, Eigen::Index n, const
   while (true) {
     const double sigma = singular_value_lower_bound(x);
     const double before = steps.empty() ? run.report().initial_residual_norm : steps.back().residual_after;
-    const nkit::outcome outcome = run.advance();
+    const nkit::run_state state = run.advance();
     const auto& history = run.report().history;
     if (history.size() > steps.size()) {
       const nkit::newton_step_record& record = history.back();
       steps.push_back({before, record.residual_norm, record.forcing_term, record.relative_linear_residual,
-                       record.step_length, sigma});
+                       record.step_fraction, sigma});
     }
-    if (outcome != nkit::outcome::in_progress) {
-      result = outcome;
+    if (state == nkit::run_state::stopped) {
+      result = run.reason();
       return steps;
     }
   }
@@ -149,19 +150,19 @@ TEST_CASE("Newton with exact J·v and tight forcing converges quadratically", "[
   nkit::newton_settings settings;
   settings.absolute_tolerance = 1e-12;
   settings.relative_tolerance = 0.0;
-  settings.forcing.kind = nkit::forcing_term_kind::constant;
+  settings.forcing.formula = nkit::forcing_term_formula::constant;
   settings.forcing.constant_value = 1e-12;
   settings.globalization = nkit::globalization_strategy::full_step;
   const double floor = rounding_floor(n);
 
   broyden_problem exact{nkit::with_automatic_differentiation(mgh::broyden_tridiagonal{n}), 1.0};
-  nkit::outcome result = nkit::outcome::in_progress;
+  nkit::stop_reason_if_stopped result;
   const std::vector<newton_step_data> steps = run_newton(exact, n, settings, result);
-  CHECK(result == nkit::outcome::converged_absolute_residual);
+  CHECK(result == nkit::stop_reason::absolute_tolerance_met);
   REQUIRE(steps.size() >= 4);
   for (const auto& s : steps) {
     REQUIRE(s.singular_value_bound > 0.0);
-    CHECK(s.step_length == 1.0);
+    CHECK(s.step_fraction == 1.0);
   }
   std::string detail;
   const bool quadratic = within_quadratic_bound(steps, floor, detail);
@@ -176,9 +177,9 @@ TEST_CASE("Newton with exact J·v and tight forcing converges quadratically", "[
   // Sanity check that the bound can fail: J·v off by 10 % makes the iteration
   // converge only linearly, ‖F_{k+1}‖ ≈ (1 − 1/1.1)‖F_k‖ ≈ 0.091‖F_k‖.
   broyden_problem wrong{nkit::with_automatic_differentiation(mgh::broyden_tridiagonal{n}), 1.1};
-  nkit::outcome wrong_result = nkit::outcome::in_progress;
+  nkit::stop_reason_if_stopped wrong_result;
   const std::vector<newton_step_data> wrong_steps = run_newton(wrong, n, settings, wrong_result);
-  CHECK(wrong_result == nkit::outcome::converged_absolute_residual);  // it still converges, but ...
+  CHECK(wrong_result == nkit::stop_reason::absolute_tolerance_met);  // it still converges, but ...
   CHECK(wrong_steps.size() > steps.size() + 5);
   std::string wrong_detail;
   CHECK_FALSE(within_quadratic_bound(wrong_steps, floor, wrong_detail));  // ... not quadratically
@@ -195,10 +196,10 @@ TEST_CASE("Newton with Eisenstat-Walker Choice 2 forcing converges superlinearly
   nkit::newton_settings settings;
   settings.absolute_tolerance = 1e-10;
   settings.relative_tolerance = 0.0;
-  REQUIRE(settings.forcing.kind == nkit::forcing_term_kind::eisenstat_walker_choice_2);
+  REQUIRE(settings.forcing.formula == nkit::forcing_term_formula::eisenstat_walker_choice_2);
   const double floor = rounding_floor(n);
 
-  nkit::outcome result = nkit::outcome::in_progress;
+  nkit::stop_reason_if_stopped result;
   std::vector<newton_step_data> steps;
   SECTION("exact J·v") {
     broyden_problem exact{nkit::with_automatic_differentiation(mgh::broyden_tridiagonal{n}), 1.0};
@@ -208,7 +209,7 @@ TEST_CASE("Newton with Eisenstat-Walker Choice 2 forcing converges superlinearly
     broyden_residual_only residual{mgh::broyden_tridiagonal{n}};
     steps = run_newton(residual, n, settings, result);
   }
-  CHECK(result == nkit::outcome::converged_absolute_residual);
+  CHECK(result == nkit::stop_reason::absolute_tolerance_met);
   std::string detail;
   const bool superlinear = looks_superlinear(steps, floor, detail);
   INFO(detail);
@@ -226,9 +227,9 @@ TEST_CASE("The superlinear check fails for a linearly convergent iteration", "[n
   settings.absolute_tolerance = 1e-10;
   settings.relative_tolerance = 0.0;
   broyden_problem wrong{nkit::with_automatic_differentiation(mgh::broyden_tridiagonal{n}), 1.1};
-  nkit::outcome result = nkit::outcome::in_progress;
+  nkit::stop_reason_if_stopped result;
   const std::vector<newton_step_data> steps = run_newton(wrong, n, settings, result);
-  CHECK(result == nkit::outcome::converged_absolute_residual);
+  CHECK(result == nkit::stop_reason::absolute_tolerance_met);
   std::string detail;
   const bool superlinear = looks_superlinear(steps, rounding_floor(n), detail);
   INFO(detail);

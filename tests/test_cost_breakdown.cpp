@@ -78,7 +78,8 @@ TEST_CASE("the phases add up to the wall time for every globalisation", "[report
   // Call counts: one Krylov-update entry per GMRES call, one Newton-update
   // entry per Newton step, one monitor call per step.
   std::int64_t linear_solves = 0;
-  for (const auto& record : report.history) linear_solves += 1 + record.backtracks * (record.pseudo_time_step > 0.0);
+  for (const auto& record : report.history)
+    linear_solves += 1 + record.rejected_trials * (record.pseudo_time_step > 0.0);
   CHECK(report.calls.krylov_update == linear_solves);
   CHECK(report.calls.newton_update == report.newton_steps);
   CHECK(report.calls.monitor == monitor_calls);
@@ -162,7 +163,7 @@ TEST_CASE("a solve stopped inside GMRES or a globalisation step keeps its breakd
     nkit::newton_krylov_solver<> solver(settings);
     Eigen::VectorXd t = Eigen::VectorXd::Zero(model.unknowns());
     const auto report = solver.solve(residual, t);
-    if (report.result != nkit::outcome::residual_evaluation_budget) continue;
+    if (report.reason != nkit::stop_reason::residual_evaluation_budget_spent) continue;
     CAPTURE(budget);
     for (const auto& [phase, seconds] : phases_of(report.time)) {
       CAPTURE(phase);
@@ -220,7 +221,7 @@ TEST_CASE("workspace_bytes equals a hand count of the solver's buffers", "[repor
   //     first row m, coefficients m, projections m+1, m Givens rotations of
   //     2 doubles;
   //   forward differences: 1 vector (the shifted state);
-  //   history: max_newton_steps records (reserved up front);
+  //   history: newton_step_budget records (reserved up front);
   //   assembled Jacobian (when a preconditioner asks for it): a value and a
   //     column index per stored entry, N + 1 row offsets;
   //   colored-difference workspace (sparse_jacobian.hpp): unused here, but its
@@ -229,7 +230,7 @@ TEST_CASE("workspace_bytes equals a hand count of the solver's buffers", "[repor
   const std::size_t n = 30 * 30;
   nkit::newton_settings settings;
   settings.linear.restart_length = restart;
-  settings.max_newton_steps = 40;
+  settings.newton_step_budget = 40;
   const std::size_t m = restart;
   const std::size_t vectors = 7 + (m + 1) + 2 + 1;
   const std::size_t dense = (m + 1) * m + (m + 1) + m + m + (m + 1) + 2 * m;
@@ -273,7 +274,7 @@ TEST_CASE("the cost breakdown printer lists every phase, its share and the total
   const std::string text = os.str();
   for (const char* label : {"residual", "Jacobian-vector", "Jacobian assembly", "preconditioner setup",
                             "preconditioner apply", "orthogonalization", "Krylov update", "globalization",
-                            "Newton update", "monitor", "other", "total (wall)", "work units", "workspace"}) {
+                            "Newton update", "monitor", "other", "total (wall time)", "work units", "workspace"}) {
     CAPTURE(label);
     CHECK(text.find(label) != std::string::npos);
   }

@@ -4,9 +4,9 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <limits>
+#include <nkit/jacobian/sparse_jacobian.hpp>
 #include <nkit/nkit.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
-#include <nkit/sparse_jacobian.hpp>
 
 #include "problems/test_sets/hard_problems.hpp"
 #include "support/matchers.hpp"
@@ -21,8 +21,8 @@ TEST_CASE("pseudo-transient continuation converges where line-search Newton stal
   const int n = 24;
   auto problem = nkit::with_automatic_differentiation(cubic_reaction_diffusion{n, 0.01});
   nkit::newton_settings settings;
-  settings.max_newton_steps = 100;
-  settings.linear.max_iterations = 1000;
+  settings.newton_step_budget = 100;
+  settings.linear.maximum_iterations = 1000;
 
   // Line search and trust region both descend ‖R‖ and end near u = √(2/3).
   for (auto strategy : {nkit::globalization_strategy::line_search, nkit::globalization_strategy::trust_region}) {
@@ -30,7 +30,7 @@ TEST_CASE("pseudo-transient continuation converges where line-search Newton stal
     nkit::newton_krylov_solver<> solver(settings);
     Eigen::VectorXd u = Eigen::VectorXd::Zero(n * n);
     const auto report = solver.solve(problem, u);
-    INFO(nkit::name(strategy) << ": " << nkit::name(report.result));
+    INFO(nkit::name(strategy) << ": " << nkit::name(report.reason));
     CHECK_FALSE(report.converged());
     CHECK_THAT(u.mean(), Catch::Matchers::WithinAbs(std::sqrt(2.0 / 3.0), 0.1));
   }
@@ -61,15 +61,15 @@ TEST_CASE("pseudo-transient continuation rejects steps that blow up the residual
   const int n = 24;
   auto problem = nkit::with_automatic_differentiation(cubic_reaction_diffusion{n, 0.01});
   nkit::newton_settings settings;
-  settings.max_newton_steps = 100;
-  settings.linear.max_iterations = 1000;
+  settings.newton_step_budget = 100;
+  settings.linear.maximum_iterations = 1000;
   settings.globalization = nkit::globalization_strategy::pseudo_transient;
   settings.pseudo_transient.initial_step = 0.5;
   nkit::newton_krylov_solver<> solver(settings);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(n * n);
   const auto report = solver.solve(problem, u);
   REQUIRE(report.converged());
-  CHECK(report.history.front().backtracks >= 1);
+  CHECK(report.history.front().rejected_trials >= 1);
   CHECK(report.history.front().pseudo_time_step < 0.5);
   CHECK(u.maxCoeff() < -1.55);
 }
@@ -98,14 +98,14 @@ TEST_CASE("local pseudo-time steps come from the problem's weights", "[globaliza
     void pseudo_time_weights(const Eigen::VectorXd& u, Eigen::VectorXd& w) { inner->pseudo_time_weights(u, w); }
   } local{&base};
   nkit::newton_settings settings;
-  settings.max_newton_steps = 100;
-  settings.linear.max_iterations = 1000;
+  settings.newton_step_budget = 100;
+  settings.linear.maximum_iterations = 1000;
   settings.globalization = nkit::globalization_strategy::pseudo_transient;
   settings.pseudo_transient.initial_step = 1.0;  // CFL-like: W/δ equals the diagonal estimate
   nkit::newton_krylov_solver<> solver(settings);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(n * n);
   const auto report = solver.solve(local, u);
-  INFO(nkit::name(report.result) << " after " << report.newton_steps << " steps");
+  INFO(nkit::name(report.reason) << " after " << report.newton_steps << " steps");
   REQUIRE(report.converged());
   CHECK(u.maxCoeff() < -1.55);
   CHECK(base.weight_calls >= 1);
@@ -185,9 +185,9 @@ TEST_CASE("bounds keep every evaluated state admissible", "[globalization][bound
   const auto report = bounded.solve(bounded_problem, d);
   REQUIRE(report.converged());
   CHECK(bounded_problem.negative_evaluations == 0);
-  CHECK(report.bound_limited_steps >= 1);
+  CHECK(report.steps_shortened_by_bounds >= 1);
   bool any_bound_active = false;
-  for (const auto& record : report.history) any_bound_active = any_bound_active || record.bound_active;
+  for (const auto& record : report.history) any_bound_active = any_bound_active || record.step_shortened_by_bounds;
   CHECK(any_bound_active);
   CHECK(d.minCoeff() > 0.0);
   // Both runs reach the same (unique, positive) solution.
@@ -322,8 +322,8 @@ TEST_CASE("trust region: an accepted full Newton step costs no extra residual ev
   const auto trusted = nkit::solve(residual, v, trust_region);
   REQUIRE(searched.converged());
   REQUIRE(trusted.converged());
-  CHECK(searched.backtracks == 0);
-  CHECK(trusted.backtracks == 0);
+  CHECK(searched.rejected_trials == 0);
+  CHECK(trusted.rejected_trials == 0);
   CHECK(trusted.newton_steps == searched.newton_steps);
   CHECK(trusted.residual_evaluations == searched.residual_evaluations);
 }

@@ -3,8 +3,8 @@
 #include <Eigen/SparseCore>
 #include <Eigen/SparseLU>
 #include <catch2/catch.hpp>
-#include <nkit/block_vector_space.hpp>
-#include <nkit/gmres.hpp>
+#include <nkit/core/block_vector_space.hpp>
+#include <nkit/krylov/gmres.hpp>
 #include <random>
 
 #include "support/matchers.hpp"
@@ -63,7 +63,7 @@ TEST_CASE("restarted GMRES matches Eigen's SparseLU on random nonsymmetric syste
 
   nkit::gmres_settings settings;
   settings.restart_length = 20;
-  settings.max_iterations = 2000;
+  settings.maximum_iterations = 2000;
   settings.variant = variant;
   settings.orthogonalization = method;
   nkit::gmres_solver<> gmres(settings);
@@ -92,7 +92,7 @@ TEST_CASE("unrestarted GMRES on an n-by-n system converges in at most n iteratio
   const Eigen::VectorXd b = Eigen::VectorXd::Ones(n);
   nkit::gmres_settings settings;
   settings.restart_length = n;
-  settings.max_iterations = n;
+  settings.maximum_iterations = n;
   settings.reorthogonalization = nkit::reorthogonalization_policy::always;
   nkit::gmres_solver<> gmres(settings);
   nkit::matrix_operator<sparse> op(a);
@@ -245,6 +245,6 @@ TEST_CASE("GMRES settings are validated with the field named", "[gmres][input]")
   settings.restart_length = 0;
   CHECK_THROWS_WITH(nkit::gmres_solver<>(settings), "nkit: gmres_settings.restart_length must be >= 1 (got 0)");
   settings.restart_length = 10;
-  settings.max_iterations = -3;
-  CHECK_THROWS_WITH(nkit::gmres_solver<>(settings), "nkit: gmres_settings.max_iterations must be >= 1 (got -3)");
+  settings.maximum_iterations = -3;
+  CHECK_THROWS_WITH(nkit::gmres_solver<>(settings), "nkit: gmres_settings.maximum_iterations must be >= 1 (got -3)");
 }

@@ -2,10 +2,10 @@
 // from forward-mode automatic differentiation, and the analytic path.
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <nkit/analytic_jacobian.hpp>
-#include <nkit/automatic_differentiation.hpp>
-#include <nkit/finite_difference_jacobian.hpp>
-#include <nkit/residual.hpp>
+#include <nkit/core/residual.hpp>
+#include <nkit/jacobian/analytic_jacobian.hpp>
+#include <nkit/jacobian/automatic_differentiation.hpp>
+#include <nkit/jacobian/finite_difference_jacobian.hpp>
 
 #include "support/matchers.hpp"
 

@@ -3,7 +3,7 @@
 // Algorithm A6.3.1, evaluated independently here.
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <nkit/line_search.hpp>
+#include <nkit/globalization/line_search.hpp>
 #include <vector>
 
 TEST_CASE("a full step with sufficient decrease is accepted at once", "[line_search]") {
@@ -16,7 +16,7 @@ TEST_CASE("a full step with sufficient decrease is accepted at once", "[line_sea
         return -1.0;
       });
   CHECK(result.accepted);
-  CHECK(result.step_length == 1.0);
+  CHECK(result.step_fraction == 1.0);
   CHECK(result.trials == 1);
   CHECK(slope_calls == 0);  // the slope is only needed after a rejection
 }
@@ -50,7 +50,7 @@ TEST_CASE("the first backtrack uses the quadratic model and later ones the cubic
   }
   REQUIRE(result.accepted);
   // Sufficient decrease (Eisenstat & Walker 1994) holds at the accepted λ.
-  CHECK(std::sqrt(2 * phi(result.step_length)) <= (1 - 1e-4 * result.step_length) * 1.0);
+  CHECK(std::sqrt(2 * phi(result.step_fraction)) <= (1 - 1e-4 * result.step_fraction) * 1.0);
 }
 
 TEST_CASE("non-finite trials shrink the step and are never accepted", "[line_search]") {
@@ -66,12 +66,12 @@ TEST_CASE("non-finite trials shrink the step and are never accepted", "[line_sea
   REQUIRE(result.accepted);
   CHECK(result.non_finite_trials == 2);  // λ = 1 and 0.5 are NaN, 0.25 is fine
   CHECK(tried == std::vector<double>{1.0, 0.5, 0.25});
-  CHECK(result.step_length == 0.25);
+  CHECK(result.step_fraction == 0.25);
 }
 
-TEST_CASE("the search gives up after max_backtracks rejections", "[line_search]") {
+TEST_CASE("the search gives up after maximum_rejected_trials rejections", "[line_search]") {
   nkit::line_search_settings settings;
-  settings.max_backtracks = 3;
+  settings.maximum_rejected_trials = 3;
   const auto result = nkit::backtracking_line_search(
       settings, 1.0, 0.0, true, [](double) { return 2.0; }, [] { return -1.0; });
   CHECK_FALSE(result.accepted);
@@ -83,14 +83,15 @@ TEST_CASE("full-step mode accepts any finite trial", "[line_search]") {
   const auto result = nkit::backtracking_line_search(
       settings, 1.0, 0.0, false, [](double) { return 5.0; }, [] { return -1.0; });
   CHECK(result.accepted);
-  CHECK(result.step_length == 1.0);
+  CHECK(result.step_fraction == 1.0);
 }
 
 TEST_CASE("line-search settings are validated", "[line_search][input]") {
   nkit::line_search_settings settings;
-  settings.minimum_shrink = 0.6;
-  CHECK_THROWS_WITH(settings.validate(),
-                    "nkit: line_search_settings.minimum_shrink must be <= maximum_shrink (0.5) (got 0.6)");
+  settings.minimum_shrink_factor = 0.6;
+  CHECK_THROWS_WITH(
+      settings.validate(),
+      "nkit: line_search_settings.minimum_shrink_factor must be <= maximum_shrink_factor (0.5) (got 0.6)");
   settings = {};
   settings.sufficient_decrease = 0.0;
   CHECK_THROWS_WITH(settings.validate(), "nkit: line_search_settings.sufficient_decrease must be in (0, 1) (got 0)");

@@ -10,8 +10,8 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <limits>
-#include <nkit/automatic_differentiation.hpp>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/jacobian/automatic_differentiation.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 #include <string>
 #include <unsupported/Eigen/NonLinearOptimization>
 
@@ -99,7 +99,7 @@ Eigen::VectorXd solve_and_check_residual(const mgh::problem_entry& entry) {
   INFO(entry.name << " n = " << entry.dimension << ": " << report.message() << " after " << report.newton_steps
                   << " Newton steps, " << report.residual_evaluations << " residual evaluations, final ‖F‖ "
                   << report.final_residual_norm);
-  CHECK(report.result == nkit::outcome::converged_absolute_residual);
+  CHECK(report.reason == nkit::stop_reason::absolute_tolerance_met);
   CHECK(report.final_residual_norm <= 1e-10);
   CHECK(residual_norm(entry, x) <= 1e-10);
   return x;
@@ -276,7 +276,7 @@ TEST_CASE("MGH discrete boundary value, n = 1000: preconditioned line-search New
   const nkit::solve_report report = solver.solve(mgh::residual_only{&entry}, x);
   INFO(report.message() << " after " << report.newton_steps << " Newton steps, " << report.linear_iterations
                         << " GMRES iterations, final ‖F‖ " << report.final_residual_norm);
-  CHECK(report.result == nkit::outcome::converged_absolute_residual);
+  CHECK(report.reason == nkit::stop_reason::absolute_tolerance_met);
   CHECK(residual_norm(entry, x) <= 1e-10);
   CHECK(report.linear_iterations <= 10 * report.newton_steps);
 }
@@ -316,10 +316,11 @@ TEST_CASE("MGH trigonometric, n = 10: line-search Newton stalls where the Jacobi
   INFO(report.message() << " after " << report.newton_steps << " Newton steps, final ‖F‖ "
                         << report.final_residual_norm);
   CHECK_FALSE(report.converged());
-  CHECK((report.result == nkit::outcome::line_search_failed || report.result == nkit::outcome::newton_step_limit ||
-         report.result == nkit::outcome::stagnated));
+  CHECK((report.reason == nkit::stop_reason::no_acceptable_step ||
+         report.reason == nkit::stop_reason::newton_step_budget_spent ||
+         report.reason == nkit::stop_reason::residual_stagnated));
   REQUIRE(report.history.size() >= 2);
-  CHECK(report.history.back().step_length < 1e-3);  // the line search has collapsed
+  CHECK(report.history.back().step_fraction < 1e-3);  // the line search has collapsed
 
   Eigen::VectorXd f(10);
   entry.residual(x, f);

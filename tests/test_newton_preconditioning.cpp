@@ -8,15 +8,15 @@
 #include <functional>
 #include <limits>
 #include <memory>
-#include <nkit/automatic_differentiation.hpp>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/jacobian/automatic_differentiation.hpp>
+#include <nkit/jacobian/sparse_jacobian.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/block_jacobi.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <nkit/preconditioners/incomplete_lut.hpp>
 #include <nkit/preconditioners/inner_gmres.hpp>
 #include <nkit/preconditioners/jacobi.hpp>
 #include <nkit/preconditioners/sparse_direct.hpp>
-#include <nkit/sparse_jacobian.hpp>
 #include <string>
 #include <vector>
 #if NKIT_HAS_SUITESPARSE
@@ -54,7 +54,7 @@ nkit::newton_settings tight_settings() {
   // the 1e-8 comparison below.
   settings.relative_tolerance = 1e-11;
   settings.linear.restart_length = 40;
-  settings.linear.max_iterations = 2000;
+  settings.linear.maximum_iterations = 2000;
   return settings;
 }
 
@@ -186,7 +186,7 @@ reuse_run run_with_policy(const nkit::newton_settings& settings) {
 
 std::vector<bool> rebuilt_flags(const nkit::solve_report& report) {
   std::vector<bool> flags;
-  for (const auto& record : report.history) flags.push_back(record.preconditioner_rebuilt);
+  for (const auto& record : report.history) flags.push_back(record.preconditioner_set_up);
   return flags;
 }
 }  // namespace
@@ -194,12 +194,12 @@ std::vector<bool> rebuilt_flags(const nkit::solve_report& report) {
 TEST_CASE("the reuse policy rebuilds on each of its triggers", "[newton][reuse]") {
   nkit::newton_settings settings = tight_settings();
   settings.relative_tolerance = 1e-8;
-  settings.preconditioner_reuse.rebuild_every_newton_steps = 1000;
-  settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 0;
-  settings.preconditioner_reuse.rebuild_after_linear_failure = false;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = 1000;
+  settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = 0;
+  settings.preconditioner_rebuild.rebuild_after_linear_failure = false;
 
   SECTION("every k Newton steps") {
-    settings.preconditioner_reuse.rebuild_every_newton_steps = 3;
+    settings.preconditioner_rebuild.rebuild_every_newton_steps = 3;
     const reuse_run run = run_with_policy(settings);
     REQUIRE(run.report.converged());
     REQUIRE(run.report.newton_steps >= 4);
@@ -207,7 +207,7 @@ TEST_CASE("the reuse policy rebuilds on each of its triggers", "[newton][reuse]"
     for (std::size_t k = 0; k < flags.size(); ++k) CHECK(flags[k] == (k % 3 == 0));
   }
   SECTION("when the previous linear solve needed more than N iterations") {
-    settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 4;
+    settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = 4;
     const reuse_run run = run_with_policy(settings);
     REQUIRE(run.report.converged());
     const auto flags = rebuilt_flags(run.report);
@@ -220,16 +220,16 @@ TEST_CASE("the reuse policy rebuilds on each of its triggers", "[newton][reuse]"
     CHECK(triggered >= 1);
   }
   SECTION("after a linear solve that did not converge") {
-    settings.linear.max_iterations = 3;  // GMRES cannot reach the forcing term
-    settings.max_newton_steps = 4;
-    settings.preconditioner_reuse.rebuild_after_linear_failure = GENERATE(true, false);
+    settings.linear.maximum_iterations = 3;  // GMRES cannot reach the forcing term
+    settings.newton_step_budget = 4;
+    settings.preconditioner_rebuild.rebuild_after_linear_failure = GENERATE(true, false);
     const reuse_run run = run_with_policy(settings);
     const auto flags = rebuilt_flags(run.report);
     REQUIRE(flags.size() >= 2);
     for (std::size_t k = 0; k < flags.size(); ++k) {
       const bool failed_before =
           k > 0 && run.report.history[k - 1].linear_status != nkit::linear_solve_status::converged;
-      CHECK(flags[k] == (k == 0 || (settings.preconditioner_reuse.rebuild_after_linear_failure && failed_before)));
+      CHECK(flags[k] == (k == 0 || (settings.preconditioner_rebuild.rebuild_after_linear_failure && failed_before)));
     }
   }
   SECTION("on request") {
@@ -242,7 +242,7 @@ TEST_CASE("the reuse policy rebuilds on each of its triggers", "[newton][reuse]"
         settings, {}, counting_jacobi{{}, &setups, &applications, &steps});
     auto run = solver.begin(problem, t);
     int taken = 0;
-    while (run.advance() == nkit::outcome::in_progress) {
+    while (run.advance() == nkit::run_state::running) {
       if (++taken == 2) solver.request_preconditioner_rebuild();
     }
     REQUIRE(run.report().converged());
@@ -253,7 +253,7 @@ TEST_CASE("the reuse policy rebuilds on each of its triggers", "[newton][reuse]"
 
 TEST_CASE("the report counts preconditioner setups, applications and their time", "[newton][reuse][report]") {
   nkit::newton_settings settings = tight_settings();
-  settings.preconditioner_reuse.rebuild_every_newton_steps = 2;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = 2;
   const reuse_run run = run_with_policy(settings);
   REQUIRE(run.report.converged());
   const nkit::solve_report& report = run.report;
@@ -289,7 +289,7 @@ TEST_CASE("a failed setup stops the solve, a fallback keeps it going", "[newton]
     Eigen::VectorXd t = Eigen::VectorXd::Zero(cells * cells);
     nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
     const nkit::solve_report report = solver.solve(model, t);
-    CHECK(report.result == nkit::outcome::preconditioner_failed);
+    CHECK(report.reason == nkit::stop_reason::preconditioner_setup_failed);
     CHECK(report.newton_steps == 0);
     CHECK(t.isZero(0.0));
   }

@@ -9,7 +9,7 @@
 
 #include <catch2/catch.hpp>
 #include <cstring>
-#include <nkit/eigen_vector_space.hpp>
+#include <nkit/core/eigen_vector_space.hpp>
 
 #include "support/matchers.hpp"
 

@@ -6,8 +6,8 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <limits>
-#include <nkit/gmres.hpp>
-#include <nkit/preconditioner.hpp>
+#include <nkit/core/preconditioner.hpp>
+#include <nkit/krylov/gmres.hpp>
 #include <nkit/preconditioners/block_jacobi.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <nkit/preconditioners/incomplete_lut.hpp>
@@ -34,7 +34,7 @@ template <class Preconditioner>
 int gmres_iterations(const nkit::sparse_matrix& matrix, Preconditioner& preconditioner, int restart = 30) {
   nkit::gmres_settings settings;
   settings.restart_length = restart;
-  settings.max_iterations = 20000;
+  settings.maximum_iterations = 20000;
   nkit::gmres_solver<> gmres(settings);
   const Eigen::VectorXd b = Eigen::VectorXd::Ones(matrix.rows());
   Eigen::VectorXd x = Eigen::VectorXd::Zero(matrix.rows());
@@ -171,7 +171,7 @@ TEST_CASE("an iterative preconditioner needs flexible GMRES", "[preconditioner][
   REQUIRE(inner.build(a) == nkit::setup_status::ready);
   STATIC_REQUIRE(decltype(inner)::changes_between_applications);
   nkit::gmres_settings settings;
-  settings.max_iterations = 200;
+  settings.maximum_iterations = 200;
 
   nkit::gmres_solver<> flexible(settings);
   Eigen::VectorXd x = Eigen::VectorXd::Zero(b.size());

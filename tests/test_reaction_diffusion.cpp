@@ -4,7 +4,7 @@
 #if __has_include(<nkit/sparse_jacobian.hpp>)
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <nkit/automatic_differentiation.hpp>
+#include <nkit/jacobian/automatic_differentiation.hpp>
 
 #include "problems/reaction_diffusion/gray_scott_runs.hpp"
 

@@ -3,7 +3,7 @@
 #if NKIT_HAS_JSON
 #include <catch2/catch.hpp>
 #include <nkit/nkit.hpp>
-#include <nkit/report_json.hpp>
+#include <nkit/report/report_json.hpp>
 #include <sstream>
 
 #include "problems/model_problem/model_problem.hpp"
@@ -25,8 +25,10 @@ TEST_CASE("the report's JSON parses and carries every field", "[report][json]") 
   const nlohmann::json json = nlohmann::json::parse(os.str());  // throws on malformed text
 
   CHECK(json.at("format") == "nkit_solve_report");
-  CHECK(json.at("format_version") == 1);
-  CHECK(json.at("outcome") == std::string(nkit::name(report.result)));
+  CHECK(json.at("format_version") == 2);
+  CHECK(json.at("reason") == std::string(nkit::name(*report.reason)));
+  CHECK(json.at("status") == "converged");
+  CHECK(json.at("globalization_at_stop") == "line_search");
   CHECK(json.at("message") == std::string(report.message()));
   CHECK(json.at("converged") == true);
   CHECK(json.at("newton_steps") == report.newton_steps);
@@ -37,20 +39,24 @@ TEST_CASE("the report's JSON parses and carries every field", "[report][json]") 
   CHECK(json.at("preconditioner_applications") == report.preconditioner_applications);
   CHECK(json.at("preconditioner_fallbacks") == report.preconditioner_fallbacks);
   CHECK(json.at("jacobian_assemblies") == report.jacobian_assemblies);
-  CHECK(json.at("backtracks") == report.backtracks);
+  CHECK(json.at("rejected_trials") == report.rejected_trials);
   CHECK(json.at("non_finite_trials") == report.non_finite_trials);
   CHECK(json.at("inadmissible_trials") == report.inadmissible_trials);
-  CHECK(json.at("bound_limited_steps") == report.bound_limited_steps);
+  CHECK(json.at("steps_shortened_by_bounds") == report.steps_shortened_by_bounds);
   // Doubles are written with round-trip precision: equal after parsing.
   CHECK(json.at("initial_residual_norm").get<double>() == report.initial_residual_norm);
+  CHECK(json.at("target_residual_norm").get<double>() == report.target_residual_norm);
   CHECK(json.at("final_residual_norm").get<double>() == report.final_residual_norm);
   CHECK(json.at("wall_seconds").get<double>() == report.wall_seconds);
   CHECK(json.at("median_residual_seconds").get<double>() == report.median_residual_seconds);
   CHECK(json.at("work_units").get<double>() == report.work_units());
   CHECK(json.at("workspace_bytes").get<std::size_t>() == report.workspace_bytes);
-  CHECK(json.size() == 26);  // the fields above plus phase_seconds, phase_calls, history
+  CHECK(json.size() == 30);  // the fields above plus warnings, time, calls, history
+  const nlohmann::json& warnings = json.at("warnings");
+  CHECK(warnings.at("residual_magnitude_spread").get<double>() == report.warnings.residual_magnitude_spread);
+  CHECK(warnings.at("state_magnitudes_spread_widely") == report.warnings.state_magnitudes_spread_widely);
 
-  const nlohmann::json& seconds = json.at("phase_seconds");
+  const nlohmann::json& seconds = json.at("time");
   const nkit::phase_seconds& time = report.time;
   CHECK(seconds.size() == 12);
   CHECK(seconds.at("residual").get<double>() == time.residual);
@@ -66,7 +72,7 @@ TEST_CASE("the report's JSON parses and carries every field", "[report][json]") 
   CHECK(seconds.at("other").get<double>() == time.other);
   CHECK(seconds.at("total").get<double>() == time.total());
 
-  const nlohmann::json& calls = json.at("phase_calls");
+  const nlohmann::json& calls = json.at("calls");
   CHECK(calls.size() == 10);
   CHECK(calls.at("residual") == report.calls.residual);
   CHECK(calls.at("jacobian_vector") == report.calls.jacobian_vector);
@@ -85,7 +91,7 @@ TEST_CASE("the report's JSON parses and carries every field", "[report][json]") 
     const nkit::newton_step_record& r = report.history[k];
     const nlohmann::json& h = history[k];
     CAPTURE(k);
-    CHECK(h.size() == 16);
+    CHECK(h.size() == 18);
     CHECK(h.at("step") == r.step);
     CHECK(h.at("residual_norm").get<double>() == r.residual_norm);
     CHECK(h.at("relative_residual_norm").get<double>() == r.relative_residual_norm);
@@ -93,21 +99,23 @@ TEST_CASE("the report's JSON parses and carries every field", "[report][json]") 
     CHECK(h.at("linear_iterations") == r.linear_iterations);
     CHECK(h.at("relative_linear_residual").get<double>() == r.relative_linear_residual);
     CHECK(h.at("linear_status") == std::string(nkit::name(r.linear_status)));
-    CHECK(h.at("step_length").get<double>() == r.step_length);
+    CHECK(h.at("step_fraction").get<double>() == r.step_fraction);
     CHECK(h.at("step_norm").get<double>() == r.step_norm);
-    CHECK(h.at("backtracks") == r.backtracks);
-    CHECK(h.at("preconditioner_rebuilt") == r.preconditioner_rebuilt);
-    CHECK(h.at("bound_active") == r.bound_active);
+    CHECK(h.at("rejected_trials") == r.rejected_trials);
+    CHECK(h.at("preconditioner_set_up") == r.preconditioner_set_up);
+    CHECK(h.at("step_shortened_by_bounds") == r.step_shortened_by_bounds);
     CHECK(h.at("pseudo_time_step").get<double>() == r.pseudo_time_step);
     CHECK(h.at("trust_radius").get<double>() == r.trust_radius);
     CHECK(h.at("elapsed_seconds").get<double>() == r.elapsed_seconds);
     CHECK(h.at("residual_evaluations") == r.residual_evaluations);
+    CHECK(h.at("accepted") == r.accepted);
+    CHECK(h.at("componentwise_step_ratio").get<double>() == r.componentwise_step_ratio);
   }
 }
 
 TEST_CASE("non-finite numbers in a report become JSON null, so the text stays valid", "[report][json]") {
   nkit::solve_report report;
-  report.result = nkit::outcome::non_finite_initial_residual;
+  report.reason = nkit::stop_reason::non_finite_initial_residual;
   report.initial_residual_norm = std::numeric_limits<double>::quiet_NaN();
   report.final_residual_norm = std::numeric_limits<double>::infinity();
   std::ostringstream os;
@@ -116,5 +124,10 @@ TEST_CASE("non-finite numbers in a report become JSON null, so the text stays va
   CHECK(json.at("initial_residual_norm").is_null());
   CHECK(json.at("final_residual_norm").is_null());
   CHECK(json.at("converged") == false);
+  CHECK(json.at("status") == "cannot_proceed");
+  nkit::solve_report running;  // a report with no reason yet: null, not a made-up value
+  std::ostringstream running_text;
+  nkit::write_report_json(running_text, running, -1);
+  CHECK(nlohmann::json::parse(running_text.str()).at("reason").is_null());
 }
 #endif

@@ -6,7 +6,7 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nkit/nkit.hpp>
-#include <nkit/scaling_study.hpp>
+#include <nkit/report/scaling_study.hpp>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -112,7 +112,7 @@ nkit::scaling_sample synthetic_solve(long long cells_per_side, double slowdown =
   nkit::scaling_sample sample;
   sample.unknowns = cells_per_side * cells_per_side;
   nkit::solve_report& report = sample.report;
-  report.result = nkit::outcome::converged_relative_residual;
+  report.reason = nkit::stop_reason::relative_tolerance_met;
   report.newton_steps = 6;
   report.linear_iterations = std::llround(6 * 4.0 * std::pow(n, 0.25));
   report.wall_seconds = slowdown * 1e-7 * std::pow(n, 1.2);
@@ -150,7 +150,7 @@ TEST_CASE("a study stops before the sizes that follow a solve slower than the li
   nkit::scaling_study_settings settings;
   settings.size_parameters = {100, 200, 400, 800};
   // 1e-7 N^1.2 s: 0.033 s at N = 4e4, 0.18 s at 1.6e5 — the limit falls between.
-  settings.stop_after_seconds = 0.1;
+  settings.skip_larger_sizes_after_seconds = 0.1;
   const auto result = nkit::run_scaling_study(settings, [](long long size) { return synthetic_solve(size); });
   REQUIRE(result.rows.size() == 3);  // 100, 200 and the slow 400 itself
   CHECK(result.rows.back().size_parameter == 400);
@@ -162,7 +162,7 @@ TEST_CASE("unconverged sizes are listed but left out of the fits", "[scaling]") 
   settings.size_parameters = {64, 128, 256, 512};
   const auto result = nkit::run_scaling_study(settings, [](long long size) {
     nkit::scaling_sample sample = synthetic_solve(size);
-    if (size == 512) sample.report.result = nkit::outcome::wall_time_limit;
+    if (size == 512) sample.report.reason = nkit::stop_reason::wall_time_budget_spent;
     return sample;
   });
   CHECK(result.rows.size() == 4);
@@ -193,7 +193,7 @@ TEST_CASE("a study of the heat-conduction model problem tabulates real solves", 
     Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
     nkit::newton_settings newton;
     newton.relative_tolerance = 1e-8;
-    newton.linear.max_iterations = 2000;
+    newton.linear.maximum_iterations = 2000;
     nkit::newton_krylov_solver<> solver(newton);
     return nkit::scaling_sample{problem.unknowns(), solver.solve(problem, t)};
   });

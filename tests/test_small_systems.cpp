@@ -3,8 +3,8 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <limits>
-#include <nkit/automatic_differentiation.hpp>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/jacobian/automatic_differentiation.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 
 #include "support/matchers.hpp"
 
@@ -55,13 +55,13 @@ TEST_CASE("A scalar equation, cos x = x, converges to its root", "[newton][small
   Eigen::VectorXd x = Eigen::VectorXd::Constant(1, 1.0);
   SECTION("finite-difference J·v (the default)") {
     const nkit::solve_report report = nkit::solve(cosine_fixed_point{}, x, settings);
-    CHECK(report.result == nkit::outcome::converged_absolute_residual);
+    CHECK(report.reason == nkit::stop_reason::absolute_tolerance_met);
     CHECK(report.newton_steps <= 6);
   }
   SECTION("exact J·v") {
     const nkit::solve_report report =
         nkit::solve(nkit::with_automatic_differentiation(cosine_fixed_point{}), x, settings);
-    CHECK(report.result == nkit::outcome::converged_absolute_residual);
+    CHECK(report.reason == nkit::stop_reason::absolute_tolerance_met);
     CHECK(report.newton_steps <= 6);
   }
   // |x − x*| <= |f(x)| / min|f'| near x* (mean value theorem), f' = −sin x − 1
@@ -87,16 +87,16 @@ TEST_CASE("Two curves crossing: the first Newton step lands on the tangent-line 
   CHECK_THAT(expected, nkit_test::is_close_to((Eigen::VectorXd(2) << 5.0 / 3.0, 4.0 / 3.0).finished(), 1e-15));
 
   nkit::newton_settings settings;
-  settings.forcing.kind = nkit::forcing_term_kind::constant;
+  settings.forcing.formula = nkit::forcing_term_formula::constant;
   settings.forcing.constant_value = 1e-12;
   settings.globalization = nkit::globalization_strategy::full_step;
   auto problem = nkit::with_automatic_differentiation(circle_and_parabola{});
   Eigen::VectorXd u = start;
   nkit::newton_krylov_solver<> solver(settings);
   auto run = solver.begin(problem, u);
-  REQUIRE(run.advance() == nkit::outcome::in_progress);
+  REQUIRE(run.advance() == nkit::run_state::running);
   REQUIRE(run.report().history.size() == 1);
-  CHECK(run.report().history.front().step_length == 1.0);
+  CHECK(run.report().history.front().step_fraction == 1.0);
   // Tolerance: GMRES stops with ‖f + J d‖ <= η‖f‖, so the step is off by at
   // most ‖J⁻¹‖ η ‖f‖; rounding in solving the 2×2 system adds ~ u κ(J) ‖d‖
   // (common practice), allowed 100 times. Here ‖J⁻¹‖_F = ‖J‖_F/|det J|.
@@ -122,7 +122,7 @@ TEST_CASE("Two curves crossing: the default solver converges to the crossing", "
   settings.relative_tolerance = 0.0;
   Eigen::VectorXd u = (Eigen::VectorXd(2) << 1.0, 1.0).finished();
   const nkit::solve_report report = nkit::solve(circle_and_parabola{}, u, settings);
-  CHECK(report.result == nkit::outcome::converged_absolute_residual);
+  CHECK(report.reason == nkit::stop_reason::absolute_tolerance_met);
   Eigen::VectorXd f(2);
   circle_and_parabola{}(u, f);
   const double determinant = 2.0 * x_root * -1.0 - 2.0 * y_root * 2.0 * x_root;

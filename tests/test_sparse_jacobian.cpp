@@ -5,12 +5,12 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <limits>
-#include <nkit/automatic_differentiation.hpp>
-#include <nkit/column_coloring.hpp>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/jacobian/automatic_differentiation.hpp>
+#include <nkit/jacobian/column_coloring.hpp>
+#include <nkit/jacobian/sparse_jacobian.hpp>
+#include <nkit/jacobian/sparsity_pattern.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
-#include <nkit/sparse_jacobian.hpp>
-#include <nkit/sparsity_pattern.hpp>
 #include <vector>
 
 #include "problems/model_problem/model_problem.hpp"
@@ -45,10 +45,10 @@ TEST_CASE("grid stencil patterns have the stencil's rows", "[sparse_jacobian][pa
   const nkit::sparsity_pattern nine = nkit::nine_point_grid_pattern(6, 5, b);
   const nkit::sparsity_pattern seven = nkit::seven_point_grid_pattern(4, 5, 6, b);
   for (const auto* pattern : {&line, &five, &nine, &seven}) CHECK_NOTHROW(pattern->validate());
-  CHECK(line.max_row_nonzeros() == 3 * b);
-  CHECK(five.max_row_nonzeros() == 5 * b);
-  CHECK(nine.max_row_nonzeros() == 9 * b);
-  CHECK(seven.max_row_nonzeros() == 7 * b);
+  CHECK(line.maximum_row_nonzeros() == 3 * b);
+  CHECK(five.maximum_row_nonzeros() == 5 * b);
+  CHECK(nine.maximum_row_nonzeros() == 9 * b);
+  CHECK(seven.maximum_row_nonzeros() == 7 * b);
   CHECK(five.rows == 30 * b);
   // Cell (1,1) of the 6 × 5 grid couples to cell (2,2) in the nine-point stencil only.
   const int cell = 1 + 6 * 1, corner = 2 + 6 * 2;
@@ -247,7 +247,7 @@ TEST_CASE("the driver accepts row-major, column-major and pattern-based Jacobian
                                               if (seen.nonZeros() == 0) seen = context.assembled_jacobian();
                                             });
   nkit::newton_settings settings;
-  settings.max_newton_steps = 1;
+  settings.newton_step_budget = 1;
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, decltype(recorder)> solver(settings, {}, recorder);
 
   SECTION("column-major assembly is converted") {
@@ -281,7 +281,7 @@ TEST_CASE("colored assembly respects the residual-evaluation budget", "[sparse_j
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
   Eigen::VectorXd state = Eigen::VectorXd::Zero(n * n);
   const nkit::solve_report report = solver.solve(model, state);
-  CHECK(report.result == nkit::outcome::residual_evaluation_budget);
+  CHECK(report.reason == nkit::stop_reason::residual_evaluation_budget_spent);
   CHECK(report.residual_evaluations == 3);
   CHECK(state.allFinite());
 }

@@ -157,9 +157,9 @@ int run(int argc, char** argv) {
   nkit::newton_settings settings;
   settings.relative_tolerance = options.number("relative_tolerance");
   settings.linear.restart_length = options.integer("restart");
-  settings.linear.max_iterations = 2000;
-  settings.preconditioner_reuse.rebuild_every_newton_steps = options.integer("rebuild_every");
-  settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = options.integer("rebuild_above");
+  settings.linear.maximum_iterations = 2000;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = options.integer("rebuild_every");
+  settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = options.integer("rebuild_above");
   const std::string globalization = options.text("globalization");
   if (globalization == "full_step") {
     settings.globalization = nkit::globalization_strategy::full_step;

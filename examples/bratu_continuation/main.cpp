@@ -15,7 +15,7 @@
 #include <cstdlib>
 #include <fstream>
 #include <iostream>
-#include <nkit/continuation.hpp>
+#include <nkit/continuation/continuation.hpp>
 #include <nkit/preconditioners/sparse_direct.hpp>
 #include <string>
 
@@ -27,7 +27,7 @@ const char* kind_label(nkit::point_kind kind) {
   switch (kind) {
     case nkit::point_kind::start:
       return "start";
-    case nkit::point_kind::branch:
+    case nkit::point_kind::step:
       return "";
     case nkit::point_kind::fold:
       return "FOLD";
@@ -54,7 +54,7 @@ int main(int argc, char** argv) {
   settings.initial_step = 0.1;
   settings.maximum_step = 0.5;  // arclength in (rms u, λ); keeps the plotted branch smooth
   settings.parameter_lower_bound = 0.0;
-  settings.max_points = 400;
+  settings.point_budget = 400;
   settings.corrector.absolute_tolerance = 1e-7;  // R is O(λ) per node here; u = 0 at λ = 0 is exact
   nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(settings);
 
@@ -75,10 +75,10 @@ int main(int argc, char** argv) {
     return height > max_height ? nkit::monitor_decision::stop_now : nkit::monitor_decision::keep_going;
   };
   csv.precision(12);
-  const nkit::continuation_report report = solver.trace_branch(problem, u, 0.0, show);
+  const nkit::continuation_report report = solver.follow_branch(problem, u, 0.0, show);
   csv.close();
 
-  std::cout << "\noutcome: " << nkit::name(report.result) << ". " << report.message() << '\n';
+  std::cout << "\noutcome: " << nkit::name(report.reason) << ". " << report.message() << '\n';
   std::printf(
       "points %zu, rejected steps %d, Newton steps %d, GMRES iterations %lld, residual evaluations %lld, "
       "%.2f s\n",

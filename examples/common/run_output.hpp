@@ -9,8 +9,8 @@
 #include <filesystem>
 #include <fstream>
 #include <iostream>
-#include <nkit/report.hpp>
-#include <nkit/report_output.hpp>
+#include <nkit/report/report.hpp>
+#include <nkit/report/report_output.hpp>
 #include <stdexcept>
 #include <string>
 #include <vector>

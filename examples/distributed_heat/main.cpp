@@ -2,7 +2,7 @@
 // residual exchanges one halo row with each neighbour, nkit reduces over
 // MPI_COMM_WORLD and preconditions with additive Schwarz (local ILU or local
 // direct solve) or hypre's BoomerAMG.
-//   mpirun -np 2 distributed_heat_demo [cells_per_side=128] [schwarz_ilu|schwarz_direct|amg|none]
+//   mpirun -np 2 distributed_heat_demo [cells_per_side=128] [schwarz_ilut|schwarz_direct|amg|none]
 //                                      [rebuild_every_newton_steps=1]
 #include <mpi.h>
 
@@ -10,7 +10,7 @@
 #include <cstdlib>
 #include <exception>
 #include <iostream>
-#include <nkit/report_output.hpp>
+#include <nkit/report/report_output.hpp>
 
 #include "problems/model_problem/solve_strip_problem.hpp"
 
@@ -25,7 +25,7 @@ int main(int argc, char** argv) {
     const int n = argc > 1 ? std::atoi(argv[1]) : 128;
     const auto choice = nkit_problems::strip_preconditioner_from_name(argc > 2 ? argv[2] : "amg");
     nkit::newton_settings settings = nkit_problems::strip_default_settings();
-    if (argc > 3) settings.preconditioner_reuse.rebuild_every_newton_steps = std::atoi(argv[3]);
+    if (argc > 3) settings.preconditioner_rebuild.rebuild_every_newton_steps = std::atoi(argv[3]);
     const auto result = nkit_problems::solve_strip_problem(MPI_COMM_WORLD, n, choice, settings);
     double local_maximum = result.local_temperature.size() > 0 ? result.local_temperature.maxCoeff() : 0.0;
     double maximum = 0.0;

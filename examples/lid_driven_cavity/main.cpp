@@ -98,7 +98,7 @@ int run(int argc, char** argv) {
     const auto& r = solution.reports[k];
     std::printf("%12zu | %8.1f | %12d | %9lld | %14lld | %s\n", k + 1, solution.reynolds[k], r.newton_steps,
                 static_cast<long long>(r.linear_iterations), static_cast<long long>(r.residual_evaluations),
-                std::string(nkit::name(r.result)).c_str());
+                std::string(nkit::name(r.reason)).c_str());
   }
   std::printf(
       "total: %lld Newton steps, %lld GMRES iterations, %lld residual evaluations, %.2f s, peak memory %.0f MiB\n",

@@ -18,7 +18,7 @@ int main(int argc, char** argv) {
 
   nkit::newton_settings settings;
   settings.linear.restart_length = 50;
-  settings.linear.max_iterations = 5000;
+  settings.linear.maximum_iterations = 5000;
   nkit::newton_krylov_solver<> solver(settings);
   const nkit::solve_report report = solver.solve(problem, temperature);
 

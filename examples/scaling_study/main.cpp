@@ -14,7 +14,7 @@
 #include <fstream>
 #include <iostream>
 #include <nkit/nkit.hpp>
-#include <nkit/scaling_study.hpp>
+#include <nkit/report/scaling_study.hpp>
 #include <string>
 
 #include "problems/model_problem/model_problem.hpp"
@@ -58,19 +58,19 @@ int main(int argc, char** argv) {
   nkit::scaling_study_settings study;
   for (int k = 1; k < argc; ++k) study.size_parameters.push_back(std::atoll(argv[k]));
   if (study.size_parameters.empty()) study.size_parameters = {32, 64, 128, 256};
-  study.stop_after_seconds = 120.0;  // do not start a larger size after a solve this slow
+  study.skip_larger_sizes_after_seconds = 120.0;  // do not start a larger size after a solve this slow
 
   nkit::newton_settings settings;
   settings.relative_tolerance = 1e-8;  // §15's convergence criterion
   settings.linear.restart_length = 50;
-  settings.linear.max_iterations = 20000;
+  settings.linear.maximum_iterations = 20000;
 
   const nkit::scaling_study_result result = nkit::run_scaling_study(study, [&](long long cells_per_side) {
     nkit_problems::heat_conduction_model_problem problem(static_cast<int>(cells_per_side));
     Eigen::VectorXd temperature = Eigen::VectorXd::Zero(problem.unknowns());
     nkit::newton_krylov_solver<> solver(settings);
     nkit::solve_report report = solver.solve(problem, temperature);
-    std::cout << "  " << cells_per_side << " x " << cells_per_side << ": " << nkit::name(report.result) << " in "
+    std::cout << "  " << cells_per_side << " x " << cells_per_side << ": " << nkit::name(report.reason) << " in "
               << report.wall_seconds << " s\n";
     return nkit::scaling_sample{problem.unknowns(), std::move(report)};
   });

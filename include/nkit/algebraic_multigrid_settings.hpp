@@ -3,7 +3,8 @@
 
 /// \file algebraic_multigrid_settings.hpp
 /// Forwarding header, kept for one release (nkit 0.2): this header moved to
-/// <nkit/preconditioners/algebraic_multigrid_settings.hpp>. Include that path instead; this file will be removed in nkit 0.3.
+/// <nkit/preconditioners/algebraic_multigrid_settings.hpp>. Include that path instead; this file will be removed in
+/// nkit 0.3.
 
 #include "preconditioners/algebraic_multigrid_settings.hpp"
 

@@ -3,7 +3,8 @@
 
 /// \file hypre_algebraic_multigrid.hpp
 /// Forwarding header, kept for one release (nkit 0.2): this header moved to
-/// <nkit/preconditioners/hypre_algebraic_multigrid.hpp>. Include that path instead; this file will be removed in nkit 0.3.
+/// <nkit/preconditioners/hypre_algebraic_multigrid.hpp>. Include that path instead; this file will be removed in nkit
+/// 0.3.
 
 #include "preconditioners/hypre_algebraic_multigrid.hpp"
 

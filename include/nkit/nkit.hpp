@@ -17,7 +17,7 @@
 #include "core/preconditioner.hpp"
 #include "core/residual.hpp"
 #include "core/vector_space.hpp"
-// report: outcome, report, monitors, output, trace, scaling study
+// report: stop reasons, report, monitors, output, trace, scaling study
 #include "report/monitor.hpp"
 #include "report/outcome.hpp"
 #include "report/phase_ledger.hpp"
@@ -61,7 +61,7 @@
 #include "continuation/continuation.hpp"
 #include "continuation/continuation_settings.hpp"
 #include "continuation/continuation_tangent.hpp"
-#include "continuation/parametrised_residual.hpp"
+#include "continuation/parametrized_residual.hpp"
 
 #include "version.hpp"
 

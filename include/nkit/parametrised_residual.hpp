@@ -3,8 +3,10 @@
 
 /// \file parametrised_residual.hpp
 /// Forwarding header, kept for one release (nkit 0.2): this header moved to
-/// <nkit/continuation/parametrised_residual.hpp>. Include that path instead; this file will be removed in nkit 0.3.
+/// <nkit/continuation/parametrized_residual.hpp> (and its names are spelled
+/// "parametrized" now). Include that path instead; this file will be removed
+/// in nkit 0.3.
 
-#include "continuation/parametrised_residual.hpp"
+#include "continuation/parametrized_residual.hpp"
 
 #endif  // NKIT_PARAMETRISED_RESIDUAL_HPP

@@ -31,14 +31,20 @@
 namespace nkit_problems {
 
 /// Why the loop stopped.
-enum class picard_stop_reason { converged, iteration_limit, time_limit, factorization_failed, non_finite_residual };
+enum class picard_stop_reason {
+  converged,
+  maximum_iterations_reached,
+  time_limit,
+  factorization_failed,
+  non_finite_residual
+};
 
 /// Short text for a stop reason ("time cap", "factorization failed", ...).
 inline const char* describe(picard_stop_reason reason) {
   switch (reason) {
     case picard_stop_reason::converged:
       return "converged";
-    case picard_stop_reason::iteration_limit:
+    case picard_stop_reason::maximum_iterations_reached:
       return "iteration limit";
     case picard_stop_reason::time_limit:
       return "time cap";
@@ -53,7 +59,7 @@ inline const char* describe(picard_stop_reason reason) {
 struct picard_settings {
   double relative_tolerance = 1e-8;  ///< converged at ‖R‖₂ <= max(absolute, relative · ‖R(x0)‖₂)
   double absolute_tolerance = 0.0;
-  long long max_iterations = std::numeric_limits<long long>::max();
+  long long maximum_iterations = std::numeric_limits<long long>::max();
   double time_limit_seconds = std::numeric_limits<double>::infinity();  ///< checked before each iteration
 
   void validate() const {
@@ -63,9 +69,9 @@ struct picard_settings {
     if (!(absolute_tolerance >= 0.0))
       throw std::invalid_argument("picard_settings.absolute_tolerance must be >= 0 (got " +
                                   std::to_string(absolute_tolerance) + ")");
-    if (max_iterations < 0)
-      throw std::invalid_argument("picard_settings.max_iterations must be >= 0 (got " + std::to_string(max_iterations) +
-                                  ")");
+    if (maximum_iterations < 0)
+      throw std::invalid_argument("picard_settings.maximum_iterations must be >= 0 (got " +
+                                  std::to_string(maximum_iterations) + ")");
     if (!(time_limit_seconds >= 0.0))
       throw std::invalid_argument("picard_settings.time_limit_seconds must be >= 0 (got " +
                                   std::to_string(time_limit_seconds) + ")");
@@ -83,7 +89,7 @@ struct picard_step_record {
 
 struct picard_report {
   bool converged = false;
-  picard_stop_reason stop_reason = picard_stop_reason::iteration_limit;
+  picard_stop_reason stop_reason = picard_stop_reason::maximum_iterations_reached;
   long long iterations = 0;
   long long residual_evaluations = 0;
   long long factorizations = 0;
@@ -152,10 +158,11 @@ class picard_iteration {
     report.initial_residual_norm = report.final_residual_norm = evaluate();
     const double target =
         std::max(settings.absolute_tolerance, settings.relative_tolerance * report.initial_residual_norm);
-    picard_stop_reason stop = std::isfinite(report.initial_residual_norm) ? picard_stop_reason::iteration_limit
-                                                                          : picard_stop_reason::non_finite_residual;
+    picard_stop_reason stop = std::isfinite(report.initial_residual_norm)
+                                  ? picard_stop_reason::maximum_iterations_reached
+                                  : picard_stop_reason::non_finite_residual;
     while (stop != picard_stop_reason::non_finite_residual && report.final_residual_norm > target &&
-           report.iterations < settings.max_iterations) {
+           report.iterations < settings.maximum_iterations) {
       if (seconds_since(start) > settings.time_limit_seconds) {
         stop = picard_stop_reason::time_limit;
         break;

@@ -52,13 +52,13 @@ inline nkit::newton_settings cavity_newton_settings(double relative_tolerance = 
   // floor keeps late steps (which start close) from chasing round-off.
   settings.relative_tolerance = relative_tolerance;
   settings.absolute_tolerance = 1e-11;
-  settings.max_newton_steps = 40;
+  settings.newton_step_budget = 40;
   settings.linear.restart_length = 60;
-  settings.linear.max_iterations = 600;
+  settings.linear.maximum_iterations = 600;
   // Factors of an older Jacobian still precondition well: rebuild every other
   // step, or when GMRES needed many iterations.
-  settings.preconditioner_reuse.rebuild_every_newton_steps = 2;
-  settings.preconditioner_reuse.rebuild_when_linear_iterations_exceed = 15;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = 2;
+  settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = 15;
   return settings;
 }
 
@@ -112,10 +112,10 @@ struct cavity_picard_result {
 /// Re: x ← x − M(x)⁻¹ R(x), M the frozen-velocity matrix, factored by SparseLU
 /// every iteration (the shared loop of baselines/picard_iteration.hpp; one
 /// symbolic analysis for all Re). Converged like Newton: ‖R‖ <= relative_tolerance ‖R(start)‖
-/// at the target Re (1e-3 at intermediate Re), or ‖R‖ <= 1e-11. `max_iterations`
+/// at the target Re (1e-3 at intermediate Re), or ‖R‖ <= 1e-11. `maximum_iterations`
 /// counts the iterations of all continuation steps together.
 inline cavity_picard_result solve_cavity_by_picard(int intervals, double target_reynolds,
-                                                   double relative_tolerance = 1e-10, int max_iterations = 2000) {
+                                                   double relative_tolerance = 1e-10, int maximum_iterations = 2000) {
   using matrix_type = Eigen::SparseMatrix<double, Eigen::ColMajor, int>;
   const auto start = std::chrono::steady_clock::now();
   lid_driven_cavity cavity(intervals, target_reynolds);
@@ -133,7 +133,7 @@ inline cavity_picard_result solve_cavity_by_picard(int intervals, double target_
     picard_settings stage;
     stage.relative_tolerance = last ? relative_tolerance : 1e-3;
     stage.absolute_tolerance = 1e-11;
-    stage.max_iterations = max_iterations - result.iterations;
+    stage.maximum_iterations = maximum_iterations - result.iterations;
     const picard_report report = picard.subtract_correction(cavity, assemble, result.state, stage);
     result.iterations += report.iterations;
     result.residual_evaluations += report.residual_evaluations;

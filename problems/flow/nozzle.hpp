@@ -35,7 +35,7 @@
 #include <array>
 #include <cmath>
 #include <limits>
-#include <nkit/sparsity_pattern.hpp>
+#include <nkit/jacobian/sparsity_pattern.hpp>
 #include <stdexcept>
 #include <vector>
 

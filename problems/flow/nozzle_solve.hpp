@@ -24,10 +24,10 @@ inline nkit::newton_settings nozzle_newton_settings(double initial_cfl = 50.0, d
   settings.globalization = nkit::globalization_strategy::pseudo_transient;
   settings.pseudo_transient.initial_step = initial_cfl;
   settings.relative_tolerance = relative_tolerance;
-  settings.max_newton_steps = 400;
+  settings.newton_step_budget = 400;
   // The residual rises while the start-up transient crosses the nozzle: no
   // stagnation stop during the pseudo-time march.
-  settings.stagnation_window = settings.max_newton_steps;
+  settings.stagnation_window = settings.newton_step_budget;
   return settings;
 }
 

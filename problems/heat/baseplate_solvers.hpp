@@ -12,8 +12,8 @@
 #include <Eigen/SparseCholesky>
 #include <cstddef>
 #include <memory>
-#include <nkit/newton_krylov_solver.hpp>
-#include <nkit/preconditioner.hpp>
+#include <nkit/core/preconditioner.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <nkit/preconditioners/incomplete_lut.hpp>
 #include <nkit/preconditioners/sparse_direct.hpp>
@@ -84,14 +84,14 @@ inline nkit::solve_report solve_by_newton_gmres(baseplate_conduction& problem, E
 
 /// The fixed-point loop the demo compares with (baselines/picard_iteration.hpp):
 /// T ← A(T)⁻¹ b(T) by sparse LDLᵀ until ‖R(T)‖₂ <= relative_tolerance · ‖R(T0)‖₂
-/// or max_iterations. `t` is the initial guess on entry and the last iterate on exit.
+/// or maximum_iterations. `t` is the initial guess on entry and the last iterate on exit.
 inline picard_report solve_by_picard_iteration(baseplate_conduction& problem, Eigen::VectorXd& t,
-                                               double relative_tolerance, int max_iterations) {
+                                               double relative_tolerance, int maximum_iterations) {
   using matrix_type = Eigen::SparseMatrix<double, Eigen::ColMajor, int>;
   picard_iteration<Eigen::SimplicialLDLT<matrix_type>> picard;
   picard_settings settings;
   settings.relative_tolerance = relative_tolerance;
-  settings.max_iterations = max_iterations;
+  settings.maximum_iterations = maximum_iterations;
   Eigen::VectorXd right_hand_side(t.size());
   const auto assemble = [&](const Eigen::VectorXd& state, matrix_type& matrix) -> const Eigen::VectorXd& {
     problem.assemble_frozen_conduction(state, matrix, right_hand_side);

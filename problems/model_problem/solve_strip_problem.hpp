@@ -8,10 +8,10 @@
 
 #include <Eigen/Core>
 #include <cstdint>
-#include <nkit/hypre_algebraic_multigrid.hpp>
-#include <nkit/mpi_vector_space.hpp>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/distributed/mpi_vector_space.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/additive_schwarz.hpp>
+#include <nkit/preconditioners/hypre_algebraic_multigrid.hpp>
 #include <stdexcept>
 #include <string>
 #include <string_view>
@@ -20,15 +20,15 @@
 
 namespace nkit_problems {
 
-enum class strip_preconditioner { schwarz_incomplete_lu, schwarz_direct, algebraic_multigrid, none };
+enum class strip_preconditioner { schwarz_incomplete_lut, schwarz_direct, algebraic_multigrid, none };
 
 inline strip_preconditioner strip_preconditioner_from_name(std::string_view text) {
-  if (text == "schwarz_ilu") return strip_preconditioner::schwarz_incomplete_lu;
+  if (text == "schwarz_ilut") return strip_preconditioner::schwarz_incomplete_lut;
   if (text == "schwarz_direct") return strip_preconditioner::schwarz_direct;
   if (text == "amg") return strip_preconditioner::algebraic_multigrid;
   if (text == "none") return strip_preconditioner::none;
   throw std::invalid_argument("unknown preconditioner '" + std::string(text) +
-                              "' (schwarz_ilu, schwarz_direct, amg or none)");
+                              "' (schwarz_ilut, schwarz_direct, amg or none)");
 }
 
 /// Settings used for the distributed model problem unless the caller overrides them.
@@ -36,7 +36,7 @@ inline nkit::newton_settings strip_default_settings() {
   nkit::newton_settings settings;
   settings.relative_tolerance = 1e-8;  // the model problem's convergence criterion (problems/README.md)
   settings.linear.restart_length = 50;
-  settings.linear.max_iterations = 5000;
+  settings.linear.maximum_iterations = 5000;
   // Two fused reductions per Arnoldi step instead of j + 2 (see docs/scaling_model.md).
   settings.linear.orthogonalization = nkit::orthogonalization_method::classical_gram_schmidt_twice;
   return settings;
@@ -58,8 +58,8 @@ inline strip_solve_result solve_strip_problem(MPI_Comm communicator, int cells_p
   strip_heat_problem problem(communicator, cells_per_side);
   nkit::any_preconditioner<space_type> preconditioner;
   switch (choice) {
-    case strip_preconditioner::schwarz_incomplete_lu:
-      preconditioner = nkit::additive_schwarz_preconditioner({nkit::subdomain_solver::incomplete_lu});
+    case strip_preconditioner::schwarz_incomplete_lut:
+      preconditioner = nkit::additive_schwarz_preconditioner({nkit::subdomain_solver::incomplete_lut});
       break;
     case strip_preconditioner::schwarz_direct:
       preconditioner = nkit::additive_schwarz_preconditioner({nkit::subdomain_solver::sparse_direct});

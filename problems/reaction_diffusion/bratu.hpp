@@ -1,5 +1,5 @@
 // The Liouville–Bratu–Gelfand problem, discretised by second-order finite
-// differences, written as parametrised residuals R(u, λ) for continuation.
+// differences, written as parametrized residuals R(u, λ) for continuation.
 //
 //   1D:  u'' + λ e^u = 0 on (0, 1),   u(0) = u(1) = 0
 //   2D:  −Δu = λ e^u on (0, 1)²,      u = 0 on the boundary

@@ -25,7 +25,7 @@
 
 #include <Eigen/Core>
 #include <cmath>
-#include <nkit/sparsity_pattern.hpp>
+#include <nkit/jacobian/sparsity_pattern.hpp>
 #include <stdexcept>
 
 namespace nkit_problems {

@@ -5,10 +5,10 @@
 #define NKIT_PROBLEMS_REACTION_DIFFUSION_GRAY_SCOTT_RUNS_HPP
 
 #include <cmath>
+#include <nkit/jacobian/sparse_jacobian.hpp>
 #include <nkit/nkit.hpp>
 #include <nkit/preconditioners/block_jacobi.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
-#include <nkit/sparse_jacobian.hpp>
 
 #include "problems/reaction_diffusion/gray_scott.hpp"
 
@@ -24,7 +24,7 @@ inline nkit::newton_settings reaction_newton_settings() {
   nkit::newton_settings settings;
   settings.relative_tolerance = 1e-10;
   settings.linear.restart_length = 50;
-  settings.linear.max_iterations = 3000;
+  settings.linear.maximum_iterations = 3000;
   return settings;
 }
 

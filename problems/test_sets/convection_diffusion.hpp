@@ -11,7 +11,7 @@
 
 #include <Eigen/SparseCore>
 #include <cmath>
-#include <nkit/preconditioner.hpp>
+#include <nkit/core/preconditioner.hpp>
 #include <vector>
 
 namespace nkit_problems {

@@ -19,7 +19,7 @@
 #include <Eigen/Core>
 #include <cmath>
 #include <functional>
-#include <nkit/automatic_differentiation.hpp>
+#include <nkit/jacobian/automatic_differentiation.hpp>
 #include <optional>
 #include <stdexcept>
 #include <string>

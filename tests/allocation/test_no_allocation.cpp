@@ -116,7 +116,7 @@ TEST_CASE("a repeated Newton solve of the same size allocates nothing", "[alloca
     u.setConstant(-1.0);
     counted_region region;
     auto run = solver.begin(residual, u);
-    while (run.advance() == nkit::outcome::in_progress) {
+    while (run.advance() == nkit::run_state::running) {
     }
     region.stop();
     CHECK(run.report().converged());
@@ -168,13 +168,13 @@ TEST_CASE("continuation allocates per run, not per point", "[allocation]") {
   settings.corrector.linear.restart_length = 40;
   nkit::continuation_solver<> solver(settings);
   const auto counted_run = [&](int points, long& operator_new, long& eigen_requests) {
-    settings.max_points = points;
+    settings.point_budget = points;
     solver.configure(settings);
     Eigen::VectorXd u = Eigen::VectorXd::Zero(31);
     counted_region region;
-    const nkit::continuation_report report = solver.trace_branch(bratu_residual{}, u, 1.0);
+    const nkit::continuation_report report = solver.follow_branch(bratu_residual{}, u, 1.0);
     region.stop();
-    CHECK(report.result == nkit::continuation_outcome::reached_point_limit);
+    CHECK(report.reason == nkit::continuation_stop_reason::point_budget_spent);
     CHECK(report.points.size() == static_cast<std::size_t>(points));
     CHECK(report.folds.size() == 1);
     operator_new = region.operator_new_calls();
@@ -215,15 +215,15 @@ TEST_CASE("ILU(0) preconditioned Newton repeats without allocating", "[allocatio
   nkit::newton_settings settings;
   // Keep the factor across steps and solves (as in implicit time stepping): the
   // model problem's own assemble_jacobian allocates, nkit's apply must not.
-  settings.preconditioner_reuse.rebuild_every_newton_steps = 1000;
-  settings.preconditioner_reuse.rebuild_at_solve_start = false;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = 1000;
+  settings.preconditioner_rebuild.rebuild_at_solve_start = false;
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
   Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
   REQUIRE(solver.solve(problem, t).converged());
   t.setZero();
   counted_region region;
   auto run = solver.begin(problem, t);
-  while (run.advance() == nkit::outcome::in_progress) {
+  while (run.advance() == nkit::run_state::running) {
   }
   region.stop();
   CHECK(run.report().converged());

@@ -9,6 +9,6 @@ int main() {
   nkit::newton_settings settings;
   settings.relative_tolerance = 1e-12;
   const nkit::solve_report report = nkit::solve(residual, x, settings);
-  std::printf("consumer: %s, x = %.15f\n", std::string(nkit::name(report.result)).c_str(), x(0));
+  std::printf("consumer: %s, x = %.15f\n", std::string(nkit::name(report.reason)).c_str(), x(0));
   return report.converged() && std::abs(x(0) - 2.0) < 1e-10 ? 0 : 1;
 }

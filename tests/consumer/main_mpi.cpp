@@ -5,8 +5,8 @@
 
 #include <cmath>
 #include <cstdio>
-#include <nkit/mpi_vector_space.hpp>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/distributed/mpi_vector_space.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 
 int main(int argc, char** argv) {
   MPI_Init(&argc, &argv);
@@ -18,7 +18,7 @@ int main(int argc, char** argv) {
     settings.relative_tolerance = 1e-12;
     nkit::newton_krylov_solver<nkit::mpi_vector_space> solver(settings, nkit::mpi_vector_space(MPI_COMM_WORLD));
     const nkit::solve_report report = solver.solve(residual, x);
-    std::printf("consumer (MPI): %s, x = %.15f\n", std::string(nkit::name(report.result)).c_str(), x(0));
+    std::printf("consumer (MPI): %s, x = %.15f\n", std::string(nkit::name(report.reason)).c_str(), x(0));
     status = report.converged() && std::abs(x(0) - 2.0) < 1e-10 ? 0 : 1;
   }
   MPI_Finalize();

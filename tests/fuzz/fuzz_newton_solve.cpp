@@ -59,7 +59,7 @@ struct statistics {
                  rejected_start, user_exceptions);
     for (int k = 0; k < 32; ++k) {
       if (outcomes[k] > 0) {
-        const std::string name(nkit::name(static_cast<nkit::outcome>(k)));
+        const std::string name(nkit::name(static_cast<nkit::stop_reason>(k)));
         std::fprintf(stderr, "%-28s %ld\n", name.c_str(), outcomes[k]);
       }
     }
@@ -252,22 +252,23 @@ nkit::newton_settings decode_settings(decoder& d) {
   s.relative_tolerance = d.real(p + "relative_tolerance", d.log_uniform(1e-14, 1e-1), {-1.0, nan_value, inf_value});
   s.absolute_tolerance =
       d.real(p + "absolute_tolerance", in.ConsumeBool() ? 0.0 : d.log_uniform(1e-14, 1.0), {-1e-3, nan_value});
-  s.step_tolerance = d.real(p + "step_tolerance", in.ConsumeBool() ? 0.0 : d.log_uniform(1e-14, 1e-2), {-1.0});
-  s.max_newton_steps = d.integer(p + "max_newton_steps", in.ConsumeIntegralInRange(1, 40), {0, -7});
+  s.negligible_step_size =
+      d.real(p + "negligible_step_size", in.ConsumeBool() ? 0.0 : d.log_uniform(1e-14, 1e-2), {-1.0});
+  s.newton_step_budget = d.integer(p + "newton_step_budget", in.ConsumeIntegralInRange(1, 40), {0, -7});
   s.residual_evaluation_budget =
       d.integer<std::int64_t>(p + "residual_evaluation_budget", in.ConsumeIntegralInRange(1, 400), {0, -1});
   s.linear_iteration_budget =
       d.integer<std::int64_t>(p + "linear_iteration_budget", in.ConsumeIntegralInRange(1, 400), {0});
-  s.wall_time_limit_seconds =
-      d.real(p + "wall_time_limit_seconds", in.ConsumeIntegral<std::uint8_t>() == 7 ? 1e-300 : inf_value,
+  s.wall_time_budget_seconds =
+      d.real(p + "wall_time_budget_seconds", in.ConsumeIntegral<std::uint8_t>() == 7 ? 1e-300 : inf_value,
              {0.0, -1.0, nan_value});
   s.stagnation_window = d.integer(p + "stagnation_window", in.ConsumeIntegralInRange(1, 12), {0});
   s.stagnation_factor = d.real(p + "stagnation_factor", d.uniform(0.5, 0.999), {0.0, 1.0, nan_value});
   s.globalization = static_cast<nkit::globalization_strategy>(in.ConsumeIntegralInRange(0, 3));
   if (d.make_invalid(p + "globalization")) s.globalization = static_cast<nkit::globalization_strategy>(5);
 
-  s.forcing.kind = static_cast<nkit::forcing_term_kind>(in.ConsumeIntegralInRange(0, 2));
-  if (d.make_invalid(p + "forcing.kind")) s.forcing.kind = static_cast<nkit::forcing_term_kind>(-2);
+  s.forcing.formula = static_cast<nkit::forcing_term_formula>(in.ConsumeIntegralInRange(0, 2));
+  if (d.make_invalid(p + "forcing.formula")) s.forcing.formula = static_cast<nkit::forcing_term_formula>(-2);
   s.forcing.constant_value = d.real(p + "forcing.constant_value", d.log_uniform(1e-10, 0.9), {0.0, 1.0});
   s.forcing.initial_value = d.real(p + "forcing.initial_value", d.uniform(0.01, 0.99), {1.5, nan_value});
   s.forcing.maximum_value = d.real(p + "forcing.maximum_value", d.uniform(0.01, 0.99), {0.0, inf_value});
@@ -276,10 +277,12 @@ nkit::newton_settings decode_settings(decoder& d) {
   s.forcing.avoid_oversolving = in.ConsumeBool();
 
   s.line_search.sufficient_decrease = d.real(p + "line_search.sufficient_decrease", d.log_uniform(1e-6, 0.5), {0.0});
-  s.line_search.minimum_shrink = d.uniform(0.01, 0.5);
-  s.line_search.maximum_shrink = d.uniform(s.line_search.minimum_shrink, 0.9);
-  s.line_search.minimum_shrink = d.real(p + "line_search.minimum_shrink", s.line_search.minimum_shrink, {0.95, -0.1});
-  s.line_search.max_backtracks = d.integer(p + "line_search.max_backtracks", in.ConsumeIntegralInRange(0, 30), {-1});
+  s.line_search.minimum_shrink_factor = d.uniform(0.01, 0.5);
+  s.line_search.maximum_shrink_factor = d.uniform(s.line_search.minimum_shrink_factor, 0.9);
+  s.line_search.minimum_shrink_factor =
+      d.real(p + "line_search.minimum_shrink_factor", s.line_search.minimum_shrink_factor, {0.95, -0.1});
+  s.line_search.maximum_rejected_trials =
+      d.integer(p + "line_search.maximum_rejected_trials", in.ConsumeIntegralInRange(0, 30), {-1});
 
   s.trust_region.initial_radius =
       d.real(p + "trust_region.initial_radius", in.ConsumeBool() ? 0.0 : d.log_uniform(1e-3, 1e3), {-1.0, inf_value});
@@ -299,8 +302,9 @@ nkit::newton_settings decode_settings(decoder& d) {
       d.real(p + "pseudo_transient.initial_step", d.log_uniform(1e-4, 1e4), {-1.0, nan_value});
   s.pseudo_transient.maximum_step =
       d.real(p + "pseudo_transient.maximum_step", in.ConsumeBool() ? inf_value : 1e12, {-5.0});
-  s.pseudo_transient.growth_limit = d.real(p + "pseudo_transient.growth_limit", d.uniform(1.5, 100.0), {1.0});
-  s.pseudo_transient.failure_shrink = d.real(p + "pseudo_transient.failure_shrink", d.uniform(0.05, 0.9), {0.0});
+  s.pseudo_transient.maximum_step_growth =
+      d.real(p + "pseudo_transient.maximum_step_growth", d.uniform(1.5, 100.0), {1.0});
+  s.pseudo_transient.shrink_factor = d.real(p + "pseudo_transient.shrink_factor", d.uniform(0.05, 0.9), {0.0});
   s.pseudo_transient.maximum_residual_growth =
       d.real(p + "pseudo_transient.maximum_residual_growth", d.uniform(1.0, 1e3), {0.5});
   s.pseudo_transient.switch_ratio = d.real(p + "pseudo_transient.switch_ratio", d.uniform(0.0, 1.0), {2.0});
@@ -308,7 +312,7 @@ nkit::newton_settings decode_settings(decoder& d) {
   s.bounds.boundary_fraction = d.real(p + "bounds.boundary_fraction", d.uniform(0.5, 0.999), {1.0, 0.0});
 
   s.linear.restart_length = d.integer(p + "linear.restart_length", in.ConsumeIntegralInRange(1, 12), {0});
-  s.linear.max_iterations = d.integer(p + "linear.max_iterations", in.ConsumeIntegralInRange(1, 40), {-3});
+  s.linear.maximum_iterations = d.integer(p + "linear.maximum_iterations", in.ConsumeIntegralInRange(1, 40), {-3});
   s.linear.variant = static_cast<nkit::gmres_variant>(in.ConsumeIntegralInRange(0, 1));
   s.linear.orthogonalization = static_cast<nkit::orthogonalization_method>(in.ConsumeIntegralInRange(0, 1));
   s.linear.reorthogonalization = static_cast<nkit::reorthogonalization_policy>(in.ConsumeIntegralInRange(0, 2));
@@ -318,10 +322,10 @@ nkit::newton_settings decode_settings(decoder& d) {
   s.jacobian.formula = static_cast<nkit::difference_formula>(in.ConsumeIntegralInRange(0, 1));
   s.jacobian.residual_relative_noise =
       d.real(p + "jacobian.residual_relative_noise", in.ConsumeBool() ? 0.0 : d.log_uniform(1e-16, 1e-6), {1.0});
-  s.preconditioner_reuse.rebuild_every_newton_steps =
-      d.integer(p + "preconditioner_reuse.rebuild_every_newton_steps", in.ConsumeIntegralInRange(1, 4), {0});
-  s.preconditioner_reuse.rebuild_when_linear_iterations_exceed = in.ConsumeIntegralInRange(0, 10);
-  s.preconditioner_reuse.rebuild_after_linear_failure = in.ConsumeBool();
+  s.preconditioner_rebuild.rebuild_every_newton_steps =
+      d.integer(p + "preconditioner_rebuild.rebuild_every_newton_steps", in.ConsumeIntegralInRange(1, 4), {0});
+  s.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = in.ConsumeIntegralInRange(0, 10);
+  s.preconditioner_rebuild.rebuild_after_linear_failure = in.ConsumeBool();
   return s;
 }
 
@@ -355,13 +359,13 @@ void solve_and_check(Solver& solver, Problem& problem, fuzz_system& system, cons
   nkit::solve_report report;
   bool faulted = false;
   auto monitor = [&](const nkit::newton_step_record& record) {
-    FUZZ_CHECK(record.step <= settings.max_newton_steps, "Newton-step limit exceeded");
+    FUZZ_CHECK(record.step <= settings.newton_step_budget, "Newton-step limit exceeded");
     FUZZ_CHECK(record.residual_evaluations <= settings.residual_evaluation_budget, "budget exceeded in history");
   };
   try {
     auto run = solver.begin(problem, u, monitor);
     FUZZ_CHECK(!expect_invalid_start, "an invalid initial guess was accepted");
-    while (run.advance() == nkit::outcome::in_progress) last_accepted = u;
+    while (run.advance() == nkit::run_state::running) last_accepted = u;
     report = run.report();
   } catch (const std::invalid_argument& error) {
     FUZZ_CHECK(expect_invalid_start, std::string("unexpected std::invalid_argument: ") + error.what());
@@ -377,17 +381,18 @@ void solve_and_check(Solver& solver, Problem& problem, fuzz_system& system, cons
     FUZZ_CHECK(same_bits(u, last_accepted), "after a user exception u is not the last accepted iterate");
     return;
   }
-  FUZZ_CHECK(report.result != nkit::outcome::in_progress, "the solve ended in progress");
-  ++counts.outcomes[static_cast<int>(report.result) & 31];
-  FUZZ_CHECK(report.newton_steps <= settings.max_newton_steps, "Newton-step limit exceeded");
+  FUZZ_CHECK(report.reason.has_value(), "the solve ended without a stop reason");
+  ++counts.outcomes[static_cast<int>(*report.reason) & 31];
+  FUZZ_CHECK(report.newton_steps <= settings.newton_step_budget, "Newton-step limit exceeded");
   FUZZ_CHECK(report.residual_evaluations <= settings.residual_evaluation_budget, "evaluation budget exceeded");
   FUZZ_CHECK(report.residual_evaluations == system.calls, "evaluation count differs from the calls made");
   FUZZ_CHECK(report.linear_iterations <= settings.linear_iteration_budget, "linear-iteration budget exceeded");
   FUZZ_CHECK(system.calls_after_cancel == 0, "a residual evaluation started after cancellation");
   FUZZ_CHECK(u.allFinite(), "the returned u is not finite");
   if (system.calls == 0) {  // stopped before R(u0): nothing is known
-    FUZZ_CHECK(report.result == nkit::outcome::wall_time_limit || report.result == nkit::outcome::cancelled,
-               std::string(nkit::name(report.result)));
+    FUZZ_CHECK(report.reason == nkit::stop_reason::wall_time_budget_spent ||
+                   report.reason == nkit::stop_reason::cancellation_flag_raised,
+               std::string(nkit::name(report.reason)));
     FUZZ_CHECK(std::isnan(report.final_residual_norm), "a norm was reported without an evaluation");
     FUZZ_CHECK(same_up_to_scaling_rounding(u, start, scaled), "u changed without an evaluation");
     return;
@@ -396,9 +401,9 @@ void solve_and_check(Solver& solver, Problem& problem, fuzz_system& system, cons
   system.values(u, r);
   if (residual_scale.size() > 0) r = r.cwiseQuotient(residual_scale);
   const double recomputed = r.norm();
-  const std::string detail = std::string(nkit::name(report.result)) + " reported " +
+  const std::string detail = std::string(nkit::name(report.reason)) + " reported " +
                              std::to_string(report.final_residual_norm) + " recomputed " + std::to_string(recomputed);
-  if (report.result == nkit::outcome::non_finite_initial_residual) {
+  if (report.reason == nkit::stop_reason::non_finite_initial_residual) {
     FUZZ_CHECK(!std::isfinite(report.initial_residual_norm) && report.newton_steps == 0, detail);
     FUZZ_CHECK(same_up_to_scaling_rounding(u, start, scaled), "u changed after a non-finite initial residual");
     return;

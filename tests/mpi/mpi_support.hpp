@@ -8,7 +8,7 @@
 #include <Eigen/Core>
 #include <cstdint>
 #include <cstring>
-#include <nkit/report.hpp>
+#include <nkit/report/report.hpp>
 #include <vector>
 
 namespace nkit_test {
@@ -68,12 +68,12 @@ class bit_hash {
 /// (timings are rank-local and left out).
 inline std::uint64_t decision_hash(const nkit::solve_report& report) {
   bit_hash hash;
-  hash.add(report.result);
+  hash.add(report.reason ? static_cast<int>(*report.reason) : -1);
   hash.add(report.newton_steps);
   hash.add(report.linear_iterations);
   hash.add(report.residual_evaluations);
   hash.add(report.preconditioner_setups);
-  hash.add(report.backtracks);
+  hash.add(report.rejected_trials);
   hash.add(report.initial_residual_norm);
   hash.add(report.final_residual_norm);
   for (const auto& step : report.history) {
@@ -82,10 +82,10 @@ inline std::uint64_t decision_hash(const nkit::solve_report& report) {
     hash.add(step.linear_iterations);
     hash.add(step.relative_linear_residual);
     hash.add(step.linear_status);
-    hash.add(step.step_length);
+    hash.add(step.step_fraction);
     hash.add(step.step_norm);
-    hash.add(step.backtracks);
-    hash.add(step.preconditioner_rebuilt);
+    hash.add(step.rejected_trials);
+    hash.add(step.preconditioner_set_up);
   }
   return hash.value();
 }

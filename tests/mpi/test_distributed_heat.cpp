@@ -3,7 +3,7 @@
 // solve on one rank, and against the serial definition of references §15.
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <nkit/eigen_vector_space.hpp>
+#include <nkit/core/eigen_vector_space.hpp>
 
 #include "mpi/mpi_support.hpp"
 #include "problems/model_problem/model_problem.hpp"
@@ -16,7 +16,7 @@ using nkit_test::gather_all;
 namespace {
 const char* label(strip_preconditioner choice) {
   switch (choice) {
-    case strip_preconditioner::schwarz_incomplete_lu:
+    case strip_preconditioner::schwarz_incomplete_lut:
       return "additive Schwarz, local ILU";
     case strip_preconditioner::schwarz_direct:
       return "additive Schwarz, local direct";
@@ -60,7 +60,7 @@ TEST_CASE("the strip residual and Jacobian equal the serial model problem's", "[
 
 TEST_CASE("distributed solves equal the one-rank solve and every rank takes the same branches", "[mpi][distributed]") {
   const strip_preconditioner choice =
-      GENERATE(strip_preconditioner::schwarz_incomplete_lu, strip_preconditioner::schwarz_direct,
+      GENERATE(strip_preconditioner::schwarz_incomplete_lut, strip_preconditioner::schwarz_direct,
                strip_preconditioner::algebraic_multigrid);
   INFO("preconditioner: " << label(choice));
   const int n = 40;
@@ -94,8 +94,8 @@ TEST_CASE("distributed solves equal the one-rank solve and every rank takes the 
 
 TEST_CASE("preconditioner rebuilds follow the driver's reuse settings on every rank", "[mpi][distributed]") {
   nkit::newton_settings settings = nkit_problems::strip_default_settings();
-  settings.preconditioner_reuse.rebuild_every_newton_steps = 3;
-  settings.preconditioner_reuse.rebuild_after_linear_failure = false;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = 3;
+  settings.preconditioner_rebuild.rebuild_after_linear_failure = false;
   const auto result =
       nkit_problems::solve_strip_problem(MPI_COMM_WORLD, 48, strip_preconditioner::algebraic_multigrid, settings);
   REQUIRE(result.report.converged());
@@ -113,7 +113,7 @@ TEST_CASE("BoomerAMG keeps GMRES iterations per Newton step nearly mesh independ
   // about ×2 per halving of h (common practice), so the same check fails for
   // it; checked from n = 32 to 128 to keep the test fast.
   nkit::newton_settings settings = nkit_problems::strip_default_settings();
-  settings.forcing.kind = nkit::forcing_term_kind::constant;
+  settings.forcing.formula = nkit::forcing_term_formula::constant;
   settings.forcing.constant_value = 1e-6;
   const auto per_step = [&](int n, strip_preconditioner choice) {
     const auto result = nkit_problems::solve_strip_problem(MPI_COMM_WORLD, n, choice, settings);
@@ -124,8 +124,8 @@ TEST_CASE("BoomerAMG keeps GMRES iterations per Newton step nearly mesh independ
   const double fine = per_step(256, strip_preconditioner::algebraic_multigrid);
   INFO("BoomerAMG: " << coarse << " GMRES iterations per Newton step at n = 64, " << fine << " at n = 256");
   CHECK(fine <= 1.5 * coarse);
-  const double schwarz_coarse = per_step(32, strip_preconditioner::schwarz_incomplete_lu);
-  const double schwarz_fine = per_step(128, strip_preconditioner::schwarz_incomplete_lu);
+  const double schwarz_coarse = per_step(32, strip_preconditioner::schwarz_incomplete_lut);
+  const double schwarz_fine = per_step(128, strip_preconditioner::schwarz_incomplete_lut);
   INFO("Schwarz/ILU: " << schwarz_coarse << " at n = 32, " << schwarz_fine << " at n = 128");
   CHECK(schwarz_fine > 1.5 * schwarz_coarse);
 }

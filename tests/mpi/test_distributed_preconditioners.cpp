@@ -2,9 +2,9 @@
 // exact block solve, BoomerAMG's option mapping against hypre's documented
 // codes, every multigrid option accepted by hypre, and clear errors on bad input.
 #include <catch2/catch.hpp>
-#include <nkit/hypre_algebraic_multigrid.hpp>
-#include <nkit/mpi_vector_space.hpp>
+#include <nkit/distributed/mpi_vector_space.hpp>
 #include <nkit/preconditioners/additive_schwarz.hpp>
+#include <nkit/preconditioners/hypre_algebraic_multigrid.hpp>
 
 #include "mpi/mpi_support.hpp"
 #include "problems/model_problem/model_problem.hpp"
@@ -75,7 +75,7 @@ TEST_CASE("preconditioners reject a Jacobian that is not in the distributed layo
   CHECK_THROWS_AS(schwarz.setup(context), std::invalid_argument);
   nkit::algebraic_multigrid_preconditioner multigrid(MPI_COMM_WORLD);
   CHECK_THROWS_AS(multigrid.setup(context), std::invalid_argument);
-  CHECK_THROWS_WITH(nkit::additive_schwarz_preconditioner({nkit::subdomain_solver::incomplete_lu, -1.0}),
+  CHECK_THROWS_WITH(nkit::additive_schwarz_preconditioner({nkit::subdomain_solver::incomplete_lut, -1.0}),
                     "nkit: additive_schwarz_settings.drop_tolerance must be finite and >= 0 (got -1)");
 }
 
@@ -109,8 +109,8 @@ TEST_CASE("multigrid options map to hypre's documented codes", "[multigrid]") {
   bad.strength_threshold = 1.0;
   CHECK_THROWS_WITH(bad.validate(), "nkit: algebraic_multigrid_settings.strength_threshold must be in [0, 1) (got 1)");
   bad = {};
-  bad.max_levels = 1;
-  CHECK_THROWS_WITH(bad.validate(), "nkit: algebraic_multigrid_settings.max_levels must be >= 2 (got 1)");
+  bad.maximum_levels = 1;
+  CHECK_THROWS_WITH(bad.validate(), "nkit: algebraic_multigrid_settings.maximum_levels must be >= 2 (got 1)");
 }
 
 TEST_CASE("every multigrid option gives a working preconditioner", "[mpi][multigrid]") {
@@ -158,7 +158,7 @@ TEST_CASE("every multigrid option gives a working preconditioner", "[mpi][multig
   }
   INFO("option " << option);
   nkit::newton_settings settings = nkit_problems::strip_default_settings();
-  settings.forcing.kind = nkit::forcing_term_kind::constant;
+  settings.forcing.formula = nkit::forcing_term_formula::constant;
   settings.forcing.constant_value = 1e-6;
   const auto result = nkit_problems::solve_strip_problem(
       MPI_COMM_WORLD, 32, nkit_problems::strip_preconditioner::algebraic_multigrid, settings, multigrid);

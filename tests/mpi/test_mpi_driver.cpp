@@ -2,8 +2,8 @@
 // rank-local facts must still be taken by every rank together.
 #include <catch2/catch.hpp>
 #include <memory>
-#include <nkit/mpi_vector_space.hpp>
-#include <nkit/newton_krylov_solver.hpp>
+#include <nkit/distributed/mpi_vector_space.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 
 #include "mpi/mpi_support.hpp"
 #include "problems/model_problem/strip_heat_problem.hpp"
@@ -62,7 +62,7 @@ TEST_CASE("the pseudo-time shift lands on the global diagonal of a distributed J
   const nkit::mpi_vector_space space(MPI_COMM_WORLD);
   nkit::newton_settings settings;
   settings.globalization = nkit::globalization_strategy::pseudo_transient;
-  settings.max_newton_steps = 1;
+  settings.newton_step_budget = 1;
   jacobian_recorder recorder;
   nkit::newton_krylov_solver<nkit::mpi_vector_space, jacobian_recorder> solver(settings, space, recorder);
   Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.local_unknowns(), 0.1);

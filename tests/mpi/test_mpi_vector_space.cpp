@@ -4,11 +4,11 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <limits>
-#include <nkit/eigen_vector_space.hpp>
-#include <nkit/finite_difference_jacobian.hpp>
-#include <nkit/gmres.hpp>
-#include <nkit/mpi_vector_space.hpp>
-#include <nkit/row_partition.hpp>
+#include <nkit/core/eigen_vector_space.hpp>
+#include <nkit/distributed/mpi_vector_space.hpp>
+#include <nkit/distributed/row_partition.hpp>
+#include <nkit/jacobian/finite_difference_jacobian.hpp>
+#include <nkit/krylov/gmres.hpp>
 #include <vector>
 
 #include "mpi/mpi_support.hpp"
@@ -72,8 +72,8 @@ TEST_CASE("bound ratio tests and bound checks are global", "[mpi][space]") {
   Eigen::VectorXd upper_global = Eigen::VectorXd::Constant(n, 1.0);
   upper_global(n - 1) = x_global(n - 1) + 1e-3 * std::abs(d_global(n - 1));  // the binding bound is on the last rank
   const auto slice = [](const Eigen::VectorXd& v) { return local_slice(MPI_COMM_WORLD, v); };
-  CHECK(space.max_step_to_bounds(slice(x_global), slice(d_global), slice(lower_global), slice(upper_global)) ==
-        serial.max_step_to_bounds(x_global, d_global, lower_global, upper_global));
+  CHECK(space.maximum_step_to_bounds(slice(x_global), slice(d_global), slice(lower_global), slice(upper_global)) ==
+        serial.maximum_step_to_bounds(x_global, d_global, lower_global, upper_global));
   CHECK(space.within_bounds(slice(x_global), slice(lower_global), slice(upper_global)));
   Eigen::VectorXd outside = x_global;
   outside(n - 1) = 2.0;  // above its upper bound, on the last rank only
@@ -146,7 +146,7 @@ std::int64_t reductions_for(nkit::orthogonalization_method method, nkit::reortho
   const nkit::mpi_vector_space space(MPI_COMM_WORLD);
   nkit::gmres_settings settings;
   settings.restart_length = iterations;
-  settings.max_iterations = iterations;
+  settings.maximum_iterations = iterations;
   settings.orthogonalization = method;
   settings.reorthogonalization = policy;
   nkit::gmres_solver<nkit::mpi_vector_space> gmres(settings, space);

@@ -8,7 +8,7 @@
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
 #include <algorithm>
-#include <nkit/preconditioner.hpp>
+#include <nkit/core/preconditioner.hpp>
 
 namespace nkit_test {
 

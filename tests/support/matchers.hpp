@@ -5,8 +5,9 @@
 #include <Eigen/Core>
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <nkit/linear_operator.hpp>
-#include <nkit/outcome.hpp>
+#include <nkit/core/linear_operator.hpp>
+#include <nkit/report/outcome.hpp>
+#include <optional>
 #include <sstream>
 #include <string>
 
@@ -68,8 +69,12 @@ inline close_to_matcher is_close_to(const Eigen::VectorXd& expected, double abso
 
 namespace Catch {
 template <>
-struct StringMaker<nkit::outcome> {
-  static std::string convert(nkit::outcome value) { return std::string(nkit::name(value)); }
+struct StringMaker<nkit::stop_reason> {
+  static std::string convert(nkit::stop_reason value) { return std::string(nkit::name(value)); }
+};
+template <>
+struct StringMaker<nkit::stop_reason_if_stopped> {
+  static std::string convert(nkit::stop_reason_if_stopped value) { return std::string(nkit::name(value)); }
 };
 template <>
 struct StringMaker<nkit::linear_solve_status> {

@@ -22,7 +22,7 @@
 ///
 /// J·v of the bordered residual: the derivative of N is exact and cheap
 /// (σ(θ⟨t_u, v⟩ + t_λ μ), one reduction); R's part uses the problem's
-/// parametrised jacobian_product when it has one, so the Newton driver sees a
+/// parametrized jacobian_product when it has one, so the Newton driver sees a
 /// jacobian_product() member and skips finite differences; otherwise the
 /// driver differences the whole bordered residual (R along (v, μ)).
 
@@ -37,7 +37,7 @@
 #include "../core/preconditioner.hpp"
 #include "../detail/checks.hpp"
 #include "bordered_vector_space.hpp"
-#include "parametrised_residual.hpp"
+#include "parametrized_residual.hpp"
 
 namespace nkit {
 
@@ -64,7 +64,7 @@ class bordering_source {
   virtual const sparse_matrix& assembled_state_jacobian(const vector_type& x) = 0;
 };
 
-/// The residual [R(u, λ); σN(u, λ)] of a parametrised problem. Holds pointers
+/// The residual [R(u, λ); σN(u, λ)] of a parametrized problem. Holds pointers
 /// to the problem and to the reference point and tangent, which must stay
 /// unchanged while a solve uses it. Allocates only in parameter_derivative()
 /// with an exact jacobian_product (one zero vector, on first use).
@@ -75,7 +75,7 @@ class bordered_residual final : public bordering_source<Space> {
   using vector_type = typename space_type::vector_type;
   using inner_vector_type = typename Space::vector_type;
   using scalar_type = typename Space::scalar_type;
-  static constexpr bool exact_product = has_parametrised_jacobian_product_v<Problem, inner_vector_type, scalar_type>;
+  static constexpr bool exact_product = has_parametrized_jacobian_product_v<Problem, inner_vector_type, scalar_type>;
 
   bordered_residual(Problem& problem, const space_type& space) : m_problem(&problem), m_space(&space) {}
 
@@ -105,9 +105,9 @@ class bordered_residual final : public bordering_source<Space> {
   }
 
   /// jv = [R_u v + R_λ μ; σN'(v, μ)], exact; present only when the problem has
-  /// a parametrised jacobian_product.
+  /// a parametrized jacobian_product.
   template <class P = Problem,
-            std::enable_if_t<has_parametrised_jacobian_product_v<P, inner_vector_type, scalar_type>, int> = 0>
+            std::enable_if_t<has_parametrized_jacobian_product_v<P, inner_vector_type, scalar_type>, int> = 0>
   void jacobian_product(const vector_type& x, const vector_type& v, vector_type& jv) {
     m_problem->jacobian_product(static_cast<const inner_vector_type&>(x.state), x.parameter,
                                 static_cast<const inner_vector_type&>(v.state), v.parameter, jv.state);
@@ -115,7 +115,7 @@ class bordered_residual final : public bordering_source<Space> {
   }
 
   static constexpr bool assembles =
-      has_parametrised_assemble_jacobian_v<Problem, inner_vector_type, scalar_type, sparse_matrix>;
+      has_parametrized_assemble_jacobian_v<Problem, inner_vector_type, scalar_type, sparse_matrix>;
   bool can_assemble_state_jacobian() const override { return assembles; }
   /// R_u only, for preconditioners of the state block. (No assemble_jacobian()
   /// member on purpose: the Newton driver's assembled Jacobian would be that
@@ -126,7 +126,7 @@ class bordered_residual final : public bordering_source<Space> {
     } else {
       static_cast<void>(x);
       throw std::logic_error(
-          "nkit: the state preconditioner needs an assembled Jacobian, but the parametrised problem has no "
+          "nkit: the state preconditioner needs an assembled Jacobian, but the parametrized problem has no "
           "assemble_jacobian(u, parameter, matrix)");
     }
     return m_jacobian;
@@ -194,9 +194,9 @@ class bordered_residual final : public bordering_source<Space> {
 namespace detail {
 
 template <class P, class Context, class Scalar, class = void>
-struct has_parametrised_setup : std::false_type {};
+struct has_parametrized_setup : std::false_type {};
 template <class P, class Context, class Scalar>
-struct has_parametrised_setup<
+struct has_parametrized_setup<
     P, Context, Scalar,
     std::void_t<decltype(std::declval<P&>().setup(std::declval<const Context&>(), std::declval<Scalar>()))>>
     : std::true_type {};
@@ -253,7 +253,7 @@ class bordered_preconditioner {
         m_source->can_assemble_state_jacobian() ? &jacobian : nullptr};
     using state_context_type = preconditioner_context<Space>;
     setup_status status = setup_status::ready;
-    if constexpr (detail::has_parametrised_setup<Preconditioner, state_context_type, scalar_type>::value) {
+    if constexpr (detail::has_parametrized_setup<Preconditioner, state_context_type, scalar_type>::value) {
       using result = decltype(m_state_preconditioner.setup(state_context, context.state.parameter));
       if constexpr (std::is_same_v<result, setup_status>) {
         status = m_state_preconditioner.setup(state_context, context.state.parameter);

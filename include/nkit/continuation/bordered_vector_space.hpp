@@ -120,8 +120,8 @@ class bordered_vector_space {
   }
 
   /// Largest t >= 0 with lower <= x + t d <= upper, parameter included. Collective.
-  scalar_type max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
-    scalar_type step = m_space.max_step_to_bounds(x.state, d.state, lower.state, upper.state);
+  scalar_type maximum_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
+    scalar_type step = m_space.maximum_step_to_bounds(x.state, d.state, lower.state, upper.state);
     if (d.parameter > 0) step = std::min(step, (upper.parameter - x.parameter) / d.parameter);
     if (d.parameter < 0) step = std::min(step, (lower.parameter - x.parameter) / d.parameter);
     return std::max<scalar_type>(step, 0);

@@ -2,7 +2,7 @@
 #define NKIT_CONTINUATION_CONTINUATION_HPP
 
 /// \file continuation/continuation.hpp
-/// Parameter continuation of R(u, λ) = 0 (parametrised_residual.hpp):
+/// Parameter continuation of R(u, λ) = 0 (parametrized_residual.hpp):
 /// natural-parameter and pseudo-arclength, with step control, fold detection
 /// and fold location.
 ///
@@ -18,7 +18,7 @@
 ///
 /// Every solve is nkit's newton_krylov_solver on the bordered system in n + 1
 /// unknowns (bordered_vector_space.hpp, bordered_system.hpp): matrix-free
-/// J·v (the problem's parametrised jacobian_product when present, else
+/// J·v (the problem's parametrized jacobian_product when present, else
 /// finite differences of the bordered residual) and GMRES, preconditioned,
 /// when the user gives a preconditioner of the state block, by Keller's
 /// bordering of it (bordered_preconditioner). Tangents: continuation_tangent.hpp.
@@ -52,7 +52,7 @@
 #include "bordered_vector_space.hpp"
 #include "continuation_settings.hpp"
 #include "continuation_tangent.hpp"
-#include "parametrised_residual.hpp"
+#include "parametrized_residual.hpp"
 
 namespace nkit {
 
@@ -101,15 +101,15 @@ class continuation_solver {
   /// Follows the branch of R(u, λ) = 0 through (u, start_parameter).
   /// `u` is the initial guess at λ = start_parameter; afterwards it holds the
   /// state of the last accepted point (unchanged if the start solve failed).
-  /// `callback(point, state)` runs after every point and located fold and
+  /// `monitor(point, state)` runs after every point and located fold and
   /// may return monitor_decision::stop_now. Exceptions from user code
   /// propagate; u then holds the last accepted point.
-  template <class Problem, class Callback = null_point_callback>
-  continuation_report trace_branch(Problem&& problem, state_view u, scalar_type start_parameter,
-                                   Callback&& callback = {}) {
+  template <class Problem, class PointMonitor = null_point_monitor>
+  continuation_report follow_branch(Problem&& problem, state_view u, scalar_type start_parameter,
+                                    PointMonitor&& monitor = {}) {
     using problem_type = std::remove_reference_t<Problem>;
-    static_assert(is_parametrised_residual_v<problem_type, vector_type, scalar_type>,
-                  "nkit: the parametrised residual must be callable as problem(const vector_type& u, "
+    static_assert(is_parametrized_residual_v<problem_type, vector_type, scalar_type>,
+                  "nkit: the parametrized residual must be callable as problem(const vector_type& u, "
                   "scalar_type parameter, vector_type& r)");
     const continuation_settings& s = m_settings;
     if (!(start_parameter >= s.parameter_lower_bound && start_parameter <= s.parameter_upper_bound)) {
@@ -117,7 +117,7 @@ class continuation_solver {
     }
     const detail::stopwatch clock;
     m_report = continuation_report{};
-    m_report.points.reserve(static_cast<std::size_t>(std::min(s.max_points, 1024)));
+    m_report.points.reserve(static_cast<std::size_t>(std::min(s.point_budget, 1024)));
     m_report.folds.reserve(8);
     for (bordered_type* v : {&m_point, &m_tangent, &m_candidate, &m_candidate_tangent, &m_fold_trial,
                              &m_fold_trial_tangent, &m_fold_point, &m_prediction}) {
@@ -138,7 +138,7 @@ class continuation_solver {
     residual.fix_parameter(start_parameter);
     effort start;
     if (!correct(residual, m_point, start))
-      return finish(clock, failure_outcome(continuation_outcome::start_point_failed));
+      return finish(clock, failure_reason(continuation_stop_reason::start_point_not_converged));
     // Later solves stop at one absolute target, so their Newton step counts measure the predictor's error.
     const double target =
         std::max(s.corrector.absolute_tolerance, s.corrector.relative_tolerance * m_last_initial_residual_norm);
@@ -151,21 +151,21 @@ class continuation_solver {
     m_report.corrector_tolerance = target;
     m_space.inner().copy(m_point.state, u);
     if (!compute_tangent(residual, m_point, m_tangent, tangent_guess::zero, direction, start)) {
-      return finish(clock, continuation_outcome::tangent_failed);
+      return finish(clock, continuation_stop_reason::tangent_not_solved);
     }
     continuation_point record = make_point(point_kind::start, m_point, m_tangent, 0.0, 0.0, start);
     m_report.points.push_back(record);
-    if (detail::notify_point(callback, record, m_point.state) == monitor_decision::stop_now) {
-      return finish(clock, continuation_outcome::stopped_by_callback);
+    if (detail::notify_point(monitor, record, m_point.state) == monitor_decision::stop_now) {
+      return finish(clock, continuation_stop_reason::monitor_requested_stop);
     }
 
     scalar_type step = s.initial_step;
     scalar_type arclength_so_far = 0;
     effort here;
-    continuation_outcome failure = continuation_outcome::step_below_minimum;
+    continuation_stop_reason failure = continuation_stop_reason::step_below_minimum;
     while (true) {
-      if (static_cast<int>(m_report.points.size()) >= s.max_points) {
-        return finish(clock, continuation_outcome::reached_point_limit);
+      if (static_cast<int>(m_report.points.size()) >= s.point_budget) {
+        return finish(clock, continuation_stop_reason::point_budget_spent);
       }
       // Predictor and corrector.
       if (arclength) {
@@ -179,10 +179,10 @@ class continuation_solver {
       }
       m_space.copy(m_candidate, m_prediction);
       bool accepted = correct(residual, m_candidate, here) && close_to_prediction(m_candidate, step);
-      if (!accepted && m_report.last_corrector_result == outcome::cancelled) {
-        return finish(clock, continuation_outcome::cancelled);
+      if (!accepted && m_report.last_corrector_reason == stop_reason::cancellation_flag_raised) {
+        return finish(clock, continuation_stop_reason::cancellation_flag_raised);
       }
-      failure = continuation_outcome::step_below_minimum;
+      failure = continuation_stop_reason::step_below_minimum;
 
       // A point beyond a bound is replaced by the solve with λ on the bound.
       if (accepted && outside_bounds(m_candidate.parameter)) {
@@ -205,8 +205,8 @@ class continuation_solver {
           record = make_point(point_kind::parameter_bound, m_candidate, m_candidate_tangent, step,
                               arclength_so_far + step, here);
           m_report.points.push_back(record);
-          detail::notify_point(callback, record, m_candidate.state);
-          return finish(clock, continuation_outcome::reached_parameter_bound);
+          detail::notify_point(monitor, record, m_candidate.state);
+          return finish(clock, continuation_stop_reason::parameter_bound_reached);
         }
         accepted = false;
       }
@@ -219,7 +219,7 @@ class continuation_solver {
                              arclength ? 0 : direction, here)) {
           accepted = false;
           // In natural mode a failing tangent solve has the corrector's cause: R_u turning singular.
-          if (arclength) failure = continuation_outcome::tangent_failed;
+          if (arclength) failure = continuation_stop_reason::tangent_not_solved;
         } else if (arclength && alignment(m_tangent, m_candidate_tangent) < s.minimum_tangent_alignment) {
           accepted = false;
         }
@@ -227,7 +227,7 @@ class continuation_solver {
       if (!accepted) {
         ++here.rejected_steps;
         ++m_report.rejected_steps;
-        step *= s.step_reduction_after_failure;
+        step *= s.shrink_factor;
         if (step < s.minimum_step) return finish(clock, failure);
         continue;
       }
@@ -239,19 +239,19 @@ class continuation_solver {
       if (fold && s.locate_folds) {
         const fold_record located = locate_fold(residual, step, arclength_so_far, index);
         m_report.folds.push_back(located);
-        if (detail::notify_point(callback, located.point, m_fold_point.state) == monitor_decision::stop_now) {
-          return finish(clock, continuation_outcome::stopped_by_callback);
+        if (detail::notify_point(monitor, located.point, m_fold_point.state) == monitor_decision::stop_now) {
+          return finish(clock, continuation_stop_reason::monitor_requested_stop);
         }
       }
       std::swap(m_point, m_candidate);
       std::swap(m_tangent, m_candidate_tangent);
       m_space.inner().copy(m_point.state, u);
       arclength_so_far += step;
-      record = make_point(point_kind::branch, m_point, m_tangent, step, arclength_so_far, here);
+      record = make_point(point_kind::step, m_point, m_tangent, step, arclength_so_far, here);
       record.fold_detected = fold;
       m_report.points.push_back(record);
-      if (detail::notify_point(callback, record, m_point.state) == monitor_decision::stop_now) {
-        return finish(clock, continuation_outcome::stopped_by_callback);
+      if (detail::notify_point(monitor, record, m_point.state) == monitor_decision::stop_now) {
+        return finish(clock, continuation_stop_reason::monitor_requested_stop);
       }
       const scalar_type factor = static_cast<scalar_type>(s.target_corrector_steps) / std::max(1, record.newton_steps);
       step *= std::clamp(factor, 1 / s.maximum_step_growth, s.maximum_step_growth);
@@ -267,7 +267,7 @@ class continuation_solver {
     int rejected_steps = 0;
     std::int64_t linear_iterations = 0;
     std::int64_t residual_evaluations = 0;
-    outcome corrector_result = outcome::in_progress;
+    stop_reason_if_stopped corrector_reason;
   };
 
   /// Connects the bordered preconditioner to the run's residual for the run's duration.
@@ -299,8 +299,10 @@ class continuation_solver {
   bool outside_bounds(scalar_type parameter) const {
     return parameter < m_settings.parameter_lower_bound || parameter > m_settings.parameter_upper_bound;
   }
-  continuation_outcome failure_outcome(continuation_outcome otherwise) const {
-    return m_report.last_corrector_result == outcome::cancelled ? continuation_outcome::cancelled : otherwise;
+  continuation_stop_reason failure_reason(continuation_stop_reason otherwise) const {
+    return m_report.last_corrector_reason == stop_reason::cancellation_flag_raised
+               ? continuation_stop_reason::cancellation_flag_raised
+               : otherwise;
   }
 
   /// Whether x lies within maximum_corrector_distance·step of m_prediction (arclength metric). Collective.
@@ -329,15 +331,15 @@ class continuation_solver {
   bool correct(Residual& residual, bordered_type& x, effort& spent) {
     const std::int64_t extra_before = residual.extra_evaluations();
     auto run = m_corrector.begin(residual, x);  // the caller-driven loop: no copy of the step history
-    while (run.advance() == outcome::in_progress) {
+    while (run.advance() == run_state::running) {
     }
     const solve_report& solve = run.report();
     m_last_initial_residual_norm = solve.initial_residual_norm;
     if (solve.preconditioner_setups > 0) m_preconditioner_ready = true;
     spent.newton_steps = solve.newton_steps;  // of the latest solve: the accepted one when it converged
-    spent.corrector_result = solve.result;
+    spent.corrector_reason = solve.reason;
     m_report.newton_steps += solve.newton_steps;
-    m_report.last_corrector_result = solve.result;
+    m_report.last_corrector_reason = solve.reason;
     account(spent, solve.linear_iterations, solve.residual_evaluations + residual.extra_evaluations() - extra_before);
     return solve.converged();
   }
@@ -359,7 +361,7 @@ class continuation_solver {
     const bool set_up = !unpreconditioned && !m_preconditioner_ready;  // the start needed no Newton step
     const tangent_solve_result solved = m_tangent_solver.solve(
         residual, at, tangent, guess == tangent_guess::zero, m_corrector.preconditioner(), set_up,
-        m_settings.tangent_linear_tolerance, m_settings.tangent_residual_limit, m_state_weight, orientation);
+        m_settings.tangent_linear_tolerance, m_settings.maximum_tangent_residual, m_state_weight, orientation);
     if (solved.preconditioner_set_up) m_preconditioner_ready = true;
     account(spent, solved.linear_iterations, solved.residual_evaluations);
     return solved.usable;
@@ -401,7 +403,7 @@ class continuation_solver {
       return true;
     };
     fold.location_iterations =
-        detail::illinois_search(bracket, m_settings.max_fold_location_iterations, evaluate, located);
+        detail::illinois_search(bracket, m_settings.maximum_fold_location_iterations, evaluate, located);
     fold.located = located(bracket);
     m_fold_trial_tangent.parameter = best_tangent;
     fold.point = make_point(point_kind::fold, m_fold_point, m_fold_trial_tangent, best_sigma,
@@ -425,12 +427,12 @@ class continuation_solver {
     point.rejected_steps = spent.rejected_steps;
     point.linear_iterations = spent.linear_iterations;
     point.residual_evaluations = spent.residual_evaluations;
-    point.corrector_result = spent.corrector_result;
+    point.corrector_reason = spent.corrector_reason;
     return point;
   }
 
-  continuation_report finish(const detail::stopwatch& clock, continuation_outcome result) {
-    m_report.result = result;
+  continuation_report finish(const detail::stopwatch& clock, continuation_stop_reason reason) {
+    m_report.reason = reason;
     m_report.wall_seconds = clock.seconds();
     return m_report;
   }

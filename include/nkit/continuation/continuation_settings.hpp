@@ -15,6 +15,7 @@
 #include <cmath>
 #include <cstdint>
 #include <limits>
+#include <optional>
 #include <ostream>
 #include <string>
 #include <string_view>
@@ -40,7 +41,7 @@ enum class parameter_direction { increasing, decreasing };
 /// predictor fails fast and the step is cut (common practice).
 inline newton_settings default_corrector_settings() {
   newton_settings settings;
-  settings.max_newton_steps = 10;
+  settings.newton_step_budget = 10;
   settings.relative_tolerance = 1e-8;
   settings.absolute_tolerance = 0.0;
   return settings;
@@ -58,13 +59,13 @@ struct continuation_settings {
   /// Step control (common practice): after a converged corrector that took k
   /// Newton steps, Δs ← Δs · clamp(target_corrector_steps / max(k, 1),
   /// 1 / maximum_step_growth, maximum_step_growth); after a failure,
-  /// Δs ← Δs · step_reduction_after_failure and the step is retried.
+  /// Δs ← Δs · shrink_factor and the step is retried.
   /// 5 suits the default inexact corrector: with Eisenstat–Walker forcing
   /// (η_0 = 0.5) even a very good predictor takes about 4 Newton steps to the
   /// tolerance (measured on 1D Bratu), so a target of 4 never lets the step grow.
   int target_corrector_steps = 5;
   double maximum_step_growth = 2.0;
-  double step_reduction_after_failure = 0.5;
+  double shrink_factor = 0.5;
 
   /// θ·N in the arclength metric (see the file comment).
   double state_weight = 1.0;
@@ -75,7 +76,7 @@ struct continuation_settings {
   double parameter_upper_bound = std::numeric_limits<double>::infinity();
 
   /// Points on the branch, the start point included.
-  int max_points = 500;
+  int point_budget = 500;
 
   /// Guards against jumping to another branch (common practice): a step is
   /// rejected (and cut) when the corrected point lies farther than
@@ -97,7 +98,7 @@ struct continuation_settings {
   /// (at about the GMRES residual level) while λ is flat there, so the bracket
   /// test, not |t_λ|, is what ends the search.
   double fold_parameter_tolerance = 1e-9;
-  int max_fold_location_iterations = 20;
+  int maximum_fold_location_iterations = 20;
 
   /// Relative GMRES tolerance requested for the tangent solves
   /// (‖b − A t‖ <= tolerance·‖b‖, b = (0, σ), σ = ‖R_λ‖).
@@ -106,7 +107,7 @@ struct continuation_settings {
   /// the finite-difference noise floor, or the iteration limit) is still used
   /// when its relative residual is below this; otherwise the step is rejected.
   /// A predictor direction and the sign of t_λ need only modest accuracy.
-  double tangent_residual_limit = 1e-3;
+  double maximum_tangent_residual = 1e-3;
 
   /// Settings of every Newton–Krylov solve (start point, corrector steps, fold
   /// location). Its linear and jacobian settings also serve the tangent solves.
@@ -136,7 +137,7 @@ struct continuation_settings {
     if (!(maximum_step_growth >= 1.0 && maximum_step_growth < std::numeric_limits<double>::infinity())) {
       detail::throw_invalid_setting(p + "maximum_step_growth", "finite and >= 1", maximum_step_growth);
     }
-    detail::require_open_interval(p + "step_reduction_after_failure", step_reduction_after_failure, 0.0, 1.0);
+    detail::require_open_interval(p + "shrink_factor", shrink_factor, 0.0, 1.0);
     detail::require_positive(p + "state_weight", state_weight);
     if (std::isnan(parameter_lower_bound) || std::isnan(parameter_upper_bound) ||
         !(parameter_lower_bound < parameter_upper_bound)) {
@@ -144,81 +145,115 @@ struct continuation_settings {
                                     "< parameter_upper_bound (" + detail::number_text(parameter_upper_bound) + ")",
                                     parameter_lower_bound);
     }
-    detail::require_at_least(p + "max_points", max_points, 1);
+    detail::require_at_least(p + "point_budget", point_budget, 1);
     detail::require_positive(p + "maximum_corrector_distance", maximum_corrector_distance, true);
     detail::require_closed_interval(p + "minimum_tangent_alignment", minimum_tangent_alignment, -1.0, 1.0);
     detail::require_positive(p + "fold_parameter_tolerance", fold_parameter_tolerance);
-    detail::require_at_least(p + "max_fold_location_iterations", max_fold_location_iterations, 1);
+    detail::require_at_least(p + "maximum_fold_location_iterations", maximum_fold_location_iterations, 1);
     detail::require_open_interval(p + "tangent_linear_tolerance", tangent_linear_tolerance, 0.0, 1.0);
-    if (!(tangent_residual_limit >= tangent_linear_tolerance && tangent_residual_limit < 1.0)) {
-      detail::throw_invalid_setting(p + "tangent_residual_limit",
+    if (!(maximum_tangent_residual >= tangent_linear_tolerance && maximum_tangent_residual < 1.0)) {
+      detail::throw_invalid_setting(p + "maximum_tangent_residual",
                                     "in [tangent_linear_tolerance, 1) (tangent_linear_tolerance = " +
                                         detail::number_text(tangent_linear_tolerance) + ")",
-                                    tangent_residual_limit);
+                                    maximum_tangent_residual);
     }
     corrector.validate();
   }
 };
 
-/// Why a continuation run stopped. Only the first two are normal endings.
-enum class continuation_outcome {
-  reached_parameter_bound,  ///< the branch left [lower, upper]; the last point lies on the bound
-  reached_point_limit,      ///< max_points points computed
-  step_below_minimum,       ///< steps failed down to minimum_step (a fold, in natural-parameter mode)
-  start_point_failed,       ///< the solve at the start parameter did not converge
-  tangent_failed,           ///< pseudo-arclength: the tangent solve failed down to minimum_step
-  cancelled,                ///< the corrector's cancellation flag was raised
-  stopped_by_callback       ///< the per-point callback returned monitor_decision::stop_now
+/// The broad class of a continuation stop reason.
+enum class continuation_status {
+  completed,       ///< the run ended as asked: a parameter bound or its point budget
+  cannot_proceed,  ///< a solve or a step failed beyond recovery
+  interrupted      ///< the cancellation flag or the per-point monitor stopped it
 };
 
-constexpr std::string_view name(continuation_outcome value) {
-  switch (value) {
-    case continuation_outcome::reached_parameter_bound:
-      return "reached_parameter_bound";
-    case continuation_outcome::reached_point_limit:
-      return "reached_point_limit";
-    case continuation_outcome::step_below_minimum:
-      return "step_below_minimum";
-    case continuation_outcome::start_point_failed:
-      return "start_point_failed";
-    case continuation_outcome::tangent_failed:
-      return "tangent_failed";
-    case continuation_outcome::cancelled:
-      return "cancelled";
-    case continuation_outcome::stopped_by_callback:
-      return "stopped_by_callback";
+/// Why a continuation run stopped, in the pattern of stop_reason (report/outcome.hpp).
+enum class continuation_stop_reason {
+  parameter_bound_reached,    ///< the branch left [lower, upper]; the last point lies on the bound
+  point_budget_spent,         ///< point_budget points computed
+  step_below_minimum,         ///< steps failed down to minimum_step (a fold, in natural-parameter mode)
+  start_point_not_converged,  ///< the solve at the start parameter did not converge
+  tangent_not_solved,         ///< pseudo-arclength: the tangent solve failed down to minimum_step
+  cancellation_flag_raised,   ///< the corrector's cancellation flag was raised
+  monitor_requested_stop      ///< the per-point monitor returned monitor_decision::stop_now
+};
+
+constexpr continuation_status status_of(continuation_stop_reason reason) {
+  switch (reason) {
+    case continuation_stop_reason::parameter_bound_reached:
+    case continuation_stop_reason::point_budget_spent:
+      return continuation_status::completed;
+    case continuation_stop_reason::cancellation_flag_raised:
+    case continuation_stop_reason::monitor_requested_stop:
+      return continuation_status::interrupted;
+    default:
+      return continuation_status::cannot_proceed;
+  }
+}
+
+constexpr std::string_view name(continuation_status status) {
+  switch (status) {
+    case continuation_status::completed:
+      return "completed";
+    case continuation_status::cannot_proceed:
+      return "cannot_proceed";
+    case continuation_status::interrupted:
+      return "interrupted";
   }
   return "unknown";
 }
 
-constexpr std::string_view describe(continuation_outcome value) {
+constexpr std::string_view name(continuation_stop_reason value) {
   switch (value) {
-    case continuation_outcome::reached_parameter_bound:
-      return "Finished: the branch reached a parameter bound; the last point was solved with the parameter on it.";
-    case continuation_outcome::reached_point_limit:
-      return "Finished: the requested number of points was computed.";
-    case continuation_outcome::step_below_minimum:
-      return "Stopped: the step failed (corrector, tangent or tangent-angle test) even at the minimum step. In "
-             "natural-parameter continuation this is what a fold (turning point) looks like: the branch turns back, "
-             "no solution exists beyond it and R_u is singular at it; use pseudo-arclength continuation to follow it "
-             "around.";
-    case continuation_outcome::start_point_failed:
-      return "Stopped: the Newton-Krylov solve at the start parameter did not converge.";
-    case continuation_outcome::tangent_failed:
-      return "Stopped: GMRES did not solve the tangent system to tangent_residual_limit, even at the minimum step.";
-    case continuation_outcome::cancelled:
-      return "Stopped: the cancellation flag was raised.";
-    case continuation_outcome::stopped_by_callback:
-      return "Stopped: the per-point callback asked to stop.";
+    case continuation_stop_reason::parameter_bound_reached:
+      return "parameter_bound_reached";
+    case continuation_stop_reason::point_budget_spent:
+      return "point_budget_spent";
+    case continuation_stop_reason::step_below_minimum:
+      return "step_below_minimum";
+    case continuation_stop_reason::start_point_not_converged:
+      return "start_point_not_converged";
+    case continuation_stop_reason::tangent_not_solved:
+      return "tangent_not_solved";
+    case continuation_stop_reason::cancellation_flag_raised:
+      return "cancellation_flag_raised";
+    case continuation_stop_reason::monitor_requested_stop:
+      return "monitor_requested_stop";
   }
-  return "Unknown outcome.";
+  return "unknown";
 }
 
-inline std::ostream& operator<<(std::ostream& stream, continuation_outcome value) { return stream << name(value); }
+constexpr std::string_view describe(continuation_stop_reason value) {
+  switch (value) {
+    case continuation_stop_reason::parameter_bound_reached:
+      return "Completed: the branch reached a parameter bound; the last point was solved with the parameter on it.";
+    case continuation_stop_reason::point_budget_spent:
+      return "Completed: point_budget points were computed.";
+    case continuation_stop_reason::step_below_minimum:
+      return "Cannot proceed: the step failed (corrector, tangent or tangent-angle test) even at the minimum step. "
+             "In natural-parameter continuation this is what a fold (turning point) looks like: the branch turns "
+             "back, no solution exists beyond it and R_u is singular at it; use pseudo-arclength continuation to "
+             "follow it around.";
+    case continuation_stop_reason::start_point_not_converged:
+      return "Cannot proceed: the Newton-Krylov solve at the start parameter did not converge "
+             "(last_corrector_reason says why).";
+    case continuation_stop_reason::tangent_not_solved:
+      return "Cannot proceed: GMRES did not solve the tangent system to maximum_tangent_residual, even at the "
+             "minimum step.";
+    case continuation_stop_reason::cancellation_flag_raised:
+      return "Interrupted: the cancellation flag was raised.";
+    case continuation_stop_reason::monitor_requested_stop:
+      return "Interrupted: the per-point monitor asked to stop.";
+  }
+  return "Unknown stop reason.";
+}
+
+inline std::ostream& operator<<(std::ostream& stream, continuation_stop_reason value) { return stream << name(value); }
 
 enum class point_kind {
   start,            ///< solved at the start parameter
-  branch,           ///< an accepted continuation step
+  step,             ///< an accepted continuation step
   fold,             ///< a located fold (also listed in continuation_report::folds)
   parameter_bound,  ///< the last point, solved with λ fixed on a bound
 };
@@ -226,10 +261,10 @@ enum class point_kind {
 /// One point of the branch. Norms are Euclidean; counts are those spent on
 /// this point (corrector solves, rejected attempts and tangent solve).
 struct continuation_point {
-  point_kind kind = point_kind::branch;
+  point_kind kind = point_kind::step;
   int index = 0;                          ///< position in continuation_report::points (folds: the point after the fold)
   double parameter = 0.0;                 ///< λ
-  double state_norm = 0.0;                ///< ‖u‖₂ (the callback sees u itself, for other norms)
+  double state_norm = 0.0;                ///< ‖u‖₂ (the monitor sees u itself, for other norms)
   double arclength = 0.0;                 ///< sum of the accepted steps from the start (Δs, or |Δλ| in natural mode)
   double step = 0.0;                      ///< the step that reached this point (0 at the start)
   double tangent_parameter = 0.0;         ///< t_λ, λ-component of the unit tangent (metric above)
@@ -238,7 +273,7 @@ struct continuation_point {
   int rejected_steps = 0;                 ///< failed corrector attempts before this point
   std::int64_t linear_iterations = 0;     ///< GMRES iterations, all solves for this point
   std::int64_t residual_evaluations = 0;  ///< calls of R, all solves for this point (J·v ones included)
-  outcome corrector_result = outcome::in_progress;  ///< outcome of the accepted corrector solve
+  stop_reason_if_stopped corrector_reason;  ///< why the accepted corrector solve stopped
 };
 
 /// A fold (turning point) between two branch points.
@@ -249,13 +284,11 @@ struct fold_record {
 };
 
 struct continuation_report {
-  continuation_outcome result = continuation_outcome::reached_point_limit;
-  std::string_view message() const { return describe(result); }
-  /// True for the normal endings (bound or point limit reached).
-  bool finished() const {
-    return result == continuation_outcome::reached_parameter_bound ||
-           result == continuation_outcome::reached_point_limit;
-  }
+  continuation_stop_reason reason = continuation_stop_reason::point_budget_spent;
+  std::string_view message() const { return describe(reason); }
+  continuation_status status() const { return status_of(reason); }
+  /// True for the normal endings (a parameter bound or the point budget reached).
+  bool completed() const { return status() == continuation_status::completed; }
 
   std::vector<continuation_point> points;  ///< start, branch points, and the bound point (not folds)
   std::vector<fold_record> folds;
@@ -263,33 +296,33 @@ struct continuation_report {
   int rejected_steps = 0;
   std::int64_t linear_iterations = 0;
   std::int64_t residual_evaluations = 0;
-  /// The last corrector solve's outcome (explains a step_below_minimum or start_point_failed).
-  outcome last_corrector_result = outcome::in_progress;
+  /// Why the last corrector solve stopped (explains step_below_minimum or start_point_not_converged).
+  stop_reason_if_stopped last_corrector_reason;
   /// ‖[R; N]‖ at which solves after the start point stopped (see continuation_settings::corrector).
   double corrector_tolerance = 0.0;
   double wall_seconds = 0.0;
 };
 
-/// The per-point callback of continuation_solver::trace_branch is any
-/// callable callback(const continuation_point& point, const vector_type& state)
+/// The per-point monitor of continuation_solver::follow_branch is any
+/// callable monitor(const continuation_point& point, const vector_type& state)
 /// returning void or monitor_decision (stop_now ends the run).
-/// The default per-point callback: observes nothing.
-struct null_point_callback {
+/// The default per-point monitor: observes nothing.
+struct null_point_monitor {
   template <class Vector>
   void operator()(const continuation_point& /*point*/, const Vector& /*state*/) const {}
 };
 
 namespace detail {
-template <class Callback, class Vector>
-monitor_decision notify_point(Callback& callback, const continuation_point& point, const Vector& state) {
-  static_assert(std::is_invocable_v<Callback&, const continuation_point&, const Vector&>,
-                "nkit: a continuation callback must be callable as callback(const continuation_point&, const "
+template <class PointMonitor, class Vector>
+monitor_decision notify_point(PointMonitor& monitor, const continuation_point& point, const Vector& state) {
+  static_assert(std::is_invocable_v<PointMonitor&, const continuation_point&, const Vector&>,
+                "nkit: a continuation monitor must be callable as monitor(const continuation_point&, const "
                 "vector_type& state), returning void or monitor_decision");
-  if constexpr (std::is_void_v<std::invoke_result_t<Callback&, const continuation_point&, const Vector&>>) {
-    callback(point, state);
+  if constexpr (std::is_void_v<std::invoke_result_t<PointMonitor&, const continuation_point&, const Vector&>>) {
+    monitor(point, state);
     return monitor_decision::keep_going;
   } else {
-    return to_decision(callback(point, state));
+    return to_decision(monitor(point, state));
   }
 }
 }  // namespace detail

@@ -102,12 +102,13 @@ class block_vector_space : public local_vector_operations<double> {
   }
 
   /// Per-block ratio tests combined with a min, as a distributed space would.
-  double max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
+  double maximum_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
     double step = std::numeric_limits<double>::infinity();
     for (int b = 0; b < m_block_count; ++b) {
       const auto [start, length] = block(b, x.size());
-      const double local = detail::local_max_step_to_bounds(x.segment(start, length), d.segment(start, length),
-                                                            lower.segment(start, length), upper.segment(start, length));
+      const double local =
+          detail::local_maximum_step_to_bounds(x.segment(start, length), d.segment(start, length),
+                                               lower.segment(start, length), upper.segment(start, length));
       step = std::min(step, local);
     }
     return step;

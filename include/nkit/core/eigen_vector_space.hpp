@@ -22,7 +22,7 @@ namespace nkit {
 /// path when NKIT_USE_OPENMP is defined). With OpenMP, dot, norm and
 /// all_finite on long vectors add chunk results in chunk order, so they are
 /// reproducible for a given requested thread count whatever team size the
-/// runtime grants (detail/parallel_loops.hpp); max_step_to_bounds and
+/// runtime grants (detail/parallel_loops.hpp); maximum_step_to_bounds and
 /// within_bounds stay serial (once per Newton step).
 template <class Scalar = double>
 class eigen_vector_space : public local_vector_operations<Scalar> {
@@ -70,8 +70,8 @@ class eigen_vector_space : public local_vector_operations<Scalar> {
   }
 
   /// Largest t >= 0 with lower <= x + t d <= upper (+inf if unbounded along d).
-  Scalar max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
-    return detail::local_max_step_to_bounds(x, d, lower, upper);
+  Scalar maximum_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
+    return detail::local_maximum_step_to_bounds(x, d, lower, upper);
   }
   bool within_bounds(const_view x, const_view lower, const_view upper) const {
     return (x.array() >= lower.array()).all() && (x.array() <= upper.array()).all();

@@ -32,25 +32,25 @@ inline constexpr bool is_linear_operator_v = detail::is_linear_operator_impl<Ope
 
 /// How a linear solve ended.
 enum class linear_solve_status {
-  converged,           ///< ‖b − A x‖ <= relative_tolerance · ‖b‖ (includes an exact "happy" breakdown)
-  iteration_limit,     ///< max_iterations spent
-  stagnated,           ///< a whole restart cycle gave no reduction of the residual
-  non_finite,          ///< the operator or preconditioner produced NaN/Inf; x holds the last finite iterate
-  stopped_by_observer  ///< the per-iteration observer asked to stop
+  converged,  ///< ‖b − A x‖ <= relative_tolerance · ‖b‖ (includes an exact "happy" breakdown)
+  maximum_iterations_reached,  ///< maximum_iterations spent
+  stagnated,                   ///< a whole restart cycle gave no reduction of the residual
+  non_finite,                  ///< the operator or preconditioner produced NaN/Inf; x holds the last finite iterate
+  monitor_requested_stop       ///< the per-iteration monitor asked to stop
 };
 
 constexpr std::string_view name(linear_solve_status status) {
   switch (status) {
     case linear_solve_status::converged:
       return "converged";
-    case linear_solve_status::iteration_limit:
-      return "iteration_limit";
+    case linear_solve_status::maximum_iterations_reached:
+      return "maximum_iterations_reached";
     case linear_solve_status::stagnated:
       return "stagnated";
     case linear_solve_status::non_finite:
       return "non_finite";
-    case linear_solve_status::stopped_by_observer:
-      return "stopped_by_observer";
+    case linear_solve_status::monitor_requested_stop:
+      return "monitor_requested_stop";
   }
   return "unknown";
 }

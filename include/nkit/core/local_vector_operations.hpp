@@ -31,7 +31,7 @@ namespace detail {
 /// Ratio test for bounds on local data: min over i of the distance to the bound
 /// d_i points at, divided by |d_i| (+inf when no d_i points at a finite bound).
 template <class X, class D, class L, class U>
-typename X::Scalar local_max_step_to_bounds(const X& x, const D& d, const L& lower, const U& upper) {
+typename X::Scalar local_maximum_step_to_bounds(const X& x, const D& d, const L& lower, const U& upper) {
   using scalar = typename X::Scalar;
   scalar step = std::numeric_limits<scalar>::infinity();
   for (Eigen::Index i = 0; i < x.size(); ++i) {

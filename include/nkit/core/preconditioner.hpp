@@ -41,7 +41,7 @@ using sparse_matrix = Eigen::SparseMatrix<double, Eigen::RowMajor, int>;
 enum class setup_status {
   ready,                ///< built as requested
   ready_with_fallback,  ///< the requested factor failed (e.g. zero pivot); a documented fallback was built
-  failed                ///< nothing usable could be built; the solve stops with outcome::preconditioner_failed
+  failed  ///< nothing usable could be built; the solve stops with stop_reason::preconditioner_setup_failed
 };
 
 /// Gives a preconditioner the assembled Jacobian on demand. The Newton driver

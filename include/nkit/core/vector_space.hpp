@@ -34,7 +34,7 @@
 ///     void divide(const_view weights, state_view x) const                        x_i /= w_i
 ///     void add_product(const_view weights, const_view x, state_view y) const     y_i += w_i x_i
 ///   bounds (reductions; used only when bounds are set)
-///     scalar_type max_step_to_bounds(const_view x, const_view d, const_view lower,
+///     scalar_type maximum_step_to_bounds(const_view x, const_view d, const_view lower,
 ///                                    const_view upper) const
 ///         largest t >= 0 with lower <= x + t d <= upper (+inf when d never
 ///         reaches a bound); x must lie within the bounds
@@ -116,7 +116,7 @@ struct has_vector_space_members<
         decltype(std::declval<const Space&>().add_product(std::declval<const typename Space::vector_type&>(),
                                                           std::declval<const typename Space::vector_type&>(),
                                                           std::declval<typename Space::vector_type&>())),
-        decltype(std::declval<const Space&>().max_step_to_bounds(
+        decltype(std::declval<const Space&>().maximum_step_to_bounds(
             std::declval<const typename Space::vector_type&>(), std::declval<const typename Space::vector_type&>(),
             std::declval<const typename Space::vector_type&>(), std::declval<const typename Space::vector_type&>())),
         decltype(std::declval<const Space&>().within_bounds(

@@ -18,15 +18,15 @@ struct sign_change_bracket {
 };
 
 /// Shrinks `bracket` (f_lower, f_upper of opposite signs) until stop(bracket)
-/// holds, `max_evaluations` are spent, or evaluate(x, f) returns false (f
+/// holds, `maximum_evaluations` are spent, or evaluate(x, f) returns false (f
 /// could not be computed at x). Trial points outside the open bracket (from
 /// rounding) are replaced by its midpoint. Returns the evaluations made.
 template <class Evaluate, class Stop>
-int illinois_search(sign_change_bracket& bracket, int max_evaluations, Evaluate&& evaluate, Stop&& stop) {
+int illinois_search(sign_change_bracket& bracket, int maximum_evaluations, Evaluate&& evaluate, Stop&& stop) {
   double weighted_lower = bracket.f_lower, weighted_upper = bracket.f_upper;
   int kept = 0;  // +1: the lower end was kept last time, −1: the upper end
   int evaluations = 0;
-  while (!stop(static_cast<const sign_change_bracket&>(bracket)) && evaluations < max_evaluations) {
+  while (!stop(static_cast<const sign_change_bracket&>(bracket)) && evaluations < maximum_evaluations) {
     double x = bracket.upper - weighted_upper * (bracket.upper - bracket.lower) / (weighted_upper - weighted_lower);
     if (!(x > bracket.lower && x < bracket.upper)) x = 0.5 * (bracket.lower + bracket.upper);
     double f = 0.0;

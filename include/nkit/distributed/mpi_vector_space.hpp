@@ -13,7 +13,7 @@
 ///
 /// Collective members (every rank of the communicator must call them, in the
 /// same order, and every rank receives the same value): dot, norm, all_finite,
-/// global_size, first_global_index, max_step_to_bounds, within_bounds,
+/// global_size, first_global_index, maximum_step_to_bounds, within_bounds,
 /// dot_many, any_of. Element-wise members come from local_vector_operations
 /// (shared with the serial space, OpenMP path included): they touch only
 /// local data and never communicate.
@@ -134,8 +134,8 @@ class mpi_vector_space : public local_vector_operations<double> {
 
   /// Largest t >= 0 with lower <= x + t d <= upper on every rank: the local
   /// ratio test, then a global minimum. Collective.
-  double max_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
-    double local = detail::local_max_step_to_bounds(x, d, lower, upper);
+  double maximum_step_to_bounds(const_view x, const_view d, const_view lower, const_view upper) const {
+    double local = detail::local_maximum_step_to_bounds(x, d, lower, upper);
     double global = 0.0;
     ++*m_reductions;
     MPI_Allreduce(&local, &global, 1, MPI_DOUBLE, MPI_MIN, m_communicator);

@@ -33,11 +33,11 @@
 
 namespace nkit {
 
-enum class forcing_term_kind { constant, eisenstat_walker_choice_1, eisenstat_walker_choice_2 };
+enum class forcing_term_formula { constant, eisenstat_walker_choice_1, eisenstat_walker_choice_2 };
 
 struct forcing_term_settings {
-  forcing_term_kind kind = forcing_term_kind::eisenstat_walker_choice_2;
-  /// η for kind == constant. Small values give (near) exact Newton steps.
+  forcing_term_formula formula = forcing_term_formula::eisenstat_walker_choice_2;
+  /// η for formula == constant. Small values give (near) exact Newton steps.
   double constant_value = 1e-4;
   /// η_0 for the Eisenstat–Walker choices.
   double initial_value = 0.5;
@@ -51,7 +51,7 @@ struct forcing_term_settings {
 
   void validate(std::string_view prefix = "forcing_term_settings") const {
     const std::string p(prefix);
-    detail::require_enumerator(p + ".kind", kind, forcing_term_kind::eisenstat_walker_choice_2,
+    detail::require_enumerator(p + ".formula", formula, forcing_term_formula::eisenstat_walker_choice_2,
                                "constant, eisenstat_walker_choice_1, eisenstat_walker_choice_2");
     detail::require_open_interval(p + ".constant_value", constant_value, 0.0, 1.0);
     detail::require_open_interval(p + ".initial_value", initial_value, 0.0, 1.0);
@@ -78,10 +78,10 @@ class forcing_term_sequence {
   /// is τ, the norm that stops the solve (for the oversolving safeguard).
   double next(double residual_norm, double converged_norm) const {
     const forcing_term_settings& s = m_settings;
-    if (s.kind == forcing_term_kind::constant) return s.constant_value;
+    if (s.formula == forcing_term_formula::constant) return s.constant_value;
     double eta = s.initial_value;
     if (m_previous_eta > 0.0 && m_previous_norm > 0.0) {
-      if (s.kind == forcing_term_kind::eisenstat_walker_choice_1) {
+      if (s.formula == forcing_term_formula::eisenstat_walker_choice_1) {
         const double golden = 0.5 * (1.0 + std::sqrt(5.0));
         eta = std::abs(residual_norm - m_previous_linear_residual) / m_previous_norm;
         const double safeguard = std::pow(m_previous_eta, golden);

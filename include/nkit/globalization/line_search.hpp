@@ -12,7 +12,7 @@
 ///
 /// Step-length choice: safeguarded quadratic interpolation at the first
 /// backtrack and cubic interpolation afterwards on φ(λ) = ½‖R(u + λs)‖²,
-/// with the new λ kept in [minimum_shrink·λ, maximum_shrink·λ]; J.E. Dennis
+/// with the new λ kept in [minimum_shrink_factor·λ, maximum_shrink_factor·λ]; J.E. Dennis
 /// & R.B. Schnabel, "Numerical Methods for Unconstrained Optimization and
 /// Nonlinear Equations", SIAM Classics (1996), Algorithm A6.3.1. The slope
 /// φ'(0) = R(u)ᵀ R'(u) s is needed only once a trial is rejected; the caller
@@ -21,7 +21,7 @@
 /// Newton direction satisfies is used instead.
 ///
 /// A trial whose residual is NaN or Inf is rejected and the step shrinks by
-/// maximum_shrink; the iterate is never moved to such a point.
+/// maximum_shrink_factor; the iterate is never moved to such a point.
 
 #include <cmath>
 #include <limits>
@@ -36,27 +36,28 @@ struct line_search_settings {
   /// t in the acceptance test (Dennis & Schnabel use 1e-4).
   double sufficient_decrease = 1e-4;
   /// Bounds on the ratio new λ / old λ (Dennis & Schnabel: 0.1 and 0.5).
-  double minimum_shrink = 0.1;
-  double maximum_shrink = 0.5;
+  double minimum_shrink_factor = 0.1;
+  double maximum_shrink_factor = 0.5;
   /// Rejected trials allowed per Newton step before the search fails.
-  int max_backtracks = 20;
+  int maximum_rejected_trials = 20;
 
   void validate(std::string_view prefix = "line_search_settings") const {
     const std::string p(prefix);
     detail::require_open_interval(p + ".sufficient_decrease", sufficient_decrease, 0.0, 1.0);
-    detail::require_open_interval(p + ".minimum_shrink", minimum_shrink, 0.0, 1.0);
-    detail::require_open_interval(p + ".maximum_shrink", maximum_shrink, 0.0, 1.0);
-    if (minimum_shrink > maximum_shrink) {
-      detail::throw_invalid_setting(p + ".minimum_shrink",
-                                    "<= maximum_shrink (" + detail::number_text(maximum_shrink) + ")", minimum_shrink);
+    detail::require_open_interval(p + ".minimum_shrink_factor", minimum_shrink_factor, 0.0, 1.0);
+    detail::require_open_interval(p + ".maximum_shrink_factor", maximum_shrink_factor, 0.0, 1.0);
+    if (minimum_shrink_factor > maximum_shrink_factor) {
+      detail::throw_invalid_setting(p + ".minimum_shrink_factor",
+                                    "<= maximum_shrink_factor (" + detail::number_text(maximum_shrink_factor) + ")",
+                                    minimum_shrink_factor);
     }
-    detail::require_at_least(p + ".max_backtracks", max_backtracks, 0);
+    detail::require_at_least(p + ".maximum_rejected_trials", maximum_rejected_trials, 0);
   }
 };
 
 struct line_search_result {
   bool accepted = false;
-  double step_length = 0.0;    ///< λ of the accepted (or last) trial
+  double step_fraction = 0.0;  ///< λ of the accepted (or last) trial
   double residual_norm = 0.0;  ///< ‖R(u + λs)‖ of the accepted (or last finite) trial
   int trials = 0;              ///< residual evaluations made
   int non_finite_trials = 0;
@@ -82,7 +83,7 @@ line_search_result backtracking_line_search(const line_search_settings& settings
   for (int backtrack = 0;; ++backtrack) {
     const double norm = trial(lambda);
     ++result.trials;
-    result.step_length = lambda;
+    result.step_fraction = lambda;
     const bool finite = std::isfinite(norm);
     if (finite) result.residual_norm = norm;
     if (finite &&
@@ -90,9 +91,9 @@ line_search_result backtracking_line_search(const line_search_settings& settings
       result.accepted = true;
       return result;
     }
-    if (backtrack >= settings.max_backtracks) return result;
+    if (backtrack >= settings.maximum_rejected_trials) return result;
 
-    double next = settings.maximum_shrink * lambda;
+    double next = settings.maximum_shrink_factor * lambda;
     if (!finite) {
       ++result.non_finite_trials;
       have_previous = false;  // nothing to interpolate from
@@ -123,7 +124,8 @@ line_search_result backtracking_line_search(const line_search_settings& settings
         }
       }
       if (std::isfinite(candidate)) {
-        next = std::fmin(std::fmax(candidate, settings.minimum_shrink * lambda), settings.maximum_shrink * lambda);
+        next = std::fmin(std::fmax(candidate, settings.minimum_shrink_factor * lambda),
+                         settings.maximum_shrink_factor * lambda);
       }
       previous_lambda = lambda;
       previous_phi = phi;

@@ -22,7 +22,7 @@
 /// "Experiments with implicit upwind methods for the Euler equations",
 /// J. Comput. Phys. 59 (1985) 232–246 (formula from memory):
 ///   δ_{k+1} = δ_k ‖R(u_k)‖ / ‖R(u_{k+1})‖,
-/// capped at growth_limit·δ_k and at maximum_step. Kelley & Keyes require
+/// capped at maximum_step_growth·δ_k and at maximum_step. Kelley & Keyes require
 /// δ → ∞ for fast local convergence; the driver ends the pseudo-transient
 /// phase (plain Newton with line search follows) once ‖R‖ <= switch_ratio ·
 /// ‖R(u0)‖ or δ reaches maximum_step. The term enters both the J·v product
@@ -47,13 +47,13 @@ struct pseudo_transient_settings {
   double initial_step = 1.0;
   /// Upper limit on δ; reaching it also ends the pseudo-transient phase.
   double maximum_step = 1e12;
-  /// Stop with outcome::pseudo_time_step_collapsed when a failing δ falls below this.
+  /// The step control gives up (stop_reason::no_acceptable_step) when a failing δ falls below this.
   double minimum_step = 1e-12;
-  /// Cap on the growth of δ per step: δ_{n+1} <= growth_limit · δ_n.
-  double growth_limit = 10.0;
+  /// Cap on the growth of δ per step: δ_{n+1} <= maximum_step_growth · δ_n.
+  double maximum_step_growth = 10.0;
   /// Factor applied to δ when a step is rejected (non-finite or inadmissible residual).
-  double failure_shrink = 0.25;
-  /// Reject a pseudo-time step (and shrink δ by failure_shrink) when it raises
+  double shrink_factor = 0.25;
+  /// Reject a pseudo-time step (and shrink δ by shrink_factor) when it raises
   /// ‖R‖ by more than this factor; a δ too large for the transient shows up
   /// this way (common practice).
   double maximum_residual_growth = 10.0;
@@ -71,8 +71,9 @@ struct pseudo_transient_settings {
                                         detail::number_text(maximum_step) + "]",
                                     initial_step);
     }
-    if (!(growth_limit > 1.0)) detail::throw_invalid_setting(p + ".growth_limit", "> 1", growth_limit);
-    detail::require_open_interval(p + ".failure_shrink", failure_shrink, 0.0, 1.0);
+    if (!(maximum_step_growth > 1.0))
+      detail::throw_invalid_setting(p + ".maximum_step_growth", "> 1", maximum_step_growth);
+    detail::require_open_interval(p + ".shrink_factor", shrink_factor, 0.0, 1.0);
     if (!(maximum_residual_growth >= 1.0)) {
       detail::throw_invalid_setting(p + ".maximum_residual_growth", ">= 1", maximum_residual_growth);
     }
@@ -85,12 +86,12 @@ inline double next_pseudo_time_step(const pseudo_transient_settings& settings, d
                                     double new_norm) {
   double next = new_norm > 0.0 ? step * previous_norm / new_norm : settings.maximum_step;
   if (!std::isfinite(next)) next = settings.maximum_step;
-  next = std::min(next, settings.growth_limit * step);
+  next = std::min(next, settings.maximum_step_growth * step);
   return std::min(next, settings.maximum_step);
 }
 
 /// What one attempt at a pseudo-time step gave.
-struct pseudo_time_attempt {
+struct pseudo_time_trial {
   bool abandoned = false;      ///< the Newton direction could not be computed: the step ends without a trial
   double residual_norm = 0.0;  ///< ‖R‖ at the trial state (+inf or NaN when unusable)
 };
@@ -98,7 +99,7 @@ struct pseudo_time_attempt {
 struct pseudo_time_step_result {
   bool accepted = false;
   bool abandoned = false;      ///< an attempt was abandoned (its cause is the caller's)
-  int rejected_attempts = 0;   ///< attempts refused before the accepted one
+  int rejected_trials = 0;     ///< attempts refused before the accepted one
   double used_step = 0.0;      ///< δ of the accepted attempt
   double residual_norm = 0.0;  ///< ‖R‖ at the accepted state
 };
@@ -106,7 +107,7 @@ struct pseudo_time_step_result {
 /// One pseudo-time step with retries, as a kernel: `attempt(δ, k)` (k = 0, 1,
 /// ...) computes the step for pseudo-time step δ and returns ‖R‖ at its trial
 /// state; an attempt is accepted when that norm is finite and at most
-/// maximum_residual_growth·‖R(u)‖, otherwise δ shrinks by failure_shrink and
+/// maximum_residual_growth·‖R(u)‖, otherwise δ shrinks by shrink_factor and
 /// the step is retried, until δ falls below minimum_step (then not accepted).
 /// `step` is updated in place: to the next δ by switched evolution
 /// relaxation after acceptance, to the shrunken δ after failure.
@@ -115,23 +116,23 @@ pseudo_time_step_result pseudo_time_step_search(const pseudo_transient_settings&
                                                 double residual_norm, Attempt&& attempt) {
   pseudo_time_step_result result;
   for (int k = 0;; ++k) {
-    const pseudo_time_attempt tried = attempt(step, k);
+    const pseudo_time_trial tried = attempt(step, k);
     if (tried.abandoned) {
       result.abandoned = true;
-      result.rejected_attempts = k;
+      result.rejected_trials = k;
       return result;
     }
     if (std::isfinite(tried.residual_norm) && tried.residual_norm <= settings.maximum_residual_growth * residual_norm) {
       result.accepted = true;
-      result.rejected_attempts = k;
+      result.rejected_trials = k;
       result.used_step = step;
       result.residual_norm = tried.residual_norm;
       step = next_pseudo_time_step(settings, step, residual_norm, tried.residual_norm);
       return result;
     }
-    step *= settings.failure_shrink;
+    step *= settings.shrink_factor;
     if (step < settings.minimum_step) {
-      result.rejected_attempts = k + 1;
+      result.rejected_trials = k + 1;
       return result;
     }
   }

@@ -35,7 +35,7 @@ namespace nkit {
 struct trust_region_settings {
   /// Δ_0; 0 means the length of the first Newton step.
   double initial_radius = 0.0;
-  /// Stop with outcome::trust_region_collapsed below this radius (scaled step norm).
+  /// The search gives up (stop_reason::no_acceptable_step) below this radius (scaled step norm).
   double minimum_radius = 1e-12;
   double maximum_radius = std::numeric_limits<double>::infinity();
   /// Accept a step when actual/predicted reduction exceeds this.

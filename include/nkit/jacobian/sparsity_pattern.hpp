@@ -41,7 +41,7 @@ struct sparsity_pattern {
   std::size_t nonzeros() const { return column_indices.size(); }
   /// Largest number of entries in one row (a lower bound on the number of
   /// colors any column grouping needs: Coleman & Moré 1983).
-  int max_row_nonzeros() const {
+  int maximum_row_nonzeros() const {
     int widest = 0;
     for (int i = 0; i < rows; ++i) widest = std::max(widest, row_starts[i + 1] - row_starts[i]);
     return widest;

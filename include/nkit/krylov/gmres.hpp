@@ -20,8 +20,8 @@
 /// distributed space.
 ///
 /// Memory: (m + 3) vectors, plus m more for the flexible variant, plus O(m²)
-/// doubles, where m = min(restart_length, max_iterations) (a cycle never
-/// uses more than max_iterations vectors). All of it is allocated
+/// doubles, where m = min(restart_length, maximum_iterations) (a cycle never
+/// uses more than maximum_iterations vectors). All of it is allocated
 /// on the first solve (or allocate_like()) and reused while the size stays
 /// the same: later solves allocate nothing.
 
@@ -42,6 +42,7 @@
 #include "../detail/checks.hpp"
 #include "../detail/givens.hpp"
 #include "../detail/timer.hpp"
+#include "../report/monitor.hpp"
 #include "../report/trace.hpp"
 
 namespace nkit {
@@ -56,7 +57,7 @@ struct gmres_settings {
   /// orthogonalisation work quadratically.
   int restart_length = 30;
   /// Arnoldi steps allowed per linear solve, summed over restarts.
-  int max_iterations = 300;
+  int maximum_iterations = 300;
   /// flexible stores the preconditioned vectors (restart_length more
   /// vectors) so M⁻¹ may change between applications. The Newton driver
   /// switches to flexible automatically for such preconditioners.
@@ -68,7 +69,7 @@ struct gmres_settings {
   void validate(std::string_view prefix = "gmres_settings") const {
     const std::string p(prefix);
     detail::require_at_least(p + ".restart_length", restart_length, 1);
-    detail::require_at_least(p + ".max_iterations", max_iterations, 1);
+    detail::require_at_least(p + ".maximum_iterations", maximum_iterations, 1);
     detail::require_enumerator(p + ".variant", variant, gmres_variant::flexible, "standard, flexible");
     detail::require_enumerator(p + ".orthogonalization", orthogonalization,
                                orthogonalization_method::classical_gram_schmidt_twice,
@@ -78,10 +79,19 @@ struct gmres_settings {
   }
 };
 
-/// Default per-iteration observer: never stops.
-struct no_linear_observer {
-  bool operator()(int /*iteration*/, double /*relative_residual*/) const { return true; }
+/// Default per-iteration monitor of a linear solve: never stops.
+struct null_linear_monitor {
+  monitor_decision operator()(int /*iteration*/, double /*relative_residual*/) const {
+    return monitor_decision::keep_going;
+  }
 };
+
+namespace detail {
+/// A linear monitor says whether to go on with a monitor_decision (or, for
+/// simple lambdas, a bool: true = keep going).
+inline bool keep_going(monitor_decision decision) { return decision == monitor_decision::keep_going; }
+inline bool keep_going(bool go_on) { return go_on; }
+}  // namespace detail
 
 template <class Space = eigen_vector_space<double>>
 class gmres_solver {
@@ -152,12 +162,13 @@ class gmres_solver {
   ///   op.apply(in, out)        out = A in
   ///   preconditioner.apply(r, z)  z = M⁻¹ r
   ///   guess                    initial_guess::zero ignores x on entry (saves one A·x)
-  ///   observer(iteration, ‖b − A x‖/‖b‖) after every Arnoldi step; return false to stop
+  ///   monitor(iteration, ‖b − A x‖/‖b‖) after every Arnoldi step; return
+  ///   monitor_decision::stop_now (or false) to stop
   /// On every status x holds the best iterate built from finite data.
-  template <class Operator, class Preconditioner, class Observer = no_linear_observer>
+  template <class Operator, class Preconditioner, class LinearMonitor = null_linear_monitor>
   linear_solve_result solve(Operator& op, Preconditioner& preconditioner, const vector_type& b, vector_type& x,
                             double relative_tolerance, initial_guess guess = initial_guess::given,
-                            Observer&& observer = {}) {
+                            LinearMonitor&& monitor = {}) {
     static_assert(is_linear_operator_v<Operator, vector_type>,
                   "nkit: the operator must have apply(const vector_type& in, vector_type& out)");
     if (!(relative_tolerance >= 0.0)) {
@@ -209,8 +220,8 @@ class gmres_solver {
         result.status = linear_solve_status::converged;
         break;
       }
-      if (total >= m_settings.max_iterations) {
-        result.status = linear_solve_status::iteration_limit;
+      if (total >= m_settings.maximum_iterations) {
+        result.status = linear_solve_status::maximum_iterations_reached;
         break;
       }
       m_space.scale(1 / beta, first);
@@ -222,7 +233,7 @@ class gmres_solver {
       bool non_finite = false;
       bool stopped = false;
 
-      for (int j = 0; j < m && total < m_settings.max_iterations; ++j) {
+      for (int j = 0; j < m && total < m_settings.maximum_iterations; ++j) {
         const auto iteration_start = detail::clock_type::now();
         const vector_type* z = &m_basis[static_cast<std::size_t>(j)];
         if constexpr (!identity) {
@@ -278,7 +289,7 @@ class gmres_solver {
           m_trace->record(trace_phase::linear_iteration, iteration_start, now, total);
           m_trace->record_counter(trace_counter::relative_linear_residual, now, estimate / b_norm);
         }
-        if (!observer(total, estimate / b_norm)) {
+        if (!detail::keep_going(monitor(total, estimate / b_norm))) {
           stopped = true;
           break;
         }
@@ -306,15 +317,15 @@ class gmres_solver {
         break;
       }
       if (stopped) {
-        result.status = linear_solve_status::stopped_by_observer;
+        result.status = linear_solve_status::monitor_requested_stop;
         break;
       }
       if (happy_breakdown || columns == 0) {
         result.status = estimate <= target ? linear_solve_status::converged : linear_solve_status::stagnated;
         break;
       }
-      if (total >= m_settings.max_iterations) {
-        result.status = linear_solve_status::iteration_limit;
+      if (total >= m_settings.maximum_iterations) {
+        result.status = linear_solve_status::maximum_iterations_reached;
         break;
       }
       // Restart from the true residual of the current iterate.
@@ -345,9 +356,9 @@ class gmres_solver {
 
  private:
   /// Krylov vectors per restart cycle: restart_length, but never more than
-  /// max_iterations (so a huge restart_length does not allocate what no
+  /// maximum_iterations (so a huge restart_length does not allocate what no
   /// cycle can use).
-  int cycle_length() const { return std::min(m_settings.restart_length, m_settings.max_iterations); }
+  int cycle_length() const { return std::min(m_settings.restart_length, m_settings.maximum_iterations); }
 
   /// Orthogonalises basis[j+1] against basis[0..j]; writes H(0..j, j);
   /// returns the norm of what remains.

@@ -42,11 +42,11 @@ class preconditioned_linear_solve {
       : m_space(space),
         m_preconditioner(std::move(preconditioner)),
         m_gmres(settings.linear, space),
-        m_schedule(settings.preconditioner_reuse) {}
+        m_schedule(settings.preconditioner_rebuild) {}
 
   void configure(const newton_settings& settings) {
     m_gmres.configure(settings.linear);
-    m_schedule.configure(settings.preconditioner_reuse);
+    m_schedule.configure(settings.preconditioner_rebuild);
   }
   Preconditioner& preconditioner() { return m_preconditioner; }
   const Preconditioner& preconditioner() const { return m_preconditioner; }
@@ -96,12 +96,12 @@ class preconditioned_linear_solve {
   }
 
   /// Solves R'(u) x = rhs to relative tolerance eta from x = 0 (x: the
-  /// Newton direction; `observer(iteration, relative)` may stop GMRES), and
+  /// Newton direction; `monitor(iteration, relative)` may stop GMRES), and
   /// records the outcome with the schedule. `cauchy`, when not null,
   /// receives the Krylov-subspace Cauchy point (trust region).
-  template <class Problem, class Observer>
+  template <class Problem, class LinearMonitor>
   linear_solve_result solve(problem_access<Space>& access, Problem& problem, phase_ledger& ledger,
-                            const vector_type& rhs, vector_type& x, double eta, Observer&& observer,
+                            const vector_type& rhs, vector_type& x, double eta, LinearMonitor&& monitor,
                             vector_type* cauchy) {
     auto op = access.jacobian(problem);
     m_gmres.capture_cauchy_point(cauchy);
@@ -113,10 +113,10 @@ class preconditioned_linear_solve {
     phase_scope scope(ledger, trace_phase::linear_solve, report.newton_steps + 1);
     try {
       if constexpr (std::is_same_v<target_type, identity_preconditioner>) {
-        result = m_gmres.solve(op, target(), rhs, x, eta, initial_guess::zero, observer);
+        result = m_gmres.solve(op, target(), rhs, x, eta, initial_guess::zero, monitor);
       } else {
         timed_preconditioner preconditioner{this, &ledger, &access};
-        result = m_gmres.solve(op, preconditioner, rhs, x, eta, initial_guess::zero, observer);
+        result = m_gmres.solve(op, preconditioner, rhs, x, eta, initial_guess::zero, monitor);
       }
     } catch (const stop_signal&) {
       // A budget, limit or cancellation inside a J·v or preconditioner

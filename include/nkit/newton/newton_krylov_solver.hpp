@@ -29,7 +29,7 @@
 /// vectors, history capacity) is allocated on the first solve and kept, so a
 /// later solve of the same size allocates nothing in its iterations; solve()
 /// allocates once at the end, to copy the history into the returned report.
-/// (History room is reserved for min(max_newton_steps, 1024) steps; a solve
+/// (History room is reserved for min(newton_step_budget, 1024) steps; a solve
 /// longer than that grows it once, and the larger capacity is kept.)
 
 #include <algorithm>
@@ -37,6 +37,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <limits>
+#include <optional>
 #include <stdexcept>
 #include <string>
 #include <type_traits>
@@ -140,7 +141,7 @@ class newton_krylov_solver {
     using problem_type = std::remove_reference_t<Problem>;
     using monitor_type = std::remove_reference_t<Monitor>&;
     newton_run<newton_krylov_solver, problem_type, monitor_type> run(*this, problem, u, monitor);
-    while (run.advance() == outcome::in_progress) {
+    while (run.advance() == run_state::running) {
     }
     return run.report();
   }
@@ -166,7 +167,7 @@ class newton_krylov_solver {
   friend class newton_run;
 
   /// History records reserved up front (about 130 bytes each).
-  static constexpr int max_reserved_history = 1024;
+  static constexpr int maximum_reserved_history = 1024;
 
   static const newton_settings& validated(const newton_settings& settings) {
     settings.validate();
@@ -187,10 +188,11 @@ class newton_krylov_solver {
           "nkit: newton_settings.componentwise.enabled needs a vector space with weighted_max_norm() and magnitudes()");
     }
 
-    // Capped: max_newton_steps = INT_MAX ("no limit") must not reserve ~250 GB.
+    // Capped: newton_step_budget = INT_MAX ("no limit") must not reserve ~250 GB.
     // Longer solves grow the history once; the capacity is kept for later solves.
-    m_history_capacity = std::max(
-        m_history_capacity, static_cast<std::size_t>(std::min(m_settings.max_newton_steps, max_reserved_history)));
+    m_history_capacity =
+        std::max(m_history_capacity,
+                 static_cast<std::size_t>(std::min(m_settings.newton_step_budget, maximum_reserved_history)));
     m_ledger.begin(m_report, m_history_capacity);
 
     for (vector_type* v : {&m_state, &m_residual, &m_step, &m_best_state}) m_space.allocate_like(*v, u);
@@ -239,10 +241,10 @@ class newton_krylov_solver {
     }
   }
 
-  /// After start(): the outcome when no step is needed or possible (the
+  /// After start(): the stop reason when no step is needed or possible (the
   /// component-wise test needs a step, so u0 converges by the residual test alone).
-  outcome initial_outcome() const {
-    if (!m_space.all_finite(m_residual)) return outcome::non_finite_initial_residual;
+  std::optional<stop_reason> initial_stop() const {
+    if (!m_space.all_finite(m_residual)) return stop_reason::non_finite_initial_residual;
     return residual_convergence();
   }
 
@@ -258,9 +260,11 @@ class newton_krylov_solver {
     }
   }
 
-  /// Ends the run: on a non-converged outcome u gets the best iterate.
-  void finish(outcome reason, state_view u) {
-    m_report.result = reason;
+  /// Ends the run: when not converged, u gets the best iterate.
+  void finish(stop_reason reason, state_view u) {
+    m_report.reason = reason;
+    m_report.globalization_at_stop =
+        m_steps.pseudo_transient() ? globalization_strategy::pseudo_transient : m_settings.globalization;
     if (!is_converged(reason) && !m_best_is_current) {
       std::swap(m_state, m_best_state);
       m_norm = m_best_norm;
@@ -275,32 +279,33 @@ class newton_krylov_solver {
     m_report.workspace_bytes = workspace_bytes();
   }
 
-  outcome residual_convergence() const {
-    if (m_norm <= m_settings.absolute_tolerance) return outcome::converged_absolute_residual;
+  std::optional<stop_reason> residual_convergence() const {
+    if (m_norm <= m_settings.absolute_tolerance) return stop_reason::absolute_tolerance_met;
     if (m_norm <= m_settings.relative_tolerance * m_report.initial_residual_norm) {
-      return outcome::converged_relative_residual;
+      return stop_reason::relative_tolerance_met;
     }
-    return outcome::in_progress;
+    return std::nullopt;
   }
   /// After a step: the residual test and, when enabled, the component-wise step test.
-  outcome convergence() const {
-    const outcome residual_test = residual_convergence();
-    if (residual_test == outcome::in_progress || !m_settings.componentwise.enabled) return residual_test;
-    return m_step_ratio <= 1.0 ? residual_test : outcome::in_progress;
+  std::optional<stop_reason> convergence() const {
+    const std::optional<stop_reason> residual_test = residual_convergence();
+    if (!residual_test || !m_settings.componentwise.enabled) return residual_test;
+    if (m_step_ratio <= 1.0) return residual_test;
+    return std::nullopt;
   }
 
   // ---- one Newton step ----------------------------------------------------------
 
   template <class Problem, class Monitor>
-  outcome step(Problem& problem, Monitor& monitor, state_view u) {
+  std::optional<stop_reason> step(Problem& problem, Monitor& monitor, state_view u) {
     const int k = m_report.newton_steps;
-    if (k >= m_settings.max_newton_steps) return outcome::newton_step_limit;
+    if (k >= m_settings.newton_step_budget) return stop_reason::newton_step_budget_spent;
     newton_step_record record;
     record.step = k + 1;
     phase_scope step_scope(m_ledger, trace_phase::newton_step, record.step, /*traced=*/false);
 
     const detail::step_inputs<Space> in{m_access, m_ledger, m_state, m_residual, m_step, m_norm, record};
-    outcome early = outcome::in_progress;
+    std::optional<stop_reason> early;
     if (m_steps.pseudo_transient()) {
       bool phase_ended = false;
       early = m_steps.pseudo_time_step(
@@ -311,7 +316,7 @@ class newton_krylov_solver {
       }
     } else {
       early = newton_direction(problem, monitor, record);
-      if (early == outcome::in_progress) {
+      if (!early) {
         early =
             m_settings.globalization == globalization_strategy::trust_region
                 ? m_steps.trust_region(problem, in, m_linear_residual_norm, m_linear.gmres().cauchy_point_available())
@@ -319,7 +324,7 @@ class newton_krylov_solver {
                                       m_settings.globalization == globalization_strategy::line_search);
       }
     }
-    if (early != outcome::in_progress) {
+    if (early) {
       record_failed_step(record);
       return early;
     }
@@ -354,7 +359,7 @@ class newton_krylov_solver {
       ++m_steps_since_best;
     }
     ++m_report.newton_steps;
-    if (record.bound_active) ++m_report.bound_limited_steps;
+    if (record.step_shortened_by_bounds) ++m_report.steps_shortened_by_bounds;
     m_access.write_state(m_state, u);
 
     record.residual_norm = new_norm;
@@ -367,48 +372,49 @@ class newton_krylov_solver {
     const monitor_decision decision = detail::notify_newton_step_timed(monitor, record, m_ledger);
     m_ledger.trace_newton_step(record, step_scope.start());
 
-    if (decision == monitor_decision::stop_now) return outcome::stopped_by_monitor;
-    if (const outcome converged = convergence(); converged != outcome::in_progress) return converged;
-    if (m_settings.step_tolerance > 0.0 &&
-        record.step_norm <= m_settings.step_tolerance * (1.0 + m_space.norm(m_state))) {
-      return outcome::step_below_tolerance;
+    if (decision == monitor_decision::stop_now) return stop_reason::monitor_requested_stop;
+    if (const auto converged = convergence()) return converged;
+    if (m_settings.negligible_step_size > 0.0 &&
+        record.step_norm <= m_settings.negligible_step_size * (1.0 + m_space.norm(m_state))) {
+      return stop_reason::negligible_step;
     }
-    if (!m_steps.pseudo_transient() && m_steps_since_best >= m_settings.stagnation_window) return outcome::stagnated;
-    if (m_linear_budget_spent) return outcome::linear_iteration_budget;
-    return outcome::in_progress;
+    if (!m_steps.pseudo_transient() && m_steps_since_best >= m_settings.stagnation_window)
+      return stop_reason::residual_stagnated;
+    if (m_linear_budget_spent) return stop_reason::linear_iteration_budget_spent;
+    return std::nullopt;
   }
 
   /// Forcing term, preconditioner, GMRES: leaves x (R'(u) x ≈ R(u)) in m_step.
   template <class Problem, class Monitor>
-  outcome newton_direction(Problem& problem, Monitor& monitor, newton_step_record& record) {
+  std::optional<stop_reason> newton_direction(Problem& problem, Monitor& monitor, newton_step_record& record) {
     const int k = m_report.newton_steps;
     const double eta = m_forcing.next(m_norm, m_target_norm);
     record.forcing_term = eta;
     m_access.linearize_at(m_state, m_residual);
     bool setup_failed = false;
-    record.preconditioner_rebuilt =
+    record.preconditioner_set_up =
         m_linear.rebuild_if_due(m_access, problem, m_ledger, m_state, m_residual, k, m_steps.shift(), setup_failed);
-    if (setup_failed) return outcome::preconditioner_failed;
+    if (setup_failed) return stop_reason::preconditioner_setup_failed;
     const std::int64_t budget_left = m_settings.linear_iteration_budget - m_report.linear_iterations;
-    if (budget_left <= 0) return outcome::linear_iteration_budget;
+    if (budget_left <= 0) return stop_reason::linear_iteration_budget_spent;
     const std::int64_t used_before = m_report.linear_iterations;
-    auto observer = [&](int iteration, double relative) {
+    auto linear_monitor = [&](int iteration, double relative) {
       m_report.linear_iterations = used_before + iteration;
       m_access.check_cancellation_and_clock();  // after every Arnoldi step: the time limit holds within GMRES
       if (detail::notify_linear_iteration_timed(monitor, linear_iteration_record{record.step, iteration, relative, eta},
                                                 m_ledger) == monitor_decision::stop_now) {
         m_monitor_stopped = true;
-        return false;
+        return monitor_decision::stop_now;
       }
       if (iteration >= budget_left) {
         m_linear_budget_spent = true;
-        return false;
+        return monitor_decision::stop_now;
       }
-      return true;
+      return monitor_decision::keep_going;
     };
     const linear_solve_result linear =
-        m_linear.solve(m_access, problem, m_ledger, m_residual, m_step, eta, observer, m_steps.cauchy_target());
-    if (m_monitor_stopped) return outcome::stopped_by_monitor;
+        m_linear.solve(m_access, problem, m_ledger, m_residual, m_step, eta, linear_monitor, m_steps.cauchy_target());
+    if (m_monitor_stopped) return stop_reason::monitor_requested_stop;
     record.linear_iterations = linear.iterations;
     record.linear_status = linear.status;
     m_achieved_eta = linear.relative_residual();
@@ -416,18 +422,18 @@ class newton_krylov_solver {
     record.relative_linear_residual = m_achieved_eta;
     if (linear.iterations == 0 || !(m_achieved_eta < 1.0)) return no_direction_cause();
     m_forcing.record(eta, m_norm, linear.final_residual_norm);
-    return outcome::in_progress;
+    return std::nullopt;
   }
 
   /// Why GMRES gave no direction: a preconditioner whose output is not finite
   /// (checked by applying it once more to R(u)), or anything else.
-  outcome no_direction_cause() {
+  std::optional<stop_reason> no_direction_cause() {
     if constexpr (!std::is_same_v<typename detail::preconditioned_linear_solve<Space, Preconditioner>::target_type,
                                   identity_preconditioner>) {
-      if (m_linear.output_is_finite(m_residual, m_steps.scratch())) return outcome::linear_solver_no_progress;
-      return outcome::preconditioner_output_not_finite;
+      if (m_linear.output_is_finite(m_residual, m_steps.scratch())) return stop_reason::no_newton_direction;
+      return stop_reason::preconditioner_output_not_finite;
     } else {
-      return outcome::linear_solver_no_progress;
+      return stop_reason::no_newton_direction;
     }
   }
 

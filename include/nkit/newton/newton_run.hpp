@@ -5,7 +5,7 @@
 /// The handle of a caller-driven Newton solve (newton_krylov_solver::begin):
 ///
 ///   auto run = solver.begin(residual, u);
-///   while (run.advance() == nkit::outcome::in_progress) { /* look at u */ }
+///   while (run.advance() == nkit::run_state::running) { /* look at u */ }
 ///   const nkit::solve_report& report = run.report();
 ///
 /// newton_krylov_solver::solve() is exactly this loop, so there is one code
@@ -13,6 +13,7 @@
 /// throws, the exception propagates, `u` holds the last accepted iterate and
 /// the run cannot continue.
 
+#include <optional>
 #include <stdexcept>
 #include <utility>
 
@@ -33,9 +34,7 @@ class newton_run {
     try {
       m_solver->start(*m_problem, m_u);
       m_solver->notify_start(m_monitor);
-      if (const outcome early = m_solver->initial_outcome(); early != outcome::in_progress) {
-        m_solver->finish(early, m_u);
-      }
+      if (const std::optional<stop_reason> early = m_solver->initial_stop()) m_solver->finish(*early, m_u);
     } catch (const detail::stop_signal& signal) {
       m_solver->finish(signal.reason, m_u);
     }
@@ -45,28 +44,32 @@ class newton_run {
   newton_run& operator=(const newton_run&) = delete;
   newton_run(newton_run&&) noexcept = default;
 
-  /// Takes one Newton step; returns outcome::in_progress until the solve stops.
-  outcome advance() {
+  /// Takes one Newton step; returns run_state::running until the solve stops
+  /// (then reason() says why).
+  run_state advance() {
     if (m_broken) {
       throw std::logic_error("nkit: this run cannot continue after an exception from user code; start a new one");
     }
-    if (m_solver->m_report.result != outcome::in_progress) return m_solver->m_report.result;
+    if (m_solver->m_report.reason) return run_state::stopped;
     try {
-      const outcome result = m_solver->step(*m_problem, m_monitor, m_u);
-      if (result != outcome::in_progress) m_solver->finish(result, m_u);
-      return result;
+      const std::optional<stop_reason> stop = m_solver->step(*m_problem, m_monitor, m_u);
+      if (!stop) return run_state::running;
+      m_solver->finish(*stop, m_u);
+      return run_state::stopped;
     } catch (const detail::stop_signal& signal) {
       m_solver->finish(signal.reason, m_u);
-      return signal.reason;
+      return run_state::stopped;
     } catch (...) {
       m_broken = true;  // u already holds the last accepted iterate
       throw;
     }
   }
 
-  /// The report so far (complete once advance() returned a final outcome).
+  /// The report so far (complete once advance() returned run_state::stopped).
   const solve_report& report() const { return m_solver->m_report; }
-  outcome result() const { return m_solver->m_report.result; }
+  run_state state() const { return m_solver->m_report.reason ? run_state::stopped : run_state::running; }
+  /// Why the run stopped (empty while it is running).
+  stop_reason_if_stopped reason() const { return m_solver->m_report.reason; }
 
  private:
   Solver* m_solver;

@@ -17,6 +17,7 @@
 #include <string>
 #include <string_view>
 
+#include "../core/globalization_strategy.hpp"
 #include "../detail/checks.hpp"
 #include "../globalization/bounds.hpp"
 #include "../globalization/forcing_term.hpp"
@@ -28,28 +29,6 @@
 #include "preconditioner_schedule.hpp"
 
 namespace nkit {
-
-/// How a Newton direction becomes a step.
-enum class globalization_strategy {
-  line_search,      ///< backtracking with sufficient decrease (line_search.hpp); the robust default
-  full_step,        ///< take λ = 1 unless the residual there is not finite (or the state inadmissible)
-  trust_region,     ///< dogleg between the Krylov-subspace Cauchy point and the Newton step (trust_region.hpp)
-  pseudo_transient  ///< pseudo-transient continuation (pseudo_transient.hpp), then Newton with line search
-};
-
-constexpr std::string_view name(globalization_strategy value) {
-  switch (value) {
-    case globalization_strategy::line_search:
-      return "line_search";
-    case globalization_strategy::full_step:
-      return "full_step";
-    case globalization_strategy::trust_region:
-      return "trust_region";
-    case globalization_strategy::pseudo_transient:
-      return "pseudo_transient";
-  }
-  return "unknown";
-}
 
 /// How nkit makes sure the residual writes every entry of its output r. A
 /// residual that leaves entries unwritten (a grid-size mismatch is the usual
@@ -108,10 +87,10 @@ struct newton_settings {
   double relative_tolerance = 1e-8;
   /// Converged when ‖R(u)‖ <= absolute_tolerance (0 = off).
   double absolute_tolerance = 0.0;
-  /// Stop (not converged) when ‖u_k − u_{k−1}‖ <= step_tolerance · (1 + ‖u_k‖) (0 = off).
-  double step_tolerance = 0.0;
+  /// Stop (not converged) when ‖u_k − u_{k−1}‖ <= negligible_step_size · (1 + ‖u_k‖) (0 = off).
+  double negligible_step_size = 0.0;
   /// Newton steps allowed.
-  int max_newton_steps = 50;
+  int newton_step_budget = 50;
   /// Calls of the user's residual allowed, J·v ones included (always holds: checked before each call).
   std::int64_t residual_evaluation_budget = std::numeric_limits<std::int64_t>::max();
   /// GMRES iterations allowed over the whole solve.
@@ -119,8 +98,8 @@ struct newton_settings {
   /// Wall-clock limit, checked before every residual evaluation, J·v product,
   /// preconditioner setup and application, and after every GMRES iteration:
   /// a solve overruns it by at most one such call.
-  double wall_time_limit_seconds = std::numeric_limits<double>::infinity();
-  /// Stop (outcome::stagnated) when, within this many Newton steps, the
+  double wall_time_budget_seconds = std::numeric_limits<double>::infinity();
+  /// Stop (stop_reason::residual_stagnated) when, within this many Newton steps, the
   /// residual norm never fell below stagnation_factor times its value at the
   /// last such progress (not checked during pseudo-transient steps).
   int stagnation_window = 10;
@@ -152,7 +131,7 @@ struct newton_settings {
   bound_settings bounds;
   gmres_settings linear;
   jacobian_settings jacobian;
-  preconditioner_reuse_settings preconditioner_reuse;
+  preconditioner_rebuild_settings preconditioner_rebuild;
 
   /// Throws std::invalid_argument naming the first bad field and its value.
   void validate() const {
@@ -169,11 +148,11 @@ struct newton_settings {
                                     "> 0 when absolute_tolerance is 0 (otherwise nothing can converge)",
                                     relative_tolerance);
     }
-    detail::require_non_negative("newton_settings.step_tolerance", step_tolerance);
-    detail::require_at_least("newton_settings.max_newton_steps", max_newton_steps, 1);
+    detail::require_non_negative("newton_settings.negligible_step_size", negligible_step_size);
+    detail::require_at_least("newton_settings.newton_step_budget", newton_step_budget, 1);
     detail::require_at_least<std::int64_t>("newton_settings.residual_evaluation_budget", residual_evaluation_budget, 1);
     detail::require_at_least<std::int64_t>("newton_settings.linear_iteration_budget", linear_iteration_budget, 1);
-    detail::require_positive("newton_settings.wall_time_limit_seconds", wall_time_limit_seconds, true);
+    detail::require_positive("newton_settings.wall_time_budget_seconds", wall_time_budget_seconds, true);
     detail::require_at_least("newton_settings.stagnation_window", stagnation_window, 1);
     detail::require_enumerator("newton_settings.check_unwritten_residual_entries", check_unwritten_residual_entries,
                                unwritten_entry_check::every_evaluation, "off, initial_residual, every_evaluation");
@@ -189,7 +168,7 @@ struct newton_settings {
     bounds.validate("newton_settings.bounds");
     linear.validate("newton_settings.linear");
     jacobian.validate("newton_settings.jacobian");
-    preconditioner_reuse.validate("newton_settings.preconditioner_reuse");
+    preconditioner_rebuild.validate("newton_settings.preconditioner_rebuild");
   }
 };
 

@@ -22,7 +22,7 @@
 namespace nkit {
 
 /// When the driver rebuilds the preconditioner (calls its setup()).
-struct preconditioner_reuse_settings {
+struct preconditioner_rebuild_settings {
   /// Rebuild at least every this many Newton steps (1 = every step).
   int rebuild_every_newton_steps = 1;
   /// Also rebuild when the previous linear solve needed more than this many
@@ -35,7 +35,7 @@ struct preconditioner_reuse_settings {
   /// then treated as built at step 0 of the new solve.
   bool rebuild_at_solve_start = true;
 
-  void validate(std::string_view prefix = "preconditioner_reuse_settings") const {
+  void validate(std::string_view prefix = "preconditioner_rebuild_settings") const {
     const std::string p(prefix);
     detail::require_at_least(p + ".rebuild_every_newton_steps", rebuild_every_newton_steps, 1);
     detail::require_at_least(p + ".rebuild_when_linear_iterations_exceed", rebuild_when_linear_iterations_exceed, 0);
@@ -44,10 +44,10 @@ struct preconditioner_reuse_settings {
 
 class preconditioner_schedule {
  public:
-  explicit preconditioner_schedule(preconditioner_reuse_settings settings = {}) : m_settings(settings) {}
+  explicit preconditioner_schedule(preconditioner_rebuild_settings settings = {}) : m_settings(settings) {}
 
-  void configure(const preconditioner_reuse_settings& settings) { m_settings = settings; }
-  const preconditioner_reuse_settings& settings() const { return m_settings; }
+  void configure(const preconditioner_rebuild_settings& settings) { m_settings = settings; }
+  const preconditioner_rebuild_settings& settings() const { return m_settings; }
 
   /// At the start of a solve of `size` unknowns: keeps a preconditioner built
   /// by an earlier solve of the same size only when rebuild_at_solve_start is
@@ -91,7 +91,7 @@ class preconditioner_schedule {
   }
 
  private:
-  preconditioner_reuse_settings m_settings;
+  preconditioner_rebuild_settings m_settings;
   bool m_requested = false;
   bool m_current = false;
   int m_last_setup_step = -1;

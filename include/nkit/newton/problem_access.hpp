@@ -56,7 +56,7 @@ namespace detail {
 /// budget, the time limit or the cancellation flag stops the solve. Never
 /// escapes the solver.
 struct stop_signal {
-  outcome reason;
+  stop_reason reason;
 };
 
 /// J(i, first_column + i) += shift(i) for every local row i; inserts missing
@@ -96,7 +96,7 @@ class problem_access {
     m_bound_settings = settings.bounds;
     m_evaluation_budget = settings.residual_evaluation_budget;
     m_unwritten_check = settings.check_unwritten_residual_entries;
-    m_wall_time_limit = settings.wall_time_limit_seconds;
+    m_wall_time_budget = settings.wall_time_budget_seconds;
     m_cancellation_flag = settings.cancellation_flag;
   }
   const Space& space() const { return m_space; }
@@ -249,7 +249,7 @@ class problem_access {
   void evaluate(Problem& problem, const vector_type& x, vector_type& r, evaluation_purpose purpose) {
     solve_report& report = m_ledger->report();
     if (report.residual_evaluations >= m_evaluation_budget) {
-      throw detail::stop_signal{outcome::residual_evaluation_budget};
+      throw detail::stop_signal{stop_reason::residual_evaluation_budget_spent};
     }
     check_cancellation_and_clock();
     const vector_type& physical = physical_state(x);
@@ -315,10 +315,10 @@ class problem_access {
   void check_cancellation_and_clock() const {
     const std::atomic<bool>* flag = m_cancellation_flag;
     if (flag != nullptr && any_of(m_space, flag->load(std::memory_order_relaxed))) {
-      throw detail::stop_signal{outcome::cancelled};
+      throw detail::stop_signal{stop_reason::cancellation_flag_raised};
     }
-    if (std::isfinite(m_wall_time_limit) && any_of(m_space, m_ledger->elapsed_seconds() > m_wall_time_limit)) {
-      throw detail::stop_signal{outcome::wall_time_limit};
+    if (std::isfinite(m_wall_time_budget) && any_of(m_space, m_ledger->elapsed_seconds() > m_wall_time_budget)) {
+      throw detail::stop_signal{stop_reason::wall_time_budget_spent};
     }
   }
 
@@ -329,7 +329,7 @@ class problem_access {
   double bound_limit(const vector_type& state, const vector_type& x) {
     if (!m_has_bounds) return 1.0;
     m_space.combine(-1, x, 0, x, m_direction);  // s = −x
-    return fraction_to_boundary(m_bound_settings, m_space.max_step_to_bounds(state, m_direction, lower(), upper()));
+    return fraction_to_boundary(m_bound_settings, m_space.maximum_step_to_bounds(state, m_direction, lower(), upper()));
   }
 
   // ---- Jacobian-vector products ---------------------------------------------------------
@@ -467,9 +467,9 @@ class problem_access {
     const vector_type& state = *m_state;
     double step = m_difference.step_for(direction_norm);
     if (m_has_bounds) {
-      const double forward_room = m_space.max_step_to_bounds(state, v, lower(), upper());
+      const double forward_room = m_space.maximum_step_to_bounds(state, v, lower(), upper());
       m_space.combine(-1, v, 0, v, m_direction);
-      const double backward_room = m_space.max_step_to_bounds(state, m_direction, lower(), upper());
+      const double backward_room = m_space.maximum_step_to_bounds(state, m_direction, lower(), upper());
       if (forward_room >= 2.0 * step) {
       } else if (backward_room >= 2.0 * step) {
         step = -step;
@@ -481,7 +481,7 @@ class problem_access {
       for (int attempt = 0;; ++attempt) {
         m_space.combine(1, state, step, v, m_direction);
         if (admissible(problem, m_direction)) break;
-        if (attempt == 60) throw detail::stop_signal{outcome::linear_solver_no_progress};
+        if (attempt == 60) throw detail::stop_signal{stop_reason::no_newton_direction};
         step = attempt % 2 == 0 ? -step : -0.5 * step;  // try the other side, then a shorter step
       }
     }
@@ -532,7 +532,7 @@ class problem_access {
   bound_settings m_bound_settings;
   std::int64_t m_evaluation_budget = std::numeric_limits<std::int64_t>::max();
   unwritten_entry_check m_unwritten_check = unwritten_entry_check::initial_residual;
-  double m_wall_time_limit = std::numeric_limits<double>::infinity();
+  double m_wall_time_budget = std::numeric_limits<double>::infinity();
   const std::atomic<bool>* m_cancellation_flag = nullptr;
   phase_ledger* m_ledger = nullptr;
 

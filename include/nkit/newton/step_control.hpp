@@ -94,10 +94,11 @@ class newton_step_control {
 
   /// Line search (require_decrease) or full step along s = −x.
   template <class Problem>
-  outcome line_search(Problem& problem, const step_inputs<Space>& in, double achieved_eta, bool require_decrease) {
+  std::optional<stop_reason> line_search(Problem& problem, const step_inputs<Space>& in, double achieved_eta,
+                                         bool require_decrease) {
     phase_scope scope(in.ledger, trace_phase::globalization, in.record.step);
     const double limit = in.access.bound_limit(in.state, in.direction);
-    in.record.bound_active = limit < 1.0;
+    in.record.step_shortened_by_bounds = limit < 1.0;
     // Shortening the direction to t·s raises the linear-model residual to (1 − t(1 − η))‖R‖.
     const double eta = 1.0 - limit * (1.0 - achieved_eta);
     const line_search_result search = backtracking_line_search(
@@ -109,15 +110,15 @@ class newton_step_control {
         });
     scope.close();
     solve_report& report = in.ledger.report();
-    in.record.backtracks = search.trials - 1;
-    report.backtracks += search.trials - 1;
+    in.record.rejected_trials = search.trials - 1;
+    report.rejected_trials += search.trials - 1;
     report.non_finite_trials += search.non_finite_trials;
-    if (!search.accepted) return outcome::line_search_failed;
+    if (!search.accepted) return stop_reason::no_acceptable_step;
     // The last trial evaluated is the accepted one: m_trial_* hold it.
     m_trial_norm = search.residual_norm;
-    in.record.step_length = search.step_length * limit;
-    in.record.step_norm = in.record.step_length * m_space.norm(in.direction);
-    return outcome::in_progress;
+    in.record.step_fraction = search.step_fraction * limit;
+    in.record.step_norm = in.record.step_fraction * m_space.norm(in.direction);
+    return std::nullopt;
   }
 
   /// Dogleg between the Krylov-subspace Cauchy point and the Newton step
@@ -125,8 +126,8 @@ class newton_step_control {
   /// linear residual GMRES reached, ‖R + J s_N‖, at no cost; the two J·v
   /// products of the dogleg model are taken only when a shorter point is needed.
   template <class Problem>
-  outcome trust_region(Problem& problem, const step_inputs<Space>& in, double linear_residual_norm,
-                       bool cauchy_available) {
+  std::optional<stop_reason> trust_region(Problem& problem, const step_inputs<Space>& in, double linear_residual_norm,
+                                          bool cauchy_available) {
     phase_scope scope(in.ledger, trace_phase::globalization, in.record.step);
     solve_report& report = in.ledger.report();
     const double norm = in.residual_norm;
@@ -176,27 +177,27 @@ class newton_step_control {
     const trust_region_result result =
         dogleg_search(m_trust_region, m_trust_radius, norm, newton_norm, geometry, trial_point);
     scope.close();
-    if (!result.accepted) return outcome::trust_region_collapsed;
+    if (!result.accepted) return stop_reason::no_acceptable_step;
     m_trial_norm = result.residual_norm;
-    in.record.step_length = 1.0;
+    in.record.step_fraction = 1.0;
     in.record.step_norm = result.step_norm;
     in.record.trust_radius = m_trust_radius;
-    in.record.bound_active = limit < 1.0;
-    in.record.backtracks = result.rejected_trials;
-    report.backtracks += result.rejected_trials;
-    return outcome::in_progress;
+    in.record.step_shortened_by_bounds = limit < 1.0;
+    in.record.rejected_trials = result.rejected_trials;
+    report.rejected_trials += result.rejected_trials;
+    return std::nullopt;
   }
 
   /// One pseudo-time step: (W/δ + R'(u)) x = R(u), u ← u − x; δ by switched
   /// evolution relaxation, retried with a smaller δ on failure
   /// (globalization/pseudo_transient.hpp). `direction()` computes x for the
   /// current shift (the driver's forcing term, preconditioner and GMRES) and
-  /// returns outcome::in_progress or why it could not. `phase_ended` is set
+  /// returns nothing or why it could not. `phase_ended` is set
   /// when the pseudo-transient phase is over (the access's shift is then
   /// removed; the driver resets its forcing term and rebuilds its preconditioner).
   template <class Problem, class Direction>
-  outcome pseudo_time_step(Problem& problem, const step_inputs<Space>& in, Direction&& direction,
-                           preconditioner_schedule& schedule, bool& phase_ended) {
+  std::optional<stop_reason> pseudo_time_step(Problem& problem, const step_inputs<Space>& in, Direction&& direction,
+                                              preconditioner_schedule& schedule, bool& phase_ended) {
     phase_ended = false;
     if constexpr (detail::has_pseudo_time_weights<Problem, vector_type>::value) {
       problem.pseudo_time_weights(in.access.physical_state(in.state), m_weights);
@@ -204,16 +205,16 @@ class newton_step_control {
       in.access.scale_pseudo_time_weights(m_weights);
     }
     solve_report& report = in.ledger.report();
-    outcome abandoned = outcome::in_progress;
+    std::optional<stop_reason> abandoned;
     double limit = 1.0;
     const pseudo_time_step_result result = pseudo_time_step_search(
         m_pseudo_transient_settings, m_pseudo_time_step, in.residual_norm, [&](double delta, int attempt) {
           m_space.copy(m_weights, m_shift);
           m_space.scale(1 / delta, m_shift);
           if (attempt > 0) schedule.request_rebuild();  // the shift changed
-          pseudo_time_attempt tried;
+          pseudo_time_trial tried;
           abandoned = direction();
-          if (abandoned != outcome::in_progress) {
+          if (abandoned) {
             tried.abandoned = true;
             return tried;
           }
@@ -227,13 +228,13 @@ class newton_step_control {
           return tried;
         });
     if (result.abandoned) return abandoned;
-    if (!result.accepted) return outcome::pseudo_time_step_collapsed;
+    if (!result.accepted) return stop_reason::no_acceptable_step;
     in.record.pseudo_time_step = result.used_step;
-    in.record.step_length = limit;
+    in.record.step_fraction = limit;
     in.record.step_norm = limit * m_space.norm(in.direction);
-    in.record.bound_active = limit < 1.0;
-    in.record.backtracks = result.rejected_attempts;
-    report.backtracks += result.rejected_attempts;
+    in.record.step_shortened_by_bounds = limit < 1.0;
+    in.record.rejected_trials = result.rejected_trials;
+    report.rejected_trials += result.rejected_trials;
     m_trial_norm = result.residual_norm;
     if (pseudo_transient_phase_ends(m_pseudo_transient_settings, result.residual_norm, report.initial_residual_norm,
                                     m_pseudo_time_step)) {
@@ -241,7 +242,7 @@ class newton_step_control {
       in.access.set_diagonal_shift(nullptr);
       phase_ended = true;
     }
-    return outcome::in_progress;
+    return std::nullopt;
   }
 
   /// Entries of the work vectors held (for workspace_bytes()).

@@ -45,12 +45,12 @@ namespace nkit {
 
 /// How each rank solves with its diagonal block.
 enum class subdomain_solver {
-  incomplete_lu,  ///< Eigen::IncompleteLUT with the drop tolerance and fill factor below
-  sparse_direct   ///< Eigen::SparseLU (exact block solve; memory grows faster than the block)
+  incomplete_lut,  ///< Eigen::IncompleteLUT with the drop tolerance and fill factor below
+  sparse_direct    ///< Eigen::SparseLU (exact block solve; memory grows faster than the block)
 };
 
 struct additive_schwarz_settings {
-  subdomain_solver local_solver = subdomain_solver::incomplete_lu;
+  subdomain_solver local_solver = subdomain_solver::incomplete_lut;
   /// ILUT: entries smaller than this times the row norm are dropped.
   double drop_tolerance = 1e-4;
   /// ILUT: at most fill_factor × (entries of the row) kept per row of L and of U.
@@ -94,7 +94,7 @@ class additive_schwarz_preconditioner {
     }
     extract_diagonal_block(jacobian);
     bool failed = false;
-    if (m_settings.local_solver == subdomain_solver::incomplete_lu) {
+    if (m_settings.local_solver == subdomain_solver::incomplete_lut) {
       if (!m_incomplete) m_incomplete = std::make_unique<incomplete_factor>();
       m_incomplete->setDroptol(m_settings.drop_tolerance);
       m_incomplete->setFillfactor(m_settings.fill_factor);
@@ -114,7 +114,7 @@ class additive_schwarz_preconditioner {
   void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) const {
     if (!m_ready)
       throw std::logic_error("nkit: additive_schwarz_preconditioner::apply called before a successful setup");
-    if (m_settings.local_solver == subdomain_solver::incomplete_lu) {
+    if (m_settings.local_solver == subdomain_solver::incomplete_lut) {
       z = m_incomplete->solve(r);
     } else {
       z = m_direct->solve(r);

@@ -58,9 +58,9 @@ struct algebraic_multigrid_settings {
   /// Connection i→j is strong when −a_ij ≥ θ max_k(−a_ik); θ in [0, 1).
   double strength_threshold = 0.25;
   /// Levels in the hierarchy, the finest included (≥ 2 for any coarsening).
-  int max_levels = 25;
+  int maximum_levels = 25;
   /// Interpolation truncated to this many entries per row (0 = no truncation).
-  int max_interpolation_entries_per_row = 4;
+  int maximum_interpolation_entries_per_row = 4;
   /// Levels coarsened aggressively (fewer coarse points, cheaper setup).
   int aggressive_coarsening_levels = 0;
 
@@ -71,8 +71,8 @@ struct algebraic_multigrid_settings {
     if (!(strength_threshold >= 0.0 && strength_threshold < 1.0)) {
       detail::throw_invalid_setting(p + ".strength_threshold", "in [0, 1)", strength_threshold);
     }
-    detail::require_at_least(p + ".max_levels", max_levels, 2);
-    detail::require_at_least(p + ".max_interpolation_entries_per_row", max_interpolation_entries_per_row, 0);
+    detail::require_at_least(p + ".maximum_levels", maximum_levels, 2);
+    detail::require_at_least(p + ".maximum_interpolation_entries_per_row", maximum_interpolation_entries_per_row, 0);
     detail::require_at_least(p + ".aggressive_coarsening_levels", aggressive_coarsening_levels, 0);
   }
 };

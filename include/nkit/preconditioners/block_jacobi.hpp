@@ -35,14 +35,14 @@ class block_jacobi_preconditioner {
  public:
   block_jacobi_preconditioner() : block_jacobi_preconditioner(1) {}
   explicit block_jacobi_preconditioner(int block_size) : m_block(block_size) {
-    if (block_size < 1 || block_size > max_block_size) {
+    if (block_size < 1 || block_size > maximum_block_size) {
       throw std::invalid_argument("nkit: block_jacobi_preconditioner block_size must be in [1, 64] (got " +
                                   std::to_string(block_size) + ")");
     }
   }
   int block_size() const { return m_block; }
   /// Largest supported block (the fallback keeps a block's diagonal on the stack).
-  static constexpr int max_block_size = 64;
+  static constexpr int maximum_block_size = 64;
 
   setup_status build(const sparse_matrix& matrix) {
     detail::require_square(matrix, "block_jacobi_preconditioner");
@@ -118,8 +118,8 @@ class block_jacobi_preconditioner {
       norm = std::max(norm, row);
     }
     // Keep the diagonal and row maxima in case the block is singular.
-    double diagonal[max_block_size];
-    double row_max[max_block_size];
+    double diagonal[maximum_block_size];
+    double row_max[maximum_block_size];
     for (std::size_t i = 0; i < b; ++i) {
       diagonal[i] = a[i * b + i];
       row_max[i] = 0.0;

@@ -26,7 +26,7 @@
 ///
 /// Cost: setup (coarsening, interpolation, Galerkin products) costs several
 /// fine-grid matrix-vector products; combine it with the driver's
-/// preconditioner_reuse settings to keep one hierarchy over several Newton
+/// preconditioner_rebuild settings to keep one hierarchy over several Newton
 /// steps (request_preconditioner_rebuild() forces a new one). apply()
 /// copies r into hypre's vector, runs the cycle(s) and copies the result out;
 /// it allocates nothing in nkit (hypre's cycle uses its own workspace).
@@ -124,9 +124,9 @@ inline void apply_settings(HYPRE_Solver solver, const algebraic_multigrid_settin
   HYPRE_BoomerAMGSetMaxIter(solver, settings.cycles_per_application);
   HYPRE_BoomerAMGSetCoarsenType(solver, hypre_code(settings.coarsening));
   HYPRE_BoomerAMGSetInterpType(solver, hypre_code(settings.interpolation));
-  HYPRE_BoomerAMGSetPMaxElmts(solver, settings.max_interpolation_entries_per_row);
+  HYPRE_BoomerAMGSetPMaxElmts(solver, settings.maximum_interpolation_entries_per_row);
   HYPRE_BoomerAMGSetStrongThreshold(solver, settings.strength_threshold);
-  HYPRE_BoomerAMGSetMaxLevels(solver, settings.max_levels);
+  HYPRE_BoomerAMGSetMaxLevels(solver, settings.maximum_levels);
   HYPRE_BoomerAMGSetAggNumLevels(solver, settings.aggressive_coarsening_levels);
   HYPRE_BoomerAMGSetCycleType(solver, hypre_code(settings.cycle));
   HYPRE_BoomerAMGSetNumSweeps(solver, settings.smoothing_sweeps);

@@ -82,7 +82,7 @@ class inner_gmres_preconditioner {
   static gmres_settings inner_gmres_options(const inner_gmres_settings& settings) {
     gmres_settings options;
     options.restart_length = settings.inner_iterations;
-    options.max_iterations = settings.inner_iterations;
+    options.maximum_iterations = settings.inner_iterations;
     return options;
   }
 

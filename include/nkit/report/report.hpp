@@ -2,11 +2,12 @@
 #define NKIT_REPORT_REPORT_HPP
 
 /// \file report/report.hpp
-/// What a Newton solve returns: outcome, counts, norms, time per phase and a
+/// What a Newton solve returns: stop reason, counts, norms, time per phase and a
 /// per-Newton-step history. Returned by value from solve().
 
 #include <cstddef>
 #include <cstdint>
+#include <optional>
 #include <string_view>
 #include <vector>
 
@@ -90,14 +91,14 @@ struct newton_step_record {
   int linear_iterations = 0;              ///< Arnoldi steps in this step's linear solve
   double relative_linear_residual = 0.0;  ///< achieved ‖R + J s‖ / ‖R‖ (unpreconditioned)
   linear_solve_status linear_status = linear_solve_status::converged;
-  double step_length = 0.0;  ///< accepted λ (line search) or 1
-  double step_norm = 0.0;    ///< ‖u_k − u_{k−1}‖
-  int backtracks = 0;        ///< rejected trial points in this step
-  bool preconditioner_rebuilt = false;
+  double step_fraction = 0.0;  ///< accepted λ (line search) or 1
+  double step_norm = 0.0;      ///< ‖u_k − u_{k−1}‖
+  int rejected_trials = 0;     ///< rejected trial points in this step
+  bool preconditioner_set_up = false;
   /// max_i |Δu_i| / (absolute + relative·|u_i|) of this step when the
   /// component-wise test is enabled (<= 1 passes), else 0.
   double componentwise_step_ratio = 0.0;
-  bool bound_active = false;              ///< a bound or admissibility limit shortened the step
+  bool step_shortened_by_bounds = false;  ///< a bound or admissibility limit shortened the step
   double pseudo_time_step = 0.0;          ///< δ of the pseudo-transient term (0 when off)
   double trust_radius = 0.0;              ///< trust-region radius after the step (0 when off)
   double elapsed_seconds = 0.0;           ///< since the solve began
@@ -121,9 +122,24 @@ struct solve_warnings {
 };
 
 struct solve_report {
-  outcome result = outcome::in_progress;
-  bool converged() const { return is_converged(result); }
-  std::string_view message() const { return describe(result); }
+  /// Why the solve stopped; empty while a caller-driven run is still running
+  /// (every report returned by solve() has one).
+  stop_reason_if_stopped reason;
+  /// The step control active when the solve stopped; says which one gave up
+  /// when reason is no_acceptable_step (line_search after a finished
+  /// pseudo-transient phase).
+  globalization_strategy globalization_at_stop = globalization_strategy::line_search;
+
+  bool stopped() const { return reason.has_value(); }
+  bool converged() const { return reason && is_converged(*reason); }
+  /// The broad class of the stop reason (empty while running).
+  std::optional<solve_status> status() const {
+    return reason ? std::optional<solve_status>(status_of(*reason)) : std::nullopt;
+  }
+  /// One sentence: why the solve stopped.
+  std::string_view message() const {
+    return reason ? describe(*reason, globalization_at_stop) : std::string_view("The solve has not finished yet.");
+  }
 
   int newton_steps = 0;
   std::int64_t linear_iterations = 0;
@@ -133,10 +149,10 @@ struct solve_report {
   std::int64_t preconditioner_applications = 0;
   std::int64_t preconditioner_fallbacks = 0;  ///< setups that returned ready_with_fallback
   std::int64_t jacobian_assemblies = 0;
-  std::int64_t backtracks = 0;           ///< rejected trial points, all steps
-  std::int64_t non_finite_trials = 0;    ///< trial points whose residual had NaN/Inf
-  std::int64_t inadmissible_trials = 0;  ///< trial points rejected by is_admissible (residual not evaluated)
-  std::int64_t bound_limited_steps = 0;  ///< steps shortened by bounds or admissibility
+  std::int64_t rejected_trials = 0;            ///< rejected trial points, all steps
+  std::int64_t non_finite_trials = 0;          ///< trial points whose residual had NaN/Inf
+  std::int64_t inadmissible_trials = 0;        ///< trial points rejected by is_admissible (residual not evaluated)
+  std::int64_t steps_shortened_by_bounds = 0;  ///< steps shortened by bounds or admissibility
   solve_warnings warnings;
 
   /// ‖R(u0)‖; NaN when the solve stopped (time limit, cancellation) before R(u0) was evaluated.

@@ -2,7 +2,7 @@
 #define NKIT_REPORT_REPORT_JSON_HPP
 
 /// \file report/report_json.hpp
-/// The whole solve_report as JSON, for dashboards and scripts: outcome,
+/// The whole solve_report as JSON, for dashboards and scripts: stop reason and status,
 /// counts, norms, wall time, the cost breakdown (seconds and calls per
 /// phase), work units, workspace bytes and the per-step history.
 ///
@@ -13,12 +13,14 @@
 /// argument-dependent lookup, so `nlohmann::json j = report;` works too.
 ///
 /// Layout (all times in seconds, all norms Euclidean as in report.hpp):
-///   {"format": "nkit_solve_report", "format_version": 1,
-///    "outcome": "<name>", "message": "<sentence>", "converged": bool,
+///   {"format": "nkit_solve_report", "format_version": 2,
+///    "reason": "<stop_reason name>" | null (running), "status": "<solve_status name>" | null,
+///    "globalization_at_stop": "<name>", "message": "<sentence>", "converged": bool,
 ///    <every count and norm of solve_report under its C++ name>,
 ///    "work_units": number,
-///    "phase_seconds": {<phase>: seconds, ..., "total": seconds},
-///    "phase_calls": {<phase>: count, ...},
+///    "warnings": {<every solve_warnings field>},
+///    "time": {<phase>: seconds, ..., "total": seconds},
+///    "calls": {<phase>: count, ...},
 ///    "history": [{<every newton_step_record field>}, ...]}
 /// Non-finite numbers (e.g. an infinite trust radius) are written as null,
 /// as the JSON grammar has no infinity.
@@ -61,27 +63,41 @@ inline void to_json(nlohmann::json& json, const phase_calls& calls) {
 
 inline void to_json(nlohmann::json& json, const newton_step_record& record) {
   json = nlohmann::json{{"step", record.step},
+                        {"accepted", record.accepted},
                         {"residual_norm", record.residual_norm},
                         {"relative_residual_norm", record.relative_residual_norm},
                         {"forcing_term", record.forcing_term},
                         {"linear_iterations", record.linear_iterations},
                         {"relative_linear_residual", record.relative_linear_residual},
                         {"linear_status", std::string(name(record.linear_status))},
-                        {"step_length", record.step_length},
+                        {"step_fraction", record.step_fraction},
                         {"step_norm", record.step_norm},
-                        {"backtracks", record.backtracks},
-                        {"preconditioner_rebuilt", record.preconditioner_rebuilt},
-                        {"bound_active", record.bound_active},
+                        {"rejected_trials", record.rejected_trials},
+                        {"preconditioner_set_up", record.preconditioner_set_up},
+                        {"componentwise_step_ratio", record.componentwise_step_ratio},
+                        {"step_shortened_by_bounds", record.step_shortened_by_bounds},
                         {"pseudo_time_step", record.pseudo_time_step},
                         {"trust_radius", record.trust_radius},
                         {"elapsed_seconds", record.elapsed_seconds},
                         {"residual_evaluations", record.residual_evaluations}};
 }
 
+inline void to_json(nlohmann::json& json, const solve_warnings& warnings) {
+  json = nlohmann::json{{"state_magnitude_spread", warnings.state_magnitude_spread},
+                        {"residual_magnitude_spread", warnings.residual_magnitude_spread},
+                        {"state_magnitudes_spread_widely", warnings.state_magnitudes_spread_widely},
+                        {"residual_magnitudes_spread_widely", warnings.residual_magnitudes_spread_widely}};
+}
+
 inline void to_json(nlohmann::json& json, const solve_report& report) {
+  const nlohmann::json reason = report.reason ? nlohmann::json(std::string(name(*report.reason))) : nlohmann::json();
+  const nlohmann::json status =
+      report.reason ? nlohmann::json(std::string(name(status_of(*report.reason)))) : nlohmann::json();
   json = nlohmann::json{{"format", "nkit_solve_report"},
-                        {"format_version", 1},
-                        {"outcome", std::string(name(report.result))},
+                        {"format_version", 2},
+                        {"reason", reason},
+                        {"status", status},
+                        {"globalization_at_stop", std::string(name(report.globalization_at_stop))},
                         {"message", std::string(report.message())},
                         {"converged", report.converged()},
                         {"newton_steps", report.newton_steps},
@@ -92,18 +108,20 @@ inline void to_json(nlohmann::json& json, const solve_report& report) {
                         {"preconditioner_applications", report.preconditioner_applications},
                         {"preconditioner_fallbacks", report.preconditioner_fallbacks},
                         {"jacobian_assemblies", report.jacobian_assemblies},
-                        {"backtracks", report.backtracks},
+                        {"rejected_trials", report.rejected_trials},
                         {"non_finite_trials", report.non_finite_trials},
                         {"inadmissible_trials", report.inadmissible_trials},
-                        {"bound_limited_steps", report.bound_limited_steps},
+                        {"steps_shortened_by_bounds", report.steps_shortened_by_bounds},
                         {"initial_residual_norm", report.initial_residual_norm},
+                        {"target_residual_norm", report.target_residual_norm},
                         {"final_residual_norm", report.final_residual_norm},
                         {"wall_seconds", report.wall_seconds},
                         {"median_residual_seconds", report.median_residual_seconds},
                         {"work_units", report.work_units()},
                         {"workspace_bytes", report.workspace_bytes},
-                        {"phase_seconds", report.time},
-                        {"phase_calls", report.calls},
+                        {"warnings", report.warnings},
+                        {"time", report.time},
+                        {"calls", report.calls},
                         {"history", report.history}};
 }
 

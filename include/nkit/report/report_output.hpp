@@ -25,7 +25,7 @@ inline std::string formatted(const char* format, double value) {
 }
 
 inline void table_header(std::ostream& os) {
-  os << " step |  residual norm |  reduction |  forcing | linear its | linear resid | step length | backtracks "
+  os << " step |  residual norm |  reduction |  forcing | linear its | linear resid | step length | rejected_trials "
         "| evaluations |   seconds\n"
      << "------+----------------+------------+----------+------------+--------------+-------------+------------"
         "+-------------+----------\n";
@@ -35,8 +35,8 @@ inline void table_row(std::ostream& os, const newton_step_record& r) {
   char line[256];
   std::snprintf(line, sizeof line, "%5d | %14.6e | %10.3e | %8.2e | %10d | %12.3e | %11.4g | %10d | %11lld | %9.3f\n",
                 r.step, r.residual_norm, r.relative_residual_norm, r.forcing_term, r.linear_iterations,
-                r.relative_linear_residual, r.step_length, r.backtracks, static_cast<long long>(r.residual_evaluations),
-                r.elapsed_seconds);
+                r.relative_linear_residual, r.step_fraction, r.rejected_trials,
+                static_cast<long long>(r.residual_evaluations), r.elapsed_seconds);
   os << line;
 }
 
@@ -46,10 +46,10 @@ inline void breakdown_line(std::ostream& os, const char* label, double seconds, 
   const int written = std::snprintf(line, sizeof line, "  %-21s %11.4f %6.1f %%", label, seconds,
                                     total > 0.0 ? 100.0 * seconds / total : 0.0);
   if (calls >= 0) {
-    std::snprintf(line + written, sizeof line - static_cast<std::size_t>(written), " %12lld %13.3e", calls,
+    std::snprintf(line + written, sizeof line - static_cast<std::size_t>(written), " %12lld %16.3e", calls,
                   calls > 0 ? seconds / static_cast<double>(calls) : 0.0);
   } else {
-    std::snprintf(line + written, sizeof line - static_cast<std::size_t>(written), " %12s %13s", "", "");
+    std::snprintf(line + written, sizeof line - static_cast<std::size_t>(written), " %12s %16s", "", "");
   }
   os << line;
   if (residual_seconds > 0.0) {
@@ -73,8 +73,8 @@ inline void print_cost_breakdown(std::ostream& os, const solve_report& report) {
                 report.wall_seconds, report.work_units(), report.median_residual_seconds,
                 static_cast<double>(report.workspace_bytes) / (1024.0 * 1024.0));
   os << line;
-  std::snprintf(line, sizeof line, "  %-21s %11s %8s %12s %13s %12s\n", "phase", "seconds", "share", "calls",
-                "s per call", "work units");
+  std::snprintf(line, sizeof line, "  %-21s %11s %8s %12s %16s %12s\n", "phase", "seconds", "share", "calls",
+                "seconds per call", "work units");
   os << line;
   const double total = report.wall_seconds;
   const double unit = report.median_residual_seconds;
@@ -91,7 +91,7 @@ inline void print_cost_breakdown(std::ostream& os, const solve_report& report) {
   detail::breakdown_line(os, "Newton update", t.newton_update, c.newton_update, total, unit);
   detail::breakdown_line(os, "monitor", t.monitor, c.monitor, total, unit);
   detail::breakdown_line(os, "other", t.other, -1, total, unit);
-  detail::breakdown_line(os, "total (wall)", total, -1, total, unit);
+  detail::breakdown_line(os, "total (wall time)", total, -1, total, unit);
 }
 
 namespace detail {
@@ -118,22 +118,24 @@ inline void print_warnings(std::ostream& os, const solve_warnings& warnings) {
 /// The table's first row: the initial residual, and the norm that counts as converged.
 inline void initial_row(std::ostream& os, double initial_norm, double target_norm) {
   char line[256];
-  std::snprintf(line, sizeof line, "%5d | %14.6e | %10.3e |   converged at residual norm <= %.6e\n", 0, initial_norm,
-                1.0, target_norm);
+  std::snprintf(line, sizeof line, "%6d | %13.6e | %10.3e |   converged once the residual norm is <= %.6e\n", 0,
+                initial_norm, 1.0, target_norm);
   os << line;
 }
 }  // namespace detail
 
-/// Prints the per-step table, the outcome, the counts and the cost breakdown.
+/// Prints the warnings, the per-step table, the stop reason, the counts and the cost breakdown.
 inline void print_convergence_table(std::ostream& os, const solve_report& report) {
   detail::print_warnings(os, report.warnings);
   detail::table_header(os);
   char line[256];
   detail::initial_row(os, report.initial_residual_norm, report.target_residual_norm);
   for (const auto& record : report.history) detail::table_row(os, record);
-  os << "outcome: " << name(report.result) << ". " << report.message() << '\n';
+  os << "stop reason: " << name(report.reason);
+  if (const auto status = report.status()) os << " (" << name(*status) << ")";
+  os << ". " << report.message() << '\n';
   std::snprintf(line, sizeof line,
-                "Newton steps %d, linear iterations %lld, residual evaluations %lld (J*v products %lld), "
+                "Newton steps %d, linear iterations %lld, residual evaluations %lld (Jacobian-vector products %lld), "
                 "preconditioner setups %lld\n",
                 report.newton_steps, static_cast<long long>(report.linear_iterations),
                 static_cast<long long>(report.residual_evaluations),
@@ -145,18 +147,19 @@ inline void print_convergence_table(std::ostream& os, const solve_report& report
 
 /// Column names of the history CSV, in order.
 inline constexpr const char* history_csv_columns =
-    "step,residual_norm,relative_residual_norm,forcing_term,linear_iterations,relative_linear_residual,linear_status,"
-    "step_length,"
-    "step_norm,backtracks,preconditioner_rebuilt,bound_active,pseudo_time_step,trust_radius,elapsed_seconds,"
-    "residual_evaluations";
+    "step,accepted,residual_norm,relative_residual_norm,forcing_term,linear_iterations,relative_linear_residual,"
+    "linear_status,step_fraction,step_norm,rejected_trials,preconditioner_set_up,step_shortened_by_bounds,"
+    "componentwise_step_ratio,pseudo_time_step,trust_radius,elapsed_seconds,residual_evaluations";
 
 inline void write_history_csv_row(std::ostream& os, const newton_step_record& r) {
   char line[512];
-  std::snprintf(line, sizeof line, "%d,%.17g,%.17g,%.17g,%d,%.17g,%s,%.17g,%.17g,%d,%d,%d,%.17g,%.17g,%.17g,%lld\n",
-                r.step, r.residual_norm, r.relative_residual_norm, r.forcing_term, r.linear_iterations,
-                r.relative_linear_residual, std::string(name(r.linear_status)).c_str(), r.step_length, r.step_norm,
-                r.backtracks, r.preconditioner_rebuilt ? 1 : 0, r.bound_active ? 1 : 0, r.pseudo_time_step,
-                r.trust_radius, r.elapsed_seconds, static_cast<long long>(r.residual_evaluations));
+  std::snprintf(line, sizeof line,
+                "%d,%d,%.17g,%.17g,%.17g,%d,%.17g,%s,%.17g,%.17g,%d,%d,%d,%.17g,%.17g,%.17g,%.17g,%lld\n", r.step,
+                r.accepted ? 1 : 0, r.residual_norm, r.relative_residual_norm, r.forcing_term, r.linear_iterations,
+                r.relative_linear_residual, std::string(name(r.linear_status)).c_str(), r.step_fraction, r.step_norm,
+                r.rejected_trials, r.preconditioner_set_up ? 1 : 0, r.step_shortened_by_bounds ? 1 : 0,
+                r.componentwise_step_ratio, r.pseudo_time_step, r.trust_radius, r.elapsed_seconds,
+                static_cast<long long>(r.residual_evaluations));
   os << line;
 }
 

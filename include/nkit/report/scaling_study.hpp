@@ -31,6 +31,7 @@
 #include <cstdint>
 #include <cstdio>
 #include <limits>
+#include <optional>
 #include <ostream>
 #include <stdexcept>
 #include <string>
@@ -51,7 +52,7 @@ struct scaling_study_settings {
   int repetitions = 1;
   /// When a solve takes longer than this many seconds, the larger sizes that
   /// follow are skipped (listed in the result). Infinity: run every size.
-  double stop_after_seconds = std::numeric_limits<double>::infinity();
+  double skip_larger_sizes_after_seconds = std::numeric_limits<double>::infinity();
 
   void validate(std::string_view prefix_view = "scaling_study_settings") const {
     const std::string prefix(prefix_view);
@@ -65,7 +66,7 @@ struct scaling_study_settings {
       }
     }
     detail::require_at_least(prefix + ".repetitions", repetitions, 1);
-    detail::require_positive(prefix + ".stop_after_seconds", stop_after_seconds, true);
+    detail::require_positive(prefix + ".skip_larger_sizes_after_seconds", skip_larger_sizes_after_seconds, true);
   }
 };
 
@@ -80,7 +81,7 @@ struct scaling_sample {
 struct scaling_row {
   long long size_parameter = 0;
   std::int64_t unknowns = 0;
-  outcome result = outcome::in_progress;
+  stop_reason_if_stopped reason;  ///< why the kept solve stopped
   int newton_steps = 0;
   std::int64_t linear_iterations = 0;
   double linear_iterations_per_newton_step = 0.0;
@@ -88,7 +89,7 @@ struct scaling_row {
   double work_units = 0.0;               ///< wall time ÷ median time of one residual evaluation
   double median_residual_seconds = 0.0;  ///< the work unit itself, seconds
   std::size_t workspace_bytes = 0;       ///< as solve_report::workspace_bytes
-  bool converged() const { return is_converged(result); }
+  bool converged() const { return reason && is_converged(*reason); }
 };
 
 /// y ≈ coefficient · N^exponent, fitted by least squares to (ln N, ln y).
@@ -162,7 +163,7 @@ inline power_law_fit fit_power_law(const std::vector<double>& unknowns, const st
 
 struct scaling_study_result {
   std::vector<scaling_row> rows;
-  /// Sizes not run because an earlier solve exceeded stop_after_seconds.
+  /// Sizes not run because an earlier solve exceeded skip_larger_sizes_after_seconds.
   std::vector<long long> skipped_size_parameters;
   power_law_fit wall_seconds;                       ///< time ∝ N^p
   power_law_fit work_units;                         ///< work units ∝ N^(p − cost exponent of R)
@@ -215,7 +216,7 @@ scaling_study_result run_scaling_study(const scaling_study_settings& settings, B
       if (repetition > 0 && !(report.wall_seconds < best.wall_seconds)) continue;
       best.size_parameter = size;
       best.unknowns = sample.unknowns;
-      best.result = report.result;
+      best.reason = report.reason;
       best.newton_steps = report.newton_steps;
       best.linear_iterations = report.linear_iterations;
       best.linear_iterations_per_newton_step =
@@ -226,7 +227,7 @@ scaling_study_result run_scaling_study(const scaling_study_settings& settings, B
       best.workspace_bytes = report.workspace_bytes;
     }
     result.rows.push_back(best);
-    if (best.wall_seconds > settings.stop_after_seconds) stopped = true;
+    if (best.wall_seconds > settings.skip_larger_sizes_after_seconds) stopped = true;
   }
   fit_scaling_laws(result);
   return result;
@@ -251,18 +252,22 @@ inline void print_fit(std::ostream& os, const char* quantity, const power_law_fi
 /// Prints one line per size and the fitted exponents with their quality.
 inline void print_scaling_study(std::ostream& os, const scaling_study_result& result) {
   char line[256];
-  std::snprintf(line, sizeof line, "%10s %12s %-28s %7s %11s %9s %11s %12s %10s\n", "size", "unknowns", "outcome",
-                "Newton", "linear its", "its/step", "seconds", "work units", "MiB");
+  std::snprintf(line, sizeof line, "%10s %12s %-32s %7s %10s %15s %11s %12s %10s\n", "size", "unknowns", "stop reason",
+                "Newton", "linear", "linear per", "wall", "work units", "workspace");
+  os << line;
+  std::snprintf(line, sizeof line, "%10s %12s %-32s %7s %10s %15s %11s %12s %10s\n", "parameter", "", "", "steps",
+                "iterations", "Newton step", "seconds", "", "MiB");
   os << line;
   for (const scaling_row& row : result.rows) {
-    std::snprintf(line, sizeof line, "%10lld %12lld %-28s %7d %11lld %9.1f %11.4f %12.1f %10.2f\n", row.size_parameter,
-                  static_cast<long long>(row.unknowns), std::string(name(row.result)).c_str(), row.newton_steps,
+    std::snprintf(line, sizeof line, "%10lld %12lld %-32s %7d %10lld %15.1f %11.4f %12.1f %10.2f\n", row.size_parameter,
+                  static_cast<long long>(row.unknowns), std::string(name(row.reason)).c_str(), row.newton_steps,
                   static_cast<long long>(row.linear_iterations), row.linear_iterations_per_newton_step,
                   row.wall_seconds, row.work_units, static_cast<double>(row.workspace_bytes) / (1024.0 * 1024.0));
     os << line;
   }
   for (const long long size : result.skipped_size_parameters) {
-    std::snprintf(line, sizeof line, "%10lld   skipped: an earlier solve exceeded stop_after_seconds\n", size);
+    std::snprintf(line, sizeof line, "%10lld   skipped: an earlier solve exceeded skip_larger_sizes_after_seconds\n",
+                  size);
     os << line;
   }
   os << "growth with the number of unknowns N (least squares on log-log data, converged sizes):\n";
@@ -275,7 +280,7 @@ inline void print_scaling_study(std::ostream& os, const scaling_study_result& re
 
 /// Column names of write_scaling_study_csv, in order.
 inline constexpr const char* scaling_study_csv_columns =
-    "size_parameter,unknowns,outcome,newton_steps,linear_iterations,linear_iterations_per_newton_step,"
+    "size_parameter,unknowns,stop_reason,newton_steps,linear_iterations,linear_iterations_per_newton_step,"
     "wall_seconds,work_units,median_residual_seconds,workspace_bytes";
 
 /// One row per size (header first); skipped sizes are not written.
@@ -284,7 +289,7 @@ inline void write_scaling_study_csv(std::ostream& os, const scaling_study_result
   char line[320];
   for (const scaling_row& row : result.rows) {
     std::snprintf(line, sizeof line, "%lld,%lld,%s,%d,%lld,%.17g,%.17g,%.17g,%.17g,%llu\n", row.size_parameter,
-                  static_cast<long long>(row.unknowns), std::string(name(row.result)).c_str(), row.newton_steps,
+                  static_cast<long long>(row.unknowns), std::string(name(row.reason)).c_str(), row.newton_steps,
                   static_cast<long long>(row.linear_iterations), row.linear_iterations_per_newton_step,
                   row.wall_seconds, row.work_units, row.median_residual_seconds,
                   static_cast<unsigned long long>(row.workspace_bytes));

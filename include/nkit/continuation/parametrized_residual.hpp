@@ -1,8 +1,8 @@
-#ifndef NKIT_CONTINUATION_PARAMETRISED_RESIDUAL_HPP
-#define NKIT_CONTINUATION_PARAMETRISED_RESIDUAL_HPP
+#ifndef NKIT_CONTINUATION_PARAMETRIZED_RESIDUAL_HPP
+#define NKIT_CONTINUATION_PARAMETRIZED_RESIDUAL_HPP
 
-/// \file continuation/parametrised_residual.hpp
-/// The parametrised residual R(u, λ) followed by continuation
+/// \file continuation/parametrized_residual.hpp
+/// The parametrized residual R(u, λ) followed by continuation
 /// (continuation.hpp), the optional capabilities nkit detects on it, and
 /// forward-mode automatic differentiation for scalar-templated ones.
 ///
@@ -31,26 +31,26 @@ namespace nkit {
 namespace detail {
 
 template <class Problem, class Vector, class Scalar, class = void>
-struct is_parametrised_residual_impl : std::false_type {};
+struct is_parametrized_residual_impl : std::false_type {};
 template <class Problem, class Vector, class Scalar>
-struct is_parametrised_residual_impl<
+struct is_parametrized_residual_impl<
     Problem, Vector, Scalar,
     std::void_t<decltype(std::declval<Problem&>()(std::declval<const Vector&>(), std::declval<Scalar>(),
                                                   std::declval<Vector&>()))>> : std::true_type {};
 
 template <class Problem, class Vector, class Scalar, class = void>
-struct has_parametrised_jacobian_product_impl : std::false_type {};
+struct has_parametrized_jacobian_product_impl : std::false_type {};
 template <class Problem, class Vector, class Scalar>
-struct has_parametrised_jacobian_product_impl<
+struct has_parametrized_jacobian_product_impl<
     Problem, Vector, Scalar,
     std::void_t<decltype(std::declval<Problem&>().jacobian_product(
         std::declval<const Vector&>(), std::declval<Scalar>(), std::declval<const Vector&>(), std::declval<Scalar>(),
         std::declval<Vector&>()))>> : std::true_type {};
 
 template <class Problem, class Vector, class Scalar, class Matrix, class = void>
-struct has_parametrised_assemble_jacobian_impl : std::false_type {};
+struct has_parametrized_assemble_jacobian_impl : std::false_type {};
 template <class Problem, class Vector, class Scalar, class Matrix>
-struct has_parametrised_assemble_jacobian_impl<
+struct has_parametrized_assemble_jacobian_impl<
     Problem, Vector, Scalar, Matrix,
     std::void_t<decltype(std::declval<Problem&>().assemble_jacobian(
         std::declval<const Vector&>(), std::declval<Scalar>(), std::declval<Matrix&>()))>> : std::true_type {};
@@ -59,20 +59,20 @@ struct has_parametrised_assemble_jacobian_impl<
 
 /// True when `Problem` can be called as problem(const Vector& u, Scalar parameter, Vector& r).
 template <class Problem, class Vector, class Scalar = double>
-inline constexpr bool is_parametrised_residual_v =
-    detail::is_parametrised_residual_impl<std::remove_reference_t<Problem>, Vector, Scalar>::value;
+inline constexpr bool is_parametrized_residual_v =
+    detail::is_parametrized_residual_impl<std::remove_reference_t<Problem>, Vector, Scalar>::value;
 
 /// True when `Problem` has jacobian_product(u, parameter, v, parameter_direction, jv).
 template <class Problem, class Vector, class Scalar = double>
-inline constexpr bool has_parametrised_jacobian_product_v =
-    detail::has_parametrised_jacobian_product_impl<std::remove_reference_t<Problem>, Vector, Scalar>::value;
+inline constexpr bool has_parametrized_jacobian_product_v =
+    detail::has_parametrized_jacobian_product_impl<std::remove_reference_t<Problem>, Vector, Scalar>::value;
 
 /// True when `Problem` has assemble_jacobian(u, parameter, matrix).
 template <class Problem, class Vector, class Scalar, class Matrix>
-inline constexpr bool has_parametrised_assemble_jacobian_v =
-    detail::has_parametrised_assemble_jacobian_impl<std::remove_reference_t<Problem>, Vector, Scalar, Matrix>::value;
+inline constexpr bool has_parametrized_assemble_jacobian_v =
+    detail::has_parametrized_assemble_jacobian_impl<std::remove_reference_t<Problem>, Vector, Scalar, Matrix>::value;
 
-/// A scalar-templated parametrised residual
+/// A scalar-templated parametrized residual
 ///
 ///   template <class Scalar>
 ///   void operator()(const Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& u, const Scalar& parameter,
@@ -86,9 +86,9 @@ inline constexpr bool has_parametrised_assemble_jacobian_v =
 /// stays the same. assemble_jacobian(u, λ, J) is forwarded when the wrapped
 /// residual has it.
 template <class Residual>
-class parametrised_residual_with_automatic_differentiation {
+class parametrized_residual_with_automatic_differentiation {
  public:
-  explicit parametrised_residual_with_automatic_differentiation(Residual residual) : m_residual(std::move(residual)) {}
+  explicit parametrized_residual_with_automatic_differentiation(Residual residual) : m_residual(std::move(residual)) {}
 
   void operator()(const Eigen::VectorXd& u, double parameter, Eigen::VectorXd& r) { m_residual(u, parameter, r); }
 
@@ -117,14 +117,14 @@ class parametrised_residual_with_automatic_differentiation {
   dual_vector m_dual_residual;
 };
 
-/// with_parametrised_automatic_differentiation(residual): exact J·v of R(u, λ)
+/// with_parametrized_automatic_differentiation(residual): exact J·v of R(u, λ)
 /// in both u and λ by forward-mode AD.
 template <class Residual>
-parametrised_residual_with_automatic_differentiation<std::decay_t<Residual>>
-with_parametrised_automatic_differentiation(Residual&& residual) {
-  return parametrised_residual_with_automatic_differentiation<std::decay_t<Residual>>(std::forward<Residual>(residual));
+parametrized_residual_with_automatic_differentiation<std::decay_t<Residual>>
+with_parametrized_automatic_differentiation(Residual&& residual) {
+  return parametrized_residual_with_automatic_differentiation<std::decay_t<Residual>>(std::forward<Residual>(residual));
 }
 
 }  // namespace nkit
 
-#endif  // NKIT_CONTINUATION_PARAMETRISED_RESIDUAL_HPP
+#endif  // NKIT_CONTINUATION_PARAMETRIZED_RESIDUAL_HPP
