@@ -1,0 +1,119 @@
+#ifndef NKIT_TIME_STAGE_RESIDUAL_HPP
+#define NKIT_TIME_STAGE_RESIDUAL_HPP
+
+/// \file stage_residual.hpp
+/// The nonlinear equation of one implicit stage, as an nkit residual:
+///   G(U) = M U − b − γΔt f(t, U) = 0,
+/// where b (in the units of M u) collects the known history: M z for a BDF
+/// step (z a combination of past states), M u_n + Σ_j a_ij Δt f_j for an
+/// ESDIRK stage. Every BDF step and every implicit ESDIRK stage has this form. Its Jacobian
+/// M − γΔt ∂f/∂u is offered to preconditioners when the problem can assemble
+/// ∂f/∂u (or gives its pattern for colored differences).
+///
+/// Evaluations of f are counted and timed (median of the last 64) for the
+/// work-unit measure. No allocation after the first evaluation.
+
+#include <cstdint>
+#include <stdexcept>
+#include <string>
+#include <type_traits>
+
+#include "../detail/timer.hpp"
+#include "../sparsity_pattern.hpp"
+#include "time_problem.hpp"
+
+namespace nkit::detail {
+
+/// Scratch and counters kept by the stepper, so that a stage residual built
+/// for each attempt allocates nothing.
+template <class Vector>
+struct stage_workspace {
+  Vector product;
+  std::int64_t rate_evaluations = 0;
+  median_window rate_seconds;
+};
+
+template <class System, class Space>
+class stage_residual {
+ public:
+  using vector_type = typename Space::vector_type;
+
+  stage_residual(System& system, const Space& space, const mass_matrix<vector_type>& mass,
+                 stage_workspace<vector_type>& workspace)
+      : m_system(&system), m_space(&space), m_mass(&mass), m_workspace(&workspace) {}
+
+  /// Sets t, γΔt and b for the next solve (b must outlive it).
+  void prepare(double time, double shift, const vector_type& known) {
+    m_time = time;
+    m_shift = shift;
+    m_known = &known;
+  }
+  double time() const { return m_time; }
+  double shift() const { return m_shift; }
+
+  void operator()(const vector_type& u, vector_type& g) {
+    evaluate_rate(m_time, u, g);
+    const Space& space = *m_space;
+    space.scale(-m_shift, g);
+    space.add_scaled(-1.0, *m_known, g);
+    add_mass_times(u, g);
+  }
+
+  /// out += M v.
+  void add_mass_times(const vector_type& v, vector_type& out) {
+    const Space& space = *m_space;
+    switch (m_mass->type()) {
+      case mass_matrix<vector_type>::kind::identity:
+        space.add_scaled(1.0, v, out);
+        break;
+      case mass_matrix<vector_type>::kind::diagonal:
+        space.add_product(m_mass->diagonal_entries(), v, out);
+        break;
+      case mass_matrix<vector_type>::kind::linear_operator:
+        space.allocate_like(m_workspace->product, v);
+        m_mass->apply(v, m_workspace->product);
+        space.add_scaled(1.0, m_workspace->product, out);
+        break;
+    }
+  }
+
+  /// f(t, u), counted and timed.
+  void evaluate_rate(double time, const vector_type& u, vector_type& f) {
+    const auto start = clock_type::now();
+    m_system->rate(time, u, f);
+    m_workspace->rate_seconds.add(seconds_between(start, clock_type::now()));
+    ++m_workspace->rate_evaluations;
+    if (f.size() != u.size()) {
+      throw std::invalid_argument("nkit: the problem's rate() resized f (from " + std::to_string(u.size()) + " to " +
+                                  std::to_string(f.size()) + " entries)");
+    }
+  }
+
+  template <class S = System, std::enable_if_t<has_rate_jacobian<S, vector_type>::value, int> = 0>
+  void assemble_jacobian(const vector_type& u, sparse_matrix& jacobian) {
+    m_system->assemble_rate_jacobian(m_time, u, jacobian);
+    jacobian *= -m_shift;
+    m_mass->add_to(jacobian);
+  }
+
+  template <class S = System,
+            std::enable_if_t<has_jacobian_pattern_v<S> && !has_rate_jacobian<S, vector_type>::value, int> = 0>
+  const sparsity_pattern& jacobian_pattern() const {
+    return m_system->jacobian_pattern();
+  }
+
+  const mass_matrix<vector_type>& mass() const { return *m_mass; }
+
+ private:
+  System* m_system;
+  const Space* m_space;
+  const mass_matrix<vector_type>* m_mass;
+  stage_workspace<vector_type>* m_workspace;
+  const vector_type* m_known = nullptr;
+  double m_time = 0.0;
+  double m_shift = 0.0;
+};
+
+}  // namespace nkit::detail
+
+#endif  // NKIT_TIME_STAGE_RESIDUAL_HPP
