@@ -19,9 +19,11 @@
 /// (stage_residual.hpp) from an extrapolated predictor. The stage has
 /// converged when θ/(1 − θ)·‖Δ_k‖ <= newton_tolerance_fraction in the
 /// weighted error norm (θ the observed contraction of the Newton updates
-/// Δ_k; for the first update, θ from the previous stage), Hairer & Wanner II,
-/// §IV.8 (common practice); or when the Newton solver's own residual test
-/// passes. A Newton failure, θ >= divergence_contraction or the iteration
+/// Δ_k, Hairer & Wanner II, §IV.8, common practice; for the first update,
+/// the larger of the residual reduction ‖G(U_1)‖/‖G(U_0)‖ of that Newton step
+/// (which reflects an inexact linear solve) and the remembered contraction of
+/// earlier stages, θ_old^0.8 as in Hairer & Wanner); or when the Newton
+/// solver's own residual test passes. A Newton failure, θ >= divergence_contraction or the iteration
 /// limit rejects the step, shrinks Δt and requests a fresh preconditioner.
 ///
 /// BDF start: the first step is taken as two backward-Euler half steps and
@@ -154,7 +156,7 @@ class implicit_time_stepper {
       }
       const bool accepted = attempt_step(system, u, h, h == remaining ? t_end : m_time + h);
       consecutive_failures = accepted ? 0 : consecutive_failures + 1;
-      if (detail::to_decision(monitor(m_last_record)) == monitor_decision::stop_now) {
+      if (notify(monitor, m_last_record) == monitor_decision::stop_now) {
         m_report.result = integration_outcome::stopped_by_monitor;
       } else if (m_cancelled) {
         m_report.result = integration_outcome::cancelled;
@@ -186,7 +188,7 @@ class implicit_time_stepper {
     m_workspace.rate_evaluations = 0;
     m_workspace.rate_seconds.clear();
     for (vector_type* v : {&m_rate, &m_slope, &m_known, &m_candidate, &m_predicted, &m_error, &m_scratch, &m_weights,
-                           &m_update, &m_previous_iterate, &m_midpoint, &m_full_step}) {
+                           &m_update, &m_previous_iterate, &m_midpoint, &m_full_step, &m_row_scale}) {
       m_space.allocate_like(*v, u);
     }
     for (auto& v : m_states) m_space.allocate_like(v, u);
@@ -203,8 +205,8 @@ class implicit_time_stepper {
     m_controller.reset();
     m_attempts = 0;
     m_cancelled = false;
-    m_eta = 1.0;
     m_last_contraction = 0.0;
+    m_contraction_memory = 1.0;
     m_setup_shift = -1.0;
     m_rebuild_after_failure = false;
     m_accepted_since_setup = 0;
@@ -300,6 +302,16 @@ class implicit_time_stepper {
     return settings;
   }
 
+  template <class Monitor>
+  static monitor_decision notify(Monitor& monitor, const time_step_record& record) {
+    if constexpr (std::is_void_v<decltype(monitor(record))>) {
+      monitor(record);
+      return monitor_decision::keep_going;
+    } else {
+      return monitor(record);
+    }
+  }
+
   static newton_settings inner_settings(const time_stepper_settings& settings) {
     newton_settings inner = settings.stage.newton;
     inner.preconditioner_reuse.rebuild_at_solve_start = false;
@@ -381,8 +393,18 @@ class implicit_time_stepper {
     return std::max(h, control.minimum_step);
   }
 
+  /// s_i = γΔt/m_i on rows with mass, 1 on algebraic rows (stage_residual.hpp).
+  void refresh_row_scale(const mass_matrix<vector_type>& mass, double shift) {
+    if (mass.type() == mass_matrix<vector_type>::kind::diagonal) {
+      const auto& d = mass.diagonal_entries().array();
+      m_row_scale = (d > 0.0).select(shift / d.max(std::numeric_limits<double>::min()), 1.0);
+    } else {
+      m_space.fill(shift, m_row_scale);
+    }
+  }
+
   /// Rebuild policy (time_settings.hpp), applied before each stage solve.
-  void apply_rebuild_policy(double shift) {
+  bool rebuild_wanted(double shift) const {
     const preconditioner_rebuild_settings& policy = m_settings.preconditioner_rebuild;
     bool rebuild = m_rebuild_after_failure || m_last_contraction > policy.slow_contraction;
     if (m_setup_shift > 0.0) {
@@ -390,7 +412,7 @@ class implicit_time_stepper {
       if (ratio > policy.shift_change_factor || ratio * policy.shift_change_factor < 1.0) rebuild = true;
     }
     if (policy.every_accepted_steps > 0 && m_accepted_since_setup >= policy.every_accepted_steps) rebuild = true;
-    if (rebuild) m_newton.request_preconditioner_rebuild();
+    return rebuild;
   }
 
   /// Solves the stage G(U) = M U − known − shift·f(time, U) = 0 from the
@@ -403,9 +425,13 @@ class implicit_time_stepper {
       return false;
     }
     m_current_shift = shift;
-    stage.prepare(time, shift, known);
-    apply_rebuild_policy(shift);
     compute_weights(m_states[0], m_states[0]);
+    if (rebuild_wanted(shift) || m_setup_shift < 0.0) {
+      // A fresh preconditioner and, with it, fresh row scales (stage_residual.hpp).
+      refresh_row_scale(stage.mass(), shift);
+      m_newton.request_preconditioner_rebuild();
+    }
+    stage.prepare(time, shift, known, m_row_scale);
     const stage_solve_settings& settings = m_settings.stage;
     ++record.stage_solves;
     auto run = m_newton.begin(stage, u);
@@ -420,16 +446,23 @@ class implicit_time_stepper {
       m_space.combine(1.0, u, -1.0, m_previous_iterate, m_update);
       const double update = weighted_norm(m_update);
       ++iteration;
-      double eta = std::pow(std::max(m_eta, 1e-16), 0.8);
-      if (iteration > 1 && previous_update > 0.0) {
-        contraction = update / previous_update;
-        record.largest_contraction = std::max(record.largest_contraction, contraction);
-        if (contraction >= settings.divergence_contraction) {
-          failed = true;
-          break;
-        }
-        eta = contraction / (1.0 - contraction);
+      // Contraction θ: of the updates from the second iteration on; for the
+      // first, the residual reduction ‖G(U_1)‖/‖G(U_0)‖ (free: the Newton step
+      // evaluated G(U_1)), which also reflects an inexact linear solve.
+      const solve_report& so_far = run.report();
+      if (iteration > 1) {
+        contraction = previous_update > 0.0 ? update / previous_update : 0.0;
+      } else {
+        const double residual_ratio =
+            so_far.initial_residual_norm > 0.0 ? so_far.final_residual_norm / so_far.initial_residual_norm : 0.0;
+        contraction = std::max(residual_ratio, m_contraction_memory);
       }
+      record.largest_contraction = std::max(record.largest_contraction, contraction);
+      if (contraction >= settings.divergence_contraction && iteration > 1) {
+        failed = true;
+        break;
+      }
+      const double eta = contraction < 1.0 ? contraction / (1.0 - contraction) : 1e300;
       previous_update = update;
       if (step != outcome::in_progress) {
         converged = run.report().converged();
@@ -437,7 +470,6 @@ class implicit_time_stepper {
       } else if (eta * update <= settings.newton_tolerance_fraction || update == 0.0) {
         converged = true;
       }
-      if (converged) m_eta = eta;
     }
     const solve_report& inner = run.report();
     record.newton_steps += inner.newton_steps;
@@ -449,6 +481,10 @@ class implicit_time_stepper {
       m_rebuild_after_failure = false;
     }
     m_last_contraction = contraction;
+    // Memory of the observed contraction for first iterations (Hairer & Wanner
+    // II, §IV.8: θ_old^0.8, so that it drifts up and a second iteration
+    // re-measures it now and then).
+    m_contraction_memory = iteration > 1 ? contraction : std::pow(std::max(m_contraction_memory, 1e-16), 0.8);
     if (m_settings.cancellation_flag != nullptr && m_settings.cancellation_flag->load()) m_cancelled = true;
     return converged && m_space.all_finite(u);
   }
@@ -627,13 +663,13 @@ class implicit_time_stepper {
   int m_history_count = 0;
   std::array<vector_type, esdirk_tableau::max_stages> m_stage_values, m_increments, m_mass_increments;
   vector_type m_rate, m_slope, m_known, m_candidate, m_predicted, m_error, m_scratch, m_weights, m_update;
-  vector_type m_previous_iterate, m_midpoint, m_full_step;
+  vector_type m_previous_iterate, m_midpoint, m_full_step, m_row_scale;
 
   double m_time = 0.0;
   double m_next_step = 0.0;
   double m_current_shift = 0.0;
-  double m_eta = 1.0;
   double m_last_contraction = 0.0;
+  double m_contraction_memory = 1.0;
   double m_setup_shift = -1.0;
   bool m_rebuild_after_failure = false;
   bool m_cancelled = false;

@@ -80,14 +80,15 @@ class mass_matrix {
     }
   }
 
-  /// Adds M to an assembled matrix (diagonal entries must exist for the first two kinds).
-  void add_to(sparse_matrix& matrix) const {
+  /// Adds factor · M to an assembled matrix (for the identity and diagonal
+  /// kinds the diagonal entries should already be stored; otherwise they are inserted).
+  void add_to(sparse_matrix& matrix, double factor = 1.0) const {
     switch (m_kind) {
       case kind::identity:
-        for (Eigen::Index i = 0; i < matrix.rows(); ++i) matrix.coeffRef(i, i) += 1.0;
+        for (Eigen::Index i = 0; i < matrix.rows(); ++i) matrix.coeffRef(i, i) += factor;
         break;
       case kind::diagonal:
-        for (Eigen::Index i = 0; i < matrix.rows(); ++i) matrix.coeffRef(i, i) += m_diagonal(i);
+        for (Eigen::Index i = 0; i < matrix.rows(); ++i) matrix.coeffRef(i, i) += factor * m_diagonal(i);
         break;
       case kind::linear_operator:
         if (m_assembled.rows() == 0) {
@@ -95,7 +96,7 @@ class mass_matrix {
               "nkit: a preconditioner asked for the assembled stage Jacobian, but the mass operator was given "
               "without its assembled matrix (mass_matrix::from_operator(apply, assembled))");
         }
-        matrix += m_assembled;
+        matrix += factor * m_assembled;
         break;
     }
   }

@@ -3,12 +3,21 @@
 
 /// \file stage_residual.hpp
 /// The nonlinear equation of one implicit stage, as an nkit residual:
-///   G(U) = M U − b − γΔt f(t, U) = 0,
+///   G(U) = (M U − b) / (γΔt) − f(t, U) = 0,
 /// where b (in the units of M u) collects the known history: M z for a BDF
 /// step (z a combination of past states), M u_n + Σ_j a_ij Δt f_j for an
-/// ESDIRK stage. Every BDF step and every implicit ESDIRK stage has this form. Its Jacobian
-/// M − γΔt ∂f/∂u is offered to preconditioners when the problem can assemble
-/// ∂f/∂u (or gives its pattern for colored differences).
+/// ESDIRK stage. Every BDF step and every implicit ESDIRK stage has this form.
+/// The stepper then scales the rows, G̃ = S G with S = diag(s_i), so that the
+/// Euclidean norm the Newton solver and GMRES measure compares like with
+/// like: s_i = γΔt / m_i on rows with mass m_i > 0 (G̃_i is then the state
+/// change U_i − z_i − γΔt f_i/m_i, in the units of u) and s_i = 1 on algebraic
+/// rows (G̃_i = −f_i, the constraint residual, which stays of order one however
+/// short the step; with unit sensitivity ∂f_i/∂u it is also in the units of
+/// u). For M = I this is the familiar M(U − z) − γΔt f(U). S is refreshed only
+/// together with the preconditioner, so a lagged preconditioner stays
+/// consistent with it. The Jacobian S (M/(γΔt) − ∂f/∂u) is offered to
+/// preconditioners when the problem can assemble ∂f/∂u (or gives its pattern
+/// for colored differences).
 ///
 /// Evaluations of f are counted and timed (median of the last 64) for the
 /// work-unit measure. No allocation after the first evaluation.
@@ -42,11 +51,12 @@ class stage_residual {
                  stage_workspace<vector_type>& workspace)
       : m_system(&system), m_space(&space), m_mass(&mass), m_workspace(&workspace) {}
 
-  /// Sets t, γΔt and b for the next solve (b must outlive it).
-  void prepare(double time, double shift, const vector_type& known) {
+  /// Sets t, γΔt, b and the row scale s for the next solve (b and s must outlive it).
+  void prepare(double time, double shift, const vector_type& known, const vector_type& row_scale) {
     m_time = time;
     m_shift = shift;
     m_known = &known;
+    m_row_scale = &row_scale;
   }
   double time() const { return m_time; }
   double shift() const { return m_shift; }
@@ -57,6 +67,8 @@ class stage_residual {
     space.scale(-m_shift, g);
     space.add_scaled(-1.0, *m_known, g);
     add_mass_times(u, g);
+    space.scale(1.0 / m_shift, g);  // rows in the units of f: algebraic rows stay O(1) as Δt → 0
+    space.multiply(*m_row_scale, g);
   }
 
   /// out += M v.
@@ -92,8 +104,12 @@ class stage_residual {
   template <class S = System, std::enable_if_t<has_rate_jacobian<S, vector_type>::value, int> = 0>
   void assemble_jacobian(const vector_type& u, sparse_matrix& jacobian) {
     m_system->assemble_rate_jacobian(m_time, u, jacobian);
-    jacobian *= -m_shift;
-    m_mass->add_to(jacobian);
+    jacobian *= -1.0;
+    m_mass->add_to(jacobian, 1.0 / m_shift);
+    const vector_type& scale = *m_row_scale;
+    for (Eigen::Index row = 0; row < jacobian.outerSize(); ++row) {
+      for (sparse_matrix::InnerIterator entry(jacobian, row); entry; ++entry) entry.valueRef() *= scale(row);
+    }
   }
 
   template <class S = System,
@@ -110,6 +126,7 @@ class stage_residual {
   const mass_matrix<vector_type>* m_mass;
   stage_workspace<vector_type>* m_workspace;
   const vector_type* m_known = nullptr;
+  const vector_type* m_row_scale = nullptr;
   double m_time = 0.0;
   double m_shift = 0.0;
 };
