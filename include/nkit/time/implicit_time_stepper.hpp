@@ -293,6 +293,11 @@ class implicit_time_stepper {
     return accepted;
   }
 
+  /// The newest accepted state (at time()).
+  const vector_type& state() const { return m_states[0]; }
+  /// True once begin() or integrate() has set a start state.
+  bool started() const { return m_history_count > 0; }
+
   /// The record of the last attempt.
   const time_step_record& last_record() const { return m_last_record; }
 
