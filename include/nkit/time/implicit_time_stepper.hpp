@@ -15,16 +15,11 @@
 /// report.final_time. An exception from user code propagates and leaves u at
 /// the last accepted step.
 ///
-/// Stages. Every stage solves G(U) = M U − b − γΔt f(t, U) = 0
-/// (stage_residual.hpp) from an extrapolated predictor. The stage has
-/// converged when θ/(1 − θ)·‖Δ_k‖ <= newton_tolerance_fraction in the
-/// weighted error norm (θ the observed contraction of the Newton updates
-/// Δ_k, Hairer & Wanner II, §IV.8, common practice; for the first update,
-/// the larger of the residual reduction ‖G(U_1)‖/‖G(U_0)‖ of that Newton step
-/// (which reflects an inexact linear solve) and the remembered contraction of
-/// earlier stages, θ_old^0.8 as in Hairer & Wanner); or when the Newton
-/// solver's own residual test passes. A Newton failure, θ >= divergence_contraction or the iteration
-/// limit rejects the step, shrinks Δt and requests a fresh preconditioner.
+/// Stages. Every stage solves G(U) = M U − b − γΔt f(t, U) = 0 (scaled as in
+/// stage_residual.hpp) from an extrapolated predictor, by the Newton–Krylov
+/// solver with the convergence test and rebuild policy of stage_solver.hpp. A
+/// failed stage rejects the step, shrinks Δt and requests a fresh
+/// preconditioner.
 ///
 /// BDF start: the first step is taken as two backward-Euler half steps and
 /// compared with one full backward-Euler step (Richardson estimate), which
@@ -62,6 +57,7 @@
 #include "error_weights.hpp"
 #include "esdirk_tableau.hpp"
 #include "stage_residual.hpp"
+#include "stage_solver.hpp"
 #include "step_size_controller.hpp"
 #include "time_problem.hpp"
 #include "time_report.hpp"
@@ -87,19 +83,19 @@ class implicit_time_stepper {
                                  Preconditioner preconditioner = {})
       : m_settings(validated(settings)),
         m_space(space),
-        m_newton(inner_settings(m_settings), std::move(space), std::move(preconditioner)),
+        m_stage_solver(inner_settings(m_settings), std::move(space), std::move(preconditioner)),
         m_tableau(tr_bdf2_tableau()) {}
 
   /// Validates and stores new settings (std::invalid_argument naming the field).
   void configure(const time_stepper_settings& settings) {
     settings.validate();
-    m_newton.configure(inner_settings(settings));
+    m_stage_solver.newton_solver().configure(inner_settings(settings));
     m_settings = settings;
   }
   const time_stepper_settings& settings() const { return m_settings; }
 
   /// The inner Newton–Krylov solver: its preconditioner, bounds, scaling, trace.
-  newton_solver_type& newton_solver() { return m_newton; }
+  newton_solver_type& newton_solver() { return m_stage_solver.newton_solver(); }
 
   /// Per-entry tolerances (all absolute entries > 0, relative >= 0, finite);
   /// pass empty vectors to return to the scalar settings.
@@ -119,7 +115,7 @@ class implicit_time_stepper {
   }
 
   /// γΔt of the stage being solved (for preconditioners built from the state).
-  double current_shift() const { return m_current_shift; }
+  double current_shift() const { return m_stage_solver.current_shift(); }
   double time() const { return m_time; }
   /// The step the controller proposes next.
   double next_step_size() const { return m_next_step; }
@@ -188,7 +184,7 @@ class implicit_time_stepper {
     m_workspace.rate_evaluations = 0;
     m_workspace.rate_seconds.clear();
     for (vector_type* v : {&m_rate, &m_slope, &m_known, &m_candidate, &m_predicted, &m_error, &m_scratch, &m_weights,
-                           &m_update, &m_previous_iterate, &m_midpoint, &m_full_step, &m_row_scale}) {
+                           &m_midpoint, &m_full_step}) {
       m_space.allocate_like(*v, u);
     }
     for (auto& v : m_states) m_space.allocate_like(v, u);
@@ -205,11 +201,7 @@ class implicit_time_stepper {
     m_controller.reset();
     m_attempts = 0;
     m_cancelled = false;
-    m_last_contraction = 0.0;
-    m_contraction_memory = 1.0;
-    m_setup_shift = -1.0;
-    m_rebuild_after_failure = false;
-    m_accepted_since_setup = 0;
+    m_stage_solver.reset(u);
     detail::stage_residual<System, Space> stage(system, m_space, mass, m_workspace);
     initial_slope(stage, mass);
     m_next_step = initial_step(time_span);
@@ -251,7 +243,7 @@ class implicit_time_stepper {
       record.rejection = step_rejection::stage_solve_failed;
       record.error_norm = std::numeric_limits<double>::quiet_NaN();
       ++m_report.stage_solve_failures;
-      m_rebuild_after_failure = m_settings.preconditioner_rebuild.after_stage_failure;
+      m_stage_solver.after_failed_step(m_settings.preconditioner_rebuild);
       m_controller.reset();
       m_next_step = h * control.stage_failure_shrink;
     } else {
@@ -398,100 +390,14 @@ class implicit_time_stepper {
     return std::max(h, control.minimum_step);
   }
 
-  /// s_i = γΔt/m_i on rows with mass, 1 on algebraic rows (stage_residual.hpp).
-  void refresh_row_scale(const mass_matrix<vector_type>& mass, double shift) {
-    if (mass.type() == mass_matrix<vector_type>::kind::diagonal) {
-      const auto& d = mass.diagonal_entries().array();
-      m_row_scale = (d > 0.0).select(shift / d.max(std::numeric_limits<double>::min()), 1.0);
-    } else {
-      m_space.fill(shift, m_row_scale);
-    }
-  }
-
-  /// Rebuild policy (time_settings.hpp), applied before each stage solve.
-  bool rebuild_wanted(double shift) const {
-    const preconditioner_rebuild_settings& policy = m_settings.preconditioner_rebuild;
-    bool rebuild = m_rebuild_after_failure || m_last_contraction > policy.slow_contraction;
-    if (m_setup_shift > 0.0) {
-      const double ratio = shift / m_setup_shift;
-      if (ratio > policy.shift_change_factor || ratio * policy.shift_change_factor < 1.0) rebuild = true;
-    }
-    if (policy.every_accepted_steps > 0 && m_accepted_since_setup >= policy.every_accepted_steps) rebuild = true;
-    return rebuild;
-  }
-
-  /// Solves the stage G(U) = M U − known − shift·f(time, U) = 0 from the
-  /// predictor in `u` (overwritten with the solution). False on failure.
+  /// Solves one stage from the predictor in `u` (stage_solver.hpp); false on failure.
   template <class Stage>
   bool solve_stage(Stage& stage, double time, double shift, const vector_type& known, vector_type& u,
                    time_step_record& record) {
-    if (m_settings.cancellation_flag != nullptr && m_settings.cancellation_flag->load()) {
-      m_cancelled = true;
-      return false;
-    }
-    m_current_shift = shift;
     compute_weights(m_states[0], m_states[0]);
-    if (rebuild_wanted(shift) || m_setup_shift < 0.0) {
-      // A fresh preconditioner and, with it, fresh row scales (stage_residual.hpp).
-      refresh_row_scale(stage.mass(), shift);
-      m_newton.request_preconditioner_rebuild();
-    }
-    stage.prepare(time, shift, known, m_row_scale);
-    const stage_solve_settings& settings = m_settings.stage;
-    ++record.stage_solves;
-    auto run = m_newton.begin(stage, u);
-    bool converged = run.result() != outcome::in_progress && run.report().converged();
-    bool failed = run.result() != outcome::in_progress && !converged;
-    double previous_update = 0.0;
-    double contraction = 0.0;
-    int iteration = 0;
-    while (!converged && !failed) {
-      m_space.copy(u, m_previous_iterate);
-      const outcome step = run.advance();
-      m_space.combine(1.0, u, -1.0, m_previous_iterate, m_update);
-      const double update = weighted_norm(m_update);
-      ++iteration;
-      // Contraction θ: of the updates from the second iteration on; for the
-      // first, the residual reduction ‖G(U_1)‖/‖G(U_0)‖ (free: the Newton step
-      // evaluated G(U_1)), which also reflects an inexact linear solve.
-      const solve_report& so_far = run.report();
-      if (iteration > 1) {
-        contraction = previous_update > 0.0 ? update / previous_update : 0.0;
-      } else {
-        const double residual_ratio =
-            so_far.initial_residual_norm > 0.0 ? so_far.final_residual_norm / so_far.initial_residual_norm : 0.0;
-        contraction = std::max(residual_ratio, m_contraction_memory);
-      }
-      record.largest_contraction = std::max(record.largest_contraction, contraction);
-      if (contraction >= settings.divergence_contraction && iteration > 1) {
-        failed = true;
-        break;
-      }
-      const double eta = contraction < 1.0 ? contraction / (1.0 - contraction) : 1e300;
-      previous_update = update;
-      if (step != outcome::in_progress) {
-        converged = run.report().converged();
-        failed = !converged;
-      } else if (eta * update <= settings.newton_tolerance_fraction || update == 0.0) {
-        converged = true;
-      }
-    }
-    const solve_report& inner = run.report();
-    record.newton_steps += inner.newton_steps;
-    record.linear_iterations += inner.linear_iterations;
-    record.preconditioner_setups += inner.preconditioner_setups;
-    if (inner.preconditioner_setups > 0) {
-      m_setup_shift = shift;
-      m_accepted_since_setup = 0;
-      m_rebuild_after_failure = false;
-    }
-    m_last_contraction = contraction;
-    // Memory of the observed contraction for first iterations (Hairer & Wanner
-    // II, §IV.8: θ_old^0.8, so that it drifts up and a second iteration
-    // re-measures it now and then).
-    m_contraction_memory = iteration > 1 ? contraction : std::pow(std::max(m_contraction_memory, 1e-16), 0.8);
-    if (m_settings.cancellation_flag != nullptr && m_settings.cancellation_flag->load()) m_cancelled = true;
-    return converged && m_space.all_finite(u);
+    const stage_solve_status status = m_stage_solver.solve(m_settings, stage, time, shift, known, u, m_weights, record);
+    if (status == stage_solve_status::cancelled) m_cancelled = true;
+    return status == stage_solve_status::converged;
   }
 
   /// u_pred = polynomial through (times[j], values[j]) at t (count points).
@@ -616,7 +522,7 @@ class implicit_time_stepper {
   template <class Stage>
   void accept(state_view u, double h, double t_new, Stage& stage) {
     ++m_report.accepted_steps;
-    ++m_accepted_since_setup;
+    m_stage_solver.after_accepted_step();
     m_report.smallest_accepted_step = std::min(m_report.smallest_accepted_step, h);
     m_report.largest_accepted_step = std::max(m_report.largest_accepted_step, h);
     // History: newest first; the BDF start adds its midpoint too.
@@ -652,7 +558,7 @@ class implicit_time_stepper {
 
   time_stepper_settings m_settings;
   Space m_space;
-  newton_solver_type m_newton;
+  detail::stage_solver<Space, Preconditioner> m_stage_solver;
   esdirk_tableau m_tableau;
   mass_matrix<vector_type> m_identity_mass;
   detail::error_weights<Space> m_tolerances;
@@ -667,18 +573,12 @@ class implicit_time_stepper {
   std::array<double, 3> m_times{};
   int m_history_count = 0;
   std::array<vector_type, esdirk_tableau::max_stages> m_stage_values, m_increments, m_mass_increments;
-  vector_type m_rate, m_slope, m_known, m_candidate, m_predicted, m_error, m_scratch, m_weights, m_update;
-  vector_type m_previous_iterate, m_midpoint, m_full_step, m_row_scale;
+  vector_type m_rate, m_slope, m_known, m_candidate, m_predicted, m_error, m_scratch, m_weights;
+  vector_type m_midpoint, m_full_step;
 
   double m_time = 0.0;
   double m_next_step = 0.0;
-  double m_current_shift = 0.0;
-  double m_last_contraction = 0.0;
-  double m_contraction_memory = 1.0;
-  double m_setup_shift = -1.0;
-  bool m_rebuild_after_failure = false;
   bool m_cancelled = false;
-  int m_accepted_since_setup = 0;
   std::int64_t m_attempts = 0;
 };
 

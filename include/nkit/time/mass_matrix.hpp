@@ -12,6 +12,7 @@
 #include <string>
 #include <utility>
 
+#include "../detail/checks.hpp"
 #include "../preconditioner.hpp"
 
 namespace nkit {
