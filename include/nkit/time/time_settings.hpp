@@ -174,7 +174,7 @@ struct time_stepper_settings {
   const std::atomic<bool>* cancellation_flag = nullptr;
   /// Per-step records kept in the report (room reserved at the start of each
   /// integration; later records are counted, not stored).
-  std::int64_t history_capacity = 100000;
+  std::int64_t history_capacity = 10000;  // 112 bytes per record: about 1.1 MB
 
   void validate() const {
     detail::require_enumerator("time_stepper_settings.method", method, time_method::esdirk, "bdf, esdirk");
