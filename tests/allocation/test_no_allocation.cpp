@@ -24,6 +24,7 @@ std::atomic<long> eigen_heap_requests{0};
 #include <catch2/catch.hpp>
 #include <nkit/nkit.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
+#include <nkit/time/implicit_time_stepper.hpp>
 
 #include "problems/model_problem/model_problem.hpp"
 
@@ -244,4 +245,74 @@ TEST_CASE("ILU(0) preconditioned Newton repeats without allocating", "[allocatio
   apply_region.stop();
   CHECK(apply_region.operator_new_calls() == 0);
   CHECK(apply_region.eigen_heap_requests() == 0);
+}
+
+namespace {
+/// u_t = (k(u) u_x)_x on N cells, k = 1 + u², insulated ends plus a unit source
+/// in the middle cell; assemble_rate_jacobian writes into the stored pattern
+/// after the first call, so the user's side allocates nothing either.
+struct nonlinear_rod {
+  int cells = 200;
+  double dx = 1.0 / 200;
+  void rate(double /*t*/, const Eigen::VectorXd& u, Eigen::VectorXd& f) const {
+    f.setZero();
+    f(cells / 2) = 1.0;
+    for (int i = 0; i + 1 < cells; ++i) {
+      const double k = 1.0 + 0.5 * (u(i) * u(i) + u(i + 1) * u(i + 1));
+      const double flux = k * (u(i + 1) - u(i)) / (dx * dx);
+      f(i) += flux;
+      f(i + 1) -= flux;
+    }
+  }
+  void assemble_rate_jacobian(double /*t*/, const Eigen::VectorXd& u, nkit::sparse_matrix& jacobian) const {
+    if (jacobian.rows() != cells || jacobian.nonZeros() != 3 * cells - 2) {
+      std::vector<Eigen::Triplet<double, int>> entries;
+      for (int i = 0; i < cells; ++i) {
+        entries.emplace_back(i, i, 0.0);
+        if (i > 0) entries.emplace_back(i, i - 1, 0.0);
+        if (i + 1 < cells) entries.emplace_back(i, i + 1, 0.0);
+      }
+      jacobian.resize(cells, cells);
+      jacobian.setFromTriplets(entries.begin(), entries.end());
+    }
+    for (int i = 0; i < jacobian.outerSize(); ++i) {
+      for (nkit::sparse_matrix::InnerIterator e(jacobian, i); e; ++e) e.valueRef() = 0.0;
+    }
+    for (int i = 0; i + 1 < cells; ++i) {
+      const double k = 1.0 + 0.5 * (u(i) * u(i) + u(i + 1) * u(i + 1));
+      const double d = u(i + 1) - u(i);
+      const double by_left = (u(i) * d - k) / (dx * dx), by_right = (u(i + 1) * d + k) / (dx * dx);
+      jacobian.coeffRef(i, i) += by_left;
+      jacobian.coeffRef(i, i + 1) += by_right;
+      jacobian.coeffRef(i + 1, i) -= by_left;
+      jacobian.coeffRef(i + 1, i + 1) -= by_right;
+    }
+  }
+};
+}  // namespace
+
+TEST_CASE("a repeated implicit time integration of the same size allocates nothing", "[allocation][time]") {
+  // A nonlinear rod with a lagged ILU(0) of the stage Jacobian: the second
+  // integration (same stepper, same size) must not touch the heap at all,
+  // steps, stages, preconditioner rebuilds and the report included.
+  nonlinear_rod system;
+  for (auto method : {nkit::time_method::bdf, nkit::time_method::esdirk}) {
+    nkit::time_stepper_settings settings;
+    settings.method = method;
+    settings.relative_tolerance = 1e-4;
+    settings.absolute_tolerance = 1e-7;
+    settings.history_capacity = 1000;
+    nkit::implicit_time_stepper<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> stepper(settings);
+    Eigen::VectorXd t = Eigen::VectorXd::Zero(system.cells);
+    REQUIRE(stepper.integrate(system, t, 0.0, 0.05).reached_end());
+    t.setZero();
+    counted_region region;
+    const nkit::integration_report& report = stepper.integrate(system, t, 0.0, 0.05);
+    region.stop();
+    CHECK(report.reached_end());
+    CHECK(report.accepted_steps > 10);
+    CHECK(report.preconditioner_setups > 0);
+    CHECK(region.operator_new_calls() == 0);
+    CHECK(region.eigen_heap_requests() == 0);
+  }
 }

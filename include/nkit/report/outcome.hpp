@@ -72,35 +72,39 @@ constexpr solve_status status_of(stop_reason reason) {
 /// True for the reasons of status converged.
 constexpr bool is_converged(stop_reason reason) { return status_of(reason) == solve_status::converged; }
 
-/// A stop reason once a run has stopped, nothing while it runs: the
-/// optional<stop_reason> of reports. Both members are always initialised
-/// (a std::optional<stop_reason> member trips GCC's -Wmaybe-uninitialized in
-/// ordinary user code such as a report declared, then assigned in a lambda).
-class stop_reason_if_stopped {
+/// A stop reason once a run has stopped, nothing while it runs: the optional
+/// reason of reports (Reason: stop_reason, or another run's reason enum).
+/// Both members are always initialised (a std::optional<stop_reason> member
+/// trips GCC's -Wmaybe-uninitialized in ordinary user code such as a report
+/// declared, then assigned in a lambda).
+template <class Reason>
+class reason_if_stopped {
  public:
-  constexpr stop_reason_if_stopped() = default;
-  constexpr stop_reason_if_stopped(stop_reason reason) : m_reason(reason), m_stopped(true) {}  // NOLINT: implicit
-  constexpr stop_reason_if_stopped(std::nullopt_t) {}                                          // NOLINT: implicit
+  constexpr reason_if_stopped() = default;
+  constexpr reason_if_stopped(Reason reason) : m_reason(reason), m_stopped(true) {}  // NOLINT: implicit on purpose
+  constexpr reason_if_stopped(std::nullopt_t) {}                                     // NOLINT: implicit on purpose
   constexpr bool has_value() const { return m_stopped; }
   constexpr explicit operator bool() const { return m_stopped; }
   /// The reason; only meaningful when has_value().
-  constexpr stop_reason operator*() const { return m_reason; }
-  constexpr std::optional<stop_reason> optional() const {
-    return m_stopped ? std::optional<stop_reason>(m_reason) : std::nullopt;
+  constexpr Reason operator*() const { return m_reason; }
+  constexpr std::optional<Reason> optional() const {
+    return m_stopped ? std::optional<Reason>(m_reason) : std::nullopt;
   }
-  friend constexpr bool operator==(stop_reason_if_stopped a, stop_reason_if_stopped b) {
+  friend constexpr bool operator==(reason_if_stopped a, reason_if_stopped b) {
     return a.m_stopped == b.m_stopped && (!a.m_stopped || a.m_reason == b.m_reason);
   }
-  friend constexpr bool operator!=(stop_reason_if_stopped a, stop_reason_if_stopped b) { return !(a == b); }
-  friend constexpr bool operator==(stop_reason_if_stopped a, stop_reason b) { return a.m_stopped && a.m_reason == b; }
-  friend constexpr bool operator!=(stop_reason_if_stopped a, stop_reason b) { return !(a == b); }
-  friend constexpr bool operator==(stop_reason a, stop_reason_if_stopped b) { return b == a; }
-  friend constexpr bool operator!=(stop_reason a, stop_reason_if_stopped b) { return !(b == a); }
+  friend constexpr bool operator!=(reason_if_stopped a, reason_if_stopped b) { return !(a == b); }
+  friend constexpr bool operator==(reason_if_stopped a, Reason b) { return a.m_stopped && a.m_reason == b; }
+  friend constexpr bool operator!=(reason_if_stopped a, Reason b) { return !(a == b); }
+  friend constexpr bool operator==(Reason a, reason_if_stopped b) { return b == a; }
+  friend constexpr bool operator!=(Reason a, reason_if_stopped b) { return !(b == a); }
 
  private:
-  stop_reason m_reason = stop_reason::absolute_tolerance_met;
+  Reason m_reason{};
   bool m_stopped = false;
 };
+
+using stop_reason_if_stopped = reason_if_stopped<stop_reason>;
 
 /// False while the run goes on (no reason yet).
 constexpr bool is_converged(stop_reason_if_stopped reason) { return reason && is_converged(*reason); }
