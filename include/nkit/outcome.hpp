@@ -27,7 +27,8 @@ enum class outcome {
   trust_region_collapsed,       ///< trust-region radius fell below its minimum
   pseudo_time_step_collapsed,   ///< pseudo-transient step fell below its minimum
   cancelled,                    ///< the cancellation flag was raised
-  stopped_by_monitor            ///< a monitor returned monitor_decision::stop_now
+  stopped_by_monitor,           ///< a monitor returned monitor_decision::stop_now
+  iteration_limit               ///< a fixed-point solver's max_iterations reached (fixed_point/anderson_solver.hpp)
 };
 
 /// True for the two converged outcomes.
@@ -72,6 +73,8 @@ constexpr std::string_view name(outcome value) {
       return "cancelled";
     case outcome::stopped_by_monitor:
       return "stopped_by_monitor";
+    case outcome::iteration_limit:
+      return "iteration_limit";
   }
   return "unknown";
 }
@@ -115,6 +118,8 @@ constexpr std::string_view describe(outcome value) {
       return "Stopped: the cancellation flag was raised.";
     case outcome::stopped_by_monitor:
       return "Stopped: a monitor asked the solve to stop.";
+    case outcome::iteration_limit:
+      return "Stopped: the iteration limit of the fixed-point solver was reached before convergence.";
   }
   return "Unknown outcome.";
 }
