@@ -64,7 +64,7 @@ struct anderson_report {
   std::int64_t residual_evaluations = 0;  ///< evaluations of G, the one at u0 included
   std::int64_t restarts = 0;              ///< history cleared (stagnation or a non-finite G after an accelerated step)
   std::int64_t dropped_columns = 0;       ///< columns removed by the condition safeguard, all iterations
-  std::int64_t non_finite_trials = 0;     ///< trial iterates whose G had NaN/Inf
+  std::int64_t non_finite_trials = 0;     ///< trial iterates whose G had NaN/Inf (or that overflowed)
   std::int64_t bound_limited_steps = 0;   ///< steps shortened by bounds
 
   /// ‖f(u0)‖; NaN when the solve stopped (time limit, cancellation) before G(u0) was evaluated.

@@ -18,9 +18,9 @@
 /// Safeguards (each counted in the report): the condition-number limit on
 /// the least-squares factor drops the oldest columns; when ‖f‖ has not
 /// improved for restart_window iterations the history is cleared (restart);
-/// when G returns NaN/Inf at an accelerated iterate the history is cleared
-/// and the plain step is taken instead, and a plain step whose G is not
-/// finite is halved (at most max_step_halvings times, then
+/// when G returns NaN/Inf at an accelerated iterate (or the iterate itself
+/// overflows; G is then not called) the history is cleared and the plain
+/// step is taken instead, and a plain step whose G is not finite is halved (at most max_step_halvings times, then
 /// outcome::line_search_failed). Bounds (set_bounds) shorten each step to
 /// bounds.boundary_fraction of the room left, as the Newton driver does; G is
 /// never evaluated outside them.
@@ -254,7 +254,10 @@ class anderson_solver {
       record.bound_active = limit < 1.0;
       record.step_length = length * limit;
       m_space.combine(1, m_state, record.step_length, m_work, m_trial_state);
-      trial_norm = evaluate(map, m_trial_state, m_trial_map_value, m_trial_residual);
+      // G is never evaluated at a non-finite state (an extrapolation can overflow).
+      trial_norm = m_space.all_finite(m_trial_state)
+                       ? evaluate(map, m_trial_state, m_trial_map_value, m_trial_residual)
+                       : std::numeric_limits<double>::infinity();
       if (std::isfinite(trial_norm)) break;
       ++m_report.non_finite_trials;
       if (m_least_squares.columns() > 0) {  // retreat to the plain step
