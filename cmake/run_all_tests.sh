@@ -6,7 +6,8 @@
 #   4. clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer and
 #      warnings as errors (plus the libFuzzer target), then the whole ctest
 #      suite again (it replays the fuzz corpus once)
-#   5. a short fuzz run: NKIT_FUZZ_SECONDS (default 60) of new inputs
+#   5. short fuzz runs: NKIT_FUZZ_SECONDS (default 60) of new inputs for the
+#      Newton driver and as many for the C interface
 # Build folders: build/ci-gcc and build/ci-clang-sanitize (override with NKIT_BUILD_ROOT).
 # Each stage prints its wall time.
 set -euo pipefail
@@ -25,7 +26,7 @@ stage() {
 
 stage "g++ Release build (warnings are errors)"
 cmake -S "$source_dir" -B "$build_root/ci-gcc" -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_COMPILER=g++ \
-  -DNKIT_WARNINGS_AS_ERRORS=ON
+  -DCMAKE_C_COMPILER=gcc -DNKIT_WARNINGS_AS_ERRORS=ON
 cmake --build "$build_root/ci-gcc" -j "$jobs"
 stage "test suite (g++)"
 ctest --test-dir "$build_root/ci-gcc" -j "$jobs" --output-on-failure
@@ -35,8 +36,8 @@ bash "$source_dir/cmake/run_valgrind.sh" "$build_root/ci-gcc"
 
 stage "clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer (warnings are errors)"
 cmake -S "$source_dir" -B "$build_root/ci-clang-sanitize" -DCMAKE_BUILD_TYPE=RelWithDebInfo \
-  -DCMAKE_CXX_COMPILER=clang++ -DNKIT_WARNINGS_AS_ERRORS=ON -DNKIT_SANITIZE=address,undefined \
-  -DNKIT_BUILD_BENCHMARKS=OFF -DNKIT_BUILD_FUZZERS=ON
+  -DCMAKE_CXX_COMPILER=clang++ -DCMAKE_C_COMPILER=clang -DNKIT_WARNINGS_AS_ERRORS=ON -DNKIT_SANITIZE=address,undefined \
+  -DNKIT_BUILD_BENCHMARKS=OFF -DNKIT_BUILD_FUZZERS=ON -DNKIT_BUILD_FORTRAN_INTERFACE=OFF
 cmake --build "$build_root/ci-clang-sanitize" -j "$jobs"
 stage "test suite (sanitizers)"
 ASAN_OPTIONS=detect_leaks=1:abort_on_error=1 UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 \
@@ -48,6 +49,13 @@ mkdir -p "$build_root/fuzz-artifacts"
 "$build_root/ci-clang-sanitize/tests/fuzz/nkit_fuzz_newton_solve" -max_total_time="${NKIT_FUZZ_SECONDS:-60}" \
   -timeout=10 -rss_limit_mb=2048 -print_final_stats=1 -artifact_prefix="$build_root/fuzz-artifacts/" \
   "$fuzz_corpus" "$source_dir/tests/fuzz/corpus"
+rm -rf "$fuzz_corpus"
+
+stage "fuzzing the C interface for ${NKIT_FUZZ_SECONDS:-60} s"
+fuzz_corpus=$(mktemp -d)
+"$build_root/ci-clang-sanitize/tests/fuzz/nkit_fuzz_c_interface" -max_total_time="${NKIT_FUZZ_SECONDS:-60}" \
+  -timeout=10 -rss_limit_mb=2048 -print_final_stats=1 -artifact_prefix="$build_root/fuzz-artifacts/" \
+  "$fuzz_corpus" "$source_dir/tests/fuzz/corpus_c_interface"
 rm -rf "$fuzz_corpus"
 
 stage "all nkit tests passed"
