@@ -11,7 +11,7 @@
 //     iterations) and without damping (mixing 1), applied to a linear map,
 //     is essentially GMRES: while GMRES does not stagnate,
 //         x_{k+1}^{AA} = g(x_k^{GMRES})
-//     (the theorem of their Section 2; its number there is from memory).
+//     (their linear-case theorem; its section and number are from memory).
 //     Two consequences are checked iterate by iterate: the vector relation
 //     itself, and that the least-squares residual ‖f_k − ΔF_k γ_k‖ of
 //     Anderson's iteration k+1 — the residual of the affine combination
