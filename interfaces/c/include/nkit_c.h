@@ -119,7 +119,8 @@ const char* nkit_version_text(void);
 
 nkit_status nkit_set_residual(nkit_solver* solver, nkit_vector_function residual, void* user_data);
 nkit_status nkit_set_fixed_point_map(nkit_solver* solver, nkit_vector_function map, void* user_data);
-/* setup may be NULL (the preconditioner needs no rebuild); apply NULL clears both. */
+/* For the two Newton–Krylov methods (Anderson has no linear solve and ignores it).
+ * setup may be NULL (the preconditioner needs no rebuild); apply NULL clears both. */
 nkit_status nkit_set_preconditioner(nkit_solver* solver, nkit_preconditioner_setup_function setup,
                                     nkit_preconditioner_apply_function apply, void* user_data);
 nkit_status nkit_set_monitor(nkit_solver* solver, nkit_monitor_function monitor, void* user_data);
