@@ -29,7 +29,8 @@
  *   nkit_solver_destroy(solver);
  *
  * Threads: a handle may be used by one thread at a time; different handles
- * are independent. Callbacks must not throw C++ exceptions or longjmp out.
+ * are independent. Callbacks must not throw C++ exceptions or longjmp out,
+ * and must not call nkit functions on the handle that is solving.
  */
 #ifndef NKIT_C_H
 #define NKIT_C_H
