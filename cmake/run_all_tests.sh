@@ -9,6 +9,7 @@
 #   5. a deterministic fuzz run: the checked-in corpus, then NKIT_FUZZ_RUNS (default 30000)
 #      mutations from the fixed seed NKIT_FUZZ_SEED (default 20261202), so the same commit always
 #      runs the same inputs; exploratory fuzzing with random seeds is cmake/run_exploratory_fuzzing.sh
+#      (the Newton driver and the C interface alike)
 # Build folders: build/ci-gcc and build/ci-clang-sanitize (override with NKIT_BUILD_ROOT).
 # Each stage prints its wall time.
 set -euo pipefail
@@ -27,7 +28,7 @@ stage() {
 
 stage "g++ Release build (warnings are errors)"
 cmake -S "$source_dir" -B "$build_root/ci-gcc" -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_COMPILER=g++ \
-  -DNKIT_WARNINGS_AS_ERRORS=ON
+  -DCMAKE_C_COMPILER=gcc -DNKIT_WARNINGS_AS_ERRORS=ON
 cmake --build "$build_root/ci-gcc" -j "$jobs"
 stage "test suite (g++)"
 ctest --test-dir "$build_root/ci-gcc" -j "$jobs" --output-on-failure
@@ -37,8 +38,8 @@ bash "$source_dir/cmake/run_valgrind.sh" "$build_root/ci-gcc"
 
 stage "clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer (warnings are errors)"
 cmake -S "$source_dir" -B "$build_root/ci-clang-sanitize" -DCMAKE_BUILD_TYPE=RelWithDebInfo \
-  -DCMAKE_CXX_COMPILER=clang++ -DNKIT_WARNINGS_AS_ERRORS=ON -DNKIT_SANITIZE=address,undefined \
-  -DNKIT_BUILD_BENCHMARKS=OFF -DNKIT_BUILD_FUZZERS=ON
+  -DCMAKE_CXX_COMPILER=clang++ -DCMAKE_C_COMPILER=clang -DNKIT_WARNINGS_AS_ERRORS=ON -DNKIT_SANITIZE=address,undefined \
+  -DNKIT_BUILD_BENCHMARKS=OFF -DNKIT_BUILD_FUZZERS=ON -DNKIT_BUILD_FORTRAN_INTERFACE=OFF
 cmake --build "$build_root/ci-clang-sanitize" -j "$jobs"
 stage "test suite (sanitizers)"
 ASAN_OPTIONS=detect_leaks=1:abort_on_error=1 UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 \
@@ -52,6 +53,13 @@ mkdir -p "$build_root/fuzz-artifacts"
 "$build_root/ci-clang-sanitize/tests/fuzz/nkit_fuzz_newton_solve" -seed="$fuzz_seed" -runs="$fuzz_runs" \
   -timeout=10 -rss_limit_mb=2048 -print_final_stats=1 -artifact_prefix="$build_root/fuzz-artifacts/" \
   "$fuzz_corpus" "$source_dir/tests/fuzz/corpus"
+rm -rf "$fuzz_corpus"
+
+stage "fuzzing the C interface: seed $fuzz_seed, $fuzz_runs runs from the checked-in corpus"
+fuzz_corpus=$(mktemp -d)
+"$build_root/ci-clang-sanitize/tests/fuzz/nkit_fuzz_c_interface" -seed="$fuzz_seed" -runs="$fuzz_runs" \
+  -timeout=10 -rss_limit_mb=2048 -print_final_stats=1 -artifact_prefix="$build_root/fuzz-artifacts/" \
+  "$fuzz_corpus" "$source_dir/tests/fuzz/corpus_c_interface"
 rm -rf "$fuzz_corpus"
 
 stage "all nkit tests passed"

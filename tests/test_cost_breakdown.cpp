@@ -172,7 +172,9 @@ TEST_CASE("a solve stopped inside GMRES or a globalisation step keeps its breakd
     // Each Newton step started ran one GMRES call (two or more for a
     // pseudo-transient step that shrank); the stopped step's call counts.
     CHECK(report.calls.krylov_update >= report.newton_steps + 1);
-    CHECK(report.time.newton_update < 0.25 * (report.time.jacobian_vector + report.time.residual));
+    // 5 ms slack: a scheduler preemption on a loaded machine lands in
+    // whichever phase is running (one time slice is a few ms).
+    CHECK(report.time.newton_update < 0.25 * (report.time.jacobian_vector + report.time.residual) + 0.005);
     if (report.calls.krylov_update > report.calls.globalization) stopped_inside_gmres = true;
     if (report.calls.globalization > report.newton_steps) stopped_inside_globalization = true;
   }

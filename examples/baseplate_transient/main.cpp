@@ -19,10 +19,11 @@
 #include <string>
 #include <vector>
 
-#include "problems/heat/baseplate.hpp"
 #include "baseplate_transient/power_cycling.hpp"
 #include "common/command_line.hpp"
 #include "common/run_output.hpp"
+#include "problems/baselines/process_resources.hpp"
+#include "problems/heat/baseplate.hpp"
 
 namespace {
 
@@ -76,13 +77,13 @@ int run(int argc, char** argv) {
   };
   std::printf("Power cycling (invented data): %d x %d cells, %zu chips, %g s period, %g s simulated, %s\n",
               problem.cells_x(), problem.cells_y(), chips, cycle.period, end_time, method_name.c_str());
-  const double cpu_start = nkit_examples::process_cpu_seconds();
+  const double cpu_start = nkit_problems::process_cpu_seconds();
   const nkit::integration_report& report = stepper.integrate(system, t, 0.0, end_time, monitor);
   std::printf(
       "%s after %.2f s (CPU %.2f s): %lld steps (%lld rejected), %lld Newton steps, %lld GMRES iterations,\n"
       "%lld preconditioner setups (%.2f per step), step sizes %.2e ... %.2e s, %.0f work units\n",
       std::string(nkit::name(report.reason)).c_str(), report.wall_seconds,
-      nkit_examples::process_cpu_seconds() - cpu_start, static_cast<long long>(report.accepted_steps),
+      nkit_problems::process_cpu_seconds() - cpu_start, static_cast<long long>(report.accepted_steps),
       static_cast<long long>(report.rejected_steps()), static_cast<long long>(report.newton_steps),
       static_cast<long long>(report.linear_iterations), static_cast<long long>(report.preconditioner_setups),
       static_cast<double>(report.preconditioner_setups) / std::max<std::int64_t>(1, report.accepted_steps),

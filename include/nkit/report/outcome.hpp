@@ -38,6 +38,7 @@ enum class stop_reason {
   residual_evaluation_budget_spent,  ///< residual_evaluation_budget calls of the residual made
   linear_iteration_budget_spent,     ///< linear_iteration_budget GMRES iterations used
   wall_time_budget_spent,            ///< wall_time_budget_seconds passed
+  iteration_budget_spent,            ///< a fixed-point solver's iteration_budget spent (fixed_point/)
   // cannot_proceed
   no_acceptable_step,                ///< the step control gave up (solve_report::globalization_at_stop)
   no_newton_direction,               ///< GMRES could not reduce the linear residual at all
@@ -60,6 +61,7 @@ constexpr solve_status status_of(stop_reason reason) {
     case stop_reason::residual_evaluation_budget_spent:
     case stop_reason::linear_iteration_budget_spent:
     case stop_reason::wall_time_budget_spent:
+    case stop_reason::iteration_budget_spent:
       return solve_status::budget_spent;
     case stop_reason::cancellation_flag_raised:
     case stop_reason::monitor_requested_stop:
@@ -140,6 +142,8 @@ constexpr std::string_view name(stop_reason reason) {
       return "linear_iteration_budget_spent";
     case stop_reason::wall_time_budget_spent:
       return "wall_time_budget_spent";
+    case stop_reason::iteration_budget_spent:
+      return "iteration_budget_spent";
     case stop_reason::no_acceptable_step:
       return "no_acceptable_step";
     case stop_reason::no_newton_direction:
@@ -183,6 +187,8 @@ constexpr std::string_view describe(stop_reason reason) {
       return "Budget spent: GMRES used linear_iteration_budget iterations over the solve without converging.";
     case stop_reason::wall_time_budget_spent:
       return "Budget spent: wall_time_budget_seconds of wall-clock time passed without converging.";
+    case stop_reason::iteration_budget_spent:
+      return "Budget spent: iteration_budget fixed-point iterations were taken without converging.";
     case stop_reason::no_acceptable_step:
       return "Cannot proceed: the step control found no acceptable step (globalization_at_stop says which); the "
              "iterate may be near a local minimum of the residual norm that is not a root, or the Newton direction "

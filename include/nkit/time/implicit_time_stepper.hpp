@@ -51,8 +51,8 @@
 #include <utility>
 
 #include "../detail/timer.hpp"
-#include "../report/monitor.hpp"
 #include "../newton/newton_krylov_solver.hpp"
+#include "../report/monitor.hpp"
 #include "bdf_formulas.hpp"
 #include "error_weights.hpp"
 #include "esdirk_tableau.hpp"
@@ -140,7 +140,7 @@ class implicit_time_stepper {
         break;
       }
       if (const auto stop = budget_stop()) {
-        m_report.result = stop;
+        m_report.reason = stop;
         break;
       }
       double h = control.adaptive ? std::min(m_next_step, control.maximum_step) : control.initial_step;

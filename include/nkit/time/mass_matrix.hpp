@@ -12,8 +12,8 @@
 #include <string>
 #include <utility>
 
-#include "../detail/checks.hpp"
 #include "../core/preconditioner.hpp"
+#include "../detail/checks.hpp"
 
 namespace nkit {
 

@@ -17,7 +17,7 @@
 /// solver's own residual test also ends the stage as converged; any other
 /// ending of it, or θ >= divergence_contraction, is a failure.
 ///
-/// Rebuild policy (preconditioner_rebuild_settings): before a stage, ask the
+/// Rebuild policy (time_preconditioner_rebuild_settings): before a stage, ask the
 /// Newton solver for a fresh preconditioner when γΔt differs from its value at
 /// the last setup by more than shift_change_factor, when the previous stage
 /// contracted slower than slow_contraction, every every_accepted_steps
@@ -64,7 +64,7 @@ class stage_solver {
     m_accepted_since_setup = 0;
   }
   void after_accepted_step() { ++m_accepted_since_setup; }
-  void after_failed_step(const preconditioner_rebuild_settings& policy) {
+  void after_failed_step(const time_preconditioner_rebuild_settings& policy) {
     m_rebuild_after_failure = policy.after_stage_failure;
   }
 
@@ -146,7 +146,7 @@ class stage_solver {
     }
   }
 
-  bool rebuild_wanted(const preconditioner_rebuild_settings& policy, double shift) const {
+  bool rebuild_wanted(const time_preconditioner_rebuild_settings& policy, double shift) const {
     bool rebuild = m_rebuild_after_failure || m_last_contraction > policy.slow_contraction;
     if (m_setup_shift > 0.0) {
       const double ratio = shift / m_setup_shift;

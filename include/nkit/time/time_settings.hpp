@@ -60,10 +60,10 @@ struct step_control_settings {
   double minimum_step = 1e-14;
   double maximum_step = std::numeric_limits<double>::infinity();
   double safety_factor = 0.9;
-  double integral_gain = 0.7;      ///< a above
-  double proportional_gain = 0.4;  ///< b above
-  double maximum_step_growth = 5.0;     ///< h_new <= maximum_step_growth · h after an accepted step
-  double minimum_shrink_factor = 0.2;    ///< h_new >= minimum_shrink_factor · h after an error-test failure
+  double integral_gain = 0.7;          ///< a above
+  double proportional_gain = 0.4;      ///< b above
+  double maximum_step_growth = 5.0;    ///< h_new <= maximum_step_growth · h after an accepted step
+  double minimum_shrink_factor = 0.2;  ///< h_new >= minimum_shrink_factor · h after an error-test failure
   /// h is multiplied by this after a failed stage solve.
   double stage_failure_shrink_factor = 0.25;
   /// Variable-step BDF2 is zero-stable for step ratios below 1 + √2
@@ -101,7 +101,7 @@ struct step_control_settings {
 /// When the preconditioner of the stage Jacobian M − γΔt ∂f/∂u is rebuilt.
 /// The Newton solver carries it across stages and steps; the stepper asks for
 /// a rebuild when one of these holds (checked before each stage solve).
-struct preconditioner_rebuild_settings {
+struct time_preconditioner_rebuild_settings {
   /// γΔt differs from its value at the last setup by more than this factor
   /// (either way). Must be > 1.
   double shift_change_factor = 2.0;
@@ -112,7 +112,7 @@ struct preconditioner_rebuild_settings {
   /// After a failed stage solve, the retry starts from a fresh preconditioner.
   bool after_stage_failure = true;
 
-  void validate(std::string_view prefix = "preconditioner_rebuild_settings") const {
+  void validate(std::string_view prefix = "time_preconditioner_rebuild_settings") const {
     const std::string p(prefix);
     if (!(shift_change_factor > 1.0))
       detail::throw_invalid_setting(p + ".shift_change_factor", "> 1", shift_change_factor);
@@ -166,7 +166,7 @@ struct time_stepper_settings {
   int predictor_degree = 2;
   step_control_settings step_control;
   stage_solve_settings stage;
-  preconditioner_rebuild_settings preconditioner_rebuild;
+  time_preconditioner_rebuild_settings preconditioner_rebuild;
   /// Attempted steps allowed per integrate() call (accepted + rejected).
   std::int64_t attempted_step_budget = 1000000;
   double wall_time_budget_seconds = std::numeric_limits<double>::infinity();
