@@ -22,6 +22,7 @@
 #include <nkit/newton/newton_krylov_solver.hpp>
 #include <vector>
 
+#include "problems/baselines/picard_iteration.hpp"
 #include "problems/flow/cavity_solve.hpp"
 #include "problems/heat/baseplate.hpp"
 #include "problems/heat/baseplate_picard_map.hpp"
@@ -127,17 +128,12 @@ class cavity_oseen_map {
     m_residual.resize(x.size());
     (*m_cavity)(x, m_residual);
     m_cavity->assemble_picard_matrix(x, m_matrix);
-    if (!m_analysed) {
-      m_factor->analyzePattern(m_matrix);
-      m_analysed = true;
-    }
-    m_factor->factorize(m_matrix);
     ++factorizations;
-    if (m_factor->info() != Eigen::Success) {
+    if (!m_factorization.factorize(m_matrix)) {
       g.setConstant(std::numeric_limits<double>::quiet_NaN());
       return;
     }
-    g = x - m_factor->solve(m_residual);
+    g = x - m_factorization.solve(m_residual);
   }
   long long factorizations = 0;
 
@@ -146,9 +142,7 @@ class cavity_oseen_map {
   nkit_problems::lid_driven_cavity* m_cavity;
   matrix_type m_matrix;
   Eigen::VectorXd m_residual;
-  std::unique_ptr<Eigen::SparseLU<matrix_type, Eigen::COLAMDOrdering<int>>> m_factor =
-      std::make_unique<Eigen::SparseLU<matrix_type, Eigen::COLAMDOrdering<int>>>();
-  bool m_analysed = false;
+  nkit_problems::reusing_factorization<Eigen::SparseLU<matrix_type, Eigen::COLAMDOrdering<int>>> m_factorization;
 };
 
 /// Runs `stage(cavity, x, target, cost)` over the Re ramp to 1000 with the

@@ -4,7 +4,8 @@
 /// \file nkit.hpp
 /// Umbrella header: the public headers of nkit's core, folder by folder in
 /// layer order (DEVELOPERS.md, "Layout"). Optional parts with extra
-/// dependencies are included separately: distributed/mpi_vector_space.hpp
+/// dependencies are included separately: time/odeint_stepper.hpp (Boost),
+/// distributed/mpi_vector_space.hpp
 /// (MPI), preconditioners/hypre_algebraic_multigrid.hpp (hypre),
 /// preconditioners/suitesparse_direct.hpp (SuiteSparse), report/report_json.hpp
 /// (nlohmann-json).
@@ -55,6 +56,7 @@
 #include "newton/newton_settings.hpp"
 #include "newton/preconditioner_schedule.hpp"
 #include "newton/problem_access.hpp"
+#include "newton/run_handle.hpp"
 // continuation
 #include "continuation/bordered_system.hpp"
 #include "continuation/bordered_vector_space.hpp"
@@ -62,6 +64,11 @@
 #include "continuation/continuation_settings.hpp"
 #include "continuation/continuation_tangent.hpp"
 #include "continuation/parametrized_residual.hpp"
+// implicit time integration (time/odeint_stepper.hpp needs Boost: include it yourself)
+#include "time/implicit_time_stepper.hpp"
+// fixed-point maps: the adapter to Newton–Krylov and Anderson acceleration
+#include "fixed_point/anderson_solver.hpp"
+#include "fixed_point/fixed_point_residual.hpp"
 
 #include "version.hpp"
 

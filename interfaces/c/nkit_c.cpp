@@ -554,24 +554,54 @@ nkit_status nkit_configure(nkit_solver* solver, const nkit_settings* settings) {
     });
   });
 }
+}  // extern "C"
+
+namespace {
+/// The setting `name` when it exists and has `kind`; otherwise nullptr, with
+/// the failure recorded for nkit_last_error_message().
+const setting_entry* setting_of_kind(const char* name, setting_kind kind, nkit_status& status) {
+  const setting_entry* entry = find_setting(name);
+  if (entry == nullptr) {
+    status = fail(NKIT_STATUS_INVALID_ARGUMENT, std::string("nkit: unknown setting '") + name + "'");
+    return nullptr;
+  }
+  if (entry->kind != kind) {
+    status =
+        fail(NKIT_STATUS_INVALID_ARGUMENT, std::string("nkit: setting '") + name + "' is " + kind_text(entry->kind));
+    return nullptr;
+  }
+  return entry;
+}
+
+/// Sets one setting by name on a copy of the settings and keeps the copy
+/// only when the whole settings validate: `apply(entry, settings)` returns
+/// an empty string or the reason the value was refused.
+template <class Apply>
+nkit_status set_by_name(nkit_solver* solver, const char* name, setting_kind kind, Apply&& apply) {
+  return guarded([&] {
+    nkit_status status = NKIT_STATUS_SUCCESS;
+    const setting_entry* entry = setting_of_kind(name, kind, status);
+    if (entry == nullptr) return status;
+    all_settings s = solver->settings;
+    if (const std::string refused = apply(*entry, s); !refused.empty()) {
+      return fail(NKIT_STATUS_INVALID_ARGUMENT, refused);
+    }
+    s.validate();
+    solver->settings = s;
+    return succeed();
+  });
+}
+}  // namespace
+
+extern "C" {
 
 nkit_status nkit_set_real(nkit_solver* solver, const char* name, double value) {
   return guarded([&]() -> nkit_status {
     NKIT_REQUIRE_NOT_NULL(solver, "nkit_set_real");
     NKIT_REQUIRE_NOT_NULL(name, "nkit_set_real");
-    return guarded([&] {
-      const setting_entry* entry = find_setting(name);
-      if (entry == nullptr)
-        return fail(NKIT_STATUS_INVALID_ARGUMENT, std::string("nkit: unknown setting '") + name + "'");
-      if (entry->kind != setting_kind::real) {
-        return fail(NKIT_STATUS_INVALID_ARGUMENT,
-                    std::string("nkit: setting '") + name + "' is " + kind_text(entry->kind));
-      }
-      all_settings s = solver->settings;
-      entry->set_real(s, value);
-      s.validate();
-      solver->settings = s;
-      return succeed();
+    return set_by_name(solver, name, setting_kind::real, [&](const setting_entry& entry, all_settings& s) {
+      entry.set_real(s, value);
+      return std::string();
     });
   });
 }
@@ -580,19 +610,9 @@ nkit_status nkit_set_integer(nkit_solver* solver, const char* name, int64_t valu
   return guarded([&]() -> nkit_status {
     NKIT_REQUIRE_NOT_NULL(solver, "nkit_set_integer");
     NKIT_REQUIRE_NOT_NULL(name, "nkit_set_integer");
-    return guarded([&] {
-      const setting_entry* entry = find_setting(name);
-      if (entry == nullptr)
-        return fail(NKIT_STATUS_INVALID_ARGUMENT, std::string("nkit: unknown setting '") + name + "'");
-      if (entry->kind != setting_kind::integer) {
-        return fail(NKIT_STATUS_INVALID_ARGUMENT,
-                    std::string("nkit: setting '") + name + "' is " + kind_text(entry->kind));
-      }
-      all_settings s = solver->settings;
-      entry->set_integer(s, value);
-      s.validate();
-      solver->settings = s;
-      return succeed();
+    return set_by_name(solver, name, setting_kind::integer, [&](const setting_entry& entry, all_settings& s) {
+      entry.set_integer(s, value);
+      return std::string();
     });
   });
 }
@@ -602,22 +622,9 @@ nkit_status nkit_set_text(nkit_solver* solver, const char* name, const char* val
     NKIT_REQUIRE_NOT_NULL(solver, "nkit_set_text");
     NKIT_REQUIRE_NOT_NULL(name, "nkit_set_text");
     NKIT_REQUIRE_NOT_NULL(value, "nkit_set_text");
-    return guarded([&] {
-      const setting_entry* entry = find_setting(name);
-      if (entry == nullptr)
-        return fail(NKIT_STATUS_INVALID_ARGUMENT, std::string("nkit: unknown setting '") + name + "'");
-      if (entry->kind != setting_kind::text) {
-        return fail(NKIT_STATUS_INVALID_ARGUMENT,
-                    std::string("nkit: setting '") + name + "' is " + kind_text(entry->kind));
-      }
-      all_settings s = solver->settings;
-      if (!entry->set_text(s, value)) {
-        return fail(NKIT_STATUS_INVALID_ARGUMENT,
-                    std::string("nkit: setting '") + name + "' has no value '" + value + "'");
-      }
-      s.validate();
-      solver->settings = s;
-      return succeed();
+    return set_by_name(solver, name, setting_kind::text, [&](const setting_entry& entry, all_settings& s) {
+      return entry.set_text(s, value) ? std::string()
+                                      : std::string("nkit: setting '") + name + "' has no value '" + value + "'";
     });
   });
 }
@@ -627,13 +634,9 @@ nkit_status nkit_get_real(const nkit_solver* solver, const char* name, double* v
     NKIT_REQUIRE_NOT_NULL(solver, "nkit_get_real");
     NKIT_REQUIRE_NOT_NULL(name, "nkit_get_real");
     NKIT_REQUIRE_NOT_NULL(value, "nkit_get_real");
-    const setting_entry* entry = find_setting(name);
-    if (entry == nullptr)
-      return fail(NKIT_STATUS_INVALID_ARGUMENT, std::string("nkit: unknown setting '") + name + "'");
-    if (entry->kind != setting_kind::real) {
-      return fail(NKIT_STATUS_INVALID_ARGUMENT,
-                  std::string("nkit: setting '") + name + "' is " + kind_text(entry->kind));
-    }
+    nkit_status status = NKIT_STATUS_SUCCESS;
+    const setting_entry* entry = setting_of_kind(name, setting_kind::real, status);
+    if (entry == nullptr) return status;
     *value = entry->get_real(solver->settings);
     return succeed();
   });
@@ -644,13 +647,9 @@ nkit_status nkit_get_integer(const nkit_solver* solver, const char* name, int64_
     NKIT_REQUIRE_NOT_NULL(solver, "nkit_get_integer");
     NKIT_REQUIRE_NOT_NULL(name, "nkit_get_integer");
     NKIT_REQUIRE_NOT_NULL(value, "nkit_get_integer");
-    const setting_entry* entry = find_setting(name);
-    if (entry == nullptr)
-      return fail(NKIT_STATUS_INVALID_ARGUMENT, std::string("nkit: unknown setting '") + name + "'");
-    if (entry->kind != setting_kind::integer) {
-      return fail(NKIT_STATUS_INVALID_ARGUMENT,
-                  std::string("nkit: setting '") + name + "' is " + kind_text(entry->kind));
-    }
+    nkit_status status = NKIT_STATUS_SUCCESS;
+    const setting_entry* entry = setting_of_kind(name, setting_kind::integer, status);
+    if (entry == nullptr) return status;
     *value = entry->get_integer(solver->settings);
     return succeed();
   });

@@ -23,6 +23,7 @@
 #include <chrono>
 #include <cmath>
 #include <limits>
+#include <memory>
 #include <stdexcept>
 #include <string>
 #include <utility>
@@ -102,6 +103,39 @@ struct picard_report {
   double work_units() const { return median_residual_seconds > 0.0 ? wall_seconds / median_residual_seconds : 0.0; }
 };
 
+/// A sparse direct factorisation that analyses the sparsity pattern once and
+/// refactorises on every call: the solve step of a Picard pass, shared by the
+/// Picard loop below and by the fixed-point maps built from its loop body
+/// (problems/heat/baseplate_picard_map.hpp, bench/fixed_point_configurations.hpp).
+/// Held through a pointer because Eigen's factorisations cannot be moved.
+template <class DirectSolver>
+class reusing_factorization {
+ public:
+  using matrix_type = Eigen::SparseMatrix<double, Eigen::ColMajor, int>;
+
+  /// Factorises `matrix` (analysing its pattern on the first call); false on failure.
+  bool factorize(const matrix_type& matrix) {
+    if (!m_analysed) {
+      m_factor->analyzePattern(matrix);
+      m_analysed = true;
+    }
+    m_factor->factorize(matrix);
+    ++m_factorizations;
+    return m_factor->info() == Eigen::Success;
+  }
+  template <class Rhs>
+  auto solve(const Rhs& right_hand_side) const {
+    return m_factor->solve(right_hand_side);
+  }
+  const DirectSolver& factor() const { return *m_factor; }
+  long long factorizations() const { return m_factorizations; }
+
+ private:
+  std::unique_ptr<DirectSolver> m_factor = std::make_unique<DirectSolver>();
+  bool m_analysed = false;
+  long long m_factorizations = 0;
+};
+
 /// The loop, with the factorisation kept between runs: a continuation that
 /// calls run after run on matrices of one sparsity pattern analyses it once.
 /// `DirectSolver`: an Eigen sparse direct solver (SparseLU, SimplicialLDLT,
@@ -120,7 +154,7 @@ class picard_iteration {
     const Eigen::VectorXd* right_hand_side = nullptr;
     return run(
         residual, x, settings, [&] { right_hand_side = &assemble(std::as_const(x), m_matrix); },
-        [&](const Eigen::VectorXd&) { x = m_factor.solve(*right_hand_side); });
+        [&](const Eigen::VectorXd&) { x = m_factorization.solve(*right_hand_side); });
   }
 
   /// x ← x − A(x)⁻¹ R(x). `assemble(x, A)` fills A(x).
@@ -129,11 +163,11 @@ class picard_iteration {
                                     const picard_settings& settings) {
     return run(
         residual, x, settings, [&] { assemble(std::as_const(x), m_matrix); },
-        [&](const Eigen::VectorXd& r) { x -= m_factor.solve(r); });
+        [&](const Eigen::VectorXd& r) { x -= m_factorization.solve(r); });
   }
 
   /// The factorisation of the last iteration (for its memory, say).
-  const DirectSolver& factorization() const { return m_factor; }
+  const DirectSolver& factorization() const { return m_factorization.factor(); }
 
  private:
   template <class Residual, class Assemble, class Update>
@@ -168,13 +202,8 @@ class picard_iteration {
         break;
       }
       assemble();
-      if (!m_analysed) {
-        m_factor.analyzePattern(m_matrix);
-        m_analysed = true;
-      }
-      m_factor.factorize(m_matrix);
       ++report.factorizations;
-      if (m_factor.info() != Eigen::Success) {
+      if (!m_factorization.factorize(m_matrix)) {
         stop = picard_stop_reason::factorization_failed;
         break;
       }
@@ -194,9 +223,8 @@ class picard_iteration {
     return report;
   }
 
-  DirectSolver m_factor;  // Eigen's factorisations are neither copyable nor movable, and so is this class
+  reusing_factorization<DirectSolver> m_factorization;
   matrix_type m_matrix;
-  bool m_analysed = false;
 };
 
 }  // namespace nkit_problems

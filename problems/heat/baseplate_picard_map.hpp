@@ -15,6 +15,7 @@
 #include <nkit/report/monitor.hpp>
 #include <nkit/report/report.hpp>
 
+#include "problems/baselines/picard_iteration.hpp"
 #include "problems/heat/baseplate.hpp"
 
 namespace nkit_problems {
@@ -29,23 +30,19 @@ class baseplate_picard_map {
   void operator()(const Eigen::VectorXd& t, Eigen::VectorXd& g) {
     // ---- the loop body of solve_by_picard_iteration --------------------------------
     m_problem->assemble_frozen_conduction(t, m_matrix, m_right_hand_side);
-    if (!m_analysed) {
-      m_factor->analyzePattern(m_matrix);
-      m_analysed = true;
-    }
-    m_factor->factorize(m_matrix);
     ++factorizations;
-    if (m_factor->info() != Eigen::Success) {
+    if (!m_factorization.factorize(m_matrix)) {
       g.setConstant(std::numeric_limits<double>::quiet_NaN());
       return;
     }
-    g = m_factor->solve(m_right_hand_side);
+    g = m_factorization.solve(m_right_hand_side);
     // ---- end of the loop body --------------------------------------------------------
   }
 
   /// Bytes of the LDLᵀ factor (values and row indices of L).
   double factor_bytes() const {
-    return static_cast<double>(m_factor->matrixL().nestedExpression().nonZeros()) * (sizeof(double) + sizeof(int));
+    return static_cast<double>(m_factorization.factor().matrixL().nestedExpression().nonZeros()) *
+           (sizeof(double) + sizeof(int));
   }
 
   long long factorizations = 0;
@@ -55,9 +52,7 @@ class baseplate_picard_map {
   baseplate_conduction* m_problem;
   matrix_type m_matrix;
   Eigen::VectorXd m_right_hand_side;
-  // Eigen decompositions cannot be copied or moved; the pointer makes the map movable.
-  std::unique_ptr<Eigen::SimplicialLDLT<matrix_type>> m_factor = std::make_unique<Eigen::SimplicialLDLT<matrix_type>>();
-  bool m_analysed = false;
+  reusing_factorization<Eigen::SimplicialLDLT<matrix_type>> m_factorization;
 };
 
 /// Stops a fixed-point solve when the residual of the conduction equations

@@ -44,6 +44,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <limits>
+#include <optional>
 #include <stdexcept>
 #include <string>
 #include <type_traits>
@@ -53,6 +54,8 @@
 #include "../core/eigen_vector_space.hpp"
 #include "../core/vector_space.hpp"
 #include "../detail/timer.hpp"
+#include "../globalization/bounds.hpp"
+#include "../newton/run_handle.hpp"
 #include "../report/monitor.hpp"
 #include "../report/outcome.hpp"
 #include "anderson_least_squares.hpp"
@@ -62,17 +65,6 @@
 #include "fixed_point_residual.hpp"
 
 namespace nkit {
-
-namespace detail {
-/// Unwinds an Anderson iteration when a budget, limit or cancellation stops
-/// it. Never escapes the solver.
-struct anderson_stop {
-  stop_reason reason;
-};
-}  // namespace detail
-
-template <class Solver, class Map, class Monitor>
-class anderson_run;
 
 template <class Space = eigen_vector_space<double>>
 class anderson_solver {
@@ -104,20 +96,7 @@ class anderson_solver {
   /// never evaluated outside. Throws std::invalid_argument on sizes that
   /// differ, NaN, or lower > upper.
   void set_bounds(const_view lower, const_view upper) {
-    if (lower.size() != upper.size()) {
-      throw std::invalid_argument("nkit: set_bounds: lower has " + std::to_string(lower.size()) +
-                                  " entries but upper has " + std::to_string(upper.size()));
-    }
-    if (!m_space.within_bounds(lower, lower, lower) || !m_space.within_bounds(upper, upper, upper)) {
-      throw std::invalid_argument("nkit: set_bounds: lower or upper contains NaN (use -inf/+inf for no bound)");
-    }
-    if (!m_space.within_bounds(lower, lower, upper)) {
-      throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
-    }
-    m_space.allocate_like(m_lower_bound, lower);
-    m_space.allocate_like(m_upper_bound, upper);
-    m_space.copy(lower, m_lower_bound);
-    m_space.copy(upper, m_upper_bound);
+    keep_checked_bounds(m_space, lower, upper, m_lower_bound, m_upper_bound);
     m_has_bounds = true;
   }
   void clear_bounds() { m_has_bounds = false; }
@@ -125,8 +104,8 @@ class anderson_solver {
   /// Starts a caller-driven solve: evaluates G(u0) and returns a handle whose
   /// advance() takes one iteration. `map` and `u` must outlive the run.
   template <class Map, class Monitor = null_monitor>
-  anderson_run<anderson_solver, Map, Monitor> begin(Map& map, state_view u, Monitor monitor = {}) {
-    return anderson_run<anderson_solver, Map, Monitor>(*this, map, u, std::move(monitor));
+  run_handle<anderson_solver, Map, Monitor> begin(Map& map, state_view u, Monitor monitor = {}) {
+    return run_handle<anderson_solver, Map, Monitor>(*this, map, u, std::move(monitor));
   }
 
   /// Solves u = G(u) starting from u; see the file comment for what u holds afterwards.
@@ -134,7 +113,7 @@ class anderson_solver {
   anderson_report solve(Map&& map, state_view u, Monitor&& monitor = {}) {
     using map_type = std::remove_reference_t<Map>;
     using monitor_type = std::remove_reference_t<Monitor>&;
-    anderson_run<anderson_solver, map_type, monitor_type> run(*this, map, u, monitor);
+    run_handle<anderson_solver, map_type, monitor_type> run(*this, map, u, monitor);
     while (run.advance() == run_state::running) {
     }
     return run.report();
@@ -154,7 +133,7 @@ class anderson_solver {
 
  private:
   template <class Solver, class Map, class Monitor>
-  friend class anderson_run;
+  friend class run_handle;
 
   static constexpr int maximum_reserved_history = 1024;
 
@@ -224,6 +203,15 @@ class anderson_solver {
     m_report.time.other = m_report.wall_seconds - m_report.time.measured();
     m_report.workspace_bytes = workspace_bytes();
   }
+
+  /// After start(): the stop reason when no iteration is needed or possible.
+  std::optional<stop_reason> initial_stop() const {
+    if (!std::isfinite(m_norm)) return stop_reason::non_finite_initial_residual;
+    return convergence();
+  }
+  /// Anderson's monitors see iterations only (anderson_monitor.hpp).
+  template <class Monitor>
+  void notify_start(Monitor& /*monitor*/) {}
 
   std::optional<stop_reason> convergence() const {
     if (m_norm <= m_settings.absolute_tolerance) return stop_reason::absolute_tolerance_met;
@@ -406,15 +394,15 @@ class anderson_solver {
   template <class Map>
   double evaluate(Map& map, const vector_type& x, vector_type& g, vector_type& f) {
     if (m_report.residual_evaluations >= m_settings.residual_evaluation_budget) {
-      throw detail::anderson_stop{stop_reason::residual_evaluation_budget_spent};
+      throw detail::stop_signal{stop_reason::residual_evaluation_budget_spent};
     }
     const std::atomic<bool>* flag = m_settings.cancellation_flag;
     if (flag != nullptr && any_of(m_space, flag->load(std::memory_order_relaxed))) {
-      throw detail::anderson_stop{stop_reason::cancellation_flag_raised};
+      throw detail::stop_signal{stop_reason::cancellation_flag_raised};
     }
     if (std::isfinite(m_settings.wall_time_budget_seconds) &&
         any_of(m_space, m_clock.seconds() > m_settings.wall_time_budget_seconds)) {
-      throw detail::anderson_stop{stop_reason::wall_time_budget_spent};
+      throw detail::stop_signal{stop_reason::wall_time_budget_spent};
     }
     const auto expected = x.size();
     const auto start = detail::clock_type::now();
@@ -455,63 +443,6 @@ class anderson_solver {
   int m_pending_dropped = 0;
   bool m_best_is_current = true;
   bool m_has_bounds = false;
-};
-
-/// Handle for a caller-driven Anderson solve (see anderson_solver::begin).
-template <class Solver, class Map, class Monitor>
-class anderson_run {
- public:
-  using state_view = typename Solver::state_view;
-
-  anderson_run(Solver& solver, Map& map, state_view u, Monitor monitor)
-      : m_solver(&solver), m_map(&map), m_u(u), m_monitor(std::forward<Monitor>(monitor)) {
-    try {
-      m_solver->start(*m_map, m_u);
-      if (!std::isfinite(m_solver->m_norm)) {
-        m_solver->finish(stop_reason::non_finite_initial_residual, m_u);
-      } else if (const auto converged = m_solver->convergence()) {
-        m_solver->finish(*converged, m_u);
-      }
-    } catch (const detail::anderson_stop& signal) {
-      m_solver->finish(signal.reason, m_u);
-    }
-  }
-
-  anderson_run(const anderson_run&) = delete;
-  anderson_run& operator=(const anderson_run&) = delete;
-  anderson_run(anderson_run&&) noexcept = default;
-
-  /// Takes one iteration; returns run_state::running until the solve stops.
-  run_state advance() {
-    if (m_broken) {
-      throw std::logic_error("nkit: this run cannot continue after an exception from user code; start a new one");
-    }
-    if (m_solver->m_report.reason) return run_state::stopped;
-    try {
-      const std::optional<stop_reason> stop = m_solver->step(*m_map, m_monitor, m_u);
-      if (!stop) return run_state::running;
-      m_solver->finish(*stop, m_u);
-      return run_state::stopped;
-    } catch (const detail::anderson_stop& signal) {
-      m_solver->finish(signal.reason, m_u);
-      return run_state::stopped;
-    } catch (...) {
-      m_broken = true;  // u already holds the last accepted iterate
-      throw;
-    }
-  }
-
-  /// The report so far (complete once advance() returned run_state::stopped).
-  const anderson_report& report() const { return m_solver->m_report; }
-  run_state state() const { return m_solver->m_report.reason ? run_state::stopped : run_state::running; }
-  stop_reason_if_stopped reason() const { return m_solver->m_report.reason; }
-
- private:
-  Solver* m_solver;
-  Map* m_map;
-  state_view m_u;
-  Monitor m_monitor;
-  bool m_broken = false;
 };
 
 }  // namespace nkit

@@ -11,6 +11,7 @@
 /// interior-point methods (J. Nocedal & S.J. Wright, Numerical Optimization,
 /// 2nd ed. (2006), §19.2 — from memory).
 
+#include <stdexcept>
 #include <string>
 #include <string_view>
 
@@ -31,6 +32,31 @@ struct bound_settings {
     }
   }
 };
+
+/// The part of set_bounds every solver shares: checks lower <= upper entry by
+/// entry (equal sizes, no NaN; ±infinity where a side is unbounded) and keeps
+/// copies in `kept_lower` and `kept_upper`. Throws std::invalid_argument and
+/// keeps the old bounds when the new ones are rejected. Collective on a
+/// distributed space.
+template <class Space>
+void keep_checked_bounds(const Space& space, typename Space::const_view lower, typename Space::const_view upper,
+                         typename Space::vector_type& kept_lower, typename Space::vector_type& kept_upper) {
+  if (lower.size() != upper.size()) {
+    throw std::invalid_argument("nkit: set_bounds: lower has " + std::to_string(lower.size()) +
+                                " entries but upper has " + std::to_string(upper.size()));
+  }
+  // NaN fails every comparison, so x <= x is false only for NaN.
+  if (!space.within_bounds(lower, lower, lower) || !space.within_bounds(upper, upper, upper)) {
+    throw std::invalid_argument("nkit: set_bounds: lower or upper contains NaN (use -inf/+inf for no bound)");
+  }
+  if (!space.within_bounds(lower, lower, upper)) {
+    throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
+  }
+  space.allocate_like(kept_lower, lower);
+  space.allocate_like(kept_upper, upper);
+  space.copy(lower, kept_lower);
+  space.copy(upper, kept_upper);
+}
 
 /// The fraction of a step to take, given `room`, the largest multiple of the
 /// step that stays within the bounds: 1 when the whole step fits, else

@@ -13,7 +13,7 @@
 /// along s = −x with the chosen globalisation (step_control.hpp over the
 /// kernels in globalization/): line search, full step, trust region or
 /// pseudo-transient continuation. The caller may drive the
-/// loop itself with begin() and advance() (newton_run.hpp); solve() is
+/// loop itself with begin() and advance() (run_handle.hpp); solve() is
 /// exactly that loop.
 ///
 /// Between steps `u` holds the last accepted iterate. When the solve ends
@@ -55,10 +55,10 @@
 #include "../report/report.hpp"
 #include "../report/trace.hpp"
 #include "linear_solve.hpp"
-#include "newton_run.hpp"
 #include "newton_settings.hpp"
 #include "preconditioner_schedule.hpp"
 #include "problem_access.hpp"
+#include "run_handle.hpp"
 #include "step_control.hpp"
 
 namespace nkit {
@@ -131,8 +131,8 @@ class newton_krylov_solver {
   /// Starts a caller-driven solve: evaluates R(u0) and returns a handle whose
   /// advance() takes one Newton step. `problem` and `u` must outlive the run.
   template <class Problem, class Monitor = null_monitor>
-  newton_run<newton_krylov_solver, Problem, Monitor> begin(Problem& problem, state_view u, Monitor monitor = {}) {
-    return newton_run<newton_krylov_solver, Problem, Monitor>(*this, problem, u, std::move(monitor));
+  run_handle<newton_krylov_solver, Problem, Monitor> begin(Problem& problem, state_view u, Monitor monitor = {}) {
+    return run_handle<newton_krylov_solver, Problem, Monitor>(*this, problem, u, std::move(monitor));
   }
 
   /// Solves R(u) = 0 starting from u; see the file comment for what u holds afterwards.
@@ -140,7 +140,7 @@ class newton_krylov_solver {
   solve_report solve(Problem&& problem, state_view u, Monitor&& monitor = {}) {
     using problem_type = std::remove_reference_t<Problem>;
     using monitor_type = std::remove_reference_t<Monitor>&;
-    newton_run<newton_krylov_solver, problem_type, monitor_type> run(*this, problem, u, monitor);
+    run_handle<newton_krylov_solver, problem_type, monitor_type> run(*this, problem, u, monitor);
     while (run.advance() == run_state::running) {
     }
     return run.report();
@@ -164,7 +164,7 @@ class newton_krylov_solver {
 
  private:
   template <class Solver, class Problem, class Monitor>
-  friend class newton_run;
+  friend class run_handle;
 
   /// History records reserved up front (about 130 bytes each).
   static constexpr int maximum_reserved_history = 1024;

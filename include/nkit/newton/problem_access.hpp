@@ -52,12 +52,6 @@
 namespace nkit {
 
 namespace detail {
-/// Thrown internally to unwind from deep inside GMRES or a line search when a
-/// budget, the time limit or the cancellation flag stops the solve. Never
-/// escapes the solver.
-struct stop_signal {
-  stop_reason reason;
-};
 
 /// J(i, first_column + i) += shift(i) for every local row i; inserts missing
 /// diagonal entries. first_column is the global index of local row 0 in the
@@ -107,21 +101,7 @@ class problem_access {
   /// unbounded). Throws std::invalid_argument on sizes that differ, NaN, or
   /// lower > upper; a rejected call leaves the old bounds in force.
   void set_bounds(const_view lower, const_view upper) {
-    if (lower.size() != upper.size()) {
-      throw std::invalid_argument("nkit: set_bounds: lower has " + std::to_string(lower.size()) +
-                                  " entries but upper has " + std::to_string(upper.size()));
-    }
-    // NaN fails every comparison, so x <= x is false only for NaN.
-    if (!m_space.within_bounds(lower, lower, lower) || !m_space.within_bounds(upper, upper, upper)) {
-      throw std::invalid_argument("nkit: set_bounds: lower or upper contains NaN (use -inf/+inf for no bound)");
-    }
-    if (!m_space.within_bounds(lower, lower, upper)) {
-      throw std::invalid_argument("nkit: set_bounds: contradictory bounds (lower > upper somewhere)");
-    }
-    m_space.allocate_like(m_lower_bound, lower);
-    m_space.allocate_like(m_upper_bound, upper);
-    m_space.copy(lower, m_lower_bound);
-    m_space.copy(upper, m_upper_bound);
+    keep_checked_bounds(m_space, lower, upper, m_lower_bound, m_upper_bound);
     m_has_bounds = true;
   }
   void clear_bounds() { m_has_bounds = false; }

@@ -17,7 +17,7 @@
 
 namespace nkit {
 
-/// Whether a caller-driven run can take another step (newton_run::advance()).
+/// Whether a caller-driven run can take another step (run_handle::advance()).
 enum class run_state { running, stopped };
 
 /// The broad class of a stop reason.
@@ -234,6 +234,16 @@ constexpr std::string_view describe(stop_reason reason, globalization_strategy s
   }
   return describe(reason);
 }
+
+namespace detail {
+/// Thrown internally to unwind from deep inside a step (GMRES, a line
+/// search, an Anderson update) when a budget, the time limit or the
+/// cancellation flag stops a solve; the run handle (newton/run_handle.hpp)
+/// ends the run with its reason. Never escapes a solver.
+struct stop_signal {
+  stop_reason reason;
+};
+}  // namespace detail
 
 inline std::ostream& operator<<(std::ostream& stream, run_state state) { return stream << name(state); }
 inline std::ostream& operator<<(std::ostream& stream, solve_status status) { return stream << name(status); }

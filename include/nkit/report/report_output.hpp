@@ -97,22 +97,21 @@ inline void print_cost_breakdown(std::ostream& os, const solve_report& report) {
 namespace detail {
 /// One line per start-of-solve warning (nothing when there is none).
 inline void print_warnings(std::ostream& os, const solve_warnings& warnings) {
-  char line[400];
-  if (warnings.state_magnitudes_spread_widely) {
+  const auto warn = [&os](const char* entries, double spread, const char* consequence, const char* magnitudes) {
+    char line[400];
     std::snprintf(line, sizeof line,
-                  "warning: the entries of u0 span a factor %.1e between the largest and the smallest nonzero "
-                  "magnitude; the Euclidean norms that decide convergence hide the small ones (give typical "
-                  "magnitudes with set_scaling, or enable newton_settings::componentwise)\n",
-                  warnings.state_magnitude_spread);
+                  "warning: the entries of %s span a factor %.1e between the largest and the smallest nonzero "
+                  "magnitude; %s (give typical %s with set_scaling, or enable newton_settings::componentwise)\n",
+                  entries, spread, consequence, magnitudes);
     os << line;
+  };
+  if (warnings.state_magnitudes_spread_widely) {
+    warn("u0", warnings.state_magnitude_spread, "the Euclidean norms that decide convergence hide the small ones",
+         "magnitudes");
   }
   if (warnings.residual_magnitudes_spread_widely) {
-    std::snprintf(line, sizeof line,
-                  "warning: the entries of R(u0) span a factor %.1e between the largest and the smallest nonzero "
-                  "magnitude; the residual norm is dominated by the largest rows (give typical residual "
-                  "magnitudes with set_scaling, or enable newton_settings::componentwise)\n",
-                  warnings.residual_magnitude_spread);
-    os << line;
+    warn("R(u0)", warnings.residual_magnitude_spread, "the residual norm is dominated by the largest rows",
+         "residual magnitudes");
   }
 }
 /// The table's first row: the initial residual, and the norm that counts as converged.

@@ -1,35 +1,43 @@
-#ifndef NKIT_NEWTON_NEWTON_RUN_HPP
-#define NKIT_NEWTON_NEWTON_RUN_HPP
+#ifndef NKIT_NEWTON_RUN_HANDLE_HPP
+#define NKIT_NEWTON_RUN_HANDLE_HPP
 
-/// \file newton/newton_run.hpp
-/// The handle of a caller-driven Newton solve (newton_krylov_solver::begin):
+/// \file newton/run_handle.hpp
+/// The handle of a caller-driven solve, shared by every iterative solver
+/// (newton_krylov_solver::begin, anderson_solver::begin):
 ///
 ///   auto run = solver.begin(residual, u);
 ///   while (run.advance() == nkit::run_state::running) { /* look at u */ }
-///   const nkit::solve_report& report = run.report();
+///   const auto& report = run.report();
 ///
-/// newton_krylov_solver::solve() is exactly this loop, so there is one code
-/// path. Between steps `u` holds the last accepted iterate. When user code
-/// throws, the exception propagates, `u` holds the last accepted iterate and
-/// the run cannot continue.
+/// Each solver's solve() is exactly this loop, so there is one code path.
+/// Between steps `u` holds the last accepted iterate. When user code throws,
+/// the exception propagates, `u` holds the last accepted iterate and the run
+/// cannot continue. A budget, limit or cancellation met deep inside a step
+/// unwinds as detail::stop_signal and ends the run with its reason.
+///
+/// What a Solver provides to its run handle (private, with the handle a friend):
+///   start(problem, u)            set up and evaluate the initial residual
+///   notify_start(monitor)        tell the monitor (may do nothing)
+///   initial_stop()               a stop_reason when no step is needed or possible
+///   step(problem, monitor, u)    one iteration: nothing to go on, or why it stopped
+///   finish(reason, u)            write the report and the returned u
+///   m_report                     the report (with a stop_reason_if_stopped `reason`)
 
 #include <optional>
 #include <stdexcept>
 #include <utility>
 
 #include "../report/outcome.hpp"
-#include "../report/report.hpp"
-#include "problem_access.hpp"
 
 namespace nkit {
 
 template <class Solver, class Problem, class Monitor>
-class newton_run {
+class run_handle {
  public:
   using state_view = typename Solver::state_view;
 
   /// Evaluates R(u0); the run may already be over (non-finite R(u0), converged, stopped).
-  newton_run(Solver& solver, Problem& problem, state_view u, Monitor monitor)
+  run_handle(Solver& solver, Problem& problem, state_view u, Monitor monitor)
       : m_solver(&solver), m_problem(&problem), m_u(u), m_monitor(std::forward<Monitor>(monitor)) {
     try {
       m_solver->start(*m_problem, m_u);
@@ -40,9 +48,9 @@ class newton_run {
     }
   }
 
-  newton_run(const newton_run&) = delete;
-  newton_run& operator=(const newton_run&) = delete;
-  newton_run(newton_run&&) noexcept = default;
+  run_handle(const run_handle&) = delete;
+  run_handle& operator=(const run_handle&) = delete;
+  run_handle(run_handle&&) noexcept = default;
 
   /// Takes one Newton step; returns run_state::running until the solve stops
   /// (then reason() says why).
@@ -66,7 +74,7 @@ class newton_run {
   }
 
   /// The report so far (complete once advance() returned run_state::stopped).
-  const solve_report& report() const { return m_solver->m_report; }
+  const auto& report() const { return m_solver->m_report; }
   run_state state() const { return m_solver->m_report.reason ? run_state::stopped : run_state::running; }
   /// Why the run stopped (empty while it is running).
   stop_reason_if_stopped reason() const { return m_solver->m_report.reason; }
@@ -81,4 +89,4 @@ class newton_run {
 
 }  // namespace nkit
 
-#endif  // NKIT_NEWTON_NEWTON_RUN_HPP
+#endif  // NKIT_NEWTON_RUN_HANDLE_HPP
