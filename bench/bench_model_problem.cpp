@@ -11,6 +11,7 @@
 //       did not reach the criterion within the time cap is reported with the
 //       residual it reached, and its larger sizes are skipped.
 //   residual_evaluation/<n>       one evaluation of R: the work unit
+//   unwritten_entry_check/<n>     marker fill + scan of r, in work units
 //   stream_triad/<N>              a = b + s c, the memory-bandwidth limit
 //   orthogonalization/<n>         GMRES(30) Gram–Schmidt on a 2D 5-point operator
 //   broyden_tridiagonal_*/<N>     Newton–GMRES time per unknown, 1e4 … 4e6 unknowns

@@ -1,5 +1,5 @@
-// In-process kernels of the performance suite: the work unit, the
-// bandwidth limit, GMRES orthogonalisation bandwidth, Newton–GMRES time per
+// In-process kernels of the performance suite: the work unit, the cost of
+// the unwritten-entry check, the bandwidth limit, GMRES orthogonalisation bandwidth, Newton–GMRES time per
 // unknown on Broyden's tridiagonal system, and the cost of tracing.
 #ifndef NKIT_BENCH_SUITE_KERNELS_HPP
 #define NKIT_BENCH_SUITE_KERNELS_HPP
@@ -47,6 +47,36 @@ inline void residual_evaluation(benchmark::State& state) {
     benchmark::DoNotOptimize(r.data());
   }
   state.counters["unknowns"] = static_cast<double>(problem.unknowns());
+}
+
+/// The cost of the unwritten-entry check (newton_settings::
+/// check_unwritten_residual_entries): fill r with the marker before a
+/// residual call and scan it afterwards. Both are timed in the same loop as
+/// the residual itself, so `check_work_units` (check time / residual time)
+/// compares like for like in one run.
+inline void unwritten_entry_check(benchmark::State& state) {
+  const int n = static_cast<int>(state.range(0));
+  const nkit_problems::heat_conduction_model_problem problem(n);
+  Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.unknowns(), 0.3), r(problem.unknowns());
+  const nkit::eigen_vector_space<double> space;
+  double residual_seconds = 0.0, check_seconds = 0.0;
+  std::int64_t unwritten = 0;
+  for (auto _ : state) {
+    const auto start = std::chrono::steady_clock::now();
+    space.fill(nkit::unwritten_entry_marker(), r);
+    const auto filled = std::chrono::steady_clock::now();
+    problem(t, r);
+    benchmark::DoNotOptimize(r.data());
+    const auto evaluated = std::chrono::steady_clock::now();
+    unwritten += nkit::find_unwritten_entries(r).count;
+    const auto scanned = std::chrono::steady_clock::now();
+    check_seconds += std::chrono::duration<double>(filled - start).count() +
+                     std::chrono::duration<double>(scanned - evaluated).count();
+    residual_seconds += std::chrono::duration<double>(evaluated - filled).count();
+  }
+  if (unwritten != 0) state.SkipWithError("the model residual left entries unwritten");
+  state.counters["unknowns"] = static_cast<double>(problem.unknowns());
+  state.counters["check_work_units"] = residual_seconds > 0.0 ? check_seconds / residual_seconds : 0.0;
 }
 
 /// STREAM-style triad a = b + s c (McCalpin's STREAM benchmark counts 24
@@ -235,6 +265,7 @@ inline void trace_overhead(benchmark::State& state) {
 inline void register_kernel_benchmarks(const std::vector<int>& sizes, const std::vector<int>& threads) {
   for (const int n : sizes) {
     benchmark::RegisterBenchmark("residual_evaluation", residual_evaluation)->Arg(n)->Unit(benchmark::kMillisecond);
+    benchmark::RegisterBenchmark("unwritten_entry_check", unwritten_entry_check)->Arg(n)->Unit(benchmark::kMillisecond);
   }
   for (const int t : threads) {
     for (const Eigen::Index length :

@@ -362,12 +362,7 @@ class newton_krylov_solver {
     if (record.step_shortened_by_bounds) ++m_report.steps_shortened_by_bounds;
     m_access.write_state(m_state, u);
 
-    record.residual_norm = new_norm;
-    record.relative_residual_norm =
-        m_report.initial_residual_norm > 0.0 ? new_norm / m_report.initial_residual_norm : 0.0;
-    record.elapsed_seconds = m_ledger.elapsed_seconds();
-    record.residual_evaluations = m_report.residual_evaluations;
-    m_report.history.push_back(record);
+    append_to_history(record, new_norm);
     m_report.final_residual_norm = new_norm;
     const monitor_decision decision = detail::notify_newton_step_timed(monitor, record, m_ledger);
     m_ledger.trace_newton_step(record, step_scope.start());
@@ -442,9 +437,15 @@ class newton_krylov_solver {
   void record_failed_step(newton_step_record& record) {
     if (!(record.forcing_term > 0.0)) return;
     record.accepted = false;
-    record.residual_norm = m_norm;
+    append_to_history(record, m_norm);
+  }
+
+  /// Completes `record` with the residual norm it ends at and the counters
+  /// so far, and appends it to the report's history.
+  void append_to_history(newton_step_record& record, double residual_norm) {
+    record.residual_norm = residual_norm;
     record.relative_residual_norm =
-        m_report.initial_residual_norm > 0.0 ? m_norm / m_report.initial_residual_norm : 0.0;
+        m_report.initial_residual_norm > 0.0 ? residual_norm / m_report.initial_residual_norm : 0.0;
     record.elapsed_seconds = m_ledger.elapsed_seconds();
     record.residual_evaluations = m_report.residual_evaluations;
     m_report.history.push_back(record);
