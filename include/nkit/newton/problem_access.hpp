@@ -491,6 +491,7 @@ class problem_access {
         evaluate(problem, x, r, evaluation_purpose::assembly);
       };
       auto vet = [this, &problem](const vector_type& x) {
+        static_cast<void>(problem);  // used only when the problem has is_admissible
         if (m_has_bounds && !m_space.within_bounds(x, lower(), upper())) return false;
         if (!m_space.all_finite(physical_state(x))) return false;
         if constexpr (detail::has_is_admissible<Problem, vector_type>::value) {
