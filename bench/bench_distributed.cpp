@@ -1,4 +1,4 @@
-// Side-by-side cost of solving the benchmark model problem (references §15)
+// Side-by-side cost of solving the benchmark model problem (problems/model_problem/model_problem.hpp)
 // on an n×n grid, all from T0 = 0 to ‖R‖ ≤ 1e-8 ‖R(T0)‖:
 //   nkit_amg             nkit Newton–GMRES (matrix-free J·v, CGS2) with hypre
 //                        BoomerAMG built from the analytic Jacobian; arguments

@@ -1,5 +1,5 @@
 // The performance suite, side by side in one run, on the heat-conduction
-// model problem (shared references §15: −∇·((1 + T²)∇T) = 10 on the unit
+// model problem (problems/model_problem/model_problem.hpp: −∇·((1 + T²)∇T) = 10 on the unit
 // square, n × n cells, T0 = 0, converged at ‖R‖ <= 1e-8 ‖R(T0)‖):
 //
 //   model_problem/<configuration>/<n>/threads:<t>

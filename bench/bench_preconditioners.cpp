@@ -1,5 +1,5 @@
-// Preconditioners for Newton–GMRES on the benchmark model problem (shared
-// references §15: −∇·((1 + T²)∇T) = 10 on the unit square, n × n cells,
+// Preconditioners for Newton–GMRES on the benchmark model problem
+// (problems/model_problem/model_problem.hpp: −∇·((1 + T²)∇T) = 10 on the unit square, n × n cells,
 // converged at ‖R‖ <= 1e-8 ‖R(T0)‖), side by side in one run with exact
 // Newton (Eigen::SparseLU as the preconditioner on the analytic Jacobian).
 //

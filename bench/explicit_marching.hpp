@@ -2,7 +2,7 @@
 // Boost.Odeint on Eigen vectors: the classical fourth-order Runge–Kutta
 // method at its stable step, and the Dormand–Prince 5(4) pair with adaptive
 // steps through integrate_adaptive. The loop checks ‖R‖ every 50 steps
-// against §15's criterion and stops at a wall-time cap, projecting from the
+// against the model problem's criterion (‖R‖ <= 1e-8 ‖R(T0)‖) and stops at a wall-time cap, projecting from the
 // decay rate how long it would still have needed.
 #ifndef NKIT_BENCH_EXPLICIT_MARCHING_HPP
 #define NKIT_BENCH_EXPLICIT_MARCHING_HPP
@@ -75,7 +75,7 @@ class steady_state_watch {
 /// Largest stable step of classical RK4 for this problem: its stability
 /// region reaches about −2.785 on the negative real axis (common practice),
 /// divided by a Gershgorin bound on the spectral radius of R'. The bound is
-/// taken at a uniform T = 0.65, above the steady maximum 0.6466 (§15), since
+/// taken at a uniform T = 0.65, above the steady maximum 0.6466 (model_problem.hpp), since
 /// T rises monotonically from 0 to the steady state and k(T) grows with T;
 /// times 0.9 for safety (common practice).
 inline double stable_rk4_step(const model& problem) {
@@ -122,7 +122,7 @@ inline baseline_result explicit_dormand_prince(const model& problem, Eigen::Vect
     // Local-error tolerance (absolute and relative) 4e-9 h²: an adaptive
     // explicit march hovers at the stability limit with stiff components of
     // amplitude about the tolerance, which floors the residual; R scales with
-    // h² (§15), so the tolerance must too. Measured at n = 64: 1e-12 (= 4e-9 h²)
+    // h² (R_P = Σ fluxes − q h², model_problem.hpp), so the tolerance must too. Measured at n = 64: 1e-12 (= 4e-9 h²)
     // reaches 1e-8 ‖R(T0)‖ in 10,100 steps; 1e-10 stalls above it; 1e-3 stalls
     // near 1e-2.
     const double h = problem.cell_size();

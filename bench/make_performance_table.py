@@ -306,7 +306,7 @@ def plot(runs, configurations, output_directory):
         commands = ["set terminal pngcairo size 1000,800", "set output '%s'" % png, "set logscale xy",
                     "set key outside below", "set xlabel 'unknowns N'",
                     "set format x '10^{%L}'", "set format y '10^{%L}'", "set ylabel 'seconds to 1e-8 reduction'",
-                    "set title 'Model problem (shared references §15), one core'", "set grid"]
+                    "set title 'Heat-conduction model problem (k = 1 + T^2, q = 10, unit square), one core'", "set grid"]
         series = []
         for k, c in enumerate(configurations):
             points = sorted((n * n, seconds(runs[(c, n, 1)])) for (cc, n, t) in runs

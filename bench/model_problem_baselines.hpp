@@ -1,9 +1,9 @@
 // The loops users replace with nkit, written as they usually are, on the
-// heat-conduction model problem (shared references §15): exact Newton with
+// heat-conduction model problem (problems/model_problem/model_problem.hpp): exact Newton with
 // an assembled Jacobian and a sparse direct solver, the frozen-coefficient
 // (Picard) iteration with a direct solve (problems/baselines/picard_iteration.hpp),
 // and explicit pseudo-time marching to steady state with Boost.Odeint. Each
-// stops at ‖R‖ <= 1e-8 ‖R(T0)‖ (§15) or at a wall-time cap, and reports how
+// stops at ‖R‖ <= 1e-8 ‖R(T0)‖ (the model problem's criterion) or at a wall-time cap, and reports how
 // far it got.
 #ifndef NKIT_BENCH_MODEL_PROBLEM_BASELINES_HPP
 #define NKIT_BENCH_MODEL_PROBLEM_BASELINES_HPP
@@ -23,11 +23,11 @@ namespace nkit_bench {
 using model = nkit_problems::heat_conduction_model_problem;
 using column_matrix = Eigen::SparseMatrix<double, Eigen::ColMajor, int>;
 
-/// §15's convergence criterion: ‖R‖₂ <= 1e-8 ‖R(T0)‖₂.
+/// The model problem's convergence criterion: ‖R‖₂ <= 1e-8 ‖R(T0)‖₂.
 inline constexpr double target_reduction = 1e-8;
 
 struct baseline_result {
-  bool reached = false;            ///< the §15 criterion was met
+  bool reached = false;            ///< the convergence criterion was met
   double relative_residual = 1.0;  ///< ‖R‖ / ‖R(T0)‖ at the end
   std::int64_t iterations = 0;     ///< Newton/Picard iterations or time steps
   std::int64_t residual_evaluations = 0;

@@ -60,7 +60,7 @@ inline double residual_seconds(const model& problem) {
   return samples[5];
 }
 
-/// Newton–GMRES settings for every nkit configuration: §15's tolerance,
+/// Newton–GMRES settings for every nkit configuration: the model problem's tolerance (1e-8 relative),
 /// Eisenstat–Walker forcing (the default), GMRES(30) (the default restart).
 inline nkit::newton_settings suite_newton_settings(double time_cap) {
   nkit::newton_settings settings;

@@ -1,7 +1,7 @@
 // The same Newton–Krylov solve through block_vector_space (2 and 3 blocks, the
 // stand-in for a distributed space) and through eigen_vector_space gives the
 // same iterates to rounding. Problem: Broyden tridiagonal, n = 1000, from its
-// standard start (Moré, Garbow & Hillstrom 1981, problem 30; references §5).
+// standard start (Moré, Garbow & Hillstrom, ACM TOMS 7 (1981) 17–41, problem 30).
 //
 // What is asserted, and why not bitwise: the block space forms every dot
 // product and norm as a sum of per-block partial sums, so its reductions

@@ -1,8 +1,8 @@
 // One-dimensional Bratu (Liouville–Bratu–Gelfand) problem
 //   u'' + λ e^u = 0 on (0, 1), u(0) = u(1) = 0,
 // discretised by second-order central differences and solved with nkit, against
-// the exact solution (shared references §2; formula from Ascher, Mattheij &
-// Russell, "Numerical Solution of Boundary Value Problems for ODEs", SIAM 1995,
+// the exact solution (formula from Ascher, Mattheij & Russell, "Numerical
+// Solution of Boundary Value Problems for ODEs", SIAM 1995,
 // and Boyd, Appl. Math. Comput. 217 (2011) 5553–5565, both from memory)
 //   u(x) = −2 ln[cosh((x − ½)θ/2) / cosh(θ/4)],  θ = √(2λ) cosh(θ/4),
 // with θ found here by bisection (independent of nkit).
@@ -57,7 +57,8 @@ double bisect(Function&& g, double low, double high) {
   }
 }
 
-/// α with coth α = α, i.e. α tanh α = 1 (the fold: references §2).
+/// α with coth α = α, i.e. α tanh α = 1: the fold, where θ = √(2λ) cosh(θ/4)
+/// is tangent, (θ/4) tanh(θ/4) = 1, so θc = 4α and λc = 8(α² − 1) (same sources).
 double fold_alpha() {
   return bisect([](double a) { return a * std::tanh(a) - 1.0; }, 1.0, 2.0);
 }
@@ -127,7 +128,9 @@ grid_result solve_on_grid(double lambda, Eigen::Index intervals, double theta) {
 }  // namespace
 
 TEST_CASE("Bratu: theta and the peak value match the computed table", "[bratu][reference]") {
-  // COMPUTED values (mpmath, 25 digits) of the shared references §2. Our
+  // Values computed (mpmath, 25 digits) from the exact-solution formula above
+  // (Ascher, Mattheij & Russell 1995; Boyd 2011); no published table of these
+  // digits is cited. Our
   // bisection brackets θ to the last bit; the error left is rounding in
   // g(θ) and in the formula u(½) = 2 ln cosh(θ/4), a few ulp, so relative
   // 1e-14 leaves a margin of about 20 ulp.
@@ -177,7 +180,7 @@ TEST_CASE("Bratu: the discrete solution converges to the exact one at second ord
     // observed order measures the discretisation alone.
     CHECK(results[g].solver_error <= 1e-3 * results[g].max_error);
     // Lower branch: the peak stays below its value at the fold, u(½) = 1.18684
-    // (references §2, COMPUTED), plus the discretisation error.
+    // (computed from the exact solution, 25 digits), plus the discretisation error.
     CHECK(results[g].midpoint_value < 1.18684216863438909 + results[g].max_error);
   }
   for (int g = 0; g + 1 < 3; ++g) {
@@ -186,7 +189,7 @@ TEST_CASE("Bratu: the discrete solution converges to the exact one at second ord
     CHECK(order >= 1.9);
     CHECK(order <= 2.1);
   }
-  // The discrete peak approaches the tabulated u(½) (references §2, COMPUTED)
+  // The discrete peak approaches the computed exact u(½) (mpmath, from the formula above)
   // within the measured max-norm error.
   if (lambda == 1.0) {
     CHECK_THAT(results[2].midpoint_value, Catch::Matchers::WithinAbs(0.14053921440047180, results[2].max_error));

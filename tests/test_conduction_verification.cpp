@@ -11,13 +11,15 @@ using Catch::Matchers::WithinRel;
 TEST_CASE("1D nonlinear conduction matches the exact Kirchhoff-transform solution at second order",
           "[examples][verification][conduction]") {
   // Exact solution: Kirchhoff transform U = T + βT²/2 is linear in x
-  // (shared references §13; Incropera & DeWitt, plane wall with k = k0(1 + βT)).
+  // (Kirchhoff transform as in F.P. Incropera & D.P. DeWitt, "Fundamentals of
+  // Heat and Mass Transfer", plane wall with k = k0(1 + βT); closed form
+  // derived from it in problems/heat/nonlinear_conduction.hpp).
   nkit_problems::kirchhoff_plane_wall wall;
   wall.beta = 1.0;
   wall.t1 = 1.0;
   wall.t2 = 0.0;
   // Sanity of the closed form itself: end values and the mean-conductivity flux
-  // q = k_m (T1 − T2)/L, k_m = k0[1 + β(T1 + T2)/2] (references §13).
+  // q = k_m (T1 − T2)/L, k_m = k0[1 + β(T1 + T2)/2] (same transform: q = k0[(T1 − T2) + β(T1² − T2²)/2]/L).
   CHECK_THAT(wall.temperature(0.0), WithinAbs(1.0, 1e-15));
   CHECK_THAT(wall.temperature(1.0), WithinAbs(0.0, 1e-15));
   CHECK_THAT(wall.heat_flux(), WithinRel(1.5, 1e-15));

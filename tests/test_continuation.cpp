@@ -2,14 +2,15 @@
 // problem, and the pieces it is built from: the bordered vector space, the
 // bordered residual and preconditioner, AD of parametrized residuals.
 //
-// Reference values: nkit's shared references, section 2.
+// Reference values:
 //  - 1D, u'' + λe^u = 0, u(0) = u(1) = 0: u(x) = −2 ln[cosh((x − ½)θ/2)/cosh(θ/4)],
 //    θ = √(2λ) cosh(θ/4) (formula from memory of Ascher, Mattheij & Russell,
 //    "Numerical Solution of Boundary Value Problems for ODEs", SIAM 1995, and
 //    J.P. Boyd, Appl. Math. Comput. 217 (2011) 5553–5565); fold λc = 8(α² − 1),
-//    α the fixed point of coth (verified statement; digits computed:
-//    λc = 3.513830719125161). The roots α and θ are computed here with a
-//    bisection of our own, and compared with the tabulated digits.
+//    α the fixed point of coth (tangency of θ = √(2λ) cosh(θ/4); digits
+//    computed from these formulas with mpmath to 25 digits: λc =
+//    3.513830719125161). The roots α and θ are computed here with a bisection
+//    of our own, and compared with those digits.
 //  - 2D, −Δu = λe^u on the unit square: λc ≈ 6.80812442259 (R.A. Bolstad &
 //    H.B. Keller, "A multigrid continuation method for elliptic problems with
 //    folds", SIAM J. Sci. Stat. Comput. 7 (1986) 1081–1104, via secondary
@@ -35,10 +36,10 @@ using nkit_test::is_close_to;
 
 namespace {
 
-constexpr double bratu_1d_fold = 3.513830719125161;        // references §2, computed (25 digits there)
-constexpr double bratu_2d_fold = 6.80812442259;            // references §2, Bolstad & Keller 1986 (transcribed)
-constexpr double upper_theta_at_one = 10.938702772122107;  // references §2, computed
-constexpr double upper_peak_at_one = 4.0914672461892603;   // references §2, computed
+constexpr double bratu_1d_fold = 3.513830719125161;        // 8(α² − 1), computed with mpmath (25 digits)
+constexpr double bratu_2d_fold = 6.80812442259;            // Bolstad & Keller 1986 (secondary transcriptions)
+constexpr double upper_theta_at_one = 10.938702772122107;  // θ = √2 cosh(θ/4), upper root, computed (mpmath)
+constexpr double upper_peak_at_one = 4.0914672461892603;   // u(½) = 2 ln cosh(θ/4) there, computed (mpmath)
 
 /// Root of f on [a, b] (f(a), f(b) of opposite signs) by bisection to rounding.
 double bisect(const std::function<double(double)>& f, double a, double b) {
@@ -230,7 +231,7 @@ TEST_CASE("the tabulated 1D Bratu roots are reproduced by our own bisection", "[
   const double alpha = coth_fixed_point();
   CHECK_THAT(8.0 * (alpha * alpha - 1.0), WithinRel(bratu_1d_fold, 1e-14));
   CHECK_THAT(upper_theta(1.0), WithinRel(upper_theta_at_one, 1e-13));
-  CHECK_THAT(lower_theta(1.0), WithinRel(1.5171645990507544, 1e-13));  // references §2, computed
+  CHECK_THAT(lower_theta(1.0), WithinRel(1.5171645990507544, 1e-13));  // lower root, computed (mpmath)
   CHECK_THAT(bratu_1d_exact(0.5, upper_theta(1.0)), WithinRel(upper_peak_at_one, 1e-13));
 }
 
@@ -390,7 +391,7 @@ TEST_CASE("natural-parameter continuation stops honestly at the fold", "[continu
   CHECK(last.parameter > discrete_fold - 1e-3);
   CHECK(last.tangent_parameter > 0.0);
   CHECK(last.tangent_parameter < 0.05);
-  CHECK(u(n / 2) > 1.1);  // u holds the last accepted point (peak ≈ 1.187 at the fold, references §2)
+  CHECK(u(n / 2) > 1.1);  // u holds the last accepted point (peak u(½) = 2 ln cosh(α) ≈ 1.187 at the 1D fold)
 }
 
 TEST_CASE("continuation outcomes: point limit, callback stop, failed start", "[continuation]") {

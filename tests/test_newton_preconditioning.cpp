@@ -1,5 +1,5 @@
-// Preconditioned Newton–GMRES on the nonlinear model problem (shared
-// references §15): every preconditioner reaches the exact-Newton solution,
+// Preconditioned Newton–GMRES on the nonlinear model problem
+// (problems/model_problem/model_problem.hpp): every preconditioner reaches the exact-Newton solution,
 // exact Newton takes one GMRES iteration per step, each trigger of the
 // reuse policy, report counts, and failure handling.
 #include <catch2/catch.hpp>
@@ -33,7 +33,7 @@ namespace {
 constexpr int cells = 16;
 
 /// The model problem with exact J·v (forward-mode AD) and its analytic
-/// assembled Jacobian (references §15): the ingredients of exact Newton.
+/// assembled Jacobian (model_problem.hpp): the ingredients of exact Newton.
 struct exact_model {
   heat_conduction_model_problem problem{cells};
   nkit::residual_with_automatic_differentiation<heat_conduction_model_problem> differentiated{problem};
@@ -49,7 +49,7 @@ struct exact_model {
 nkit::newton_settings tight_settings() {
   nkit::newton_settings settings;
   // ‖T − T*‖ <= ‖J⁻¹‖‖R‖ with ‖J⁻¹‖ ≈ 1/λ_min ≈ n²/(2π²) ≈ 13 at n = 16 and
-  // ‖R(T0)‖ = q/n (references §15): relative_tolerance 1e-11 keeps the
+  // ‖R(T0)‖ = q/n (model_problem.hpp): relative_tolerance 1e-11 keeps the
   // solution error near 1e-11·(10/16)·13/‖T*‖ ≈ 2e-11 relative, well inside
   // the 1e-8 comparison below.
   settings.relative_tolerance = 1e-11;
@@ -95,8 +95,8 @@ TEST_CASE("exact Newton: the direct preconditioner makes GMRES converge in one i
   for (const nkit::newton_step_record& record : report.history) CHECK(record.linear_iterations == 1);
   CHECK(report.preconditioner_setups == report.newton_steps);
   CHECK(report.jacobian_assemblies == report.preconditioner_setups);
-  // Sanity value from references §15: max T ≈ 0.6466 at fine grids; on 16²
-  // the cell centres sit off the peak, so only the first two digits are checked (computed).
+  // Sanity value (computed, model_problem.hpp): max T ≈ 0.6466 at fine grids;
+  // on 16² the cell centres sit off the peak, so only the first two digits are checked.
   CHECK_THAT(run.temperature.maxCoeff(), Catch::Matchers::WithinAbs(0.64, 0.02));
   CHECK(run.symbolic_analyses == 1);  // analysed once, refactorised per step
 }

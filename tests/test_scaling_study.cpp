@@ -184,7 +184,7 @@ TEST_CASE("bad study settings are rejected with the field named", "[scaling]") {
 }
 
 TEST_CASE("a study of the heat-conduction model problem tabulates real solves", "[scaling]") {
-  // Shared references §15: converged at ‖R‖ <= 1e-8 ‖R(T0)‖ (the solver's
+  // The model problem's criterion (model_problem.hpp): converged at ‖R‖ <= 1e-8 ‖R(T0)‖ (the solver's
   // default relative tolerance is looser or equal; set it explicitly).
   nkit::scaling_study_settings settings;
   settings.size_parameters = {8, 16, 32};

@@ -73,10 +73,14 @@ TEST_CASE("the pattern of an assembled matrix round-trips", "[sparse_jacobian][p
 
 TEST_CASE("greedy column coloring reaches the optimal counts on grid stencils", "[sparse_jacobian][coloring]") {
   // Optimal counts 3 (1D 3-point), 5 (2D 5-point), 9 (2D 9-point), times b for
-  // b unknowns per cell: shared references §12 (computed there; lower bound =
-  // widest row, Coleman & Moré 1983). 3D 7-point: 7, the same lower bound,
-  // reached by the class (i + 2j + 3k) mod 7. Natural-order greedy gives 7 on
-  // the 5-point stencil, so the 2D/3D face-stencil helpers carry a grid-aware
+  // b unknowns per cell. Lower bound = widest row (T.F. Coleman & J.J. Moré,
+  // "Estimation of sparse Jacobian matrices and graph coloring problems",
+  // SIAM J. Numer. Anal. 20 (1983) 187–209); reached by the colorings
+  // i mod 3 (1D), (i + 2j) mod 5 (5-point) and (i mod 3) + 3(j mod 3)
+  // (9-point): every offset between two cells that share a row changes the
+  // class, so no row holds two columns of one color. 3D 7-point: 7, the same
+  // lower bound, reached by the class (i + 2j + 3k) mod 7. Natural-order
+  // greedy gives 7 on the 5-point stencil, so the 2D/3D face-stencil helpers carry a grid-aware
   // visiting order (column_coloring.hpp).
   const int b = GENERATE(1, 2);
   const int n = 200;  // "large grid": 40 000 cells
@@ -149,11 +153,11 @@ TEST_CASE("colored finite differences match dense differences and automatic diff
   // ½ h |∂²R_i/∂u_j²| + rounding 2 ε Σ|terms of R_i| / h, with h = √ε for
   // |u| <= 1. For k(T) = 1 + T², |T| <= 1: |∂²(flux)/∂T²| <= 4 per face and
   // 6 per wall term, so |R''| <= 30; R_i sums at most ~10 terms of size <= 4,
-  // so Σ|terms| <= 40 (bounds derived from the formulas of references §15).
+  // so Σ|terms| <= 40 (bounds derived from the flux formulas of model_problem.hpp).
   const double epsilon = std::numeric_limits<double>::epsilon();
   const double tolerance = 0.5 * root_epsilon * 30.0 + 2.0 * epsilon * 40.0 / root_epsilon;
   CHECK((from_colors - exact).cwiseAbs().maxCoeff() <= tolerance);
-  // And the analytic Jacobian of references §15 agrees with AD to rounding.
+  // And the analytic Jacobian of model_problem.hpp agrees with AD to rounding.
   nkit::sparse_matrix analytic;
   problem.assemble_jacobian(u, analytic);
   CHECK((dense(analytic) - exact).cwiseAbs().maxCoeff() <= 1e-13);

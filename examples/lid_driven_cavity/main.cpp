@@ -113,7 +113,8 @@ int run(int argc, char** argv) {
   if (re == 100.0 || reynolds_1000) {
     const auto comparison = nkit_problems::compare_with_ghia(cavity, solution.state, reynolds_1000);
     std::printf(
-        "\nGhia, Ghia & Shin (1982), Tables I-II at Re = %g: max |u - u_Ghia| = %.4f (at y = %.4f), "
+        "\nGhia, Ghia & Shin (1982), J. Comput. Phys. 48, Tables I-II at Re = %g: max |u - u_Ghia| = %.4f "
+        "(at y = %.4f), "
         "max |v - v_Ghia| = %.4f (at x = %.4f)\n",
         re, comparison.max_u_deviation, comparison.worst_u_position, comparison.max_v_deviation,
         comparison.worst_v_position);
@@ -121,8 +122,8 @@ int run(int argc, char** argv) {
     const auto& reference = reynolds_1000 ? nkit_problems::ghia_1982::primary_vortex_re_1000
                                           : nkit_problems::ghia_1982::primary_vortex_re_100;
     std::printf(
-        "primary vortex: psi = %.6f at (%.4f, %.4f); Ghia et al. (Table V, value from memory): %.6f at "
-        "(%.4f, %.4f)\n",
+        "primary vortex: psi = %.6f at (%.4f, %.4f); Ghia, Ghia & Shin (1982), J. Comput. Phys. 48, Table V "
+        "(not yet checked against the paper): %.6f at (%.4f, %.4f)\n",
         vortex.streamfunction, vortex.x, vortex.y, reference.streamfunction, reference.x, reference.y);
   }
   write_centre_lines(folder, cavity, solution.state, reynolds_1000);

@@ -1,7 +1,7 @@
 // Exact quasi-1D nozzle flow with a normal shock, from the isentropic
 // area–Mach relation and the normal-shock relations (γ = 1.4), NACA Report
 // 1135 (Ames Research Staff, "Equations, tables, and charts for compressible
-// flow", 1953; shared references §6):
+// flow", 1953):
 //   A/A* = (1/M) [ (2/(γ+1)) (1 + (γ−1)M²/2) ]^{(γ+1)/(2(γ−1))}
 //   M2² = [(γ−1)M1² + 2] / [2γM1² − (γ−1)]
 //   p02/p01 = (ρ2/ρ1)^{γ/(γ−1)} (p1/p2)^{1/(γ−1)},

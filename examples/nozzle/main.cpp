@@ -52,10 +52,12 @@ int run(int argc, char** argv) {
   const double shock = nkit_problems::captured_shock_position(problem, u);
   const double m1 = nkit_examples::compressible::mach_from_area_ratio(setup.area(exact.shock_position), true);
   std::printf(
-      "\nshock position: captured %.4f, exact %.4f (normal-shock + area-Mach relations, NACA 1135); "
+      "\nshock position: captured %.4f, exact %.4f (area-Mach and normal-shock relations of NACA Report 1135, "
+      "Ames Research Staff 1953); "
       "cell size %.4f\n",
       shock, exact.shock_position, problem.spacing());
-  std::printf("exact pre-shock Mach %.4f, post-shock Mach %.4f\n", m1, nkit_examples::compressible::shock_mach(m1));
+  std::printf("exact pre-shock Mach %.4f, post-shock Mach %.4f (same relations)\n", m1,
+              nkit_examples::compressible::shock_mach(m1));
 
   std::ofstream csv(folder / "nozzle_mach.csv");
   csv << "x,area,mach,mach_exact,pressure,density\n";

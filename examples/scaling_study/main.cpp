@@ -1,5 +1,6 @@
 // How Newton–GMRES cost grows with the mesh on the heat-conduction model
-// problem (shared references §15): a scaling study over cells per side,
+// problem (problems/model_problem/model_problem.hpp: −∇·((1 + T²)∇T) = 10
+// on the unit square, T = 0 on the walls): a scaling study over cells per side,
 // with fitted exponents, a CSV of the rows and fits, and a log–log plot.
 //
 //   scaling_study [cells_per_side ...]        default: 32 64 128 256
@@ -61,7 +62,7 @@ int main(int argc, char** argv) {
   study.skip_larger_sizes_after_seconds = 120.0;  // do not start a larger size after a solve this slow
 
   nkit::newton_settings settings;
-  settings.relative_tolerance = 1e-8;  // §15's convergence criterion
+  settings.relative_tolerance = 1e-8;  // the model problem's convergence criterion
   settings.linear.restart_length = 50;
   settings.linear.maximum_iterations = 20000;
 

@@ -3,8 +3,8 @@
 // equations and a multigrid method", J. Comput. Phys. 48 (1982) 387–411,
 // Table I (u along the vertical centre line x = 0.5) and Table II (v along
 // the horizontal centre line y = 0.5), 129 × 129 grid, lid velocity 1.
-// Status: checked against consistent independent published transcriptions
-// of the tables; the majority values are used, not the known transcription
+// The values were checked against consistent independent published
+// transcriptions of the tables; the majority values are used, not the known transcription
 // typos (Re=1000 v(0.8047) = −0.31966, u(0.9531) = 0.46604, u(0.9609) = 0.51117).
 #ifndef NKIT_PROBLEMS_FLOW_GHIA_1982_HPP
 #define NKIT_PROBLEMS_FLOW_GHIA_1982_HPP
@@ -62,8 +62,8 @@ inline constexpr std::array<centre_line_point, 17> v_horizontal_centre_line{{
 }};
 
 /// Primary vortex (minimum streamfunction and its position), Ghia et al.
-/// (1982) Table V. Status: FROM MEMORY (not confirmed against the paper or
-/// a transcription) — use with a tolerance that reflects doubt.
+/// (1982) Table V, from memory: not confirmed against the paper or a
+/// transcription, so use it with a tolerance that reflects the doubt.
 struct primary_vortex {
   double streamfunction, x, y;
 };

@@ -6,6 +6,9 @@
 //   interior face P|Q:  k_f = ½(k(T_P) + k(T_Q)),  flux = k_f (T_P − T_Q)
 //   wall face:          flux = 2·½(k(T_P) + k(0))·T_P = (k(T_P) + 1) T_P
 //   R_P = Σ_faces flux − q h²   (not divided by h², so ‖R(0)‖₂ = q/n)
+// Benchmarks start from T0 = 0 and count a solve as converged when
+// ‖R‖₂ <= 1e-8 ‖R(T0)‖₂. The solution's maximum is about 0.6466 (0.64659 at
+// n = 256, 0.64660 at n = 1024; computed, a sanity check only).
 #ifndef NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP
 #define NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP
 
@@ -67,7 +70,7 @@ class heat_conduction_model_problem {
     }
   }
 
-  /// Analytic Jacobian (section 15): ∂R_P/∂T_P = Σ_faces [k_f + T_P (T_P − T_Q)]
+  /// Analytic Jacobian (derivatives of the fluxes above): ∂R_P/∂T_P = Σ_faces [k_f + T_P (T_P − T_Q)]
   /// plus k_P + 1 + 2 T_P² per wall face; ∂R_P/∂T_Q = −k_f + T_Q (T_P − T_Q).
   template <class SparseMatrix>
   void assemble_jacobian(const Eigen::VectorXd& t, SparseMatrix& jacobian) const {

@@ -145,7 +145,8 @@ TEST_CASE("a repeated Newton solve of the same size allocates nothing", "[alloca
 }
 
 namespace {
-/// 1D Bratu, R_i = (2u_i − u_{i−1} − u_{i+1})(n+1)² − λ e^{u_i} (references §2), without temporaries.
+/// 1D Bratu, R_i = (2u_i − u_{i−1} − u_{i+1})(n+1)² − λ e^{u_i} (Bratu problem, problems/reaction_diffusion/bratu.hpp),
+/// without temporaries.
 struct bratu_residual {
   void operator()(const Eigen::VectorXd& u, double parameter, Eigen::VectorXd& r) const {
     const Eigen::Index n = u.size();

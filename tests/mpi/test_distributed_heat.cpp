@@ -1,6 +1,7 @@
 // The strip-split model problem (problems/model_problem/strip_heat_problem.hpp) solved by nkit
 // on MPI_COMM_WORLD with each distributed preconditioner, against the same
-// solve on one rank, and against the serial definition of references §15.
+// solve on one rank, and against the serial definition
+// (problems/model_problem/model_problem.hpp).
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nkit/core/eigen_vector_space.hpp>
@@ -30,8 +31,8 @@ const char* label(strip_preconditioner choice) {
 }  // namespace
 
 TEST_CASE("the strip residual and Jacobian equal the serial model problem's", "[mpi][distributed]") {
-  // Reference: problems/model_problem/model_problem.hpp, the definition of
-  // references §15. Face fluxes are summed in another order, so residuals
+  // Reference: problems/model_problem/model_problem.hpp, the serial
+  // definition. Face fluxes are summed in another order, so residuals
   // agree to rounding: a few ε times the largest flux (O(1) here).
   const int n = 24;
   nkit_problems::strip_heat_problem strip(MPI_COMM_WORLD, n);
@@ -85,11 +86,11 @@ TEST_CASE("distributed solves equal the one-rank solve and every rank takes the 
   // forcing terms and step lengths, bit for bit.
   CHECK(nkit_test::same_on_every_rank(MPI_COMM_WORLD, nkit_test::decision_hash(distributed.report)));
 
-  // The gathered solution solves the serial definition (references §15).
+  // The gathered solution solves the serial definition (model_problem.hpp).
   const nkit_problems::heat_conduction_model_problem serial(n);
   Eigen::VectorXd r(n * n);
   serial(solution, r);
-  CHECK(r.norm() <= 1e-11 * (10.0 / n));  // ‖R(T0)‖ = q/n (references §15)
+  CHECK(r.norm() <= 1e-11 * (10.0 / n));  // ‖R(T0)‖ = q/n (model_problem.hpp)
 }
 
 TEST_CASE("preconditioner rebuilds follow the driver's reuse settings on every rank", "[mpi][distributed]") {
@@ -130,8 +131,8 @@ TEST_CASE("BoomerAMG keeps GMRES iterations per Newton step nearly mesh independ
   CHECK(schwarz_fine > 1.5 * schwarz_coarse);
 }
 
-TEST_CASE("the distributed solution has the computed maximum temperature of references §15", "[mpi][distributed]") {
-  // max T ≈ 0.64659 at n = 256 (references §15: computed, a sanity check only).
+TEST_CASE("the distributed solution has the computed maximum temperature of the model problem", "[mpi][distributed]") {
+  // max T ≈ 0.64659 at n = 256 (model_problem.hpp: computed, a sanity check only).
   const auto result =
       nkit_problems::solve_strip_problem(MPI_COMM_WORLD, 256, strip_preconditioner::algebraic_multigrid);
   REQUIRE(result.report.converged());

@@ -175,7 +175,7 @@ TEST_CASE("every multigrid option gives a working preconditioner", "[mpi][multig
 }
 
 TEST_CASE("the BoomerAMG adapter works in a serial code with the plain Eigen space", "[multigrid]") {
-  // The serial model problem (references §15, problems/model_problem) with
+  // The serial model problem (problems/model_problem/model_problem.hpp) with
   // nkit's default vector space and the adapter on MPI_COMM_SELF, against the
   // strip problem solved on one rank: same discretisation, so the same
   // solution to the solver tolerance (see test_distributed_heat.cpp).

@@ -25,7 +25,7 @@
 ///
 /// Folds: t_λ changes sign between consecutive points. Location: the Illinois
 /// variant of regula falsi (M. Dowell & P. Jarratt, BIT 11 (1971) 168–174;
-/// from memory) on f(σ) = t_λ at the corrected point x_0 + σ t_0, σ ∈ (0, Δs),
+/// citation not checked against the paper) on f(σ) = t_λ at the corrected point x_0 + σ t_0, σ ∈ (0, Δs),
 /// which keeps the bracket and converges superlinearly. Why not a quadratic
 /// fit of λ(s) through three points: free, but only O(Δs³) accurate, whereas
 /// λ is quadratic in s at the fold, so an error δσ costs only O(δσ²) in λ and

@@ -4,7 +4,7 @@
 /// \file illinois.hpp
 /// Bracketing root search by the Illinois variant of regula falsi
 /// (M. Dowell & P. Jarratt, "A modified regula falsi method for computing the
-/// root of an equation", BIT 11 (1971) 168–174; from memory): the secant
+/// root of an equation", BIT 11 (1971) 168–174; citation not checked against the paper): the secant
 /// through the bracket ends, and when the same end is kept twice in a row,
 /// the other end's function value is halved, which restores superlinear
 /// convergence where plain regula falsi stalls on one side.

@@ -11,13 +11,13 @@
 ///
 /// Method: H.F. Walker & P. Ni, "Anderson acceleration for fixed-point
 /// iterations", SIAM J. Numer. Anal. 49 (2011) 1715–1735, the QR-updating
-/// implementation of their unconstrained least-squares form (from memory of
-/// the section); column removal by Givens rotations as in G.H. Golub &
-/// C.F. Van Loan, "Matrix Computations", 4th ed. (2013), §6.5 (QR updating,
-/// from memory). New columns are orthogonalised by classical Gram–Schmidt
+/// implementation of their unconstrained least-squares form (section not
+/// checked against the paper); column removal by Givens rotations as in G.H. Golub &
+/// C.F. Van Loan, "Matrix Computations", 4th ed. (2013), §6.5 (QR updating;
+/// section number not checked). New columns are orthogonalised by classical Gram–Schmidt
 /// applied twice (one fused reduction, dot_many, per pass): "twice is
 /// enough" (L. Giraud, J. Langou & M. Rozložník, Comput. Math. Appl. 50
-/// (2005) 1069–1075 — from memory).
+/// (2005) 1069–1075; citation not checked against the paper).
 ///
 /// Condition number: κ₁(R) = ‖R‖₁ ‖R⁻¹‖₁, computed exactly from R⁻¹ (at most
 /// depth × depth, O(k³) per evaluation); it bounds the 2-norm condition

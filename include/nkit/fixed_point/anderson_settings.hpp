@@ -45,7 +45,7 @@ struct anderson_settings {
   /// Condition-number safeguard: after each new column, the oldest columns
   /// are dropped until the 1-norm condition number of the triangular factor
   /// R of ΔF = QR is at most this (Walker & Ni 2011 describe this safeguard
-  /// for their QR implementation — from memory; the default is common
+  /// for their QR implementation — not checked against the paper; the default is common
   /// practice, between 1/√ε and 1/ε). Infinity switches the safeguard off.
   double maximum_condition_number = 1e10;
   /// Restart on stagnation: clear the whole history when ‖f‖ has not fallen

@@ -9,7 +9,7 @@
 /// times boundary_fraction, so iterates stay strictly inside and a solution
 /// lying on a bound is approached geometrically. Rule: common practice in
 /// interior-point methods (J. Nocedal & S.J. Wright, Numerical Optimization,
-/// 2nd ed. (2006), §19.2 — from memory).
+/// 2nd ed. (2006), §19.2 — section not checked).
 
 #include <stdexcept>
 #include <string>

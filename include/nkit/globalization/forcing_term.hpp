@@ -7,10 +7,10 @@
 ///
 /// Source: S.C. Eisenstat & H.F. Walker, "Choosing the forcing terms in an
 /// inexact Newton method", SIAM J. Sci. Comput. 17(1) (1996) 16–32. The
-/// formulas, safeguards and defaults below are from memory of that paper (see
-/// references §4); the end-game safeguard against oversolving is the one in
-/// C.T. Kelley, "Iterative Methods for Linear and Nonlinear Equations", SIAM
-/// (1995), §6.3 (from memory).
+/// formulas, safeguards and defaults below follow that paper but have not
+/// been checked against its text; the end-game safeguard against
+/// oversolving is the one in C.T. Kelley, "Iterative Methods for Linear and
+/// Nonlinear Equations", SIAM (1995), §6.3 (section not checked).
 ///
 ///   Choice 1:  η_k = | ‖R_k‖ − ‖R_{k−1} + J_{k−1} s_{k−1}‖ | / ‖R_{k−1}‖
 ///              safeguard: if η_{k−1}^φ > 0.1, η_k = max(η_k, η_{k−1}^φ), φ = (1+√5)/2

@@ -8,7 +8,7 @@
 ///   ‖R(u + λs)‖ <= (1 − t λ (1 − η)) ‖R(u)‖,  t = sufficient_decrease,
 /// where η is the relative linear residual GMRES achieved; S.C. Eisenstat &
 /// H.F. Walker, "Globally convergent inexact Newton methods", SIAM J. Optim.
-/// 4(2) (1994) 393–422 (condition from memory).
+/// 4(2) (1994) 393–422 (condition not checked against the paper).
 ///
 /// Step-length choice: safeguarded quadratic interpolation at the first
 /// backtrack and cubic interpolation afterwards on φ(λ) = ½‖R(u + λs)‖²,

@@ -8,7 +8,7 @@
 ///   (W/δ)(u − u_prev) + R(u) = 0,  i.e.  u_next = u − (W/δ + R'(u))⁻¹ R(u),
 /// the iteration analysed by C.T. Kelley & D.E. Keyes, "Convergence analysis
 /// of pseudo-transient continuation", SIAM J. Numer. Anal. 35(2) (1998)
-/// 508–523 (update form from memory; references §9). W is a positive diagonal:
+/// 508–523 (update form not checked against the paper). W is a positive diagonal:
 ///   - all ones (default): one global pseudo-time step δ;
 ///   - cell volumes V_i: δ is a global Δτ in time units;
 ///   - spectral-radius estimates λ_i (Σ over faces of |wave speed|·area, in
@@ -20,7 +20,7 @@
 ///
 /// δ grows by switched evolution relaxation, W.A. Mulder & B. van Leer,
 /// "Experiments with implicit upwind methods for the Euler equations",
-/// J. Comput. Phys. 59 (1985) 232–246 (formula from memory):
+/// J. Comput. Phys. 59 (1985) 232–246 (formula not checked against the paper):
 ///   δ_{k+1} = δ_k ‖R(u_k)‖ / ‖R(u_{k+1})‖,
 /// capped at maximum_step_growth·δ_k and at maximum_step. Kelley & Keyes require
 /// δ → ∞ for fast local convergence; the driver ends the pseudo-transient

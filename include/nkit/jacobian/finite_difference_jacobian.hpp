@@ -9,7 +9,7 @@
 ///
 /// Step size, forward: δ = sqrt((1 + ‖u‖) ε) / ‖v‖, the choice of
 /// M. Pernice & H.F. Walker, "NITSOL: a Newton iterative solver for nonlinear
-/// systems", SIAM J. Sci. Comput. 19(1) (1998) 302–318 (formula from memory;
+/// systems", SIAM J. Sci. Comput. 19(1) (1998) 302–318 (formula not checked against the paper;
 /// also listed in D.A. Knoll & D.E. Keyes, J. Comput. Phys. 193 (2004)
 /// 357–397, §2.2). ε is the relative noise of the residual, machine epsilon
 /// by default. Central: δ = cbrt((1 + ‖u‖) ε) / ‖v‖, which balances the

@@ -25,7 +25,7 @@
 /// exact in the sense of forward differences because no two columns of C
 /// share a row. Step per column: h_j = √η · max(|u_j|, 1) · sign(u_j)
 /// (J.E. Dennis & R.B. Schnabel, Numerical Methods for Unconstrained
-/// Optimization and Nonlinear Equations, SIAM 1996, §5.4 — from memory; the
+/// Optimization and Nonlinear Equations, SIAM 1996, §5.4 — section not checked; the
 /// typical size of u_j is taken as 1), η the residual's relative noise
 /// (jacobian_settings::residual_relative_noise, machine epsilon when 0); the
 /// step actually used is (u_j + h_j) − u_j, which removes the representation

@@ -16,7 +16,7 @@
 /// Matrix Anal. Appl. 27 (2006) 1019–1039 (PMIS/HMIS coarsening); H. De
 /// Sterck, R.D. Falgout, J.W. Nolting & U.M. Yang, "Distance-two
 /// interpolation for parallel algebraic multigrid", Numer. Linear Algebra
-/// Appl. 15 (2008) 115–139 (extended+i interpolation). Citations from memory.
+/// Appl. 15 (2008) 115–139 (extended+i interpolation). Citations not checked against the papers.
 ///
 /// Layout: the Jacobian comes in the distributed layout of row_partition.hpp
 /// (local rows, global columns); hypre's row range on each rank is

@@ -47,8 +47,8 @@ constexpr std::string_view name(time_method value) {
 /// TOMS 17 (1991) 533–554, in the form h_new = h · safety · e_n^(−a/k) ·
 /// e_(n−1)^(b/k) with k = (order of the error estimate) + 1, written as the
 /// controller "PI.3.4" (a = 0.7, b = 0.4) in G. Söderlind, "Digital filters in
-/// adaptive time-stepping", ACM TOMS 29 (2003) 1–26 (gains from memory of those
-/// papers; they are settings).
+/// adaptive time-stepping", ACM TOMS 29 (2003) 1–26 (gains not checked against
+/// those papers; they are settings).
 struct step_control_settings {
   /// false: every step has length initial_step (the error estimate is still
   /// computed and reported, never used to reject). For order studies.
@@ -67,7 +67,7 @@ struct step_control_settings {
   /// h is multiplied by this after a failed stage solve.
   double stage_failure_shrink_factor = 0.25;
   /// Variable-step BDF2 is zero-stable for step ratios below 1 + √2
-  /// (R.D. Grigorieff, Numer. Math. 42 (1983) 359–377 — from memory); BDF
+  /// (R.D. Grigorieff, Numer. Math. 42 (1983) 359–377; bound not checked against the paper); BDF
   /// steps grow by at most this ratio.
   double bdf_maximum_step_ratio = 2.0;
   /// Stop (too_many_consecutive_rejections) after this many failed attempts in a row.
