@@ -2,6 +2,11 @@
 // conduction, k = k0(1 + βT): 1D against the exact Kirchhoff-transform
 // solution, 2D by a manufactured solution, each on a sequence of grids with
 // the observed order of accuracy (expected 2).
+// Sources of the exact solutions: the Kirchhoff transform as presented in
+// F.P. Incropera & D.P. DeWitt, "Fundamentals of Heat and Mass Transfer"
+// (plane wall with k = k0(1 + βT)); the method of manufactured solutions,
+// K. Salari & P. Knupp, Sandia report SAND2000-1444 (2000). The β, boundary
+// values and manufactured solution are our own choices for the study.
 //
 //   conduction_verification [--coarsest=16] [--levels=4] [--beta=1] [--output=conduction_output]
 #include <cstdio>
@@ -37,8 +42,10 @@ int run(int argc, char** argv) {
   wall.beta = options.number("beta");
   wall.t1 = 1.0;
   wall.t2 = 0.0;
-  std::printf("1D plane wall, k = %g (1 + %g T), T(0) = %g, T(1) = %g: exact Kirchhoff-transform solution\n", wall.k0,
-              wall.beta, wall.t1, wall.t2);
+  std::printf(
+      "1D plane wall, k = %g (1 + %g T), T(0) = %g, T(1) = %g: exact Kirchhoff-transform solution\n"
+      "(transform as in Incropera & DeWitt, Fundamentals of Heat and Mass Transfer)\n",
+      wall.k0, wall.beta, wall.t1, wall.t2);
   std::printf("  cells |  max |T - T_exact| | order |  flux error | order | Newton steps\n");
   std::vector<nkit_problems::verification_run> runs1d;
   for (int level = 0; level < levels; ++level) {
@@ -60,8 +67,10 @@ int run(int argc, char** argv) {
 
   nkit_problems::manufactured_conduction solution;
   solution.beta = options.number("beta");
-  std::printf("\n2D manufactured solution T = 1 + %g sin(pi x) sin(pi y) + %g x y, k = %g (1 + %g T)\n", solution.a,
-              solution.b, solution.k0, solution.beta);
+  std::printf(
+      "\n2D manufactured solution T = 1 + %g sin(pi x) sin(pi y) + %g x y, k = %g (1 + %g T)\n"
+      "(method of manufactured solutions, Salari & Knupp, SAND2000-1444, 2000; our own choice of T)\n",
+      solution.a, solution.b, solution.k0, solution.beta);
   std::printf("  cells |  max |T - T_exact| | order |   rms error | order | Newton steps | GMRES its\n");
   std::vector<nkit_problems::verification_run> runs2d;
   for (int level = 0; level < levels; ++level) {

@@ -30,6 +30,7 @@
 
 namespace nkit_problems {
 
+/// Invented demo values: from no published source, describing no real system.
 struct gray_scott_parameters {
   double diffusion_u = 1.0, diffusion_v = 0.5;
   double damkoehler = 10.0;
