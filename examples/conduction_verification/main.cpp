@@ -3,7 +3,7 @@
 // solution, 2D by a manufactured solution, each on a sequence of grids with
 // the observed order of accuracy (expected 2).
 //
-//   conduction_verification [--coarsest=16] [--levels=4] [--beta=1] [--output=conduction_output]
+//   conduction_verification [--coarsest=16] [--levels=4] [--beta=1] [--output=conduction_output] [--help]
 #include <cstdio>
 #include <fstream>
 #include <iostream>

@@ -3,7 +3,7 @@
 // (1982) Tables I and II.
 //
 //   lid_driven_cavity [--intervals=128] [--reynolds=1000] [--preconditioner=sparse_direct]
-//                     [--output=cavity_output]
+//                     [--relative_tolerance=1e-10] [--output=cavity_output] [--help]
 #include <cstdio>
 #include <fstream>
 #include <iostream>

@@ -3,7 +3,8 @@
 // pseudo-transient continuation with Newton–GMRES (problems/flow/nozzle_solve.hpp), compared with the exact
 // isentropic/normal-shock solution (isentropic_relations.hpp).
 //
-//   nozzle [--cells=400] [--back_pressure=0.75] [--initial_cfl=2] [--output=nozzle_output]
+//   nozzle [--cells=400] [--back_pressure=0.75] [--initial_step=50] [--relative_tolerance=1e-10]
+//          [--output=nozzle_output] [--help]
 #include <cstdio>
 #include <fstream>
 #include <iostream>
@@ -24,7 +25,8 @@ int run(int argc, char** argv) {
                                       "quasi-1D Euler nozzle with a normal shock, pseudo-transient Newton-GMRES");
   options.option("cells", "400", "finite-volume cells along the nozzle");
   options.option("back_pressure", "0.75", "exit static pressure / inlet total pressure");
-  options.option("initial_cfl", "50", "CFL number of the first pseudo-time step");
+  options.option("initial_step", "50",
+                 "first pseudo-time step (pseudo_transient.initial_step), a CFL number: local time steps");
   options.option("relative_tolerance", "1e-10", "stop when ||R|| <= this * ||R(crude start)||");
   options.option("output", "nozzle_output", "folder for CSV, VTK and PNG files");
   if (!options.parse(argc, argv)) return 0;
@@ -37,7 +39,7 @@ int run(int argc, char** argv) {
 
   Eigen::VectorXd u = problem.initial_guess();
   const auto settings =
-      nkit_problems::nozzle_newton_settings(options.number("initial_cfl"), options.number("relative_tolerance"));
+      nkit_problems::nozzle_newton_settings(options.number("initial_step"), options.number("relative_tolerance"));
   const nkit::solve_report report = nkit_problems::solve_nozzle(problem, u, settings);
   std::printf(" step | pseudo-time step (CFL) |  residual norm |  reduction | GMRES its\n");
   for (const auto& h : report.history) {

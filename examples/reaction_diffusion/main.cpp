@@ -5,7 +5,8 @@
 // evaluations for a 5-point stencil with 2 unknowns per cell) and builds
 // block Jacobi or ILU(0) from it. Both are run and compared.
 //
-//   reaction_diffusion [--cells=128] [--preconditioner=both|block_jacobi|ilu_zero] [--output=reaction_output]
+//   reaction_diffusion [--cells=128] [--preconditioner=both] [--output=reaction_output] [--help]
+//   (--preconditioner: both, block_jacobi or ilu_zero)
 #include <cstdio>
 #include <iostream>
 #include <string>
