@@ -62,7 +62,7 @@ int run(int argc, char** argv) {
   solution.beta = options.number("beta");
   std::printf("\n2D manufactured solution T = 1 + %g sin(pi x) sin(pi y) + %g x y, k = %g (1 + %g T)\n", solution.a,
               solution.b, solution.k0, solution.beta);
-  std::printf("  cells |  max |T - T_exact| | order |   rms error | order | Newton steps | GMRES its\n");
+  std::printf("  cells |  max |T - T_exact| | order |   rms error | order | Newton steps | GMRES iterations\n");
   std::vector<nkit_problems::verification_run> runs2d;
   for (int level = 0; level < levels; ++level) {
     runs2d.push_back(nkit_problems::run_manufactured(coarsest << level, solution));
