@@ -2,6 +2,8 @@
 # Installs the Debian packages nkit needs, skipping those already present.
 #
 #   bash cmake/install_dependencies.sh            compiler, CMake, Eigen, Boost, Catch2, Google Benchmark
+#   bash cmake/install_dependencies.sh --flagship the same plus gnuplot, which draws the flagship demo's
+#                                                 pictures (cmake/run_flagship_demo.sh)
 #   bash cmake/install_dependencies.sh --all      also the optional tools the full test run uses:
 #                                                 gnuplot, clang + sanitizer runtime, valgrind,
 #                                                 SuiteSparse, Open MPI, hypre, nlohmann-json,
@@ -17,8 +19,10 @@ optional=(gnuplot-nox clang libclang-rt-14-dev valgrind libsuitesparse-dev openm
 packages=("${required[@]}")
 if [[ "${1:-}" == "--all" ]]; then
   packages+=("${optional[@]}")
+elif [[ "${1:-}" == "--flagship" ]]; then
+  packages+=(gnuplot-nox)
 elif [[ -n "${1:-}" ]]; then
-  echo "usage: $0 [--all]" >&2
+  echo "usage: $0 [--flagship | --all]" >&2
   exit 2
 fi
 

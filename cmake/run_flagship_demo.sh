@@ -10,7 +10,7 @@ set -euo pipefail
 source_dir=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 build_dir=${NKIT_BUILD_ROOT:-$source_dir/build}/release
 
-bash "$source_dir/cmake/install_dependencies.sh"
+bash "$source_dir/cmake/install_dependencies.sh" --flagship   # gnuplot draws the pictures
 cmake -S "$source_dir" -B "$build_dir" -DCMAKE_BUILD_TYPE=Release -DNKIT_BUILD_TESTS=OFF -DNKIT_BUILD_BENCHMARKS=OFF
 cmake --build "$build_dir" -j "$(nproc)" --target baseplate_demo baseplate_power_cycling
 "$build_dir/examples/baseplate_demo" "$@"

@@ -3,8 +3,10 @@
 // Newton–GMRES with a preconditioner, then by the fixed-point (Picard) loop
 // it replaces, on the same mesh, with both printed side by side.
 //
-//   baseplate_demo [--cells_x=512 --cells_y=512] [--scale=2] [--preconditioner=frozen_ldlt]
-//                  [--output=baseplate_output] [--skip_picard] [--help]
+//   baseplate_demo [--cells_x=512] [--cells_y=512] [--scale=1] [--relative_tolerance=1e-8]
+//                  [--preconditioner=frozen_ldlt] [--rebuild_every_newton_steps=100]
+//                  [--rebuild_when_linear_iterations_exceed=15] [--globalization=line_search]
+//                  [--restart_length=40] [--output=baseplate_output] [--skip_picard] [--help]
 #include <algorithm>
 #include <cstdio>
 #include <fstream>
@@ -132,11 +134,13 @@ int run(int argc, char** argv) {
   options.option("preconditioner", "frozen_ldlt",
                  "milu (nkit ILU(0) with full row-sum compensation), frozen_ldlt (LDL^T of the frozen-k matrix, "
                  "user-supplied), ilu_zero, ilut (nkit incomplete LUT), sparse_direct (nkit SparseLU of the Jacobian), "
-                 "none; all rebuilt per --rebuild_every / --rebuild_above");
-  options.option("rebuild_every", "100", "rebuild the preconditioner at least every this many Newton steps");
-  options.option("rebuild_above", "15", "also rebuild when the last GMRES solve took more iterations than this");
+                 "none; all rebuilt per --rebuild_every_newton_steps / --rebuild_when_linear_iterations_exceed");
+  options.option("rebuild_every_newton_steps", "100",
+                 "rebuild the preconditioner at least every this many Newton steps");
+  options.option("rebuild_when_linear_iterations_exceed", "15",
+                 "also rebuild when the last GMRES solve took more iterations than this");
   options.option("globalization", "line_search", "line_search or full_step");
-  options.option("restart", "40", "GMRES restart length");
+  options.option("restart_length", "40", "GMRES restart length");
   options.option("output", "baseplate_output", "folder for the CSV, VTK and PNG files");
   options.flag("skip_picard", "do not run the Picard comparison");
   if (!options.parse(argc, argv)) return 0;
@@ -156,10 +160,11 @@ int run(int argc, char** argv) {
 
   nkit::newton_settings settings;
   settings.relative_tolerance = options.number("relative_tolerance");
-  settings.linear.restart_length = options.integer("restart");
+  settings.linear.restart_length = options.integer("restart_length");
   settings.linear.maximum_iterations = 2000;
-  settings.preconditioner_rebuild.rebuild_every_newton_steps = options.integer("rebuild_every");
-  settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = options.integer("rebuild_above");
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = options.integer("rebuild_every_newton_steps");
+  settings.preconditioner_rebuild.rebuild_when_linear_iterations_exceed =
+      options.integer("rebuild_when_linear_iterations_exceed");
   const std::string globalization = options.text("globalization");
   if (globalization == "full_step") {
     settings.globalization = nkit::globalization_strategy::full_step;

@@ -9,7 +9,7 @@
 // conduction equations ‖R(T)‖₂ <= tolerance · ‖R(T0)‖₂ (checked by a monitor
 // for the nkit solves). Geometry and data are INVENTED (baseplate.hpp).
 //
-//   baseplate_fixed_point [--cells_x=256 --cells_y=256] [--depth=5] [--relative_tolerance=1e-8]
+//   baseplate_fixed_point [--cells_x=256] [--cells_y=256] [--depth=5] [--relative_tolerance=1e-8] [--help]
 #include <cmath>
 #include <cstdio>
 #include <exception>
@@ -118,11 +118,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << '\n';
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

@@ -7,8 +7,9 @@
 // junction-temperature swing per cycle and chip and draws temperature and
 // step size against time (gnuplot, when installed).
 //
-//   baseplate_power_cycling [--cells_x=160 --cells_y=64] [--cycles=5] [--period=2]
-//                           [--method=bdf|esdirk] [--relative_tolerance=1e-4] [--output=power_cycling_output]
+//   baseplate_power_cycling [--cells_x=160] [--cells_y=64] [--cycles=5] [--period=2]
+//                           [--method=bdf] [--relative_tolerance=1e-4] [--output=power_cycling_output] [--help]
+//   (--method=bdf: variable-step BDF2; --method=esdirk: TR-BDF2)
 #include <algorithm>
 #include <cstdio>
 #include <exception>
@@ -145,11 +146,4 @@ int run(int argc, char** argv) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  try {
-    return run(argc, argv);
-  } catch (const std::exception& error) {
-    std::cerr << error.what() << "\n";
-    return 2;
-  }
-}
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

@@ -8,21 +8,24 @@
 // (as quoted in secondary sources); the 5-point fold of a coarse grid lies
 // close to it, not on it.
 //
-//   bratu_continuation [nodes_per_side=47] [max_height=8] [output_prefix=bratu_branch]
+//   bratu_continuation [--nodes_per_side=47] [--maximum_height=8] [--output=bratu_output] [--help]
 //
-// The run stops once ‖u‖∞ exceeds max_height (the upper branch goes on to
+// Writes bratu_branch.csv (and bratu_branch.png) into the --output folder.
+// The run stops once ‖u‖∞ exceeds maximum_height (the upper branch goes on to
 // infinity as λ → 0). The state block is preconditioned with nkit's
 // sparse_direct_preconditioner, an exact sparse LU factorisation of R_u
 // (refactorised whenever the driver asks), which continuation turns into a
 // preconditioner of the bordered system.
 #include <cstdio>
-#include <cstdlib>
 #include <fstream>
 #include <iostream>
 #include <nkit/continuation/continuation.hpp>
 #include <nkit/preconditioners/sparse_direct.hpp>
+#include <stdexcept>
 #include <string>
 
+#include "common/command_line.hpp"
+#include "common/run_output.hpp"
 #include "problems/reaction_diffusion/bratu.hpp"
 
 namespace {
@@ -41,16 +44,25 @@ const char* kind_label(nkit::point_kind kind) {
   return "?";
 }
 
-}  // namespace
-
-int main(int argc, char** argv) {
-  const int nodes = argc > 1 ? std::atoi(argv[1]) : 47;
-  const double max_height = argc > 2 ? std::atof(argv[2]) : 8.0;
-  const std::string prefix = argc > 3 ? argv[3] : "bratu_branch";
-  if (nodes < 3 || !(max_height > 0.0)) {
-    std::cerr << "usage: bratu_continuation [nodes_per_side >= 3] [max_height > 0] [output_prefix]\n";
-    return 2;
+int run(int argc, char** argv) {
+  nkit_examples::command_line options("bratu_continuation",
+                                      "follows the 2D Bratu branch around its fold (pseudo-arclength continuation)");
+  options.option("nodes_per_side", "47", "interior nodes per side (>= 3)");
+  options.option("maximum_height", "8", "stop once max |u| exceeds this (> 0)");
+  options.option("output", "bratu_output", "folder for bratu_branch.csv and bratu_branch.png");
+  if (!options.parse(argc, argv)) return 0;
+  const int nodes = options.integer("nodes_per_side");
+  const double maximum_height = options.number("maximum_height");
+  if (nodes < 3) {
+    throw std::invalid_argument("bratu_continuation: --nodes_per_side must be >= 3 (got " +
+                                options.text("nodes_per_side") + ")");
   }
+  if (!(maximum_height > 0.0)) {
+    throw std::invalid_argument("bratu_continuation: --maximum_height must be > 0 (got " +
+                                options.text("maximum_height") + ")");
+  }
+  const auto folder = nkit_examples::make_output_folder(options.text("output"));
+  const std::string csv_name = "bratu_branch.csv";
   const nkit_problems::bratu_2d problem(nodes);
   Eigen::VectorXd u = Eigen::VectorXd::Zero(problem.unknowns());
 
@@ -62,21 +74,24 @@ int main(int argc, char** argv) {
   settings.corrector.absolute_tolerance = 1e-7;  // R is O(λ) per node here; u = 0 at λ = 0 is exact
   nkit::continuation_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(settings);
 
-  std::ofstream csv(prefix + ".csv");
+  std::ofstream csv(folder / csv_name);
+  if (!csv) throw std::runtime_error("bratu_continuation: cannot write " + (folder / csv_name).string());
   csv << "kind,parameter,max_norm,newton_steps\n";
   std::printf("2D Bratu, %d x %d interior nodes (h = 1/%d), pseudo-arclength continuation from lambda = 0\n\n", nodes,
               nodes, nodes + 1);
-  std::printf("%5s  %-5s  %14s  %10s  %10s  %9s  %8s  %6s  %6s  %7s\n", "point", "kind", "lambda", "max |u|", "|u|_2",
-              "t_lambda", "step", "newton", "gmres", "R evals");
+  // One header per column; "tangent lambda" is the parameter component of the unit tangent.
+  std::printf("%5s  %-5s  %14s  %10s  %10s  %14s  %9s  %12s  %14s  %16s  %20s\n", "point", "kind", "lambda", "max |u|",
+              "||u||_2", "tangent lambda", "step size", "Newton steps", "rejected steps", "GMRES iterations",
+              "residual evaluations");
   const auto show = [&](const nkit::continuation_point& point, const Eigen::VectorXd& state) {
     const double height = state.lpNorm<Eigen::Infinity>();
-    std::printf("%5d  %-5s  %14.10f  %10.6f  %10.4f  %+9.2e  %8.2e  %6d  %8d  %6lld  %7lld\n", point.index,
+    std::printf("%5d  %-5s  %14.10f  %10.6f  %10.4f  %+14.2e  %9.2e  %12d  %14d  %16lld  %20lld\n", point.index,
                 kind_label(point.kind), point.parameter, height, point.state_norm, point.tangent_parameter, point.step,
                 point.newton_steps, point.rejected_steps, static_cast<long long>(point.linear_iterations),
                 static_cast<long long>(point.residual_evaluations));
     csv << (point.kind == nkit::point_kind::fold ? "fold" : "branch") << ',' << point.parameter << ',' << height << ','
         << point.newton_steps << '\n';
-    return height > max_height ? nkit::monitor_decision::stop_now : nkit::monitor_decision::keep_going;
+    return height > maximum_height ? nkit::monitor_decision::stop_now : nkit::monitor_decision::keep_going;
   };
   csv.precision(12);
   const nkit::continuation_report report = solver.follow_branch(problem, u, 0.0, show);
@@ -95,29 +110,25 @@ int main(int argc, char** argv) {
         "(Bolstad & Keller 1986, SIAM J. Sci. Stat. Comput. 7)\n",
         fold.point.parameter, fold.located ? "located" : "not located to tolerance", fold.location_iterations);
   }
-  std::cout << "wrote " << prefix << ".csv\n";
+  std::cout << "wrote " << (folder / csv_name).string() << "\n";
 
-  if (std::system("command -v gnuplot > /dev/null 2>&1") == 0) {
-    std::ofstream script(prefix + ".gnuplot");
-    script << "set terminal pngcairo size 800,600\n"
-           << "set output '" << prefix << ".png'\n"
-           << "set datafile separator ','\n"
-           << "set key autotitle columnhead\n"
-           << "set xlabel 'lambda'\nset ylabel 'max |u|'\n"
-           << "set title '2D Bratu, " << nodes << " x " << nodes << " nodes'\n"
-           << "plot '" << prefix << ".csv' using 2:(stringcolumn(1) eq 'branch' ? $3 : 1/0) with linespoints "
-           << "title 'branch', '' using 2:(stringcolumn(1) eq 'fold' ? $3 : 1/0) with points pt 7 ps 2 title 'fold'\n";
-    script.close();
-    const std::string command = "gnuplot '" + prefix + ".gnuplot'";
-    if (std::system(command.c_str()) == 0) {
-      std::cout << "wrote " << prefix << ".png\n";
-    } else {
-      std::cout << "gnuplot failed; plot columns 2 and 3 of " << prefix << ".csv\n";
-    }
-  } else {
-    std::cout << "gnuplot not found; plot it with e.g.\n  gnuplot -e \"set datafile separator ','; set terminal "
-                 "png; set output 'branch.png'; plot '"
-              << prefix << ".csv' using 2:3 every ::1 with linespoints\"\n";
+  const std::string script =
+      "set terminal pngcairo size 800,600\n"
+      "set output 'bratu_branch.png'\n"
+      "set datafile separator ','\n"
+      "set key autotitle columnhead\n"
+      "set xlabel 'lambda'\nset ylabel 'max |u|'\n"
+      "set title '2D Bratu, " +
+      std::to_string(nodes) + " x " + std::to_string(nodes) +
+      " nodes'\n"
+      "plot 'bratu_branch.csv' using 2:(stringcolumn(1) eq 'branch' ? $3 : 1/0) with linespoints title 'branch', "
+      "'' using 2:(stringcolumn(1) eq 'fold' ? $3 : 1/0) with points pt 7 ps 2 title 'fold'\n";
+  if (nkit_examples::run_gnuplot(folder, "bratu_branch.gnuplot", script, std::cout)) {
+    std::cout << "wrote " << (folder / "bratu_branch.png").string() << "\n";
   }
   return report.folds.empty() ? 1 : 0;
 }
+
+}  // namespace
+
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }

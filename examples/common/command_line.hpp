@@ -1,9 +1,12 @@
-// Command-line options for the examples: `--name=value` or `--name value`,
-// `--flag` for booleans, `--help` prints every option with its default.
+// Command-line options for the examples, one style for all: `--name=value`,
+// `--flag` for booleans, `--help` prints every option with its default. Names
+// are words joined by underscores; an option that sets a library setting has
+// that setting's field name (--relative_tolerance, --restart_length, ...).
 // Shared example plumbing (not part of the nkit library).
 #ifndef NKIT_EXAMPLES_COMMON_COMMAND_LINE_HPP
 #define NKIT_EXAMPLES_COMMON_COMMAND_LINE_HPP
 
+#include <algorithm>
 #include <cstdlib>
 #include <exception>
 #include <iomanip>
@@ -12,6 +15,7 @@
 #include <sstream>
 #include <stdexcept>
 #include <string>
+#include <utility>
 #include <vector>
 
 namespace nkit_examples {
@@ -34,12 +38,13 @@ class command_line {
     m_entries[name] = entry{"0", description, true};
   }
 
-  /// Parses argv. Returns false when --help was given (usage already printed).
-  bool parse(int argc, char** argv) {
+  /// Parses argv. Returns false when --help was given (usage already printed
+  /// on `help_output`: an MPI program passes std::cout on rank 0 only).
+  bool parse(int argc, char** argv, std::ostream* help_output = &std::cout) {
     for (int i = 1; i < argc; ++i) {
       std::string word = argv[i];
       if (word == "--help" || word == "-h") {
-        print_usage(std::cout);
+        if (help_output != nullptr) print_usage(*help_output);
         return false;
       }
       if (word.rfind("--", 0) != 0) throw std::invalid_argument(m_program + ": unexpected argument '" + word + "'");
@@ -59,8 +64,8 @@ class command_line {
         found->second.value = has_value ? value : "1";
       } else {
         if (!has_value) {
-          if (i + 1 >= argc) throw std::invalid_argument(m_program + ": option --" + word + " needs a value");
-          value = argv[++i];
+          throw std::invalid_argument(m_program + ": option --" + word + " needs a value: write --" + word +
+                                      "=VALUE (see --help)");
         }
         found->second.value = value;
       }
@@ -90,12 +95,18 @@ class command_line {
   bool is_set(const std::string& name) const { return lookup(name).value != "0"; }
 
   void print_usage(std::ostream& os) const {
-    os << m_program << ": " << m_summary << "\n\noptions:\n";
+    os << m_program << ": " << m_summary << "\n\nusage: " << m_program
+       << " [--name=value ...]\n\noptions (with defaults):\n";
+    std::vector<std::pair<std::string, std::string>> lines;
+    std::size_t width = 0;
     for (const std::string& name : m_order) {
       const entry& e = m_entries.at(name);
-      std::ostringstream left;
-      left << "  --" << name << (e.is_flag ? "" : "=" + e.value);
-      os << std::left << std::setw(34) << left.str() << ' ' << e.description << '\n';
+      lines.emplace_back("  --" + name + (e.is_flag ? "" : "=" + e.value), e.description);
+      width = std::max(width, lines.back().first.size());
+    }
+    lines.emplace_back("  --help", "print this list and exit");
+    for (const auto& [left, description] : lines) {
+      os << std::left << std::setw(static_cast<int>(width) + 2) << left << description << '\n';
     }
   }
 

@@ -8,7 +8,7 @@
 // K. Salari & P. Knupp, Sandia report SAND2000-1444 (2000). The β, boundary
 // values and manufactured solution are our own choices for the study.
 //
-//   conduction_verification [--coarsest=16] [--levels=4] [--beta=1] [--output=conduction_output]
+//   conduction_verification [--coarsest=16] [--levels=4] [--beta=1] [--output=conduction_output] [--help]
 #include <cstdio>
 #include <fstream>
 #include <iostream>
@@ -71,7 +71,7 @@ int run(int argc, char** argv) {
       "\n2D manufactured solution T = 1 + %g sin(pi x) sin(pi y) + %g x y, k = %g (1 + %g T)\n"
       "(method of manufactured solutions, Salari & Knupp, SAND2000-1444, 2000; our own choice of T)\n",
       solution.a, solution.b, solution.k0, solution.beta);
-  std::printf("  cells |  max |T - T_exact| | order |   rms error | order | Newton steps | GMRES its\n");
+  std::printf("  cells |  max |T - T_exact| | order |   rms error | order | Newton steps | GMRES iterations\n");
   std::vector<nkit_problems::verification_run> runs2d;
   for (int level = 0; level < levels; ++level) {
     runs2d.push_back(nkit_problems::run_manufactured(coarsest << level, solution));

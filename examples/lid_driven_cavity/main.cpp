@@ -3,7 +3,7 @@
 // (1982) Tables I and II.
 //
 //   lid_driven_cavity [--intervals=128] [--reynolds=1000] [--preconditioner=sparse_direct]
-//                     [--output=cavity_output]
+//                     [--relative_tolerance=1e-10] [--output=cavity_output] [--help]
 #include <cstdio>
 #include <fstream>
 #include <iostream>
@@ -93,10 +93,10 @@ int run(int argc, char** argv) {
   } else {
     throw std::invalid_argument("lid_driven_cavity: unknown --preconditioner " + choice);
   }
-  std::printf("continuation |       Re | Newton steps | GMRES its | residual evals | outcome\n");
+  std::printf("continuation |       Re | Newton steps | GMRES iterations | residual evaluations | outcome\n");
   for (std::size_t k = 0; k < solution.reports.size(); ++k) {
     const auto& r = solution.reports[k];
-    std::printf("%12zu | %8.1f | %12d | %9lld | %14lld | %s\n", k + 1, solution.reynolds[k], r.newton_steps,
+    std::printf("%12zu | %8.1f | %12d | %16lld | %20lld | %s\n", k + 1, solution.reynolds[k], r.newton_steps,
                 static_cast<long long>(r.linear_iterations), static_cast<long long>(r.residual_evaluations),
                 std::string(nkit::name(r.reason)).c_str());
   }

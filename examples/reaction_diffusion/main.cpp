@@ -13,7 +13,8 @@
 // P. Knupp, Sandia report SAND2000-1444, 2000), so it checks the solve and the
 // discretisation, not a physical result.
 //
-//   reaction_diffusion [--cells=128] [--preconditioner=both|block_jacobi|ilu_zero] [--output=reaction_output]
+//   reaction_diffusion [--cells=128] [--preconditioner=both] [--output=reaction_output] [--help]
+//   (--preconditioner: both, block_jacobi or ilu_zero)
 #include <cstdio>
 #include <iostream>
 #include <string>
@@ -66,11 +67,11 @@ int run(int argc, char** argv) {
     curves.push_back({"history_" + name + ".csv", 1, 3, name});
     converged = converged && result.report.converged();
   }
-  std::printf("\n%-14s | Newton steps | GMRES its | residual evals | Jacobian assemblies | time [s]\n",
+  std::printf("\n%-14s | Newton steps | GMRES iterations | residual evaluations | Jacobian assemblies | time [s]\n",
               "preconditioner");
   for (const auto& [name, result] : runs) {
     const auto& r = result.report;
-    std::printf("%-14s | %12d | %9lld | %14lld | %19lld | %8.3f\n", name.c_str(), r.newton_steps,
+    std::printf("%-14s | %12d | %16lld | %20lld | %19lld | %8.3f\n", name.c_str(), r.newton_steps,
                 static_cast<long long>(r.linear_iterations), static_cast<long long>(r.residual_evaluations),
                 static_cast<long long>(r.jacobian_assemblies), r.wall_seconds);
   }

@@ -3,29 +3,36 @@
 // on the unit square, T = 0 on the walls): a scaling study over cells per side,
 // with fitted exponents, a CSV of the rows and fits, and a log–log plot.
 //
-//   scaling_study [cells_per_side ...]        default: 32 64 128 256
+//   scaling_study [--size_parameters=32,64,128,256] [--skip_larger_sizes_after_seconds=120]
+//                 [--output=scaling_study_output] [--help]
 //
-// Writes, in the current directory:
+// Writes, in the --output folder:
 //   scaling_study.csv        one row per size (nkit::write_scaling_study_csv)
 //   scaling_study_fits.csv   the fitted power laws
 //   scaling_study.gp         a gnuplot script for the log–log plot
 //   scaling_study.png        the plot, when gnuplot is installed
 #include <cstdio>
 #include <cstdlib>
+#include <filesystem>
 #include <fstream>
 #include <iostream>
 #include <nkit/nkit.hpp>
 #include <nkit/report/scaling_study.hpp>
+#include <sstream>
+#include <stdexcept>
 #include <string>
+#include <vector>
 
+#include "common/command_line.hpp"
+#include "common/run_output.hpp"
 #include "problems/model_problem/model_problem.hpp"
 
 namespace {
 
 // Gnuplot script: wall time and linear iterations per Newton step against
 // unknowns, on log–log axes, with the fitted laws as lines.
-void write_gnuplot_script(const nkit::scaling_study_result& result) {
-  std::ofstream script("scaling_study.gp");
+std::string gnuplot_script(const nkit::scaling_study_result& result) {
+  std::ostringstream script;
   script << "set terminal pngcairo size 900,600\n"
             "set output 'scaling_study.png'\n"
             "set datafile separator ','\n"
@@ -51,15 +58,40 @@ void write_gnuplot_script(const nkit::scaling_study_result& result) {
     script << ", " << law(result.linear_iterations_per_newton_step) << " with lines title '" << title << "'";
   }
   script << '\n';
+  return script.str();
 }
 
-}  // namespace
+/// "32,64,128" -> {32, 64, 128}; every entry an integer >= 2.
+std::vector<long long> size_list(const std::string& text) {
+  std::vector<long long> sizes;
+  std::istringstream in(text);
+  std::string item;
+  while (std::getline(in, item, ',')) {
+    char* end = nullptr;
+    const long long value = std::strtoll(item.c_str(), &end, 10);
+    if (item.empty() || *end != '\0' || value < 2) {
+      throw std::invalid_argument(
+          "scaling_study: --size_parameters must be a comma-separated list of integers >= 2 "
+          "(got '" +
+          text + "')");
+    }
+    sizes.push_back(value);
+  }
+  if (sizes.empty()) throw std::invalid_argument("scaling_study: --size_parameters is empty");
+  return sizes;
+}
 
-int main(int argc, char** argv) {
+int run(int argc, char** argv) {
+  nkit_examples::command_line options("scaling_study",
+                                      "Newton-GMRES cost against grid size on the heat-conduction model problem");
+  options.option("size_parameters", "32,64,128,256", "cells per side of each grid, comma-separated");
+  options.option("skip_larger_sizes_after_seconds", "120", "do not start a larger size after a solve this slow");
+  options.option("output", "scaling_study_output", "folder for the CSV files, gnuplot script and plot");
+  if (!options.parse(argc, argv)) return 0;
   nkit::scaling_study_settings study;
-  for (int k = 1; k < argc; ++k) study.size_parameters.push_back(std::atoll(argv[k]));
-  if (study.size_parameters.empty()) study.size_parameters = {32, 64, 128, 256};
-  study.skip_larger_sizes_after_seconds = 120.0;  // do not start a larger size after a solve this slow
+  study.size_parameters = size_list(options.text("size_parameters"));
+  study.skip_larger_sizes_after_seconds = options.number("skip_larger_sizes_after_seconds");
+  const std::filesystem::path folder = nkit_examples::make_output_folder(options.text("output"));
 
   nkit::newton_settings settings;
   settings.relative_tolerance = 1e-8;  // the model problem's convergence criterion
@@ -85,20 +117,22 @@ int main(int argc, char** argv) {
     std::printf("linear iterations per Newton step grow like N^%.2f: the solve needs a preconditioner that scales\n",
                 result.linear_iterations_per_newton_step.exponent);
   }
-  std::ofstream csv("scaling_study.csv");
+  std::ofstream csv(folder / "scaling_study.csv");
   nkit::write_scaling_study_csv(csv, result);
-  std::ofstream fits("scaling_study_fits.csv");
+  std::ofstream fits(folder / "scaling_study_fits.csv");
   nkit::write_scaling_fits_csv(fits, result);
   csv.close();
   fits.close();
-  write_gnuplot_script(result);
-
-  if (std::system("gnuplot --version > /dev/null 2>&1") == 0 && std::system("gnuplot scaling_study.gp") == 0) {
-    std::cout << "wrote scaling_study.csv, scaling_study_fits.csv and the plot scaling_study.png\n";
+  std::cout << "wrote scaling_study.csv and scaling_study_fits.csv in " << folder.string() << '\n';
+  if (nkit_examples::run_gnuplot(folder, "scaling_study.gp", gnuplot_script(result), std::cout)) {
+    std::cout << "wrote the plot " << (folder / "scaling_study.png").string() << '\n';
   } else {
-    std::cout << "wrote scaling_study.csv and scaling_study_fits.csv; gnuplot was not found, so no plot.\n"
-                 "To plot: install gnuplot and run `gnuplot scaling_study.gp`, or plot columns unknowns (2)\n"
-                 "against wall_seconds (7) and linear_iterations_per_newton_step (6) on log-log axes.\n";
+    std::cout << "or plot columns unknowns (2) against wall_seconds (7) and linear_iterations_per_newton_step (6) "
+                 "on log-log axes.\n";
   }
   return result.rows.empty() || !result.rows.back().converged() ? 1 : 0;
 }
+
+}  // namespace
+
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }
