@@ -1,4 +1,4 @@
-# The compiled interfaces beside the header-only core (issue 16):
+# The compiled interfaces beside the header-only core:
 #   interfaces/c        library nkit_c (alias nkit::c): the C interface, nkit_c.h
 #   interfaces/fortran  library nkit_fortran (alias nkit::fortran): Fortran 2003
 #                       module `nkit` over the C interface (iso_c_binding)
@@ -22,4 +22,17 @@ if(NKIT_BUILD_C_INTERFACE)
       message(STATUS "nkit: no Fortran compiler: the Fortran interface is skipped (install gfortran)")
     endif()
   endif()
+endif()
+
+# Installed package: nkit::c and nkit::fortran (find_package(nkit COMPONENTS c
+# fortran) requires them). nkitInterfaceDependencies.cmake finds what they link.
+if(TARGET nkit_c)
+  install(EXPORT nkitInterfaceTargets NAMESPACE nkit:: DESTINATION ${CMAKE_INSTALL_LIBDIR}/cmake/nkit)
+  set(nkit_interface_dependencies "include(CMakeFindDependencyMacro)\n")
+  if(NKIT_C_INTERFACE_USES_MPI)
+    string(APPEND nkit_interface_dependencies "find_dependency(MPI COMPONENTS CXX)\n")
+  endif()
+  file(WRITE ${CMAKE_CURRENT_BINARY_DIR}/nkitInterfaceDependencies.cmake "${nkit_interface_dependencies}")
+  install(FILES ${CMAKE_CURRENT_BINARY_DIR}/nkitInterfaceDependencies.cmake
+          DESTINATION ${CMAKE_INSTALL_LIBDIR}/cmake/nkit)
 endif()

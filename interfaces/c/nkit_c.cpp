@@ -2,7 +2,9 @@
 // holds the settings of both method families, the callbacks, the bounds, the
 // solver objects (created on the first solve of their method and reused, so
 // repeat solves of one size reuse their workspace) and a copy of the last
-// report in C types.
+// report in C types. A handle made by nkit_solver_create_distributed (builds
+// with MPI) solves on nkit::mpi_vector_space over the caller's communicator:
+// the same callbacks, each rank passing its own slice.
 //
 // Error contract: no C++ exception crosses the C boundary. A callback that
 // returns nonzero raises callback_failure inside nkit, which unwinds like any
@@ -12,6 +14,10 @@
 // becomes NKIT_STATUS_OUT_OF_MEMORY. Messages live in a fixed thread-local
 // buffer, so recording one never allocates.
 #include "nkit_c.h"
+
+#ifndef NKIT_C_HAS_MPI
+#define NKIT_C_HAS_MPI 0  // 1 when built with MPI (interfaces/c/CMakeLists.txt)
+#endif
 
 #include <Eigen/Core>
 #include <cmath>
@@ -25,6 +31,13 @@
 #include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/version.hpp>
 #include <stdexcept>
+#if NKIT_C_HAS_MPI
+#include <mpi.h>
+
+#include <nkit/distributed/mpi_vector_space.hpp>
+
+#include "nkit_c_distributed.h"
+#endif
 #include <string>
 #include <vector>
 
@@ -255,7 +268,8 @@ struct callback_preconditioner {
   nkit_preconditioner_apply_function apply_function = nullptr;
   void* user_data = nullptr;
 
-  nkit::setup_status setup(const nkit::preconditioner_context<>& context) {
+  template <class Context>
+  nkit::setup_status setup(const Context& context) {
     if (setup_function != nullptr) {
       const int code = setup_function(context.state.data(), context.residual.data(),
                                       static_cast<std::int64_t>(context.state.size()), user_data);
@@ -326,8 +340,13 @@ struct report_copy {
   std::vector<nkit_iteration_summary> history;
 };
 
-using plain_newton = nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::identity_preconditioner>;
-using preconditioned_newton = nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, callback_preconditioner>;
+/// The solver objects of one vector space, created on the first solve of their method.
+template <class Space>
+struct solvers_on {
+  std::unique_ptr<nkit::newton_krylov_solver<Space, nkit::identity_preconditioner>> plain;
+  std::unique_ptr<nkit::newton_krylov_solver<Space, callback_preconditioner>> preconditioned;
+  std::unique_ptr<nkit::anderson_solver<Space>> anderson;
+};
 
 }  // namespace
 
@@ -339,9 +358,12 @@ struct nkit_solver {
   callback_monitor monitor;
   Eigen::VectorXd lower, upper;
   bool has_bounds = false;
-  std::unique_ptr<plain_newton> plain;
-  std::unique_ptr<preconditioned_newton> preconditioned;
-  std::unique_ptr<nkit::anderson_solver<>> anderson;
+  solvers_on<nkit::eigen_vector_space<double>> serial;
+#if NKIT_C_HAS_MPI
+  bool distributed = false;
+  MPI_Comm communicator = MPI_COMM_NULL;
+  solvers_on<nkit::mpi_vector_space> on_communicator;
+#endif
   report_copy report;
 };
 
@@ -386,10 +408,10 @@ void copy_report(report_copy& copy, const nkit::anderson_report& report) {
   copy.available = true;
 }
 
-template <class Solver, class Problem>
-nkit::solve_report run_newton(nkit_solver& handle, std::unique_ptr<Solver>& solver, Problem& problem,
-                              Eigen::Ref<Eigen::VectorXd> u) {
-  if (!solver) solver = std::make_unique<Solver>(handle.settings.newton);
+template <class Solver, class Space, class Problem>
+nkit::solve_report run_newton(nkit_solver& handle, std::unique_ptr<Solver>& solver, const Space& space,
+                              Problem& problem, Eigen::Ref<Eigen::VectorXd> u) {
+  if (!solver) solver = std::make_unique<Solver>(handle.settings.newton, space);
   solver->configure(handle.settings.newton);
   if (handle.has_bounds) {
     solver->set_bounds(handle.lower, handle.upper);
@@ -397,6 +419,42 @@ nkit::solve_report run_newton(nkit_solver& handle, std::unique_ptr<Solver>& solv
     solver->clear_bounds();
   }
   return solver->solve(problem, u, handle.monitor);
+}
+
+/// One solve with the handle's method on `space` (serial or distributed).
+template <class Space>
+void solve_on(nkit_solver& handle, const Space& space, solvers_on<Space>& solvers, Eigen::Map<Eigen::VectorXd> u) {
+  const method_choice method = handle.settings.method;
+  if (method == method_choice::anderson) {
+    if (!solvers.anderson)
+      solvers.anderson = std::make_unique<nkit::anderson_solver<Space>>(handle.settings.anderson, space);
+    solvers.anderson->configure(handle.settings.anderson);
+    if (handle.has_bounds) {
+      solvers.anderson->set_bounds(handle.lower, handle.upper);
+    } else {
+      solvers.anderson->clear_bounds();
+    }
+    copy_report(handle.report, solvers.anderson->solve(handle.map, u, handle.monitor));
+    return;
+  }
+  residual_reference residual{method == method_choice::newton_krylov ? &handle.residual : nullptr};
+  auto on_map = nkit::fixed_point_residual<vector_callback&>(handle.map);
+  const auto solve_with = [&](auto& problem) {
+    if (handle.preconditioner.apply_function != nullptr) {
+      if (!solvers.preconditioned) {
+        solvers.preconditioned =
+            std::make_unique<typename decltype(solvers.preconditioned)::element_type>(handle.settings.newton, space);
+      }
+      solvers.preconditioned->preconditioner() = handle.preconditioner;
+      return run_newton(handle, solvers.preconditioned, space, problem, u);
+    }
+    return run_newton(handle, solvers.plain, space, problem, u);
+  };
+  if (method == method_choice::newton_krylov) {
+    copy_report(handle.report, solve_with(residual));
+  } else {
+    copy_report(handle.report, solve_with(on_map));
+  }
 }
 
 }  // namespace
@@ -414,6 +472,30 @@ nkit_status nkit_solver_create(nkit_solver** solver) {
       return succeed();
     });
   });
+}
+
+int32_t nkit_has_distributed(void) { return NKIT_C_HAS_MPI ? 1 : 0; }
+
+nkit_status nkit_solver_create_distributed_fortran(nkit_solver** solver, int32_t fortran_communicator) {
+#if NKIT_C_HAS_MPI
+  return guarded([&]() -> nkit_status {
+    NKIT_REQUIRE_NOT_NULL(solver, "nkit_solver_create_distributed_fortran");
+    *solver = nullptr;
+    int initialized = 0;
+    MPI_Initialized(&initialized);
+    if (!initialized) {
+      return fail(NKIT_STATUS_INVALID_ARGUMENT,
+                  "nkit_solver_create_distributed_fortran: MPI is not initialised (call MPI_Init first)");
+    }
+    return nkit_solver_create_distributed(solver, MPI_Comm_f2c(static_cast<MPI_Fint>(fortran_communicator)));
+  });
+#else
+  static_cast<void>(fortran_communicator);
+  if (solver != nullptr) *solver = nullptr;
+  return fail(NKIT_STATUS_INVALID_ARGUMENT,
+              "nkit_solver_create_distributed_fortran: this nkit_c library was built without MPI "
+              "(nkit_has_distributed() returns 0; configure nkit where MPI is found, e.g. libopenmpi-dev)");
+#endif
 }
 
 nkit_status nkit_solver_destroy(nkit_solver* solver) {
@@ -679,34 +761,13 @@ nkit_status nkit_solve(nkit_solver* solver, double* state, int64_t size) {
     return guarded([&] {
       Eigen::Map<Eigen::VectorXd> u(state, size);
       solver->residual.calls = solver->map.calls = 0;
-      if (method == method_choice::anderson) {
-        if (!solver->anderson) solver->anderson = std::make_unique<nkit::anderson_solver<>>(solver->settings.anderson);
-        solver->anderson->configure(solver->settings.anderson);
-        if (solver->has_bounds) {
-          solver->anderson->set_bounds(solver->lower, solver->upper);
-        } else {
-          solver->anderson->clear_bounds();
-        }
-        copy_report(solver->report, solver->anderson->solve(solver->map, u, solver->monitor));
+#if NKIT_C_HAS_MPI
+      if (solver->distributed) {
+        solve_on(*solver, nkit::mpi_vector_space(solver->communicator), solver->on_communicator, u);
         return succeed();
       }
-      residual_reference residual{method == method_choice::newton_krylov ? &solver->residual : nullptr};
-      auto on_map = nkit::fixed_point_residual<vector_callback&>(solver->map);
-      const auto solve_with = [&](auto& problem) {
-        if (solver->preconditioner.apply_function != nullptr) {
-          if (!solver->preconditioned) {
-            solver->preconditioned = std::make_unique<preconditioned_newton>(solver->settings.newton);
-          }
-          solver->preconditioned->preconditioner() = solver->preconditioner;
-          return run_newton(*solver, solver->preconditioned, problem, u);
-        }
-        return run_newton(*solver, solver->plain, problem, u);
-      };
-      if (method == method_choice::newton_krylov) {
-        copy_report(solver->report, solve_with(residual));
-      } else {
-        copy_report(solver->report, solve_with(on_map));
-      }
+#endif
+      solve_on(*solver, nkit::eigen_vector_space<double>{}, solver->serial, u);
       return succeed();
     });
   });
@@ -805,3 +866,28 @@ nkit_status nkit_report_iteration(const nkit_solver* solver, int64_t index, nkit
 }
 
 }  // extern "C"
+
+#if NKIT_C_HAS_MPI
+extern "C" nkit_status nkit_solver_create_distributed(nkit_solver** solver, MPI_Comm communicator) {
+  return guarded([&]() -> nkit_status {
+    NKIT_REQUIRE_NOT_NULL(solver, "nkit_solver_create_distributed");
+    *solver = nullptr;
+    int initialized = 0;
+    MPI_Initialized(&initialized);
+    if (!initialized) {
+      return fail(NKIT_STATUS_INVALID_ARGUMENT,
+                  "nkit_solver_create_distributed: MPI is not initialised (call MPI_Init first)");
+    }
+    if (communicator == MPI_COMM_NULL) {
+      return fail(NKIT_STATUS_INVALID_ARGUMENT, "nkit_solver_create_distributed: the communicator is MPI_COMM_NULL");
+    }
+    return guarded([&] {
+      auto handle = std::make_unique<nkit_solver>();
+      handle->distributed = true;
+      handle->communicator = communicator;
+      *solver = handle.release();
+      return succeed();
+    });
+  });
+}
+#endif

@@ -102,6 +102,7 @@ module nkit
     integer :: slot = 0
   contains
     procedure :: create => solver_create
+    procedure :: create_distributed => solver_create_distributed
     procedure :: destroy => solver_destroy
     procedure :: set_residual => solver_set_residual
     procedure :: set_fixed_point_map => solver_set_fixed_point_map
@@ -125,7 +126,7 @@ module nkit
     procedure :: report_iteration => solver_report_iteration
   end type nkit_solver
 
-  public :: nkit_error_message, nkit_settings_defaults
+  public :: nkit_error_message, nkit_settings_defaults, nkit_has_distributed
 
   ! The Fortran procedures of each solver, found by the trampolines through
   ! the slot number passed to C as the user pointer.
@@ -144,6 +145,15 @@ module nkit
       import :: c_int, c_ptr
       type(c_ptr), intent(out) :: solver
     end function c_solver_create
+    integer(c_int) function c_solver_create_distributed(solver, communicator) &
+        bind(c, name="nkit_solver_create_distributed_fortran")
+      import :: c_int, c_int32_t, c_ptr
+      type(c_ptr), intent(out) :: solver
+      integer(c_int32_t), value :: communicator
+    end function c_solver_create_distributed
+    integer(c_int32_t) function c_has_distributed() bind(c, name="nkit_has_distributed")
+      import :: c_int32_t
+    end function c_has_distributed
     integer(c_int) function c_solver_destroy(solver) bind(c, name="nkit_solver_destroy")
       import :: c_int, c_ptr
       type(c_ptr), value :: solver
@@ -395,6 +405,24 @@ contains
     status = c_solver_create(self%handle)
     if (status == nkit_status_success) self%slot = new_slot()
   end function solver_create
+
+  !> A distributed solver over an MPI communicator: pass the integer handle
+  !> (MPI_COMM_WORLD from `use mpi`, or comm%MPI_VAL from `use mpi_f08`).
+  !> Every rank creates its own handle and calls solve() with its own slice of
+  !> the state; callbacks receive that slice (nkit_c.h states the rules).
+  !> Fails with nkit_status_invalid_argument when nkit was built without MPI
+  !> (see nkit_has_distributed()).
+  integer function solver_create_distributed(self, communicator) result(status)
+    class(nkit_solver), intent(inout) :: self
+    integer, intent(in) :: communicator
+    status = c_solver_create_distributed(self%handle, int(communicator, c_int32_t))
+    if (status == nkit_status_success) self%slot = new_slot()
+  end function solver_create_distributed
+
+  !> .true. when the library was built with MPI (create_distributed works).
+  logical function nkit_has_distributed()
+    nkit_has_distributed = c_has_distributed() /= 0
+  end function nkit_has_distributed
 
   integer function solver_destroy(self) result(status)
     class(nkit_solver), intent(inout) :: self

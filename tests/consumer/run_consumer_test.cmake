@@ -1,6 +1,7 @@
 # Builds and runs tests/consumer against nkit: either installed into a
 # temporary prefix (MODE=find_package) or embedded (MODE=add_subdirectory).
-# WITH_MPI=ON also builds and runs the MPI consumer (nkit::mpi).
+# WITH_MPI=ON also builds and runs the MPI consumer (nkit::mpi); WITH_INTERFACES=ON
+# a C and a Fortran consumer (nkit::c, nkit::fortran).
 file(REMOVE_RECURSE ${WORK_DIR})
 file(MAKE_DIRECTORY ${WORK_DIR})
 
@@ -15,9 +16,15 @@ endfunction()
 if(NOT DEFINED WITH_MPI)
   set(WITH_MPI OFF)
 endif()
+if(NOT DEFINED WITH_INTERFACES)
+  set(WITH_INTERFACES OFF)
+endif()
 set(configure_args -S ${NKIT_SOURCE_DIR}/tests/consumer -B ${WORK_DIR}/build -DCMAKE_CXX_COMPILER=${CXX_COMPILER}
                    -DNKIT_CONSUMER_MODE=${MODE} -DNKIT_SOURCE_DIR=${NKIT_SOURCE_DIR}
-                   -DNKIT_CONSUMER_WITH_MPI=${WITH_MPI})
+                   -DNKIT_CONSUMER_WITH_MPI=${WITH_MPI} -DNKIT_CONSUMER_WITH_INTERFACES=${WITH_INTERFACES})
+if(WITH_INTERFACES)
+  list(APPEND configure_args -DCMAKE_C_COMPILER=${C_COMPILER} -DCMAKE_Fortran_COMPILER=${Fortran_COMPILER})
+endif()
 if(MODE STREQUAL "find_package")
   run(${CMAKE_COMMAND} --install ${NKIT_BINARY_DIR} --prefix ${WORK_DIR}/prefix)
   list(APPEND configure_args -DCMAKE_PREFIX_PATH=${WORK_DIR}/prefix)
@@ -27,4 +34,8 @@ run(${CMAKE_COMMAND} --build ${WORK_DIR}/build)
 run(${WORK_DIR}/build/consumer)
 if(WITH_MPI)
   run(${WORK_DIR}/build/consumer_mpi)
+endif()
+if(WITH_INTERFACES)
+  run(${WORK_DIR}/build/consumer_c)
+  run(${WORK_DIR}/build/consumer_fortran)
 endif()

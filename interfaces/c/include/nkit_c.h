@@ -93,15 +93,16 @@ typedef struct nkit_settings {
   double absolute_tolerance;          /* [absolute_tolerance] converged when ‖R‖ <= this (0 = off) */
   int32_t iteration_budget;           /* [iteration_budget] Newton steps or Anderson iterations */
   int64_t residual_evaluation_budget; /* [residual_evaluation_budget] calls of the residual or map */
-  double wall_time_budget_seconds;     /* [wall_time_budget_seconds] (+inf = none) */
-  int32_t globalization;          /* [globalization] 0 line_search, 1 full_step, 2 trust_region, 3 pseudo_transient */
-  int32_t restart_length;         /* [linear.restart_length] GMRES vectors kept before a restart */
-  int32_t maximum_linear_iterations;  /* [linear.maximum_iterations] GMRES iterations per Newton step */
-  double residual_relative_noise; /* [jacobian.residual_relative_noise] 0 = machine epsilon */
-  int32_t anderson_depth;         /* [anderson.depth] differences kept (0 = plain fixed-point iteration) */
-  double anderson_mixing;         /* [anderson.mixing] in (0, 1] */
-  double anderson_maximum_condition_number; /* [anderson.maximum_condition_number] safeguard on the least-squares factor */
-  int32_t anderson_restart_window;      /* [anderson.restart_window] iterations without progress before a restart */
+  double wall_time_budget_seconds;    /* [wall_time_budget_seconds] (+inf = none) */
+  int32_t globalization;  /* [globalization] 0 line_search, 1 full_step, 2 trust_region, 3 pseudo_transient */
+  int32_t restart_length; /* [linear.restart_length] GMRES vectors kept before a restart */
+  int32_t maximum_linear_iterations; /* [linear.maximum_iterations] GMRES iterations per Newton step */
+  double residual_relative_noise;    /* [jacobian.residual_relative_noise] 0 = machine epsilon */
+  int32_t anderson_depth;            /* [anderson.depth] differences kept (0 = plain fixed-point iteration) */
+  double anderson_mixing;            /* [anderson.mixing] in (0, 1] */
+  double
+      anderson_maximum_condition_number; /* [anderson.maximum_condition_number] safeguard on the least-squares factor */
+  int32_t anderson_restart_window;       /* [anderson.restart_window] iterations without progress before a restart */
 } nkit_settings;
 
 /* ---- handle ------------------------------------------------------------------ */
@@ -109,6 +110,22 @@ typedef struct nkit_settings {
 nkit_status nkit_solver_create(nkit_solver** solver);
 /* NULL is accepted (nothing happens). */
 nkit_status nkit_solver_destroy(nkit_solver* solver);
+
+/* Distributed solves (MPI). A handle made by nkit_solver_create_distributed
+ * (declared in nkit_c_distributed.h, which includes mpi.h) solves a system
+ * whose vectors are split over the ranks of a communicator: every rank calls
+ * every nkit function on its own handle in the same order, nkit_solve with
+ * its own slice of the state (its local size, at least 1), and the callbacks
+ * receive and fill that rank's slice (a residual that needs neighbours'
+ * values exchanges them itself). Norms and dot products are reduced over the
+ * communicator, so every rank takes the same steps and reads the same report.
+ * nkit_has_distributed() returns 1 when this library was built with MPI.
+ * From Fortran, pass the integer handle of the communicator (MPI_COMM_WORLD
+ * from `use mpi`, or comm%MPI_VAL from `use mpi_f08`): it is converted with
+ * MPI_Comm_f2c. Without MPI support the function fails with
+ * NKIT_STATUS_INVALID_ARGUMENT and says so. */
+int32_t nkit_has_distributed(void);
+nkit_status nkit_solver_create_distributed_fortran(nkit_solver** solver, int32_t fortran_communicator);
 
 /* The message of the last failing call in this thread ("" after a success).
  * Valid until the next nkit call in this thread. Never NULL. */
