@@ -36,6 +36,7 @@
 
 #include "../core/preconditioner.hpp"
 #include "../detail/checks.hpp"
+#include "../jacobian/sparse_jacobian.hpp"
 #include "bordered_vector_space.hpp"
 #include "parametrized_residual.hpp"
 
@@ -60,8 +61,10 @@ class bordering_source {
   virtual scalar_type constraint_parameter_coefficient() const = 0;
   /// Whether assembled_state_jacobian() can deliver R_u.
   virtual bool can_assemble_state_jacobian() const = 0;
-  /// R_u(u, λ) at x, assembled by the problem (λ fixed). Allocates on the first call only.
-  virtual const sparse_matrix& assembled_state_jacobian(const vector_type& x) = 0;
+  /// R_u(u, λ) at x (λ fixed), given residual_at_x = R(u, λ): assembled by the
+  /// problem, or by colored differences from its jacobian_pattern(). Allocates on the first call only.
+  virtual const sparse_matrix& assembled_state_jacobian(const vector_type& x,
+                                                        const inner_vector_type& residual_at_x) = 0;
 };
 
 /// The residual [R(u, λ); σN(u, λ)] of a parametrized problem. Holds pointers
@@ -116,21 +119,42 @@ class bordered_residual final : public bordering_source<Space> {
 
   static constexpr bool assembles =
       has_parametrized_assemble_jacobian_v<Problem, inner_vector_type, scalar_type, sparse_matrix>;
-  bool can_assemble_state_jacobian() const override { return assembles; }
+  /// Colored differences need the pattern and serial Eigen vectors (jacobian/sparse_jacobian.hpp).
+  static constexpr bool colors_pattern =
+      !assembles && has_jacobian_pattern_v<Problem> && std::is_same_v<inner_vector_type, Eigen::VectorXd>;
+  bool can_assemble_state_jacobian() const override { return assembles || colors_pattern; }
   /// R_u only, for preconditioners of the state block. (No assemble_jacobian()
   /// member on purpose: the Newton driver's assembled Jacobian would be that
-  /// of the whole bordered system.)
-  const sparse_matrix& assembled_state_jacobian(const vector_type& x) override {
+  /// of the whole bordered system.) The problem's assemble_jacobian(u, λ, J)
+  /// when it has one; else, with a jacobian_pattern(), colored forward
+  /// differences of u ↦ R(u, λ) by the Newton driver's class
+  /// (colored_difference_jacobian, jacobian/sparse_jacobian.hpp): one
+  /// evaluation of R per color, counted in extra_evaluations(); the coloring
+  /// is computed once per pattern.
+  const sparse_matrix& assembled_state_jacobian(const vector_type& x, const inner_vector_type& residual_at_x) override {
     if constexpr (assembles) {
+      static_cast<void>(residual_at_x);
       m_problem->assemble_jacobian(static_cast<const inner_vector_type&>(x.state), x.parameter, m_jacobian);
+    } else if constexpr (colors_pattern) {
+      m_colored.prepare(m_problem->jacobian_pattern());
+      const scalar_type parameter = x.parameter;
+      m_colored.assemble(
+          [this, parameter](const Eigen::VectorXd& u, Eigen::VectorXd& r) {
+            (*m_problem)(u, parameter, r);
+            ++m_extra_evaluations;
+          },
+          static_cast<const inner_vector_type&>(x.state), residual_at_x, m_jacobian);
     } else {
       static_cast<void>(x);
+      static_cast<void>(residual_at_x);
       throw std::logic_error(
-          "nkit: the state preconditioner needs an assembled Jacobian, but the parametrized problem has no "
-          "assemble_jacobian(u, parameter, matrix)");
+          "nkit: the state preconditioner needs an assembled Jacobian, but the parametrized problem has neither "
+          "assemble_jacobian(u, parameter, matrix) nor jacobian_pattern()");
     }
     return m_jacobian;
   }
+  /// The colored-difference assembler (its coloring, for inspection).
+  const colored_difference_jacobian& colored_differences() const { return m_colored; }
 
   /// σN(x) alone. Collective in arclength mode.
   scalar_type constraint(const vector_type& x) const {
@@ -189,6 +213,7 @@ class bordered_residual final : public bordering_source<Space> {
   std::int64_t m_extra_evaluations = 0;
   inner_vector_type m_zero;
   sparse_matrix m_jacobian;
+  colored_difference_jacobian m_colored;  ///< used only with colors_pattern
 };
 
 namespace detail {
@@ -220,7 +245,8 @@ struct has_parametrized_setup<
 /// J M⁻¹ = I.
 ///
 /// Setup: the user's setup receives the state part of the context (u,
-/// R(u, λ), the assembled R_u when the problem has assemble_jacobian(u, λ, J);
+/// R(u, λ), the assembled R_u when the problem has assemble_jacobian(u, λ, J)
+/// or jacobian_pattern() (then by colored differences, see bordered_residual);
 /// a pseudo-time shift, if the corrector uses one, on the state block only));
 /// a P that builds from the state alone and needs λ may declare
 ///   setup(const preconditioner_context<Space>& context, scalar_type parameter)
@@ -243,7 +269,7 @@ class bordered_preconditioner {
 
   setup_status setup(const preconditioner_context<space_type>& context) {
     NKIT_ASSERT(m_source != nullptr, "bordered_preconditioner::attach() must be called before setup()");
-    state_jacobian jacobian(*m_source, context.state);
+    state_jacobian jacobian(*m_source, context.state, context.residual.state);
     const preconditioner_context<Space> state_context{
         context.space.inner(),
         context.state.state,
@@ -302,15 +328,18 @@ class bordered_preconditioner {
   /// R_u from the bordered residual, assembled on the first request.
   class state_jacobian final : public jacobian_source {
    public:
-    state_jacobian(bordering_source<Space>& source, const vector_type& at) : m_source(source), m_at(at) {}
+    state_jacobian(bordering_source<Space>& source, const vector_type& at,
+                   const typename Space::vector_type& residual_at)
+        : m_source(source), m_at(at), m_residual_at(residual_at) {}
     const sparse_matrix& assembled_jacobian() override {
-      if (m_matrix == nullptr) m_matrix = &m_source.assembled_state_jacobian(m_at);
+      if (m_matrix == nullptr) m_matrix = &m_source.assembled_state_jacobian(m_at, m_residual_at);
       return *m_matrix;
     }
 
    private:
     bordering_source<Space>& m_source;
     const vector_type& m_at;
+    const typename Space::vector_type& m_residual_at;
     const sparse_matrix* m_matrix = nullptr;
   };
 

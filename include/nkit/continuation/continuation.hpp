@@ -178,7 +178,7 @@ class continuation_solver {
         residual.fix_parameter(m_candidate.parameter);
       }
       m_space.copy(m_candidate, m_prediction);
-      bool accepted = correct(residual, m_candidate, here) && close_to_prediction(m_candidate, step);
+      bool accepted = correct(residual, m_candidate, here) && close_to_prediction(m_candidate, step, here);
       if (!accepted && m_report.last_corrector_reason == stop_reason::cancellation_flag_raised) {
         return finish(clock, continuation_stop_reason::cancellation_flag_raised);
       }
@@ -193,7 +193,7 @@ class continuation_solver {
         m_candidate.parameter = bound;
         residual.fix_parameter(bound);
         m_space.copy(m_candidate, m_prediction);
-        const bool solved = correct(residual, m_candidate, here) && close_to_prediction(m_candidate, step);
+        const bool solved = correct(residual, m_candidate, here) && close_to_prediction(m_candidate, step, here);
         if (solved && arclength) {  // tangent bordered by the previous one: keeps the branch's orientation
           residual.constrain_arclength(m_point, m_tangent, m_state_weight, step);
           m_space.copy(m_tangent, m_candidate_tangent);
@@ -220,8 +220,10 @@ class continuation_solver {
           accepted = false;
           // In natural mode a failing tangent solve has the corrector's cause: R_u turning singular.
           if (arclength) failure = continuation_stop_reason::tangent_not_solved;
-        } else if (arclength && alignment(m_tangent, m_candidate_tangent) < s.minimum_tangent_alignment) {
-          accepted = false;
+        } else {
+          const scalar_type cosine = alignment(m_tangent, m_candidate_tangent);
+          here.tangent_angle = std::acos(std::clamp<scalar_type>(cosine, -1, 1));
+          if (arclength && cosine < s.minimum_tangent_alignment) accepted = false;
         }
       }
       if (!accepted) {
@@ -253,8 +255,7 @@ class continuation_solver {
       if (detail::notify_point(monitor, record, m_point.state) == monitor_decision::stop_now) {
         return finish(clock, continuation_stop_reason::monitor_requested_stop);
       }
-      const scalar_type factor = static_cast<scalar_type>(s.target_corrector_steps) / std::max(1, record.newton_steps);
-      step *= std::clamp(factor, 1 / s.maximum_step_growth, s.maximum_step_growth);
+      step *= step_factor(s, here, step);
       step = std::clamp(step, s.minimum_step, s.maximum_step);
       here = effort{};
     }
@@ -265,6 +266,9 @@ class continuation_solver {
   struct effort {
     int newton_steps = 0;
     int rejected_steps = 0;
+    double corrector_contraction = 0;  ///< of the latest corrector solve
+    double corrector_distance = 0;     ///< of the latest close_to_prediction test
+    double tangent_angle = 0;          ///< of the latest tangent
     std::int64_t linear_iterations = 0;
     std::int64_t residual_evaluations = 0;
     stop_reason_if_stopped corrector_reason;
@@ -305,13 +309,47 @@ class continuation_solver {
                : otherwise;
   }
 
-  /// Whether x lies within maximum_corrector_distance·step of m_prediction (arclength metric). Collective.
-  bool close_to_prediction(const bordered_type& x, scalar_type step) {
+  /// Whether x lies within maximum_corrector_distance·step of m_prediction
+  /// (arclength metric); the distance goes to spent.corrector_distance. Collective.
+  bool close_to_prediction(const bordered_type& x, scalar_type step, effort& spent) {
     m_space.combine(1, x, -1, m_prediction, m_prediction);
     const scalar_type state = m_space.inner().norm(m_prediction.state);
     const scalar_type distance =
         std::sqrt(m_state_weight * state * state + m_prediction.parameter * m_prediction.parameter);
+    spent.corrector_distance = distance;
     return distance <= m_settings.maximum_corrector_distance * step;
+  }
+
+  /// new step / old step after an accepted point (continuation_settings::adaptation):
+  /// 1/f clamped to [1/maximum_step_shrink, maximum_step_growth], with
+  ///   corrector_convergence:  f = max(√(κ/κ̃), (δ/Δs)/ρ̃, α/α̃)   (Allgower & Georg 2003, §6.1)
+  ///   newton_step_count:      f = k / target_corrector_steps;
+  /// at most 1 when the point needed rejected attempts.
+  static scalar_type step_factor(const continuation_settings& s, const effort& spent, scalar_type step) {
+    scalar_type slowdown = 0;
+    if (s.adaptation == step_adaptation::newton_step_count) {
+      slowdown = static_cast<scalar_type>(std::max(1, spent.newton_steps)) / s.target_corrector_steps;
+    } else {
+      slowdown = std::max({std::sqrt(spent.corrector_contraction / s.target_contraction),
+                           spent.corrector_distance / step / s.target_distance_ratio,
+                           spent.tangent_angle / s.target_tangent_angle});
+    }
+    // No growth right after a rejection: the step that just failed would be tried again (common
+    // practice in step-size controllers, e.g. E. Hairer, S.P. Nørsett & G. Wanner, Solving Ordinary
+    // Differential Equations I, 2nd ed., Springer 1993, §II.4; from memory).
+    const scalar_type growth = spent.rejected_steps > 0 ? 1 : s.maximum_step_growth;
+    if (!(slowdown > 0)) return growth;  // nothing observed (exact predictor), or NaN
+    return std::clamp(1 / slowdown, 1 / s.maximum_step_shrink, growth);
+  }
+
+  /// κ of a solve's first Newton step: max(0, ‖R(x₁)‖/‖R(x₀)‖ − (1 − ω) − ω·ρ), ω
+  /// its step fraction, ρ its relative linear residual (continuation_settings::adaptation).
+  static double first_step_contraction(const solve_report& solve) {
+    if (solve.history.empty() || !(solve.initial_residual_norm > 0)) return 0;
+    const newton_step_record& first = solve.history.front();
+    if (!first.accepted) return 0;
+    const double explained = (1 - first.step_fraction) + first.step_fraction * first.relative_linear_residual;
+    return std::max(0.0, first.residual_norm / solve.initial_residual_norm - explained);
   }
 
   /// Cosine of the angle between two unit tangents in the arclength metric. Collective.
@@ -337,6 +375,7 @@ class continuation_solver {
     m_last_initial_residual_norm = solve.initial_residual_norm;
     if (solve.preconditioner_setups > 0) m_preconditioner_ready = true;
     spent.newton_steps = solve.newton_steps;  // of the latest solve: the accepted one when it converged
+    spent.corrector_contraction = first_step_contraction(solve);
     spent.corrector_reason = solve.reason;
     m_report.newton_steps += solve.newton_steps;
     m_report.last_corrector_reason = solve.reason;
@@ -424,6 +463,9 @@ class continuation_solver {
     point.step = step;
     point.tangent_parameter = tangent.parameter;
     point.newton_steps = spent.newton_steps;
+    point.corrector_contraction = spent.corrector_contraction;
+    point.corrector_distance = spent.corrector_distance;
+    point.tangent_angle = spent.tangent_angle;
     point.rejected_steps = spent.rejected_steps;
     point.linear_iterations = spent.linear_iterations;
     point.residual_evaluations = spent.residual_evaluations;

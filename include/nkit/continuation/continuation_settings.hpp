@@ -20,6 +20,7 @@
 #include <string>
 #include <string_view>
 #include <type_traits>
+#include <utility>
 #include <vector>
 
 #include "../detail/checks.hpp"
@@ -32,6 +33,12 @@ namespace nkit {
 enum class continuation_method {
   pseudo_arclength,  ///< Keller's bordered system; follows the branch around folds
   natural_parameter  ///< λ is stepped and held fixed in each solve; stops at a fold
+};
+
+/// How the step changes after an accepted point (continuation_settings::adaptation).
+enum class step_adaptation {
+  corrector_convergence,  ///< from the corrector's contraction, its distance from the predictor and the tangent angle
+  newton_step_count       ///< from the number of corrector Newton steps (nkit 0.1)
 };
 
 /// Which way λ moves from the start point.
@@ -56,15 +63,61 @@ struct continuation_settings {
   double minimum_step = 1e-6;  ///< the run stops when a step this short still fails
   double maximum_step = 1.0;
 
-  /// Step control (common practice): after a converged corrector that took k
-  /// Newton steps, Δs ← Δs · clamp(target_corrector_steps / max(k, 1),
-  /// 1 / maximum_step_growth, maximum_step_growth); after a failure,
-  /// Δs ← Δs · shrink_factor and the step is retried.
-  /// 5 suits the default inexact corrector: with Eisenstat–Walker forcing
-  /// (η_0 = 0.5) even a very good predictor takes about 4 Newton steps to the
-  /// tolerance (measured on 1D Bratu), so a target of 4 never lets the step grow.
+  /// Step control. After a rejected step (corrector failure, or a guard
+  /// below), Δs ← Δs · shrink_factor and the step is retried. After an
+  /// accepted point the next step is Δs ← Δs · clamp(1/f, 1/maximum_step_shrink,
+  /// maximum_step_growth), where f is set by `adaptation`; a point that
+  /// needed rejected attempts does not let the step grow (1/f <= 1):
+  ///
+  /// corrector_convergence (default): the steplength adaptation by
+  /// asymptotic estimates of E.L. Allgower & K. Georg, "Introduction to
+  /// Numerical Continuation Methods", SIAM Classics in Applied Mathematics 45
+  /// (2003), §6.1 (the algorithm number there from memory). Each observation
+  /// of the corrector grows with the step like a known power of Δs; the step
+  /// that brings it to its target is predicted from that power, and the most
+  /// restrictive one wins:
+  ///
+  ///   f = max( √(κ / target_contraction),
+  ///            (δ / Δs) / target_distance_ratio,
+  ///            α / target_tangent_angle )
+  ///
+  ///   κ  contraction of the corrector's first Newton step: the part of
+  ///      ‖R(x₁)‖/‖R(x₀)‖ that the linear model does not explain,
+  ///      κ = max(0, ‖R(x₁)‖/‖R(x₀)‖ − (1 − ω) − ω·ρ), with ω the step
+  ///      fraction and ρ the relative linear residual GMRES reached (the
+  ///      linear model gives ‖R₀ + ωJs‖ <= ((1 − ω) + ωρ)‖R₀‖). Inexact
+  ///      Newton–Krylov steps leave a residual of about ρ even on a linear
+  ///      problem; what remains is the nonlinear remainder, O(‖s‖²)/‖R₀‖ =
+  ///      O(Δs²) for a predictor error O(Δs²), hence the square root.
+  ///      0 when the predictor already met the tolerance.
+  ///   δ  distance of the corrected point from the predictor (arclength
+  ///      metric): the Euler predictor is off the branch by ½·curvature·Δs²,
+  ///      so δ/Δs = O(Δs) and enters linearly (unlike A&G's absolute δ,
+  ///      the ratio needs no scale of the problem's variables).
+  ///   α  angle between consecutive unit tangents (arclength metric), O(Δs).
+  /// Unlike a Newton-step count, these do not grow when the linear solves
+  /// are poor (an unpreconditioned corrector near a fold takes many Newton
+  /// steps whatever the step), so the step is limited by the branch's
+  /// curvature, not by the linear solver. An infinite target turns its term off.
+  ///
+  /// newton_step_count (nkit 0.1's rule, common practice): f = k / target_corrector_steps
+  /// for a corrector that took k >= 1 Newton steps.
+  step_adaptation adaptation = step_adaptation::corrector_convergence;
+  /// Targets of the corrector_convergence rule (measured with these: 2D Bratu,
+  /// h = 1/64, from λ = 0 to the fold in 17 points; 1D Bratu, h = 1/64, from
+  /// λ = 0.5 in 9). κ is a lower bound of the nonlinear contraction when the
+  /// forcing term is loose, so δ and α usually decide.
+  double target_contraction = 0.1;
+  double target_distance_ratio = 0.05;
+  double target_tangent_angle = 0.2;  ///< radians
+  /// Target of the newton_step_count rule. 5 suits the default inexact corrector: with
+  /// Eisenstat–Walker forcing (η_0 = 0.5) even a very good predictor takes
+  /// about 4 Newton steps to the tolerance (measured on 1D Bratu).
   int target_corrector_steps = 5;
+  /// Bounds of the change after an accepted point: new/old <= maximum_step_growth,
+  /// old/new <= maximum_step_shrink (both finite and >= 1).
   double maximum_step_growth = 2.0;
+  double maximum_step_shrink = 2.0;
   double shrink_factor = 0.5;
 
   /// θ·N in the arclength metric (see the file comment).
@@ -134,8 +187,14 @@ struct continuation_settings {
                                     maximum_step);
     }
     detail::require_at_least(p + "target_corrector_steps", target_corrector_steps, 1);
-    if (!(maximum_step_growth >= 1.0 && maximum_step_growth < std::numeric_limits<double>::infinity())) {
-      detail::throw_invalid_setting(p + "maximum_step_growth", "finite and >= 1", maximum_step_growth);
+    detail::require_positive(p + "target_contraction", target_contraction, true);
+    detail::require_positive(p + "target_distance_ratio", target_distance_ratio, true);
+    detail::require_positive(p + "target_tangent_angle", target_tangent_angle, true);
+    for (const auto& [field, value] : {std::pair<const char*, double>{"maximum_step_growth", maximum_step_growth},
+                                       std::pair<const char*, double>{"maximum_step_shrink", maximum_step_shrink}}) {
+      if (!(value >= 1.0 && value < std::numeric_limits<double>::infinity())) {
+        detail::throw_invalid_setting(p + field, "finite and >= 1", value);
+      }
     }
     detail::require_open_interval(p + "shrink_factor", shrink_factor, 0.0, 1.0);
     detail::require_positive(p + "state_weight", state_weight);
@@ -262,17 +321,21 @@ enum class point_kind {
 /// this point (corrector solves, rejected attempts and tangent solve).
 struct continuation_point {
   point_kind kind = point_kind::step;
-  int index = 0;                          ///< position in continuation_report::points (folds: the point after the fold)
-  double parameter = 0.0;                 ///< λ
-  double state_norm = 0.0;                ///< ‖u‖₂ (the monitor sees u itself, for other norms)
-  double arclength = 0.0;                 ///< sum of the accepted steps from the start (Δs, or |Δλ| in natural mode)
-  double step = 0.0;                      ///< the step that reached this point (0 at the start)
-  double tangent_parameter = 0.0;         ///< t_λ, λ-component of the unit tangent (metric above)
-  bool fold_detected = false;             ///< t_λ changed sign between the previous point and this one
-  int newton_steps = 0;                   ///< corrector Newton steps (accepted solve only)
-  int rejected_steps = 0;                 ///< failed corrector attempts before this point
-  std::int64_t linear_iterations = 0;     ///< GMRES iterations, all solves for this point
-  std::int64_t residual_evaluations = 0;  ///< calls of R, all solves for this point (J·v ones included)
+  int index = 0;                   ///< position in continuation_report::points (folds: the point after the fold)
+  double parameter = 0.0;          ///< λ
+  double state_norm = 0.0;         ///< ‖u‖₂ (the monitor sees u itself, for other norms)
+  double arclength = 0.0;          ///< sum of the accepted steps from the start (Δs, or |Δλ| in natural mode)
+  double step = 0.0;               ///< the step that reached this point (0 at the start)
+  double tangent_parameter = 0.0;  ///< t_λ, λ-component of the unit tangent (metric above)
+  bool fold_detected = false;      ///< t_λ changed sign between the previous point and this one
+  int newton_steps = 0;            ///< corrector Newton steps (accepted solve only)
+  /// What the step control read from the accepted corrector (continuation_settings::adaptation):
+  double corrector_contraction = 0.0;  ///< κ, nonlinear contraction of its first Newton step
+  double corrector_distance = 0.0;     ///< δ, distance of the point from its predictor (arclength metric)
+  double tangent_angle = 0.0;          ///< α, angle between this point's unit tangent and the previous one (radians)
+  int rejected_steps = 0;              ///< failed corrector attempts before this point
+  std::int64_t linear_iterations = 0;  ///< GMRES iterations, all solves for this point
+  std::int64_t residual_evaluations = 0;    ///< calls of R, all solves for this point (J·v ones included)
   stop_reason_if_stopped corrector_reason;  ///< why the accepted corrector solve stopped
 };
 

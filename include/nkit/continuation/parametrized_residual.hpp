@@ -18,6 +18,11 @@
 ///       the combined direction.
 ///   void assemble_jacobian(const vector_type& u, scalar_type parameter, sparse_matrix& jacobian)
 ///       the assembled R_u(u, λ) (λ fixed), for preconditioners of the state block.
+///   const sparsity_pattern& jacobian_pattern() const
+///       where R_u may have nonzeros (the same for every λ); without
+///       assemble_jacobian, continuation then assembles R_u for the state
+///       preconditioner by colored finite differences (bordered_system.hpp),
+///       as the Newton driver does for plain residuals. Serial Eigen vectors only.
 
 #include <Eigen/Core>
 #include <type_traits>
@@ -83,8 +88,8 @@ inline constexpr bool has_parametrized_assemble_jacobian_v =
 /// Same number type and workspace policy as
 /// residual_with_automatic_differentiation (automatic_differentiation.hpp):
 /// two dual vectors, allocated on the first product, reused while the size
-/// stays the same. assemble_jacobian(u, λ, J) is forwarded when the wrapped
-/// residual has it.
+/// stays the same. assemble_jacobian(u, λ, J) and jacobian_pattern() are
+/// forwarded when the wrapped residual has them.
 template <class Residual>
 class parametrized_residual_with_automatic_differentiation {
  public:
@@ -107,6 +112,11 @@ class parametrized_residual_with_automatic_differentiation {
   auto assemble_jacobian(const Eigen::VectorXd& u, double parameter, Matrix& jacobian)
       -> decltype(std::declval<Wrapped&>().assemble_jacobian(u, parameter, jacobian)) {
     return m_residual.assemble_jacobian(u, parameter, jacobian);
+  }
+
+  template <class Wrapped = Residual>
+  auto jacobian_pattern() const -> decltype(std::declval<const Wrapped&>().jacobian_pattern()) {
+    return m_residual.jacobian_pattern();
   }
 
   Residual& residual() { return m_residual; }
