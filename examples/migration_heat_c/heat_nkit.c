@@ -3,7 +3,8 @@
  * with the arrays in a struct passed as the user pointer); the loop itself
  * became a call to nkit_solve(). See docs/migration.md for the diff.
  *
- *   heat_nkit_c [n] [method]   method: anderson (default), newton_krylov_on_fixed_point_map */
+ *   heat_nkit_c [--cells=64] [--method=anderson] [--help]
+ *   (--method: anderson or newton_krylov_on_fixed_point_map) */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -57,15 +58,37 @@ static int one_pass(const double* input, double* output, int64_t size, void* use
   return 0;
 }
 
+static const char usage[] =
+    "usage: heat_nkit_c [--cells=64] [--method=anderson] [--help]\n"
+    "  --cells=N       cells per side of the unit square (default 64, at least 2)\n"
+    "  --method=NAME   anderson or newton_krylov_on_fixed_point_map (default anderson)\n"
+    "  --help          this text\n";
+
 int main(int argc, char** argv) {
   struct heat_model m;
-  const char* method = argc > 2 ? argv[2] : "anderson";
+  const char* method = "anderson";
   nkit_solver* solver = NULL;
   double *state, largest = 0.0, relative;
   int64_t passes = 0;
   int i;
-  m.n = argc > 1 ? atoi(argv[1]) : 64;
-  if (m.n < 2) return 2;
+  m.n = 64;
+  for (i = 1; i < argc; ++i) {
+    if (strncmp(argv[i], "--cells=", 8) == 0) {
+      m.n = atoi(argv[i] + 8);
+    } else if (strncmp(argv[i], "--method=", 9) == 0) {
+      method = argv[i] + 9;
+    } else if (strcmp(argv[i], "--help") == 0) {
+      fputs(usage, stdout);
+      return 0;
+    } else {
+      fprintf(stderr, "heat_nkit_c: unknown option '%s'\n%s", argv[i], usage);
+      return 2;
+    }
+  }
+  if (m.n < 2) {
+    fprintf(stderr, "heat_nkit_c: --cells must be at least 2 (got %d)\n", m.n);
+    return 2;
+  }
   m.stride = m.n + 2; /* cells 1..n plus a ghost ring at T = 0 */
   m.h = 1.0 / m.n;
   m.t = calloc((size_t)(m.stride * m.stride), sizeof *m.t);

@@ -9,7 +9,7 @@
  * k at the current T and relaxes the linear problem by a fixed number of SOR
  * sweeps; the loop stops when a pass changes T by less than the tolerance.
  *
- *   heat_picard_c [n]      (default n = 64) */
+ *   heat_picard_c [--cells=64] [--help]    (--cells: cells per side) */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -19,12 +19,31 @@
 #define MAX_PASSES 5000
 static const double q = 10.0, omega = 1.7, tolerance = 1e-10;
 
+static const char usage[] =
+    "usage: heat_picard_c [--cells=64] [--help]\n"
+    "  --cells=N  cells per side of the unit square (default 64, at least 2)\n"
+    "  --help     this text\n";
+
 int main(int argc, char** argv) {
-  int n = argc > 1 ? atoi(argv[1]) : 64;
+  int n = 64;
   int stride, i, j, pass, sweep;
   double h, change = 0.0, largest = 0.0;
   double *t, *k, *t_old;
-  if (n < 2) return 2;
+  for (i = 1; i < argc; ++i) {
+    if (strncmp(argv[i], "--cells=", 8) == 0) {
+      n = atoi(argv[i] + 8);
+    } else if (strcmp(argv[i], "--help") == 0) {
+      fputs(usage, stdout);
+      return 0;
+    } else {
+      fprintf(stderr, "heat_picard_c: unknown option '%s'\n%s", argv[i], usage);
+      return 2;
+    }
+  }
+  if (n < 2) {
+    fprintf(stderr, "heat_picard_c: --cells must be at least 2 (got %d)\n", n);
+    return 2;
+  }
   stride = n + 2; /* cells 1..n plus a ghost ring at T = 0 */
   h = 1.0 / n;
   t = calloc((size_t)(stride * stride), sizeof *t);

@@ -3,7 +3,8 @@
 ! fixed-point map G); the loop itself became a call to nkit. See
 ! docs/migration.md for the diff and when to choose which method.
 !
-!   heat_nkit [n] [method]     method: anderson (default), newton_krylov_on_fixed_point_map
+!   heat_nkit_fortran [--cells=64] [--method=anderson] [--help]
+!   (--method: anderson or newton_krylov_on_fixed_point_map)
 module heat_model
   implicit none
   integer, parameter :: dp = kind(1.0d0)
@@ -55,18 +56,36 @@ program heat_nkit
   real(dp), parameter :: tolerance = 1.0e-10_dp
   real(dp), allocatable :: state(:)
   integer(c_int64_t) :: passes
-  character(len=40) :: argument, method
+  character(len=64) :: argument, method
+  integer :: a, read_status
   type(nkit_solver) :: solver
   integer :: status
   real(dp) :: relative
 
   n = 64
   method = 'anderson'
-  if (command_argument_count() >= 1) then
-    call get_command_argument(1, argument)
-    read (argument, *) n
+  do a = 1, command_argument_count()
+    call get_command_argument(a, argument)
+    if (argument(1:8) == '--cells=') then
+      read (argument(9:), *, iostat=read_status) n
+      if (read_status /= 0) n = 0
+    else if (argument(1:9) == '--method=') then
+      method = argument(10:)
+    else if (argument == '--help') then
+      print '(a)', 'usage: heat_nkit_fortran [--cells=64] [--method=anderson] [--help]'
+      print '(a)', '  --cells=N      cells per side of the unit square (default 64, at least 2)'
+      print '(a)', '  --method=NAME  anderson or newton_krylov_on_fixed_point_map (default anderson)'
+      print '(a)', '  --help         this text'
+      stop
+    else
+      print '(3a)', 'heat_nkit_fortran: unknown option ''', trim(argument), ''' (try --help)'
+      error stop 2
+    end if
+  end do
+  if (n < 2) then
+    print '(a)', 'heat_nkit_fortran: --cells must be an integer of at least 2'
+    error stop 2
   end if
-  if (command_argument_count() >= 2) call get_command_argument(2, method)
   h = 1.0_dp/n
   allocate (t(0:n + 1, 0:n + 1), k(0:n + 1, 0:n + 1), state(n*n))
   t = 0.0_dp

@@ -9,7 +9,7 @@
 ! k at the current T and relaxes the linear problem by a fixed number of SOR
 ! sweeps; the loop stops when a pass changes T by less than the tolerance.
 !
-!   heat_picard [n]      (default n = 64)
+!   heat_picard_fortran [--cells=64] [--help]    (--cells: cells per side)
 program heat_picard
   implicit none
   integer, parameter :: dp = kind(1.0d0)
@@ -18,12 +18,28 @@ program heat_picard
   integer :: n, i, j, pass, sweep
   real(dp) :: h, change, east, west, north, south, diagonal, relaxed
   real(dp), allocatable :: t(:, :), k(:, :), t_old(:, :)
-  character(len=16) :: argument
+  character(len=64) :: argument
+  integer :: a, read_status
 
   n = 64
-  if (command_argument_count() >= 1) then
-    call get_command_argument(1, argument)
-    read (argument, *) n
+  do a = 1, command_argument_count()
+    call get_command_argument(a, argument)
+    if (argument(1:8) == '--cells=') then
+      read (argument(9:), *, iostat=read_status) n
+      if (read_status /= 0) n = 0
+    else if (argument == '--help') then
+      print '(a)', 'usage: heat_picard_fortran [--cells=64] [--help]'
+      print '(a)', '  --cells=N  cells per side of the unit square (default 64, at least 2)'
+      print '(a)', '  --help     this text'
+      stop
+    else
+      print '(3a)', 'heat_picard_fortran: unknown option ''', trim(argument), ''' (try --help)'
+      error stop 2
+    end if
+  end do
+  if (n < 2) then
+    print '(a)', 'heat_picard_fortran: --cells must be an integer of at least 2'
+    error stop 2
   end if
   h = 1.0_dp/n
   allocate (t(0:n + 1, 0:n + 1), k(0:n + 1, 0:n + 1), t_old(0:n + 1, 0:n + 1))
