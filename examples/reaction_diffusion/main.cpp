@@ -64,7 +64,7 @@ int run(int argc, char** argv) {
     std::printf("max error vs the (invented) manufactured solution: u %.3e, v %.3e\n", result.max_error_u,
                 result.max_error_v);
     nkit_examples::write_history(folder, "history_" + name + ".csv", result.report);
-    curves.push_back({"history_" + name + ".csv", 1, 3, name});
+    curves.push_back({"history_" + name + ".csv", 1, 4, name});
     converged = converged && result.report.converged();
   }
   std::printf("\n%-14s | Newton steps | GMRES iterations | residual evaluations | Jacobian assemblies | time [s]\n",

@@ -24,16 +24,20 @@ inline std::string formatted(const char* format, double value) {
   return buffer;
 }
 
+// Columns: Newton step; ‖R‖₂; ‖R‖₂/‖R(u0)‖₂; forcing term η; GMRES
+// iterations of the step; GMRES's final ‖r‖/‖R‖; fraction of the Newton
+// step taken (line search / trust region); rejected trial points; residual
+// evaluations so far; seconds since the start.
 inline void table_header(std::ostream& os) {
-  os << " step |  residual norm |  reduction |  forcing | linear its | linear resid | step length | rejected_trials "
-        "| evaluations |   seconds\n"
-     << "------+----------------+------------+----------+------------+--------------+-------------+------------"
-        "+-------------+----------\n";
+  os << " step |  residual norm | relative to initial | forcing term | GMRES iterations | relative linear residual "
+        "| step fraction | rejected trials | residual evaluations |   seconds\n"
+     << "------+----------------+---------------------+--------------+------------------+--------------------------"
+        "+---------------+-----------------+----------------------+----------\n";
 }
 
 inline void table_row(std::ostream& os, const newton_step_record& r) {
-  char line[256];
-  std::snprintf(line, sizeof line, "%5d | %14.6e | %10.3e | %8.2e | %10d | %12.3e | %11.4g | %10d | %11lld | %9.3f\n",
+  char line[320];
+  std::snprintf(line, sizeof line, "%5d | %14.6e | %19.3e | %12.2e | %16d | %24.3e | %13.4g | %15d | %20lld | %9.3f\n",
                 r.step, r.residual_norm, r.relative_residual_norm, r.forcing_term, r.linear_iterations,
                 r.relative_linear_residual, r.step_fraction, r.rejected_trials,
                 static_cast<long long>(r.residual_evaluations), r.elapsed_seconds);
