@@ -62,6 +62,7 @@
 
 #include "../core/eigen_vector_space.hpp"
 #include "../core/preconditioner.hpp"
+#include "../detail/checks.hpp"
 #include "../detail/sparse_helpers.hpp"
 #include "../fields/field_blocks.hpp"
 #include "../fields/field_layout.hpp"
