@@ -24,6 +24,7 @@ std::atomic<long> eigen_heap_requests{0};
 #include <catch2/catch.hpp>
 #include <nkit/fields/field_layout.hpp>
 #include <nkit/nkit.hpp>
+#include <nkit/preconditioners/field_split.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <nkit/time/implicit_time_stepper.hpp>
 
@@ -174,6 +175,39 @@ TEST_CASE("per-field residual norms add no allocation to a repeated Newton solve
   CHECK(run.report().field_residuals[1].history.size() == run.report().history.size());
   CHECK(region.operator_new_calls() == 0);
   CHECK(region.eigen_heap_requests() == 0);
+}
+
+TEST_CASE("a field-split application allocates nothing in nkit's own code", "[allocation][fields]") {
+  // Point-Jacobi inner preconditioners (allocation-free apply): what remains
+  // is the split's gather, coupling products, substitutions and scatter.
+  const nkit::field_layout layout({{"u", 1}, {"v", 2}}, 50, nkit::field_ordering::interleaved_by_cell);
+  const auto n = static_cast<int>(layout.size());
+  std::vector<Eigen::Triplet<double>> entries;
+  for (int i = 0; i < n; ++i) {
+    entries.emplace_back(i, i, 4.0);
+    if (i > 0) entries.emplace_back(i, i - 1, -1.0);
+    if (i + 1 < n) entries.emplace_back(i, i + 1, -1.0);
+  }
+  nkit::sparse_matrix matrix(n, n);
+  matrix.setFromTriplets(entries.begin(), entries.end());
+  for (const auto form :
+       {nkit::field_split_form::block_diagonal, nkit::field_split_form::block_lower_triangular,
+        nkit::field_split_form::block_upper_triangular, nkit::field_split_form::schur_complement_factorization}) {
+    nkit::field_split_settings settings;
+    settings.form = form;
+    nkit::field_split_preconditioner split(
+        layout, settings,
+        nkit::make_inner_preconditioners(nkit::jacobi_preconditioner{}, nkit::jacobi_preconditioner{}));
+    REQUIRE(split.build(matrix) == nkit::setup_status::ready);
+    const Eigen::VectorXd r = Eigen::VectorXd::LinSpaced(n, 1.0, 2.0);
+    Eigen::VectorXd z(n);
+    split.apply(r, z);
+    counted_region region;
+    split.apply(r, z);
+    region.stop();
+    CHECK(region.operator_new_calls() == 0);
+    CHECK(region.eigen_heap_requests() == 0);
+  }
 }
 
 namespace {
