@@ -5,8 +5,9 @@
 /// Field-split (block) preconditioners for coupled problems: the assembled
 /// Jacobian is cut into blocks J_fg by field (fields/field_layout.hpp,
 /// fields/field_blocks.hpp), and each field's diagonal block J_ff gets its own
-/// inner preconditioner M_f ≈ J_ff (any nkit preconditioner: ILU(0), sparse
-/// direct, Jacobi, inner GMRES, the user's; held type-erased).
+/// inner preconditioner M_f ≈ J_ff (any preconditioner of the serial Eigen
+/// space: Jacobi, block Jacobi, ILU(0), ILUT, sparse direct, inner GMRES, the
+/// user's; held type-erased).
 ///
 /// Forms (field_split_form):
 ///   block_diagonal          P = diag(M_0, ..., M_{F−1})            (block Jacobi by field)
