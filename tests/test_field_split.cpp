@@ -19,6 +19,9 @@
 #include <nkit/preconditioners/jacobi.hpp>
 #include <nkit/preconditioners/sparse_direct.hpp>
 #include <nkit/report/report_output.hpp>
+#if NKIT_HAS_JSON
+#include <nkit/report/report_json.hpp>
+#endif
 #include <set>
 #include <sstream>
 #include <string>
@@ -469,6 +472,14 @@ TEST_CASE("the report holds each field's residual norm at the start, per step an
   std::ostringstream table;
   nkit::print_convergence_table(table, report);
   CHECK(table.str().find("residual norm per field (initial -> final):") != std::string::npos);
+#if NKIT_HAS_JSON
+  const nlohmann::json json(report);
+  REQUIRE(json.at("field_residuals").size() == 2);
+  CHECK(json.at("field_residuals")[1].at("name") == "v");
+  CHECK(json.at("field_residuals")[0].at("history").size() == report.history.size());
+  CHECK(json.at("field_residuals")[0].at("initial_residual_norm").get<double>() ==
+        report.field_residuals[0].initial_residual_norm);
+#endif
 }
 
 TEST_CASE("a field layout whose size differs from u is refused", "[fields][bad_input]") {
