@@ -14,7 +14,7 @@ import os
 import re
 import sys
 
-LAYERS = ["detail", "core", "distributed", "report", "krylov", "jacobian", "preconditioners",
+LAYERS = ["detail", "core", "fields", "distributed", "report", "krylov", "jacobian", "preconditioners",
           "globalization", "newton", "continuation", "time", "fixed_point"]
 MAX_LINES = 600
 INCLUDE = re.compile(r'^\s*#\s*include\s+"([^"]+)"', re.MULTILINE)

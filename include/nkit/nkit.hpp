@@ -18,6 +18,10 @@
 #include "core/preconditioner.hpp"
 #include "core/residual.hpp"
 #include "core/vector_space.hpp"
+
+#include "fields/field_blocks.hpp"
+#include "fields/field_layout.hpp"
+#include "fields/field_residual_norms.hpp"
 // report: stop reasons, report, monitors, output, trace, scaling study
 #include "report/monitor.hpp"
 #include "report/outcome.hpp"
@@ -40,6 +44,7 @@
 #include "preconditioners/additive_schwarz.hpp"
 #include "preconditioners/algebraic_multigrid_settings.hpp"
 #include "preconditioners/block_jacobi.hpp"
+#include "preconditioners/field_split.hpp"
 #include "preconditioners/ilu_zero.hpp"
 #include "preconditioners/incomplete_lut.hpp"
 #include "preconditioners/inner_gmres.hpp"

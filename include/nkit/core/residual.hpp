@@ -21,6 +21,11 @@
 ///   void pseudo_time_weights(const vector_type& u, vector_type& weights)
 ///       the diagonal W of pseudo-transient continuation
 ///       (globalization/pseudo_transient.hpp).
+///   const nkit::field_layout& field_layout() const
+///       the problem's named fields (fields/field_layout.hpp, detected by
+///       has_field_layout_v in fields/field_residual_norms.hpp): the report
+///       then gives ‖R_f‖ per field, and field-split preconditioners
+///       (preconditioners/field_split.hpp) can use the same layout.
 
 #include <Eigen/Core>
 #include <cstdint>

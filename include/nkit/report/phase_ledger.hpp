@@ -41,10 +41,13 @@ class phase_ledger {
   void begin(solve_report& report, std::size_t history_capacity) {
     m_clock.restart();
     auto history = std::move(report.history);
+    auto fields = std::move(report.field_residuals);  // kept with their capacity: the driver refills them
     report = solve_report{};
     report.history = std::move(history);
     report.history.clear();
     report.history.reserve(history_capacity);
+    report.field_residuals = std::move(fields);
+    for (field_residual_record& field : report.field_residuals) field.history.clear();
     m_report = &report;
     m_residual_samples.clear();
   }

@@ -8,6 +8,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <optional>
+#include <string>
 #include <string_view>
 #include <vector>
 
@@ -121,6 +122,18 @@ struct solve_warnings {
   bool any() const { return state_magnitudes_spread_widely || residual_magnitudes_spread_widely; }
 };
 
+/// ‖R_f‖₂ of one field, for problems that declare their fields (a
+/// `field_layout()` member, fields/field_residual_norms.hpp). Norms are those
+/// of the residual as the solver sees it (scaled when residual scaling is set),
+/// so Σ_f ‖R_f‖² = ‖R‖² for every entry.
+struct field_residual_record {
+  std::string name;                    ///< the field's name in its layout
+  double initial_residual_norm = 0.0;  ///< ‖R_f(u0)‖ (NaN when R(u0) was not evaluated)
+  double final_residual_norm = 0.0;    ///< ‖R_f‖ at the returned u
+  /// ‖R_f‖ after each Newton step: entry i belongs to solve_report::history[i].
+  std::vector<double> history;
+};
+
 struct solve_report {
   /// Why the solve stopped; empty while a caller-driven run is still running
   /// (every report returned by solve() has one).
@@ -178,6 +191,8 @@ struct solve_report {
   double work_units() const { return median_residual_seconds > 0.0 ? wall_seconds / median_residual_seconds : 0.0; }
 
   std::vector<newton_step_record> history;
+  /// One entry per field when the problem declares field_layout(), else empty.
+  std::vector<field_residual_record> field_residuals;
 };
 
 }  // namespace nkit

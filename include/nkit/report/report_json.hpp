@@ -21,7 +21,9 @@
 ///    "warnings": {<every solve_warnings field>},
 ///    "time": {<phase>: seconds, ..., "total": seconds},
 ///    "calls": {<phase>: count, ...},
-///    "history": [{<every newton_step_record field>}, ...]}
+///    "history": [{<every newton_step_record field>}, ...],
+///    "field_residuals": [{"name", "initial_residual_norm", "final_residual_norm",
+///                         "history": [norm, ...]}, ...]   (only when the problem declares fields)}
 /// Non-finite numbers (e.g. an infinite trust radius) are written as null,
 /// as the JSON grammar has no infinity.
 
@@ -123,6 +125,18 @@ inline void to_json(nlohmann::json& json, const solve_report& report) {
                         {"time", report.time},
                         {"calls", report.calls},
                         {"history", report.history}};
+  if (!report.field_residuals.empty()) {  // problems that declare field_layout() only
+    nlohmann::json fields = nlohmann::json::array();
+    for (const field_residual_record& field : report.field_residuals) {
+      nlohmann::json history = nlohmann::json::array();
+      for (const double norm : field.history) history.push_back(norm);
+      fields.push_back({{"name", field.name},
+                        {"initial_residual_norm", field.initial_residual_norm},
+                        {"final_residual_norm", field.final_residual_norm},
+                        {"history", history}});
+    }
+    json["field_residuals"] = fields;
+  }
 }
 
 /// Writes the report as one JSON document (`indent` spaces per level; -1 for

@@ -8,6 +8,7 @@
 
 #include <cstddef>
 #include <cstdio>
+#include <limits>
 #include <ostream>
 #include <string>
 
@@ -145,6 +146,14 @@ inline void print_convergence_table(std::ostream& os, const solve_report& report
                 static_cast<long long>(report.jacobian_vector_products),
                 static_cast<long long>(report.preconditioner_setups));
   os << line;
+  if (!report.field_residuals.empty()) {
+    os << "residual norm per field (initial -> final):\n";
+    for (const field_residual_record& field : report.field_residuals) {
+      std::snprintf(line, sizeof line, "  %-20s %13.6e -> %13.6e\n", field.name.c_str(), field.initial_residual_norm,
+                    field.final_residual_norm);
+      os << line;
+    }
+  }
   print_cost_breakdown(os, report);
 }
 
@@ -154,10 +163,12 @@ inline constexpr const char* history_csv_columns =
     "linear_status,step_fraction,step_norm,rejected_trials,preconditioner_set_up,step_shortened_by_bounds,"
     "componentwise_step_ratio,pseudo_time_step,trust_radius,elapsed_seconds,residual_evaluations";
 
-inline void write_history_csv_row(std::ostream& os, const newton_step_record& r) {
+namespace detail {
+/// The row of history_csv_columns without its line end.
+inline void write_history_csv_fields(std::ostream& os, const newton_step_record& r) {
   char line[512];
   std::snprintf(line, sizeof line,
-                "%d,%d,%.17g,%.17g,%.17g,%d,%.17g,%s,%.17g,%.17g,%d,%d,%d,%.17g,%.17g,%.17g,%.17g,%lld\n", r.step,
+                "%d,%d,%.17g,%.17g,%.17g,%d,%.17g,%s,%.17g,%.17g,%d,%d,%d,%.17g,%.17g,%.17g,%.17g,%lld", r.step,
                 r.accepted ? 1 : 0, r.residual_norm, r.relative_residual_norm, r.forcing_term, r.linear_iterations,
                 r.relative_linear_residual, std::string(name(r.linear_status)).c_str(), r.step_fraction, r.step_norm,
                 r.rejected_trials, r.preconditioner_set_up ? 1 : 0, r.step_shortened_by_bounds ? 1 : 0,
@@ -165,17 +176,42 @@ inline void write_history_csv_row(std::ostream& os, const newton_step_record& r)
                 static_cast<long long>(r.residual_evaluations));
   os << line;
 }
+}  // namespace detail
+
+inline void write_history_csv_row(std::ostream& os, const newton_step_record& r) {
+  detail::write_history_csv_fields(os, r);
+  os << '\n';
+}
 
 /// Writes the header and one row per Newton step (step 0 is the initial guess
-/// with only its residual norm filled in).
+/// with only its residual norm filled in). When the report has per-field
+/// norms (solve_report::field_residuals), each field adds a column
+/// residual_norm_<field name>: ‖R_f‖ at that row's iterate.
 inline void write_history_csv(std::ostream& os, const solve_report& report) {
-  os << history_csv_columns << '\n';
+  os << history_csv_columns;
+  for (const field_residual_record& field : report.field_residuals) os << ",residual_norm_" << field.name;
+  os << '\n';
+  const auto field_columns = [&](std::size_t row) {  // row 0: u0, row i: history[i − 1]
+    char value[32];
+    for (const field_residual_record& field : report.field_residuals) {
+      const double norm =
+          row == 0 ? field.initial_residual_norm
+                   : (row <= field.history.size() ? field.history[row - 1] : std::numeric_limits<double>::quiet_NaN());
+      std::snprintf(value, sizeof value, ",%.17g", norm);
+      os << value;
+    }
+    os << '\n';
+  };
   newton_step_record initial;
   initial.residual_norm = report.initial_residual_norm;
   initial.relative_residual_norm = 1.0;
   initial.residual_evaluations = 1;
-  write_history_csv_row(os, initial);
-  for (const auto& record : report.history) write_history_csv_row(os, record);
+  detail::write_history_csv_fields(os, initial);
+  field_columns(0);
+  for (std::size_t i = 0; i < report.history.size(); ++i) {
+    detail::write_history_csv_fields(os, report.history[i]);
+    field_columns(i + 1);
+  }
 }
 
 /// Live table: at the start the warnings, the header and the initial residual
