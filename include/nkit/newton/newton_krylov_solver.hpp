@@ -23,9 +23,8 @@
 ///
 /// Optional problem members are detected at compile time (core/residual.hpp):
 /// jacobian_product, assemble_jacobian, jacobian_pattern, is_admissible,
-/// pseudo_time_weights; and field_layout() (fields/field_residual_norms.hpp):
-/// the report then holds ‖R_f‖ per field at the start, after every step and
-/// at the end (solve_report::field_residuals; serial Eigen space only).
+/// pseudo_time_weights; and field_layout() (newton/field_residual_tracker.hpp:
+/// the report then holds ‖R_f‖ per field; serial Eigen space only).
 ///
 /// Allocation: the workspace (Newton vectors, GMRES basis, difference
 /// vectors, history capacity) is allocated on the first solve and kept, so a
@@ -50,8 +49,6 @@
 #include "../core/preconditioner.hpp"
 #include "../core/residual.hpp"
 #include "../core/vector_space.hpp"
-#include "../fields/field_layout.hpp"
-#include "../fields/field_residual_norms.hpp"
 #include "../globalization/forcing_term.hpp"
 #include "../krylov/gmres.hpp"
 #include "../report/monitor.hpp"
@@ -59,6 +56,7 @@
 #include "../report/phase_ledger.hpp"
 #include "../report/report.hpp"
 #include "../report/trace.hpp"
+#include "field_residual_tracker.hpp"
 #include "linear_solve.hpp"
 #include "newton_settings.hpp"
 #include "preconditioner_schedule.hpp"
@@ -160,10 +158,7 @@ class newton_krylov_solver {
       entries += static_cast<std::size_t>(v->size());
     }
     entries += m_steps.vector_entries();
-    std::size_t field_bytes = sizeof(double) * m_field_norms.capacity();
-    for (const field_residual_record& field : m_report.field_residuals) {
-      field_bytes += sizeof(double) * field.history.capacity();
-    }
+    const std::size_t field_bytes = m_field_tracker.workspace_bytes(m_report.field_residuals);
     return sizeof(scalar_type) * entries + m_linear.workspace_bytes() + m_access.workspace_bytes() +
            m_report.history.capacity() * sizeof(newton_step_record) + field_bytes;
   }
@@ -208,7 +203,7 @@ class newton_krylov_solver {
     m_access.template start<Problem>(m_ledger, m_state);
     m_steps.start(m_state, m_access);
     m_linear.start_solve(m_state);
-    start_fields(problem);
+    m_field_tracker.template start<vector_type>(problem, m_state.size(), m_history_capacity, m_report.field_residuals);
     m_access.load_state(problem, u, m_state);
 
     m_forcing = forcing_term_sequence(m_settings.forcing);
@@ -226,8 +221,7 @@ class newton_krylov_solver {
     m_norm = m_space.norm(m_residual);
     m_report.initial_residual_norm = m_report.final_residual_norm = m_norm;
     m_best_norm = m_norm;
-    m_best_step = 0;
-    record_initial_field_norms();
+    m_field_tracker.record_initial(m_residual, m_report.field_residuals);
     m_target_norm = std::max(m_settings.absolute_tolerance, m_settings.relative_tolerance * m_norm);
     m_report.target_residual_norm = m_target_norm;
     m_stagnation_reference = m_norm;
@@ -235,58 +229,6 @@ class newton_krylov_solver {
     check_magnitude_spread();
     if (m_ledger.trace() != nullptr) {
       m_ledger.record_counter(trace_counter::residual_norm, detail::clock_type::now(), m_norm);
-    }
-  }
-
-  /// With a problem that declares its fields: checks the layout's size and
-  /// prepares one field_residual_record per field (allocates on the first
-  /// solve only, for the same fields and history capacity).
-  template <class Problem>
-  void start_fields(const Problem& problem) {
-    m_fields = nullptr;
-    m_best_step = 0;
-    if constexpr (has_field_layout_v<Problem>) {
-      static_assert(std::is_same_v<vector_type, Eigen::VectorXd>,
-                    "nkit: field_layout() is supported on the serial Eigen vector space only");
-      const field_layout& layout = problem.field_layout();
-      if (layout.size() != m_state.size()) {
-        throw std::invalid_argument("nkit: the problem's field_layout() describes " + std::to_string(layout.size()) +
-                                    " unknowns, but u has " + std::to_string(m_state.size()));
-      }
-      m_fields = &layout;
-      auto& records = m_report.field_residuals;
-      records.resize(static_cast<std::size_t>(layout.field_count()));
-      for (int f = 0; f < layout.field_count(); ++f) {
-        field_residual_record& record = records[static_cast<std::size_t>(f)];
-        record.name = layout.name(f);
-        record.initial_residual_norm = record.final_residual_norm = std::numeric_limits<double>::quiet_NaN();
-        record.history.reserve(m_history_capacity);
-      }
-      m_field_norms.reserve(records.size());
-    } else {
-      static_cast<void>(problem);
-      m_report.field_residuals.clear();
-    }
-  }
-  /// ‖R_f(u0)‖ into the field records (nothing without a field layout).
-  void record_initial_field_norms() {
-    if constexpr (std::is_same_v<vector_type, Eigen::VectorXd>) {
-      if (m_fields == nullptr) return;
-      field_residual_norms(*m_fields, m_residual, m_field_norms);
-      for (std::size_t f = 0; f < m_field_norms.size(); ++f) {
-        m_report.field_residuals[f].initial_residual_norm = m_report.field_residuals[f].final_residual_norm =
-            m_field_norms[f];
-      }
-    }
-  }
-  /// ‖R_f‖ of the current residual appended to each field's history.
-  void record_step_field_norms() {
-    if constexpr (std::is_same_v<vector_type, Eigen::VectorXd>) {
-      if (m_fields == nullptr) return;
-      field_residual_norms(*m_fields, m_residual, m_field_norms);
-      for (std::size_t f = 0; f < m_field_norms.size(); ++f) {
-        m_report.field_residuals[f].history.push_back(m_field_norms[f]);
-      }
     }
   }
 
@@ -329,18 +271,13 @@ class newton_krylov_solver {
     m_report.reason = reason;
     m_report.globalization_at_stop =
         m_steps.pseudo_transient() ? globalization_strategy::pseudo_transient : m_settings.globalization;
-    int field_step = m_report.newton_steps;  // the accepted step whose residual u has (0: u0)
-    if (!is_converged(reason) && !m_best_is_current) {
+    const bool returned_best = !is_converged(reason) && !m_best_is_current;
+    if (returned_best) {
       std::swap(m_state, m_best_state);
       m_norm = m_best_norm;
       m_best_is_current = true;
-      field_step = m_best_step;
     }
-    for (field_residual_record& field : m_report.field_residuals) {
-      field.final_residual_norm = field_step == 0 || static_cast<std::size_t>(field_step) > field.history.size()
-                                      ? field.initial_residual_norm
-                                      : field.history[static_cast<std::size_t>(field_step) - 1];
-    }
+    m_field_tracker.finish(m_report.newton_steps, returned_best, m_report.field_residuals);
     if (m_state.size() == u.size()) m_access.write_state(m_state, u);
     m_report.final_residual_norm = m_norm;
     m_report.wall_seconds = m_ledger.elapsed_seconds();
@@ -421,7 +358,7 @@ class newton_krylov_solver {
     if (new_norm < m_best_norm) {
       m_best_norm = new_norm;
       m_best_is_current = true;
-      m_best_step = record.step;
+      m_field_tracker.new_best(record.step);
     }
     // Stagnation: no new best below stagnation_factor times the last reference.
     if (new_norm < m_settings.stagnation_factor * m_stagnation_reference) {
@@ -521,7 +458,7 @@ class newton_krylov_solver {
     record.elapsed_seconds = m_ledger.elapsed_seconds();
     record.residual_evaluations = m_report.residual_evaluations;
     m_report.history.push_back(record);
-    record_step_field_norms();
+    m_field_tracker.record_step(m_residual, m_report.field_residuals);
   }
 
   // ---- members ------------------------------------------------------------------------
@@ -549,9 +486,7 @@ class newton_krylov_solver {
       0.0;  // component-wise measure of the last accepted step  // ‖R + J s‖ GMRES reached for the last direction
   double m_stagnation_reference = 0.0;
   int m_steps_since_best = 0;
-  int m_best_step = 0;                     // accepted step of the best iterate (0: u0)
-  const field_layout* m_fields = nullptr;  // the problem's layout during a solve, or null
-  std::vector<double> m_field_norms;       // ‖R_f‖ scratch, one per field
+  field_residual_tracker m_field_tracker;  // ‖R_f‖ per field, for problems with field_layout()
   bool m_best_is_current = true;
   bool m_linear_budget_spent = false;
   bool m_monitor_stopped = false;
