@@ -14,26 +14,10 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "c_test_checks.h"
 #include "nkit_c.h"
 
-static int failures = 0;
-#define CHECK(condition)                                                            \
-  do {                                                                              \
-    if (!(condition)) {                                                             \
-      fprintf(stderr, "%s:%d: check failed: %s\n", __FILE__, __LINE__, #condition); \
-      ++failures;                                                                   \
-    }                                                                               \
-  } while (0)
-#define CHECK_STATUS(call, expected)                                                                        \
-  do {                                                                                                      \
-    nkit_status status_ = (call);                                                                           \
-    if (status_ != (expected)) {                                                                            \
-      fprintf(stderr, "%s:%d: %s returned %d, expected %d (%s)\n", __FILE__, __LINE__, #call, (int)status_, \
-              (int)(expected), nkit_last_error_message());                                                  \
-      ++failures;                                                                                           \
-    }                                                                                                       \
-  } while (0)
-#define CHECK_MESSAGE(text) CHECK(strstr(nkit_last_error_message(), (text)) != NULL)
+int failures = 0;
 
 enum { cubic_size = 50, h_size = 100 };
 
