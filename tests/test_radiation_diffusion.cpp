@@ -19,6 +19,8 @@
 #include <nkit/time/implicit_time_stepper.hpp>
 #include <random>
 #include <sstream>
+#include <stdexcept>
+#include <string>
 #include <vector>
 
 #include "problems/radiation/gray_radiation_diffusion.hpp"
@@ -332,4 +334,28 @@ TEST_CASE("radiation diffusion: field-split preconditioning against none, with p
        << diagonal.linear_iterations << " (" << diagonal.newton_steps
        << ")\nfinal residual per field (Gauss-Seidel): " << gauss_seidel.field_residuals[0].final_residual_norm << ", "
        << gauss_seidel.field_residuals[1].final_residual_norm);
+}
+
+TEST_CASE("radiation diffusion: bad input names the setting and value", "[radiation]") {
+  const auto message_of = [](auto&& make) -> std::string {
+    try {
+      make();
+    } catch (const std::invalid_argument& error) {
+      return error.what();
+    }
+    return "no exception";
+  };
+  CHECK(message_of([] { gray_radiation_diffusion_1d problem(1); }) ==
+        "gray_radiation_diffusion_1d: cells must be >= 2 (got 1)");
+  gray_radiation_parameters parameters;
+  parameters.conduction_coefficient = -1.0;
+  CHECK(message_of([&] { gray_radiation_diffusion_1d problem(10, parameters); }) ==
+        "gray_radiation_parameters.conduction_coefficient must be finite and > 0 (got -1.000000)");
+  const gray_radiation_diffusion_1d problem(10);
+  CHECK(message_of([&] {
+          nkit_problems::gray_radiation_backward_euler_step step(problem, problem.initial_state(), 0.0);
+        }).find("step_size must be finite and > 0") != std::string::npos);
+  nkit_problems::gray_radiation_operator_split split(problem);
+  Eigen::VectorXd wrong(3);
+  CHECK(message_of([&] { split.step(wrong, 0.1); }).find("has 3 entries") != std::string::npos);
 }
