@@ -140,6 +140,8 @@ class problem_access {
     }
   }
   void clear_scaling() { m_variable_scaling = m_residual_scaling = false; }
+  /// Whether a variable or residual scale is set.
+  bool scaled() const { return m_variable_scaling || m_residual_scaling; }
 
   // ---- a solve's start and end -------------------------------------------------------
 

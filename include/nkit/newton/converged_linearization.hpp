@@ -1,0 +1,170 @@
+#ifndef NKIT_NEWTON_CONVERGED_LINEARIZATION_HPP
+#define NKIT_NEWTON_CONVERGED_LINEARIZATION_HPP
+
+/// \file newton/converged_linearization.hpp
+/// Linear algebra with R'(u*) at the converged state u* of the last Newton
+/// run, for sensitivities (sensitivity/): products R'(u*) v and solves
+/// R'(u*) x = b with the run's own J·v operator, GMRES settings and
+/// preconditioner (as set up for the last Newton step, not rebuilt); and
+/// products R'(u*)ᵀ w and solves R'(u*)ᵀ x = b with the Jacobian assembled
+/// at u* (the problem's assemble_jacobian, or colored differences of its
+/// jacobian_pattern(), through problem access), preconditioned by M⁻ᵀ.
+/// newton_krylov_solver owns one and exposes it as its linearized_* members.
+///
+/// Costs after a run go into their own solve_report (linearized_report():
+/// linear iterations, J·v products, residual evaluations, preconditioner
+/// applications, assemblies, phase times), started by the first linearized
+/// call after the run (all zero before it); transposed products are counted separately.
+///
+/// Limits: serial Eigen vectors for the transposed members; no variable or
+/// residual scaling (std::invalid_argument). `problem` must be the residual
+/// the run solved (nkit cannot check it).
+
+#include <cstdint>
+#include <stdexcept>
+#include <string>
+#include <type_traits>
+
+#include "../core/preconditioner.hpp"
+#include "../jacobian/sparse_jacobian.hpp"
+#include "../krylov/gmres.hpp"
+#include "../report/outcome.hpp"
+#include "../report/phase_ledger.hpp"
+#include "../report/report.hpp"
+#include "linear_solve.hpp"
+#include "problem_access.hpp"
+
+namespace nkit::detail {
+
+template <class Space, class Preconditioner>
+class converged_linearization {
+ public:
+  using vector_type = typename Space::vector_type;
+
+  /// A new run starts: what was linearised before is stale.
+  void reset() {
+    m_report = solve_report{};
+    m_transposed_products = 0;
+    m_started = false;
+    m_jacobian = nullptr;
+  }
+
+  /// Everything a linearized call needs, referenced from the Newton driver.
+  struct driver_parts {
+    const solve_report& run;  ///< the last run's report (its stop reason)
+    problem_access<Space>& access;
+    preconditioned_linear_solve<Space, Preconditioner>& linear;
+    phase_ledger& ledger;
+    const vector_type& state;     ///< u* (scaled variables; no scaling is allowed here)
+    const vector_type& residual;  ///< R(u*)
+  };
+
+  /// Checks that the run converged, that no scaling is set and that
+  /// `operand` has the state's size; starts the cost report on first use.
+  void prepare(const driver_parts& parts, const vector_type& operand, const char* caller) {
+    if (!parts.run.reason) {
+      throw std::invalid_argument(std::string("nkit: ") + caller +
+                                  " needs a converged Newton solve, but no solve has finished");
+    }
+    if (!is_converged(*parts.run.reason)) {
+      throw std::invalid_argument(std::string("nkit: ") + caller +
+                                  " needs a converged Newton solve, but the last one stopped with " +
+                                  std::string(name(parts.run.reason)));
+    }
+    if (parts.access.scaled()) {
+      throw std::invalid_argument(std::string("nkit: ") + caller +
+                                  " does not support variable or residual scaling (set_scaling); call clear_scaling() "
+                                  "and solve again");
+    }
+    if (operand.size() != parts.state.size()) {
+      throw std::invalid_argument(std::string("nkit: ") + caller + " got a vector of " +
+                                  std::to_string(operand.size()) + " entries but the state has " +
+                                  std::to_string(parts.state.size()));
+    }
+    if (m_started) return;
+    parts.ledger.begin(m_report, 0);
+    m_transposed_products = 0;
+    parts.access.set_diagonal_shift(nullptr);
+    parts.access.linearize_at(parts.state, parts.residual);
+    m_started = true;
+  }
+
+  /// out = R'(u*) v with the run's J·v operator.
+  template <class Problem>
+  void product(const driver_parts& parts, Problem& problem, const vector_type& v, vector_type& out) {
+    prepare(parts, v, "linearized_product");
+    if (out.size() != v.size()) parts.access.space().allocate_like(out, v);
+    parts.access.apply_jacobian(problem, v, out);
+  }
+
+  /// R'(u*) x = rhs by GMRES from x = 0 to the relative tolerance.
+  template <class Problem>
+  linear_solve_result solve(const driver_parts& parts, Problem& problem, const vector_type& rhs, vector_type& x,
+                            double relative_tolerance) {
+    prepare(parts, rhs, "linearized_solve");
+    check_tolerance(relative_tolerance, "linearized_solve");
+    if (x.size() != rhs.size()) parts.access.space().allocate_like(x, rhs);
+    problem_access<Space>& access = parts.access;
+    auto monitor = [&access](int, double) {
+      access.check_cancellation_and_clock();
+      return monitor_decision::keep_going;
+    };
+    return parts.linear.solve(parts.access, problem, parts.ledger, rhs, x, relative_tolerance, monitor, nullptr);
+  }
+
+  /// out = R'(u*)ᵀ w from the Jacobian assembled at u*.
+  template <class Problem>
+  void transpose_product(const driver_parts& parts, Problem& problem, const vector_type& w, vector_type& out) {
+    prepare(parts, w, "linearized_transpose_product");
+    const sparse_matrix& jacobian = assembled(parts, problem);
+    const auto start = clock_type::now();
+    out.noalias() = jacobian.transpose() * w;
+    parts.ledger.record(trace_phase::jacobian_vector, start, clock_type::now());
+    ++m_transposed_products;
+  }
+
+  /// R'(u*)ᵀ x = rhs by GMRES from x = 0, preconditioned by M⁻ᵀ.
+  template <class Problem>
+  linear_solve_result transpose_solve(const driver_parts& parts, Problem& problem, const vector_type& rhs,
+                                      vector_type& x, double relative_tolerance) {
+    prepare(parts, rhs, "linearized_transpose_solve");
+    check_tolerance(relative_tolerance, "linearized_transpose_solve");
+    const sparse_matrix& jacobian = assembled(parts, problem);
+    if (x.size() != rhs.size()) x.resize(rhs.size());
+    return parts.linear.solve_transposed(jacobian, parts.ledger, rhs, x, relative_tolerance, m_transposed_products);
+  }
+
+  /// The Jacobian assembled at u* (assembled once per converged state).
+  template <class Problem>
+  const sparse_matrix& assembled(const driver_parts& parts, Problem& problem) {
+    static_assert(std::is_same_v<vector_type, Eigen::VectorXd>,
+                  "nkit: transposed products need the serial Eigen vector space (the Jacobian is assembled locally)");
+    static_assert(can_assemble_jacobian_v<Problem, vector_type>,
+                  "nkit: transposed products need an assembled Jacobian: give the problem assemble_jacobian() or "
+                  "jacobian_pattern()");
+    if (m_jacobian == nullptr) {
+      typename problem_access<Space>::template assembled_jacobian_source<Problem> source(parts.access, problem);
+      m_jacobian = &source.assembled_jacobian();
+    }
+    return *m_jacobian;
+  }
+
+  const solve_report& report() const { return m_report; }
+  std::int64_t transposed_products() const { return m_transposed_products; }
+
+ private:
+  static void check_tolerance(double relative_tolerance, const char* caller) {
+    if (!(relative_tolerance >= 0.0 && relative_tolerance < 1.0)) {
+      throw_invalid_setting(std::string(caller) + " relative_tolerance", "in [0, 1)", relative_tolerance);
+    }
+  }
+
+  solve_report m_report;
+  std::int64_t m_transposed_products = 0;
+  const sparse_matrix* m_jacobian = nullptr;  ///< problem access's matrix, assembled at u*
+  bool m_started = false;
+};
+
+}  // namespace nkit::detail
+
+#endif  // NKIT_NEWTON_CONVERGED_LINEARIZATION_HPP
