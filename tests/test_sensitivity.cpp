@@ -352,3 +352,288 @@ TEST_CASE("transposed preconditioners satisfy the adjoint identity", "[sensitivi
                                  "which solves with the transposed Jacobian need"));
   }
 }
+
+namespace {
+
+/// ‖J⁻¹‖₂ of the Jacobian at u (dense SVD: the test grids are small).
+double inverse_norm(const nkit::sparse_matrix& jacobian) {
+  const Eigen::MatrixXd dense(jacobian);
+  Eigen::JacobiSVD<Eigen::MatrixXd> svd(dense);
+  return 1.0 / svd.singularValues().tail(1)(0);
+}
+
+/// Direct and adjoint gradients of one output with one preconditioner; they
+/// agree to the linear tolerance η: each side's error is at most
+/// ‖J⁻¹‖₂ η ‖b‖ in the solution (relative GMRES residual η), so
+/// |dJ/dp_j(adjoint) − dJ/dp_j(direct)| <= ‖J⁻¹‖₂ η (‖∂J/∂u‖ ‖R_p e_j‖ + ‖R_p e_j‖ ‖∂J/∂u‖).
+template <class Preconditioner, class Problem, class Functional>
+void check_adjoint_equals_direct(Problem& problem, const conduction_design& design, Functional functional,
+                                 Preconditioner preconditioner = {}) {
+  const Eigen::VectorXd p = design_parameters;
+  auto fixed = nkit::at_parameters(problem, p);
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, Preconditioner> solver(tight_settings(), {},
+                                                                                      std::move(preconditioner));
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(design.unknowns());
+  REQUIRE(solver.solve(fixed, u).converged());
+  nkit::sensitivity_settings settings;
+  settings.linear_relative_tolerance = 1e-8;
+  const nkit::direct_sensitivity_result direct = nkit::direct_sensitivities(solver, problem, p, functional, settings);
+  const nkit::adjoint_sensitivity_result adjoint =
+      nkit::adjoint_sensitivities(solver, problem, p, functional, settings);
+  REQUIRE(direct.report.linear_solves_converged);
+  REQUIRE(adjoint.report.linear_solves_converged);
+  CHECK(direct.report.linear_solves == 4);
+  CHECK(adjoint.report.linear_solves == 1);
+  CHECK(direct.report.parameter_products == 4);
+  CHECK(adjoint.report.parameter_products == 4);
+  CHECK(adjoint.report.transposed_products >= 1);
+  CHECK(direct.report.transposed_products == 0);
+
+  nkit::sparse_matrix jacobian;
+  design.assemble_jacobian(u, p, jacobian);
+  const double inverse = inverse_norm(jacobian);
+  Eigen::VectorXd state_gradient = Eigen::VectorXd::Zero(u.size());
+  for (Eigen::Index i = 0; i < u.size(); ++i) {  // ∂J/∂u by central differences, only for the bound
+    Eigen::VectorXd plus = u, minus = u;
+    plus(i) += 1e-6, minus(i) -= 1e-6;
+    state_gradient(i) = (functional(plus, p) - functional(minus, p)) / 2e-6;
+  }
+  auto exact = nkit::with_parameter_automatic_differentiation(design);
+  for (Eigen::Index j = 0; j < 4; ++j) {
+    Eigen::VectorXd column(u.size());
+    exact.parameter_product(u, p, Eigen::VectorXd::Unit(4, j), column);
+    const double bound = 2.0 * inverse * settings.linear_relative_tolerance * state_gradient.norm() * column.norm();
+    CHECK_THAT(adjoint.gradient(j), WithinAbs(direct.gradient(j), bound + 1e-12 * std::abs(direct.gradient(j))));
+  }
+}
+
+}  // namespace
+
+TEST_CASE("adjoint gradients equal direct gradients to the linear tolerance", "[sensitivity]") {
+  conduction_design design;
+  design.nx = design.ny = 12;
+  design.west_variation = 0.3;
+  const west_heat_flux flux{&design};
+
+  SECTION("AD products, ILU(0)") {
+    auto problem = nkit::with_parameter_automatic_differentiation(design);
+    check_adjoint_equals_direct<nkit::ilu_zero_preconditioner>(problem, design, flux);
+  }
+  SECTION("AD products, ILUT") {
+    auto problem = nkit::with_parameter_automatic_differentiation(design);
+    check_adjoint_equals_direct<nkit::incomplete_lut_preconditioner>(problem, design, flux);
+  }
+  SECTION("AD products, Jacobi, cell temperature") {
+    auto problem = nkit::with_parameter_automatic_differentiation(design);
+    check_adjoint_equals_direct<nkit::jacobi_preconditioner>(problem, design, cell_temperature{design.index(6, 6)});
+  }
+  SECTION("difference products in p and J·v, colored-difference Jacobian, ILU(0)") {
+    conduction_with_pattern_only problem(design);
+    check_adjoint_equals_direct<nkit::ilu_zero_preconditioner>(problem, design, flux);
+  }
+}
+
+TEST_CASE("sensitivities equal central differences of nonlinear solves", "[sensitivity]") {
+  conduction_design design;
+  design.nx = design.ny = 10;
+  design.west_variation = 0.3;
+  auto problem = nkit::with_parameter_automatic_differentiation(design);
+  const Eigen::VectorXd p = design_parameters;
+  const west_heat_flux flux{&design};
+
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(tight_settings());
+  const auto solve_at = [&](const Eigen::VectorXd& parameters) {
+    auto fixed = nkit::at_parameters(problem, parameters);
+    Eigen::VectorXd u = Eigen::VectorXd::Zero(design.unknowns());
+    REQUIRE(solver.solve(fixed, u).converged());
+    return u;
+  };
+  // Central differences with h_j = 1e-3·|p_j|: truncation error h²|J'''|/6, about
+  // 1e-6 relative for this smooth problem (third derivatives of the order of J
+  // over p_j³), plus the nonlinear-solve error ‖J⁻¹‖‖R‖/h <= ~1e2 · 1e-13 / 1e-3
+  // = 1e-8: a relative tolerance of 1e-5 leaves a margin of 10.
+  Eigen::VectorXd differences(4);
+  for (Eigen::Index j = 0; j < 4; ++j) {
+    const double h = 1e-3 * std::abs(p(j));
+    Eigen::VectorXd plus = p, minus = p;
+    plus(j) += h, minus(j) -= h;
+    differences(j) = (flux(solve_at(plus), plus) - flux(solve_at(minus), minus)) / (2.0 * h);
+  }
+  Eigen::VectorXd u = solve_at(p);
+  const nkit::direct_sensitivity_result direct = nkit::direct_sensitivities(solver, problem, p, flux);
+  const nkit::adjoint_sensitivity_result adjoint = nkit::adjoint_sensitivities(solver, problem, p, flux);
+  CHECK_THAT(direct.gradient, nkit_test::is_close_to(differences, 1e-9, 1e-5));
+  CHECK_THAT(adjoint.gradient, nkit_test::is_close_to(differences, 1e-9, 1e-5));
+  // du/dp from the direct method against the same differences, for the mid cell.
+  CHECK(direct.state_sensitivities.rows() == u.size());
+  CHECK(direct.state_sensitivities.cols() == 4);
+}
+
+namespace {
+struct kirchhoff_wall {  // the closed form of the file comment
+  double k0, beta, t1, t2, length;
+  double s(double xi) const {
+    const double a = (1 + beta * t1) * (1 + beta * t1), b = (1 + beta * t2) * (1 + beta * t2);
+    return a + (b - a) * xi;
+  }
+  double temperature(double xi) const { return (std::sqrt(s(xi)) - 1.0) / beta; }
+  double heat_flux() const { return k0 * ((t1 - t2) + 0.5 * beta * (t1 * t1 - t2 * t2)) / length; }
+  /// d/d(k0, β, S, T1) of q; the S entry is not part of the closed form (NaN: not checked).
+  Eigen::Vector4d heat_flux_gradient() const {
+    return {heat_flux() / k0, k0 * (t1 * t1 - t2 * t2) / (2.0 * length), std::nan(""), k0 * (1.0 + beta * t1) / length};
+  }
+  Eigen::Vector4d temperature_gradient(double xi) const {
+    const double root = std::sqrt(s(xi));
+    const double d_beta =
+        (t1 * (1 + beta * t1) * (1 - xi) + t2 * (1 + beta * t2) * xi) / (beta * root) - (root - 1.0) / (beta * beta);
+    return {0.0, d_beta, std::nan(""), (1 - xi) * (1 + beta * t1) / root};
+  }
+};
+
+struct wall_sensitivities {
+  Eigen::VectorXd flux, temperature;  ///< adjoint gradients of q and of T at mid-wall
+};
+
+wall_sensitivities wall_case(int cells, face_mean mean) {
+  conduction_design design;
+  design.nx = cells;
+  design.ny = 1;
+  design.mean = mean;
+  const Eigen::Vector4d p(2.0, 0.5, 0.0, 1.0);  // k0, β, S = 0, T1; T2 = 0: our own test values
+  auto problem = nkit::with_parameter_automatic_differentiation(design);
+  auto fixed = nkit::at_parameters(problem, Eigen::VectorXd(p));
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(
+      tight_settings());
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(cells);
+  REQUIRE(solver.solve(fixed, u).converged());
+  nkit::sensitivity_settings settings;
+  settings.linear_relative_tolerance = 1e-12;
+  wall_sensitivities result;
+  result.flux =
+      nkit::adjoint_sensitivities(solver, problem, Eigen::VectorXd(p), west_heat_flux{&design}, settings).gradient;
+  const cell_temperature middle{cells / 2};  // odd cell count: its centre is at x = L/2
+  result.temperature = nkit::direct_sensitivities(solver, problem, Eigen::VectorXd(p), middle, settings).gradient;
+  return result;
+}
+
+double largest_error(const Eigen::VectorXd& computed, const Eigen::Vector4d& exact) {
+  double worst = 0.0;
+  for (Eigen::Index j = 0; j < 4; ++j) {
+    if (!std::isnan(exact(j))) worst = std::max(worst, std::abs(computed(j) - exact(j)));
+  }
+  return worst;
+}
+}  // namespace
+
+TEST_CASE("sensitivities of the Kirchhoff plane wall match the closed form", "[sensitivity]") {
+  const kirchhoff_wall exact{2.0, 0.5, 1.0, 0.0, 1.0};
+
+  SECTION("arithmetic face mean: the discrete solution is exact, so are the sensitivities") {
+    const wall_sensitivities computed = wall_case(9, face_mean::arithmetic);
+    // Errors: the linear tolerance 1e-12 times ‖J⁻¹‖ (about (9/π)²/k0 here) and the
+    // gradient norms, about 1e-11; plus, for the flux, its ∂J/∂u by central
+    // differences (output_functional.hpp): rounding ε/h·|q| with h ≈ 6e-6,
+    // about 2e-10 (measured 1e-10). Hence 1e-9.
+    CHECK(largest_error(computed.flux, exact.heat_flux_gradient()) <= 1e-9);
+    CHECK(largest_error(computed.temperature, exact.temperature_gradient(0.5)) <= 1e-9);
+  }
+  SECTION("harmonic face mean: second order, the error falls 9-fold from 33 to 99 cells") {
+    const wall_sensitivities coarse = wall_case(33, face_mean::harmonic);
+    const wall_sensitivities fine = wall_case(99, face_mean::harmonic);
+    const double flux_ratio =
+        largest_error(coarse.flux, exact.heat_flux_gradient()) / largest_error(fine.flux, exact.heat_flux_gradient());
+    const double temperature_ratio = largest_error(coarse.temperature, exact.temperature_gradient(0.5)) /
+                                     largest_error(fine.temperature, exact.temperature_gradient(0.5));
+    INFO("error ratios: flux " << flux_ratio << ", temperature " << temperature_ratio);
+    // Second order: ratio (99/33)² = 9, less an O(h) correction to the error
+    // constant (an h³ term). Measured ratios of the largest error, flux and
+    // mid-wall temperature: 8.35 and 8.01 from 11 to 33 cells, 8.78 and 8.65
+    // from 33 to 99, 8.93 and 8.88 from 99 to 297: they approach 9. First
+    // order would give 3, third order 27.
+    CHECK_THAT(flux_ratio, WithinAbs(9.0, 0.6));
+    CHECK_THAT(temperature_ratio, WithinAbs(9.0, 0.6));
+    CHECK(largest_error(fine.flux, exact.heat_flux_gradient()) > 0.0);
+  }
+}
+
+TEST_CASE("sensitivities reject bad input with a clear message", "[sensitivity][bad_input]") {
+  conduction_design design;
+  design.nx = design.ny = 4;
+  auto problem = nkit::with_parameter_automatic_differentiation(design);
+  const Eigen::VectorXd p = design_parameters;
+  auto fixed = nkit::at_parameters(problem, p);
+  const west_heat_flux flux{&design};
+
+  SECTION("no solve yet") {
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver;
+    CHECK_THROWS_MATCHES(nkit::direct_sensitivities(solver, problem, p, flux), std::invalid_argument,
+                         Message("nkit: direct_sensitivities needs the state of a converged Newton solve, but the "
+                                 "last solve has not finished"));
+  }
+  SECTION("unconverged state") {
+    nkit::newton_settings settings = tight_settings();
+    settings.newton_step_budget = 1;
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
+    Eigen::VectorXd u = Eigen::VectorXd::Zero(design.unknowns());
+    REQUIRE_FALSE(solver.solve(fixed, u).converged());
+    CHECK_THROWS_MATCHES(nkit::adjoint_sensitivities(solver, problem, p, flux), std::invalid_argument,
+                         Message("nkit: adjoint_sensitivities needs the state of a converged Newton solve, but the "
+                                 "last solve stopped with newton_step_budget_spent"));
+    Eigen::VectorXd x;
+    CHECK_THROWS_MATCHES(solver.linearized_solve(fixed, u, x, 1e-8), std::invalid_argument,
+                         Message("nkit: linearized_solve needs a converged Newton solve, but the last one stopped "
+                                 "with newton_step_budget_spent"));
+  }
+
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(tight_settings());
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(design.unknowns());
+  REQUIRE(solver.solve(fixed, u).converged());
+
+  SECTION("parameter vector of the wrong size") {
+    const Eigen::VectorXd short_p = p.head(3);
+    CHECK_THROWS_MATCHES(nkit::direct_sensitivities(solver, problem, short_p, flux), std::invalid_argument,
+                         Message("nkit: direct_sensitivities: the parameter vector p has 3 entries but the "
+                                 "problem's parameter_count() is 4"));
+    CHECK_THROWS_MATCHES(nkit::adjoint_sensitivities(solver, problem, Eigen::VectorXd(), flux), std::invalid_argument,
+                         Message("nkit: adjoint_sensitivities: the parameter vector p is empty"));
+  }
+  SECTION("linear tolerance out of range") {
+    nkit::sensitivity_settings settings;
+    settings.linear_relative_tolerance = 0.0;
+    CHECK_THROWS_MATCHES(nkit::direct_sensitivities(solver, problem, p, flux, settings), std::invalid_argument,
+                         Message("nkit: sensitivity_settings.linear_relative_tolerance must be in (0, 1) (got 0)"));
+  }
+  SECTION("vector of the wrong size for a linearized solve") {
+    Eigen::VectorXd x, rhs = Eigen::VectorXd::Ones(3);
+    CHECK_THROWS_MATCHES(solver.linearized_solve(fixed, rhs, x, 1e-8), std::invalid_argument,
+                         Message("nkit: linearized_solve got a vector of 3 entries but the state has 16"));
+  }
+  SECTION("scaling set on the solver") {
+    const Eigen::VectorXd scale = Eigen::VectorXd::Constant(design.unknowns(), 2.0);
+    solver.set_scaling(scale, Eigen::VectorXd());
+    REQUIRE(solver.solve(fixed, u).converged());
+    CHECK_THROWS_MATCHES(nkit::direct_sensitivities(solver, problem, p, flux), std::invalid_argument,
+                         Message("nkit: linearized_solve does not support variable or residual scaling "
+                                 "(set_scaling); call clear_scaling() and solve again"));
+  }
+}
+
+TEST_CASE("adjoint sensitivities need a transposable preconditioner", "[sensitivity][bad_input]") {
+  conduction_design design;
+  design.nx = design.ny = 4;
+  auto problem = nkit::with_parameter_automatic_differentiation(design);
+  const Eigen::VectorXd p = design_parameters;
+  auto fixed = nkit::at_parameters(problem, p);
+  const west_heat_flux flux{&design};
+  auto plain = nkit::make_preconditioner([](const Eigen::VectorXd& r, Eigen::VectorXd& z) { z = r; });
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, decltype(plain)> solver(tight_settings(), {}, plain);
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(design.unknowns());
+  REQUIRE(solver.solve(fixed, u).converged());
+  // Direct sensitivities need no transpose.
+  CHECK(nkit::direct_sensitivities(solver, problem, p, flux).report.linear_solves_converged);
+  CHECK_THROWS_MATCHES(
+      nkit::adjoint_sensitivities(solver, problem, p, flux), std::invalid_argument,
+      Message("nkit: the Newton solver's preconditioner has no apply_transpose(r, z), which the transposed (adjoint) "
+              "solve needs; give it one, or use one that has it (identity, jacobi, ilu_zero, incomplete_lut, "
+              "sparse_direct)"));
+}
