@@ -37,7 +37,9 @@
 #include <Eigen/Dense>
 #include <Eigen/SparseCore>
 #include <catch2/catch.hpp>
+#include <chrono>
 #include <cmath>
+#include <cstdio>
 #include <limits>
 #include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
@@ -636,4 +638,74 @@ TEST_CASE("adjoint sensitivities need a transposable preconditioner", "[sensitiv
       Message("nkit: the Newton solver's preconditioner has no apply_transpose(r, z), which the transposed (adjoint) "
               "solve needs; give it one, or use one that has it (identity, jacobi, ilu_zero, incomplete_lut, "
               "sparse_direct)"));
+}
+
+// Cost figures quoted in docs/sensitivities.md (hidden: run by hand,
+// `nkit_sensitivity_tests "[.sensitivity_cost]"`). Work unit: the median time
+// of one residual evaluation in the Newton solve of the same run.
+TEST_CASE("cost of sensitivities in work units", "[.sensitivity_cost]") {
+  conduction_design design;
+  design.nx = design.ny = 128;
+  design.west_variation = 0.3;
+  const Eigen::VectorXd p = design_parameters;
+  const Eigen::Index n = design.unknowns();
+  auto ad_problem = nkit::with_parameter_automatic_differentiation(design);
+  conduction_with_pattern_only difference_problem(design);
+  const west_heat_flux flux{&design};
+  const auto per_call = [](int calls, auto&& call) {
+    const auto start = std::chrono::steady_clock::now();
+    for (int c = 0; c < calls; ++c) call();
+    return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count() / calls;
+  };
+  const auto print = [](const char* what, double seconds, double unit) {
+    std::printf("%-58s %10.3e s %8.2f work units\n", what, seconds, seconds / unit);
+  };
+
+  nkit::newton_settings settings;
+  settings.relative_tolerance = 1e-10;
+  settings.linear.restart_length = 50;  // the sensitivity solves reach 1e-10: more room than the defaults
+  settings.linear.maximum_iterations = 3000;
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
+  auto fixed = nkit::at_parameters(ad_problem, p);
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(n);
+  const nkit::solve_report newton = solver.solve(fixed, u);
+  REQUIRE(newton.converged());
+  const double unit = newton.median_residual_seconds;
+  std::printf("conduction design problem, %d x %d cells (%ld unknowns), ILU(0), p = (k0, beta, S, T_west)\n", design.nx,
+              design.ny, static_cast<long>(n));
+  print("one residual evaluation (the work unit)", unit, unit);
+  print("Newton solve to 1e-10 relative (AD J.v)", newton.wall_seconds, unit);
+  std::printf("Newton solve: %d steps, %lld linear iterations\n", newton.newton_steps,
+              static_cast<long long>(newton.linear_iterations));
+
+  const nkit::direct_sensitivity_result direct = nkit::direct_sensitivities(solver, ad_problem, p, flux);
+  const nkit::adjoint_sensitivity_result adjoint = nkit::adjoint_sensitivities(solver, ad_problem, p, flux);
+  for (const nkit::sensitivity_report* report : {&direct.report, &adjoint.report}) {
+    std::printf(
+        "%s sensitivities, 4 parameters: %.3e s = %.1f work units; %d linear solves, %lld linear iterations, %lld "
+        "J.v, %lld J^T.w, %lld dR/dp.dp, %lld residual evaluations, %lld assemblies\n",
+        report->method == nkit::sensitivity_method::direct ? "direct" : "adjoint", report->wall_seconds,
+        report->work_units(), report->linear_solves, static_cast<long long>(report->linear_iterations),
+        static_cast<long long>(report->jacobian_vector_products), static_cast<long long>(report->transposed_products),
+        static_cast<long long>(report->parameter_products), static_cast<long long>(report->residual_evaluations),
+        static_cast<long long>(report->jacobian_assemblies));
+  }
+  const Eigen::VectorXd v = random_vector(n, 5);
+  Eigen::VectorXd out(n);
+  print("J.v by forward-mode AD", per_call(50, [&] { solver.linearized_product(fixed, v, out); }), unit);
+  print("J^T.w, assembled Jacobian (after assembly)",
+        per_call(50, [&] { solver.linearized_transpose_product(fixed, v, out); }), unit);
+  Eigen::VectorXd dp = Eigen::VectorXd::Unit(4, 1);
+  print("dR/dp.dp by forward-mode AD", per_call(50, [&] { ad_problem.parameter_product(u, p, dp, out); }), unit);
+  Eigen::VectorXd r0(n);
+  design(u, p, r0);
+  nkit::detail::parameter_derivative<conduction_with_pattern_only> difference(nkit::jacobian_settings{});
+  print("dR/dp.dp by forward differences",
+        per_call(50, [&] { difference.apply(difference_problem, u, p, r0, dp, out); }), unit);
+  nkit::ilu_zero_preconditioner& ilu = solver.preconditioner();
+  print("ILU(0) apply", per_call(50, [&] { ilu.apply(v, out); }), unit);
+  print("ILU(0) apply_transpose", per_call(50, [&] { ilu.apply_transpose(v, out); }), unit);
+
+  CHECK(direct.report.linear_solves_converged);
+  CHECK(adjoint.report.linear_solves_converged);
 }
