@@ -16,9 +16,16 @@
 /// applications, assemblies, phase times), started by the first linearized
 /// call after the run (all zero before it); transposed products are counted separately.
 ///
-/// Limits: serial Eigen vectors for the transposed members; no variable or
-/// residual scaling (std::invalid_argument). `problem` must be the residual
-/// the run solved (nkit cannot check it).
+/// Units: every vector in and out is physical. With variable scale D_u and
+/// residual scale D_r set on the solver, the run works with
+/// J̃ = D_r⁻¹ R'(u*) D_u, so R'(u*) v = D_r J̃ D_u⁻¹ v and R'(u*)ᵀ w =
+/// D_u⁻¹ J̃ᵀ D_r w; solves scale their right-hand side and solution alike,
+/// and their relative tolerance applies to the scaled residual
+/// (‖D_r⁻¹(b − R' x)‖ for R' x = b, ‖D_u(b − R'ᵀ x)‖ for R'ᵀ x = b).
+/// linearized_jacobian() returns J̃ (equal to R'(u*) without scaling).
+///
+/// Limits: serial Eigen vectors for the transposed members. `problem` must be
+/// the residual the run solved (nkit cannot check it).
 
 #include <cstdint>
 #include <stdexcept>
@@ -46,6 +53,7 @@ class converged_linearization {
     m_report = solve_report{};
     m_transposed_products = 0;
     m_started = false;
+    m_physical_ready = false;
     m_jacobian = nullptr;
   }
 
@@ -55,7 +63,7 @@ class converged_linearization {
     problem_access<Space>& access;
     preconditioned_linear_solve<Space, Preconditioner>& linear;
     phase_ledger& ledger;
-    const vector_type& state;     ///< u* (scaled variables; no scaling is allowed here)
+    const vector_type& state;     ///< u* in the run's (scaled) variables
     const vector_type& residual;  ///< R(u*)
   };
 
@@ -70,11 +78,6 @@ class converged_linearization {
       throw std::invalid_argument(std::string("nkit: ") + caller +
                                   " needs a converged Newton solve, but the last one stopped with " +
                                   std::string(name(parts.run.reason)));
-    }
-    if (parts.access.scaled()) {
-      throw std::invalid_argument(std::string("nkit: ") + caller +
-                                  " does not support variable or residual scaling (set_scaling); call clear_scaling() "
-                                  "and solve again");
     }
     if (operand.size() != parts.state.size()) {
       throw std::invalid_argument(std::string("nkit: ") + caller + " got a vector of " +
@@ -94,7 +97,14 @@ class converged_linearization {
   void product(const driver_parts& parts, Problem& problem, const vector_type& v, vector_type& out) {
     prepare(parts, v, "linearized_product");
     if (out.size() != v.size()) parts.access.space().allocate_like(out, v);
-    parts.access.apply_jacobian(problem, v, out);
+    if (!parts.access.scaled()) {
+      parts.access.apply_jacobian(problem, v, out);
+      return;
+    }
+    copy_to_work(parts, v);
+    parts.access.apply_variable_scale(m_work, false);
+    parts.access.apply_jacobian(problem, m_work, out);
+    parts.access.apply_residual_scale(out, true);
   }
 
   /// R'(u*) x = rhs by GMRES from x = 0 to the relative tolerance.
@@ -109,7 +119,15 @@ class converged_linearization {
       access.check_cancellation_and_clock();
       return monitor_decision::keep_going;
     };
-    return parts.linear.solve(parts.access, problem, parts.ledger, rhs, x, relative_tolerance, monitor, nullptr);
+    if (!parts.access.scaled()) {
+      return parts.linear.solve(parts.access, problem, parts.ledger, rhs, x, relative_tolerance, monitor, nullptr);
+    }
+    copy_to_work(parts, rhs);
+    parts.access.apply_residual_scale(m_work, false);
+    const linear_solve_result result =
+        parts.linear.solve(parts.access, problem, parts.ledger, m_work, x, relative_tolerance, monitor, nullptr);
+    parts.access.apply_variable_scale(x, true);
+    return result;
   }
 
   /// out = R'(u*)ᵀ w from the Jacobian assembled at u*.
@@ -118,7 +136,14 @@ class converged_linearization {
     prepare(parts, w, "linearized_transpose_product");
     const sparse_matrix& jacobian = assembled(parts, problem);
     const auto start = clock_type::now();
-    out.noalias() = jacobian.transpose() * w;
+    if (parts.access.scaled()) {
+      copy_to_work(parts, w);
+      parts.access.apply_residual_scale(m_work, true);
+      out.noalias() = jacobian.transpose() * m_work;
+      parts.access.apply_variable_scale(out, false);
+    } else {
+      out.noalias() = jacobian.transpose() * w;
+    }
     parts.ledger.record(trace_phase::jacobian_vector, start, clock_type::now());
     ++m_transposed_products;
   }
@@ -131,7 +156,26 @@ class converged_linearization {
     check_tolerance(relative_tolerance, "linearized_transpose_solve");
     const sparse_matrix& jacobian = assembled(parts, problem);
     if (x.size() != rhs.size()) x.resize(rhs.size());
-    return parts.linear.solve_transposed(jacobian, parts.ledger, rhs, x, relative_tolerance, m_transposed_products);
+    if (!parts.access.scaled()) {
+      return parts.linear.solve_transposed(jacobian, parts.ledger, rhs, x, relative_tolerance, m_transposed_products);
+    }
+    copy_to_work(parts, rhs);  // J̃ᵀ (D_r x) = D_u rhs
+    parts.access.apply_variable_scale(m_work, true);
+    const linear_solve_result result =
+        parts.linear.solve_transposed(jacobian, parts.ledger, m_work, x, relative_tolerance, m_transposed_products);
+    parts.access.apply_residual_scale(x, false);
+    return result;
+  }
+
+  /// u* in physical units (a copy kept until the next run).
+  const vector_type& physical_state(const driver_parts& parts) {
+    if (!m_physical_ready) {
+      parts.access.space().allocate_like(m_physical, parts.state);
+      parts.access.space().copy(parts.state, m_physical);
+      parts.access.apply_variable_scale(m_physical, true);
+      m_physical_ready = true;
+    }
+    return m_physical;
   }
 
   /// The Jacobian assembled at u* (assembled once per converged state).
@@ -159,7 +203,15 @@ class converged_linearization {
     }
   }
 
+  void copy_to_work(const driver_parts& parts, const vector_type& v) {
+    if (m_work.size() != v.size()) parts.access.space().allocate_like(m_work, v);
+    parts.access.space().copy(v, m_work);
+  }
+
   solve_report m_report;
+  vector_type m_work;      ///< scaled copy of an input vector
+  vector_type m_physical;  ///< u* in physical units
+  bool m_physical_ready = false;
   std::int64_t m_transposed_products = 0;
   const sparse_matrix* m_jacobian = nullptr;  ///< problem access's matrix, assembled at u*
   bool m_started = false;

@@ -166,9 +166,9 @@ class newton_krylov_solver {
   }
 
   // ---- R'(u*) at the converged state of the last run (converged_linearization.hpp) ----
-  // Each throws std::invalid_argument when the last run did not converge, when
-  // scaling is set, or when a vector's size differs from the state's. `problem`
-  // must be the residual that run solved.
+  // Each throws std::invalid_argument when the last run did not converge or when a
+  // vector's size differs from the state's. Vectors are physical; with scaling,
+  // tolerances apply to the scaled residual. `problem` must be the residual that run solved.
 
   /// out = R'(u*) v with the run's J·v operator (the problem's product or finite differences).
   template <class Problem>
@@ -194,7 +194,7 @@ class newton_krylov_solver {
                                                  double relative_tolerance) {
     return m_linearized.transpose_solve(linearized_parts(), problem, rhs, x, relative_tolerance);
   }
-  /// R'(u*) assembled at the converged state: the matrix the transposed members use.
+  /// R'(u*) assembled at the converged state (D_r⁻¹ R'(u*) D_u with scaling): the matrix the transposed members use.
   template <class Problem>
   const sparse_matrix& linearized_jacobian(Problem& problem) {
     m_linearized.prepare(linearized_parts(), m_state, "linearized_jacobian");
@@ -204,9 +204,8 @@ class newton_krylov_solver {
   const solve_report& linearized_report() const { return m_linearized.report(); }
   /// Transposed products R'(u*)ᵀ w since the last run ended.
   std::int64_t linearized_transposed_products() const { return m_linearized.transposed_products(); }
-  /// The state the last run ended at (u*, when last_report().converged(); in scaled variables when
-  /// scaling is set); empty before any run.
-  const vector_type& converged_state() const { return m_state; }
+  /// The state the last run ended at in physical units (u*, when last_report().converged()); empty before any run.
+  const vector_type& converged_state() { return m_linearized.physical_state(linearized_parts()); }
   /// The last run's report (its stop reason, median residual time).
   const solve_report& last_report() const { return m_report; }
 

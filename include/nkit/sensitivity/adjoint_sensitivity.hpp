@@ -20,7 +20,8 @@
 /// Usage and input checks as direct_sensitivities (direct_sensitivity.hpp);
 /// also throws std::invalid_argument when the solver's preconditioner has no
 /// apply_transpose. The problem must be able to assemble its Jacobian
-/// (compile-time check). Serial Eigen vectors only; no solver scaling.
+/// (compile-time check). Serial Eigen vectors only. Solver scaling (set_scaling)
+/// is allowed: the linear tolerance then applies to the scaled residual.
 
 #include <Eigen/Core>
 #include <type_traits>

@@ -19,7 +19,8 @@
 /// `problem` and `p` must be those of that solve. Throws
 /// std::invalid_argument when the last solve did not converge, when p is
 /// empty, not finite or not of the problem's parameter_count(), or on bad
-/// settings. Serial Eigen vectors only; no solver scaling.
+/// settings. Serial Eigen vectors only. Solver scaling (set_scaling)
+/// is allowed: the linear tolerance then applies to the scaled residual.
 
 #include <Eigen/Core>
 #include <utility>
