@@ -67,7 +67,7 @@ class converged_linearization {
     const vector_type& residual;  ///< R(u*)
   };
 
-  /// Checks that the run converged, that no scaling is set and that
+  /// Checks that the run converged and that
   /// `operand` has the state's size; starts the cost report on first use.
   void prepare(const driver_parts& parts, const vector_type& operand, const char* caller) {
     if (!parts.run.reason) {
