@@ -165,6 +165,7 @@ class parameter_residual_with_automatic_differentiation {
     }
   }
   void sweep(const Eigen::VectorXd& u, const Eigen::VectorXd& v, Eigen::VectorXd& out) {
+    if (out.size() != u.size()) out.resize(u.size());  // callers outside nkit may pass an empty vector
     detail::forward_mode_product(u, v, out, m_dual_state, m_dual_residual,
                                  [this](const dual_vector& x, dual_vector& r) {
                                    m_residual(x, static_cast<const dual_vector&>(m_dual_parameters), r);
