@@ -744,8 +744,8 @@ TEST_CASE("cost of sensitivities in work units", "[.sensitivity_cost]") {
   const nkit::adjoint_sensitivity_result adjoint = nkit::adjoint_sensitivities(solver, ad_problem, p, flux);
   for (const nkit::sensitivity_report* report : {&direct.report, &adjoint.report}) {
     std::printf(
-        "%s sensitivities, 4 parameters: %.3e s = %.1f work units; %d linear solves, %lld linear iterations, %lld "
-        "J.v, %lld J^T.w, %lld dR/dp.dp, %lld residual evaluations, %lld assemblies\n",
+        "%s sensitivities, 4 parameters: %.3e s = %.1f work units; linear solves %d, linear iterations %lld, "
+        "J.v %lld, J^T.w %lld, dR/dp.dp %lld, residual evaluations %lld, assemblies %lld\n",
         report->method == nkit::sensitivity_method::direct ? "direct" : "adjoint", report->wall_seconds,
         report->work_units(), report->linear_solves, static_cast<long long>(report->linear_iterations),
         static_cast<long long>(report->jacobian_vector_products), static_cast<long long>(report->transposed_products),
