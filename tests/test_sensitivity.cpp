@@ -36,6 +36,7 @@
 //    small multiple of n ε κ(M) ‖M⁻¹‖ ‖v‖ ‖w‖.
 #include <Eigen/Dense>
 #include <Eigen/SparseCore>
+#include <atomic>
 #include <catch2/catch.hpp>
 #include <chrono>
 #include <cmath>
@@ -680,6 +681,41 @@ TEST_CASE("sensitivities with variable and residual scaling equal those without"
     CHECK_THAT(scaled_direct.gradient(j), WithinAbs(plain_direct.gradient(j), bound));
     CHECK_THAT(scaled_adjoint.gradient(j), WithinAbs(plain_adjoint.gradient(j), bound));
   }
+}
+
+TEST_CASE("a budget of the Newton solver stops sensitivities without an exception", "[sensitivity][budgets]") {
+  // The cancellation flag, raised after the converged solve: every linearized
+  // call stops at its first check; products give NaN, solves report it.
+  conduction_design design;
+  design.nx = design.ny = 4;
+  conduction_with_pattern_only problem(design);  // differences: every J·v evaluates the residual
+  const Eigen::VectorXd p = design_parameters;
+  auto fixed = nkit::at_parameters(problem, p);
+  const west_heat_flux flux{&design};
+  std::atomic<bool> cancel{false};
+  nkit::newton_settings settings = tight_settings();
+  settings.cancellation_flag = &cancel;
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(design.unknowns());
+  REQUIRE(solver.solve(fixed, u).converged());
+  cancel = true;
+  const nkit::direct_sensitivity_result direct = nkit::direct_sensitivities(solver, problem, p, flux);
+  CHECK_FALSE(direct.report.linear_solves_converged);
+  CHECK(direct.report.stopped_by == nkit::stop_reason::cancellation_flag_raised);
+  CHECK(direct.gradient.hasNaN());
+  const nkit::adjoint_sensitivity_result adjoint = nkit::adjoint_sensitivities(solver, problem, p, flux);
+  CHECK_FALSE(adjoint.report.linear_solves_converged);
+  CHECK(adjoint.report.stopped_by == nkit::stop_reason::cancellation_flag_raised);
+  Eigen::VectorXd out;
+  solver.linearized_product(fixed, u, out);
+  CHECK(out.hasNaN());
+  CHECK(solver.linearized_stop_reason() == nkit::stop_reason::cancellation_flag_raised);
+  // A new run starts afresh.
+  cancel = false;
+  u.setZero();
+  REQUIRE(solver.solve(fixed, u).converged());
+  CHECK_FALSE(solver.linearized_stop_reason().has_value());
+  CHECK(nkit::direct_sensitivities(solver, problem, p, flux).report.linear_solves_converged);
 }
 
 TEST_CASE("adjoint sensitivities need a transposable preconditioner", "[sensitivity][bad_input]") {

@@ -24,10 +24,18 @@
 /// (‖D_r⁻¹(b − R' x)‖ for R' x = b, ‖D_u(b − R'ᵀ x)‖ for R'ᵀ x = b).
 /// linearized_jacobian() returns J̃ (equal to R'(u*) without scaling).
 ///
+/// The run's budgets still hold, counted from the first linearized call: the
+/// residual-evaluation budget, the wall-time budget and the cancellation
+/// flag. When one stops a call, nothing is thrown: a product returns NaN, a
+/// solve returns status monitor_requested_stop with x = NaN (or GMRES's best
+/// iterate when the stop came between iterations), and last_stop_reason()
+/// says which budget it was.
+///
 /// Limits: serial Eigen vectors for the transposed members. `problem` must be
 /// the residual the run solved (nkit cannot check it).
 
 #include <cstdint>
+#include <limits>
 #include <stdexcept>
 #include <string>
 #include <type_traits>
@@ -54,6 +62,7 @@ class converged_linearization {
     m_transposed_products = 0;
     m_started = false;
     m_physical_ready = false;
+    m_stop = stop_reason_if_stopped{};
     m_jacobian = nullptr;
   }
 
@@ -97,14 +106,17 @@ class converged_linearization {
   void product(const driver_parts& parts, Problem& problem, const vector_type& v, vector_type& out) {
     prepare(parts, v, "linearized_product");
     if (out.size() != v.size()) parts.access.space().allocate_like(out, v);
-    if (!parts.access.scaled()) {
-      parts.access.apply_jacobian(problem, v, out);
-      return;
-    }
-    copy_to_work(parts, v);
-    parts.access.apply_variable_scale(m_work, false);
-    parts.access.apply_jacobian(problem, m_work, out);
-    parts.access.apply_residual_scale(out, true);
+    const bool finished = guarded(parts, out, [&] {
+      if (!parts.access.scaled()) {
+        parts.access.apply_jacobian(problem, v, out);
+        return;
+      }
+      copy_to_work(parts, v);
+      parts.access.apply_variable_scale(m_work, false);
+      parts.access.apply_jacobian(problem, m_work, out);
+      parts.access.apply_residual_scale(out, true);
+    });
+    static_cast<void>(finished);
   }
 
   /// R'(u*) x = rhs by GMRES from x = 0 to the relative tolerance.
@@ -115,18 +127,27 @@ class converged_linearization {
     check_tolerance(relative_tolerance, "linearized_solve");
     if (x.size() != rhs.size()) parts.access.space().allocate_like(x, rhs);
     problem_access<Space>& access = parts.access;
-    auto monitor = [&access](int, double) {
-      access.check_cancellation_and_clock();
+    auto monitor = [this, &access](int, double) {
+      try {
+        access.check_cancellation_and_clock();
+      } catch (const stop_signal& signal) {
+        m_stop = signal.reason;
+        return monitor_decision::stop_now;
+      }
       return monitor_decision::keep_going;
     };
-    if (!parts.access.scaled()) {
-      return parts.linear.solve(parts.access, problem, parts.ledger, rhs, x, relative_tolerance, monitor, nullptr);
-    }
-    copy_to_work(parts, rhs);
-    parts.access.apply_residual_scale(m_work, false);
-    const linear_solve_result result =
-        parts.linear.solve(parts.access, problem, parts.ledger, m_work, x, relative_tolerance, monitor, nullptr);
-    parts.access.apply_variable_scale(x, true);
+    linear_solve_result result;
+    result.status = linear_solve_status::monitor_requested_stop;  // kept when a budget stops a product
+    guarded(parts, x, [&] {
+      if (!parts.access.scaled()) {
+        result = parts.linear.solve(parts.access, problem, parts.ledger, rhs, x, relative_tolerance, monitor, nullptr);
+        return;
+      }
+      copy_to_work(parts, rhs);
+      parts.access.apply_residual_scale(m_work, false);
+      result = parts.linear.solve(parts.access, problem, parts.ledger, m_work, x, relative_tolerance, monitor, nullptr);
+      parts.access.apply_variable_scale(x, true);
+    });
     return result;
   }
 
@@ -134,7 +155,10 @@ class converged_linearization {
   template <class Problem>
   void transpose_product(const driver_parts& parts, Problem& problem, const vector_type& w, vector_type& out) {
     prepare(parts, w, "linearized_transpose_product");
-    const sparse_matrix& jacobian = assembled(parts, problem);
+    const sparse_matrix* assembled_matrix = nullptr;
+    if (out.size() != w.size()) out.resize(w.size());
+    if (!guarded(parts, out, [&] { assembled_matrix = &assembled(parts, problem); })) return;
+    const sparse_matrix& jacobian = *assembled_matrix;
     const auto start = clock_type::now();
     if (parts.access.scaled()) {
       copy_to_work(parts, w);
@@ -154,8 +178,14 @@ class converged_linearization {
                                       vector_type& x, double relative_tolerance) {
     prepare(parts, rhs, "linearized_transpose_solve");
     check_tolerance(relative_tolerance, "linearized_transpose_solve");
-    const sparse_matrix& jacobian = assembled(parts, problem);
     if (x.size() != rhs.size()) x.resize(rhs.size());
+    const sparse_matrix* assembled_matrix = nullptr;
+    if (!guarded(parts, x, [&] { assembled_matrix = &assembled(parts, problem); })) {
+      linear_solve_result stopped;
+      stopped.status = linear_solve_status::monitor_requested_stop;
+      return stopped;
+    }
+    const sparse_matrix& jacobian = *assembled_matrix;
     if (!parts.access.scaled()) {
       return parts.linear.solve_transposed(jacobian, parts.ledger, rhs, x, relative_tolerance, m_transposed_products);
     }
@@ -194,12 +224,28 @@ class converged_linearization {
   }
 
   const solve_report& report() const { return m_report; }
+  /// The budget that stopped the last stopped call since the run ended (empty when none did).
+  stop_reason_if_stopped last_stop_reason() const { return m_stop; }
   std::int64_t transposed_products() const { return m_transposed_products; }
 
  private:
   static void check_tolerance(double relative_tolerance, const char* caller) {
     if (!(relative_tolerance >= 0.0 && relative_tolerance < 1.0)) {
       throw_invalid_setting(std::string(caller) + " relative_tolerance", "in [0, 1)", relative_tolerance);
+    }
+  }
+
+  /// Runs `call`; when a budget, the clock or the cancellation flag stops it
+  /// (detail::stop_signal), records why, fills `output` with NaN and returns false.
+  template <class Call>
+  bool guarded(const driver_parts& parts, vector_type& output, Call&& call) {
+    try {
+      call();
+      return true;
+    } catch (const stop_signal& signal) {
+      m_stop = signal.reason;
+      parts.access.space().fill(std::numeric_limits<double>::quiet_NaN(), output);
+      return false;
     }
   }
 
@@ -212,6 +258,7 @@ class converged_linearization {
   vector_type m_work;      ///< scaled copy of an input vector
   vector_type m_physical;  ///< u* in physical units
   bool m_physical_ready = false;
+  stop_reason_if_stopped m_stop;
   std::int64_t m_transposed_products = 0;
   const sparse_matrix* m_jacobian = nullptr;  ///< problem access's matrix, assembled at u*
   bool m_started = false;

@@ -202,6 +202,9 @@ class newton_krylov_solver {
   }
   /// Costs of the linearized_* calls since the last run ended (wall_seconds is not filled in).
   const solve_report& linearized_report() const { return m_linearized.report(); }
+  /// Which budget (residual evaluations, wall time, cancellation) stopped a linearized call since the last run
+  /// ended; empty when none did. Stopped products return NaN, stopped solves status monitor_requested_stop.
+  stop_reason_if_stopped linearized_stop_reason() const { return m_linearized.last_stop_reason(); }
   /// Transposed products R'(u*)ᵀ w since the last run ended.
   std::int64_t linearized_transposed_products() const { return m_linearized.transposed_products(); }
   /// The state the last run ended at in physical units (u*, when last_report().converged()); empty before any run.

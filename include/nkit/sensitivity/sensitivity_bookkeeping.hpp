@@ -69,6 +69,7 @@ class sensitivity_ledger {
     report.parameters = static_cast<int>(parameters);
     report.linear_solves = m_solves;
     report.linear_solves_converged = m_converged;
+    report.stopped_by = m_solver.linearized_stop_reason();
     report.largest_relative_linear_residual = m_largest;
     report.linear_iterations = after.linear_iterations - m_before.linear_iterations;
     report.jacobian_vector_products = after.jacobian_vector_products - m_before.jacobian_vector_products;

@@ -15,6 +15,7 @@
 
 #include "../detail/checks.hpp"
 #include "../jacobian/finite_difference_jacobian.hpp"
+#include "../report/outcome.hpp"
 
 namespace nkit {
 
@@ -43,6 +44,9 @@ struct sensitivity_report {
   int parameters = 0;     ///< m, the size of p
   int linear_solves = 0;  ///< direct: m; adjoint: 1
   bool linear_solves_converged = true;
+  /// The Newton solver's budget (residual evaluations, wall time, cancellation flag; counted from the
+  /// end of its run) that stopped a linear solve or product, leaving NaN in the gradient; empty when none did.
+  stop_reason_if_stopped stopped_by;
   double largest_relative_linear_residual = 0.0;  ///< max over the solves of ‖b − A x‖/‖b‖
   std::int64_t linear_iterations = 0;
   std::int64_t jacobian_vector_products = 0;  ///< R'(u*) v, in the direct solves
