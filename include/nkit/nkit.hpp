@@ -74,6 +74,11 @@
 // fixed-point maps: the adapter to Newton–Krylov and Anderson acceleration
 #include "fixed_point/anderson_solver.hpp"
 #include "fixed_point/fixed_point_residual.hpp"
+#include "sensitivity/adjoint_sensitivity.hpp"
+#include "sensitivity/direct_sensitivity.hpp"
+#include "sensitivity/output_functional.hpp"
+#include "sensitivity/parameter_residual.hpp"
+#include "sensitivity/sensitivity_report.hpp"
 
 #include "version.hpp"
 

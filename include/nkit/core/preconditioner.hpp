@@ -14,6 +14,10 @@
 ///   static constexpr bool changes_between_applications = true;
 ///       the operator M⁻¹ varies from one apply to the next (an inner
 ///       iteration): the solver then uses flexible GMRES.
+///   void apply_transpose(const vector_type& r, vector_type& z)   z = M⁻ᵀ r, no allocation
+///       the transposed preconditioner, for solves with the transposed
+///       Jacobian (adjoint sensitivities, sensitivity/adjoint_sensitivity.hpp);
+///       ⟨M⁻¹ v, w⟩ = ⟨v, M⁻ᵀ w⟩ must hold to rounding.
 /// apply() is called once per GMRES iteration: keep it a template parameter
 /// of the solver for zero overhead, or use any_preconditioner to choose at
 /// run time (one virtual call per application). Lambdas plug in through
@@ -87,6 +91,10 @@ struct identity_preconditioner {
   void apply(const Vector& r, Vector& z) const {
     z = r;
   }
+  template <class Vector>
+  void apply_transpose(const Vector& r, Vector& z) const {
+    z = r;
+  }
 };
 
 namespace detail {
@@ -107,6 +115,14 @@ struct declares_changes : std::false_type {};
 template <class P>
 struct declares_changes<P, std::void_t<decltype(P::changes_between_applications)>>
     : std::bool_constant<P::changes_between_applications> {};
+
+template <class P, class Vector, class = void>
+struct has_apply_transpose : std::false_type {};
+template <class P, class Vector>
+struct has_apply_transpose<
+    P, Vector,
+    std::void_t<decltype(std::declval<P&>().apply_transpose(std::declval<const Vector&>(), std::declval<Vector&>()))>>
+    : std::true_type {};
 
 template <class P, class = void>
 struct has_runtime_changes : std::false_type {};
@@ -185,6 +201,10 @@ bool changes_between_applications(const Preconditioner& preconditioner) {
 /// member every preconditioner needs.
 template <class Preconditioner, class Vector>
 inline constexpr bool is_preconditioner_v = detail::is_linear_operator_impl<Preconditioner, Vector>::value;
+
+/// True when `Preconditioner` has the optional apply_transpose(const Vector& r, Vector& z): z = M⁻ᵀ r.
+template <class Preconditioner, class Vector>
+inline constexpr bool has_apply_transpose_v = detail::has_apply_transpose<Preconditioner, Vector>::value;
 
 /// Adapts an apply-only callable `apply(r, z)` (and optionally a setup
 /// callable `setup(context)`) into a preconditioner. `Varies` = true
@@ -265,6 +285,14 @@ class any_preconditioner {
       z = r;
     }
   }
+  /// z = M⁻ᵀ r; throws std::invalid_argument when the wrapped object has no apply_transpose.
+  void apply_transpose(const vector_type& r, vector_type& z) {
+    if (m_model) {
+      m_model->apply_transpose(r, z);
+    } else {
+      z = r;
+    }
+  }
   setup_status setup(const preconditioner_context<Space>& context) {
     return m_model ? m_model->setup(context) : setup_status::ready;
   }
@@ -283,6 +311,7 @@ class any_preconditioner {
   struct concept_base {
     virtual ~concept_base() = default;
     virtual void apply(const vector_type& r, vector_type& z) = 0;
+    virtual void apply_transpose(const vector_type& r, vector_type& z) = 0;
     virtual setup_status setup(const preconditioner_context<Space>& context) = 0;
     virtual std::size_t memory_bytes() const = 0;
     virtual bool changes() const = 0;
@@ -292,6 +321,16 @@ class any_preconditioner {
     template <class P>
     explicit model(P&& p) : value(std::forward<P>(p)) {}
     void apply(const vector_type& r, vector_type& z) override { value.apply(r, z); }
+    void apply_transpose(const vector_type& r, vector_type& z) override {
+      if constexpr (has_apply_transpose_v<Preconditioner, vector_type>) {
+        value.apply_transpose(r, z);
+      } else {
+        static_cast<void>(r), static_cast<void>(z);
+        throw std::invalid_argument(
+            "nkit: the preconditioner held by any_preconditioner has no apply_transpose(r, z), which solves with "
+            "the transposed Jacobian need");
+      }
+    }
     setup_status setup(const preconditioner_context<Space>& context) override {
       return setup_preconditioner(value, context);
     }

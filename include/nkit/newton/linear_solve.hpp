@@ -6,7 +6,10 @@
 /// life cycle (rebuilt when the preconditioner_schedule says so, set up from
 /// the state and, on demand, the assembled Jacobian; every application timed)
 /// and right-preconditioned GMRES on the problem's J·v operator. The Newton
-/// driver owns one and asks it for a direction once per step.
+/// driver owns one and asks it for a direction once per step. After a
+/// converged solve it also solves with the transposed assembled Jacobian,
+/// preconditioned by the preconditioner's apply_transpose (adjoint
+/// sensitivities; newton_krylov_solver::linearized_transpose_solve).
 ///
 /// Booked phases (report/phase_ledger.hpp): preconditioner_setup (minus the
 /// Jacobian assembly inside it), preconditioner_apply, orthogonalization and
@@ -129,6 +132,61 @@ class preconditioned_linear_solve {
     report.linear_iterations = used_before + result.iterations;
     report.calls.orthogonalization += result.iterations;
     m_schedule.record_linear_solve(result.iterations, result.converged());
+    return result;
+  }
+
+  /// Solves Jᵀ x = rhs to relative tolerance eta from x = 0 with GMRES on
+  /// the transposed assembled Jacobian `jacobian`, right-preconditioned by
+  /// M⁻ᵀ (the preconditioner's apply_transpose; the identity needs none).
+  /// Throws std::invalid_argument when the preconditioner has no
+  /// apply_transpose. Serial Eigen vectors only. Each product Jᵀ v is booked
+  /// to the J·v phase and counted in `transposed_products`.
+  linear_solve_result solve_transposed(const sparse_matrix& jacobian, phase_ledger& ledger, const vector_type& rhs,
+                                       vector_type& x, double eta, std::int64_t& transposed_products) {
+    static_assert(std::is_same_v<vector_type, Eigen::VectorXd>,
+                  "nkit: transposed solves need the serial Eigen vector space (the Jacobian is assembled locally)");
+    struct transposed_operator {
+      const sparse_matrix* matrix;
+      phase_ledger* ledger;
+      std::int64_t* count;
+      void apply(const vector_type& v, vector_type& out) const {
+        const auto start = clock_type::now();
+        out.noalias() = matrix->transpose() * v;
+        ledger->record(trace_phase::jacobian_vector, start, clock_type::now());
+        ++*count;
+      }
+    };
+    transposed_operator op{&jacobian, &ledger, &transposed_products};
+    solve_report& report = ledger.report();
+    phase_scope scope(ledger, trace_phase::linear_solve, 0);
+    linear_solve_result result;
+    if constexpr (std::is_same_v<target_type, identity_preconditioner>) {
+      result = m_gmres.solve(op, target(), rhs, x, eta, initial_guess::zero);
+    } else if constexpr (has_apply_transpose_v<target_type, vector_type>) {
+      struct timed_transpose {
+        preconditioned_linear_solve* owner;
+        phase_ledger* ledger;
+        void apply(const vector_type& r, vector_type& z) {
+          const auto start = clock_type::now();
+          owner->target().apply_transpose(r, z);
+          ledger->record(trace_phase::preconditioner_apply, start, clock_type::now());
+          ++ledger->report().preconditioner_applications;
+        }
+        bool changes_between_applications() const { return nkit::changes_between_applications(owner->target()); }
+      };
+      timed_transpose preconditioner{this, &ledger};
+      result = m_gmres.solve(op, preconditioner, rhs, x, eta, initial_guess::zero);
+    } else {
+      static_cast<void>(op), static_cast<void>(rhs), static_cast<void>(x), static_cast<void>(eta);
+      throw std::invalid_argument(
+          "nkit: the Newton solver's preconditioner has no apply_transpose(r, z), which the transposed (adjoint) "
+          "solve needs; give it one, or use one that has it (identity, jacobi, ilu_zero, incomplete_lut, "
+          "sparse_direct)");
+    }
+    ledger.add(trace_phase::orthogonalization, result.orthogonalization_seconds);
+    scope.close();
+    report.linear_iterations += result.iterations;
+    report.calls.orthogonalization += result.iterations;
     return result;
   }
 

@@ -26,6 +26,11 @@
 /// pseudo_time_weights; and field_layout() (newton/field_residual_tracker.hpp:
 /// the report then holds ‖R_f‖ per field; serial Eigen space only).
 ///
+/// After a converged run, the linearized_* members work with R'(u*) at its
+/// state u* (converged_linearization.hpp): J·v products and GMRES solves
+/// with the run's operator and last preconditioner, transposed products and
+/// solves from the Jacobian assembled at u*. Sensitivities use them.
+///
 /// Allocation: the workspace (Newton vectors, GMRES basis, difference
 /// vectors, history capacity) is allocated on the first solve and kept, so a
 /// later solve of the same size allocates nothing in its iterations; solve()
@@ -56,6 +61,7 @@
 #include "../report/phase_ledger.hpp"
 #include "../report/report.hpp"
 #include "../report/trace.hpp"
+#include "converged_linearization.hpp"
 #include "field_residual_tracker.hpp"
 #include "linear_solve.hpp"
 #include "newton_settings.hpp"
@@ -163,6 +169,53 @@ class newton_krylov_solver {
            m_report.history.capacity() * sizeof(newton_step_record) + field_bytes;
   }
 
+  // ---- R'(u*) at the converged state of the last run (converged_linearization.hpp) ----
+  // Each throws std::invalid_argument when the last run did not converge or when a
+  // vector's size differs from the state's. Vectors are physical; with scaling,
+  // tolerances apply to the scaled residual. `problem` must be the residual that run solved.
+
+  /// out = R'(u*) v with the run's J·v operator (the problem's product or finite differences).
+  template <class Problem>
+  void linearized_product(Problem& problem, const vector_type& v, vector_type& out) {
+    m_linearized.product(linearized_parts(), problem, v, out);
+  }
+  /// Solves R'(u*) x = rhs from x = 0 until ‖rhs − R'(u*) x‖ <= relative_tolerance·‖rhs‖, with GMRES
+  /// (settings.linear) and the preconditioner as set up for the last Newton step.
+  template <class Problem>
+  linear_solve_result linearized_solve(Problem& problem, const vector_type& rhs, vector_type& x,
+                                       double relative_tolerance) {
+    return m_linearized.solve(linearized_parts(), problem, rhs, x, relative_tolerance);
+  }
+  /// out = R'(u*)ᵀ w, from the Jacobian assembled at u* (once per converged state).
+  template <class Problem>
+  void linearized_transpose_product(Problem& problem, const vector_type& w, vector_type& out) {
+    m_linearized.transpose_product(linearized_parts(), problem, w, out);
+  }
+  /// Solves R'(u*)ᵀ x = rhs as linearized_solve does, with the assembled Jacobian transposed and the
+  /// preconditioner's apply_transpose (std::invalid_argument when it has none).
+  template <class Problem>
+  linear_solve_result linearized_transpose_solve(Problem& problem, const vector_type& rhs, vector_type& x,
+                                                 double relative_tolerance) {
+    return m_linearized.transpose_solve(linearized_parts(), problem, rhs, x, relative_tolerance);
+  }
+  /// R'(u*) assembled at the converged state (D_r⁻¹ R'(u*) D_u with scaling): the matrix the transposed members use.
+  template <class Problem>
+  const sparse_matrix& linearized_jacobian(Problem& problem) {
+    m_linearized.prepare(linearized_parts(), m_state, "linearized_jacobian");
+    return m_linearized.assembled(linearized_parts(), problem);
+  }
+  /// Costs of the linearized_* calls since the last run ended (wall_seconds is not filled in).
+  const solve_report& linearized_report() const { return m_linearized.report(); }
+  /// Which budget (residual evaluations, wall time, cancellation) stopped a linearized call since the last run
+  /// ended; empty when none did. Stopped products return NaN, stopped solves status monitor_requested_stop.
+  stop_reason_if_stopped linearized_stop_reason() const { return m_linearized.last_stop_reason(); }
+  /// Transposed products R'(u*)ᵀ w since the last run ended.
+  std::int64_t linearized_transposed_products() const { return m_linearized.transposed_products(); }
+  /// The state the last run ended at in physical units (u*, when last_report().converged()); empty before any run.
+  const vector_type& converged_state() { return m_linearized.physical_state(linearized_parts()); }
+  /// The last run's report (its stop reason, median residual time).
+  const solve_report& last_report() const { return m_report; }
+
   /// Bytes held for the assembled Jacobian (values, indices, row offsets, coloring workspace).
   std::size_t assembled_jacobian_bytes() const { return m_access.assembled_jacobian_bytes(); }
 
@@ -172,6 +225,10 @@ class newton_krylov_solver {
 
   /// History records reserved up front (about 130 bytes each).
   static constexpr int maximum_reserved_history = 1024;
+
+  typename detail::converged_linearization<Space, Preconditioner>::driver_parts linearized_parts() {
+    return {m_report, m_access, m_linear, m_ledger, m_state, m_residual};
+  }
 
   static const newton_settings& validated(const newton_settings& settings) {
     settings.validate();
@@ -198,6 +255,7 @@ class newton_krylov_solver {
         std::max(m_history_capacity,
                  static_cast<std::size_t>(std::min(m_settings.newton_step_budget, maximum_reserved_history)));
     m_ledger.begin(m_report, m_history_capacity);
+    m_linearized.reset();
 
     for (vector_type* v : {&m_state, &m_residual, &m_step, &m_best_state}) m_space.allocate_like(*v, u);
     m_access.template start<Problem>(m_ledger, m_state);
@@ -473,6 +531,7 @@ class newton_krylov_solver {
   std::size_t m_history_capacity = 0;
 
   detail::newton_step_control<Space> m_steps;
+  detail::converged_linearization<Space, Preconditioner> m_linearized;
 
   // Newton vectors (scaled variables when scaling is set).
   vector_type m_state, m_residual, m_step, m_best_state;

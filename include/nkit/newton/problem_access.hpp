@@ -140,6 +140,26 @@ class problem_access {
     }
   }
   void clear_scaling() { m_variable_scaling = m_residual_scaling = false; }
+  /// Whether a variable or residual scale is set.
+  bool scaled() const { return m_variable_scaling || m_residual_scaling; }
+  /// In place: x ← D_u x (`physical`) or x ← D_u⁻¹ x, for states and state directions; nothing without scaling.
+  void apply_variable_scale(vector_type& x, bool physical) const {
+    if (!m_variable_scaling) return;
+    if (physical) {
+      m_space.multiply(m_variable_scale, x);
+    } else {
+      m_space.divide(m_variable_scale, x);
+    }
+  }
+  /// In place: r ← D_r r (`physical`) or r ← D_r⁻¹ r, for residuals; nothing without scaling.
+  void apply_residual_scale(vector_type& r, bool physical) const {
+    if (!m_residual_scaling) return;
+    if (physical) {
+      m_space.multiply(m_residual_scale, r);
+    } else {
+      m_space.divide(m_residual_scale, r);
+    }
+  }
 
   // ---- a solve's start and end -------------------------------------------------------
 

@@ -17,7 +17,9 @@
 /// doubles and ints), plus O(n) ints; the unit diagonal of L is implicit.
 /// Apply: one forward and one backward sweep over the factor, 2·nnz
 /// multiply-adds; allocates nothing (z must already have r's size, as
-/// GMRES guarantees; otherwise it is resized once).
+/// GMRES guarantees; otherwise it is resized once). apply_transpose
+/// (z = (LU)⁻ᵀ r = L⁻ᵀ U⁻ᵀ r, for adjoint solves) runs the same sweeps on the
+/// transposed factors, column-oriented over the same rows: same cost.
 ///
 /// Fallback (setup_status::ready_with_fallback): a pivot u_ii that is zero,
 /// not finite, or tiny (|u_ii| <= ε·‖J_i,:‖∞) is replaced by ±‖J_i,:‖∞ (sign
@@ -147,6 +149,32 @@ class ilu_zero_preconditioner {
       double sum = x[i];
       for (int p = upper_starts[i]; p < upper_starts[i + 1]; ++p) sum -= upper_values[p] * x[upper_columns[p]];
       x[i] = sum * inverse_pivot[i];
+    }
+  }
+
+  /// z = (LU)⁻ᵀ r: Uᵀ y = r (forward), then Lᵀ z = y (backward, unit
+  /// diagonal). Uᵀ and Lᵀ are read from the row-stored U and L, so each
+  /// sweep scatters a finished entry into the later ones (column-oriented
+  /// triangular solve, common practice).
+  void apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) const {
+    const int n = static_cast<int>(m_inverse_pivot.size());
+    z = r;
+    double* x = z.data();
+    const int* upper_starts = m_upper_starts.data();
+    const int* upper_columns = m_upper_columns.data();
+    const double* upper_values = m_upper_values.data();
+    const double* inverse_pivot = m_inverse_pivot.data();
+    for (int i = 0; i < n; ++i) {  // Uᵀ y = r: row i of U is column i of Uᵀ
+      const double value = x[i] * inverse_pivot[i];
+      x[i] = value;
+      for (int p = upper_starts[i]; p < upper_starts[i + 1]; ++p) x[upper_columns[p]] -= upper_values[p] * value;
+    }
+    const int* lower_starts = m_lower_starts.data();
+    const int* lower_columns = m_lower_columns.data();
+    const double* lower_values = m_lower_values.data();
+    for (int i = n - 1; i >= 0; --i) {  // Lᵀ z = y, unit diagonal
+      const double value = x[i];
+      for (int p = lower_starts[i]; p < lower_starts[i + 1]; ++p) x[lower_columns[p]] -= lower_values[p] * value;
     }
   }
 

@@ -14,6 +14,12 @@
 /// (Eigen permutes through temporaries). memory_bytes() is an upper bound
 /// from the fill limit: Eigen does not expose the factor's size.
 ///
+/// apply_transpose (z = M⁻ᵀ r, for adjoint solves): Eigen applies
+/// M⁻¹ = P U⁻¹ L⁻¹ P⁻¹ (P the fill-reducing permutation), so
+/// M⁻ᵀ = P L⁻ᵀ U⁻ᵀ P⁻¹; nkit reads the factor and permutations through a
+/// subclass of Eigen::IncompleteLUT (they are protected members there) and
+/// solves with the transposed triangular views. Allocates like apply.
+///
 /// Fallback (setup_status::ready_with_fallback): Eigen replaces zero pivots
 /// itself (by √drop_tolerance × row norm); when it reports a failure (an
 /// empty row) nkit builds point Jacobi (jacobi.hpp) instead and
@@ -44,6 +50,20 @@ struct incomplete_lut_settings {
   }
 };
 
+namespace detail {
+/// Eigen::IncompleteLUT with read access to its factor and permutations.
+class readable_incomplete_lut : public Eigen::IncompleteLUT<double, int> {
+ public:
+  /// z = M⁻ᵀ r for M⁻¹ r = P U⁻¹ L⁻¹ P⁻¹ r (Eigen's solve).
+  void solve_transposed(const Eigen::VectorXd& r, Eigen::VectorXd& z) const {
+    z = m_P.transpose() * r;  // P⁻ᵀ = P, Pᵀ = P⁻¹
+    z = m_lu.template triangularView<Eigen::Upper>().transpose().solve(z);
+    z = m_lu.template triangularView<Eigen::UnitLower>().transpose().solve(z);
+    z = m_Pinv.transpose() * z;
+  }
+};
+}  // namespace detail
+
 class incomplete_lut_preconditioner {
  public:
   incomplete_lut_preconditioner() : incomplete_lut_preconditioner(incomplete_lut_settings{}) {}
@@ -55,7 +75,7 @@ class incomplete_lut_preconditioner {
     detail::require_square(matrix, "incomplete_lut_preconditioner");
     if (!detail::stored_values_finite(matrix)) return setup_status::failed;
     if (!m_factor) {
-      m_factor = std::make_unique<Eigen::IncompleteLUT<double, int>>();
+      m_factor = std::make_unique<detail::readable_incomplete_lut>();
       m_factor->setDroptol(m_settings.drop_tolerance);
       m_factor->setFillfactor(m_settings.fill_factor);
     }
@@ -85,6 +105,15 @@ class incomplete_lut_preconditioner {
     }
   }
 
+  /// z = M⁻ᵀ r (see the file comment).
+  void apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) const {
+    if (m_jacobi_fallback) {
+      m_jacobi.apply_transpose(r, z);
+    } else {
+      m_factor->solve_transposed(r, z);
+    }
+  }
+
   /// Upper bound: (2·fill_factor + 1)·nnz(J) entries of 12 bytes, plus the structure copy.
   std::size_t memory_bytes() const {
     return (2 * static_cast<std::size_t>(m_settings.fill_factor) + 1) * m_nonzeros * (sizeof(double) + sizeof(int)) +
@@ -95,7 +124,7 @@ class incomplete_lut_preconditioner {
 
  private:
   incomplete_lut_settings m_settings;
-  std::unique_ptr<Eigen::IncompleteLUT<double, int>> m_factor;  // Eigen's class is not movable; this keeps us movable
+  std::unique_ptr<detail::readable_incomplete_lut> m_factor;  // Eigen's class is not movable; this keeps us movable
   detail::structure_fingerprint m_structure;
   jacobi_preconditioner m_jacobi;
   std::size_t m_nonzeros = 0;

@@ -50,6 +50,8 @@ class jacobi_preconditioner {
   }
 
   void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) const { z = r.cwiseProduct(m_inverse_diagonal); }
+  /// z = M⁻ᵀ r = M⁻¹ r (M is diagonal).
+  void apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) const { apply(r, z); }
 
   std::size_t memory_bytes() const { return sizeof(double) * static_cast<std::size_t>(m_inverse_diagonal.size()); }
   /// Diagonal entries replaced by the fallback in the last setup.

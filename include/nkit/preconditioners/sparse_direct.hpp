@@ -17,6 +17,10 @@
 /// changes, every setup refactorises numerically. Apply: two triangular
 /// solves with the factors (allocates temporaries inside Eigen).
 ///
+/// apply_transpose (z = M⁻ᵀ r, for adjoint solves) exists when the
+/// factorisation offers transpose().solve() (Eigen::SparseLU does): two
+/// triangular solves with the same factors, no refactorisation.
+///
 /// Fallback (setup_status::ready_with_fallback): when the factorisation
 /// reports failure (J singular to working precision), nkit factorises
 /// J + δI with δ = √ε·‖J‖∞ instead (shifted_by() returns δ); when that also
@@ -29,6 +33,7 @@
 #include <limits>
 #include <memory>
 #include <type_traits>
+#include <utility>
 
 #include "../core/preconditioner.hpp"
 #include "../detail/sparse_helpers.hpp"
@@ -88,6 +93,13 @@ class direct_factorization_preconditioner {
   }
 
   void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) const { z = m_factor->solve(r); }
+
+  /// z = M⁻ᵀ r with the same factors; only when Factorization has transpose().solve().
+  template <class F = Factorization>
+  auto apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) const
+      -> decltype(static_cast<void>(std::declval<F&>().transpose().solve(r))) {
+    z = m_factor->transpose().solve(r);
+  }
 
   /// Factor storage (L and U nonzeros, 12 bytes each, when the factorisation
   /// reports them) plus the column-major copy of J.
