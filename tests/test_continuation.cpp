@@ -238,7 +238,7 @@ TEST_CASE("continuation settings are validated with the field named", "[continua
   CHECK_NOTHROW(settings.validate());
   settings = {};
   settings.corrector.newton_step_budget = 0;
-  CHECK_THROWS_WITH(settings.validate(), Catch::Contains("newton_settings.newton_step_budget"));
+  CHECK_THROWS_WITH(settings.validate(), Catch::Contains("continuation_settings.corrector.newton_step_budget"));
   settings = {};
   settings.parameter_lower_bound = 1.0;
   nkit::continuation_solver<> solver(settings);

@@ -134,6 +134,10 @@ TEST_CASE("Bad settings and inputs of the time stepper throw naming the value", 
   s.preconditioner_rebuild.shift_change_factor = 1.0;
   CHECK_THROWS_WITH(nkit::implicit_time_stepper<>(s),
                     "nkit: time_stepper_settings.preconditioner_rebuild.shift_change_factor must be > 1 (got 1)");
+  s = {};
+  s.stage.newton.newton_step_budget = 0;  // a nested Newton setting is named by its full path
+  CHECK_THROWS_WITH(nkit::implicit_time_stepper<>(s),
+                    "nkit: time_stepper_settings.stage.newton.newton_step_budget must be >= 1 (got 0)");
   CHECK_THROWS_WITH(nkit::mass_matrix<Eigen::VectorXd>::diagonal(Eigen::Vector2d(1.0, -1.0)),
                     "nkit: mass_matrix::diagonal entry 1 must be finite and >= 0 (got -1)");
 

@@ -216,7 +216,7 @@ struct continuation_settings {
                                         detail::number_text(tangent_linear_tolerance) + ")",
                                     maximum_tangent_residual);
     }
-    corrector.validate();
+    corrector.validate(p + "corrector");
   }
 };
 

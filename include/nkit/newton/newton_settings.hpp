@@ -138,41 +138,43 @@ struct newton_settings {
   preconditioner_rebuild_settings preconditioner_rebuild;
 
   /// Throws std::invalid_argument naming the first bad field and its value.
-  void validate() const {
-    detail::require_non_negative("newton_settings.relative_tolerance", relative_tolerance);
+  /// `prefix` names this struct in messages (e.g. "time_stepper_settings.stage.newton" when nested).
+  void validate(std::string_view prefix = "newton_settings") const {
+    const std::string p(prefix);
+    detail::require_non_negative(p + ".relative_tolerance", relative_tolerance);
     if (!(relative_tolerance < 1.0)) {
       // ‖R(u0)‖ <= 1·‖R(u0)‖ holds before any step: such a solve "converges" without doing anything.
-      detail::throw_invalid_setting("newton_settings.relative_tolerance",
+      detail::throw_invalid_setting(p + ".relative_tolerance",
                                     "< 1 (a relative tolerance of 1 or more is met by the initial guess itself)",
                                     relative_tolerance);
     }
-    detail::require_non_negative("newton_settings.absolute_tolerance", absolute_tolerance);
+    detail::require_non_negative(p + ".absolute_tolerance", absolute_tolerance);
     if (relative_tolerance == 0.0 && absolute_tolerance == 0.0) {
-      detail::throw_invalid_setting("newton_settings.relative_tolerance",
+      detail::throw_invalid_setting(p + ".relative_tolerance",
                                     "> 0 when absolute_tolerance is 0 (otherwise nothing can converge)",
                                     relative_tolerance);
     }
-    detail::require_non_negative("newton_settings.negligible_step_size", negligible_step_size);
-    detail::require_at_least("newton_settings.newton_step_budget", newton_step_budget, 1);
-    detail::require_at_least<std::int64_t>("newton_settings.residual_evaluation_budget", residual_evaluation_budget, 1);
-    detail::require_at_least<std::int64_t>("newton_settings.linear_iteration_budget", linear_iteration_budget, 1);
-    detail::require_positive("newton_settings.wall_time_budget_seconds", wall_time_budget_seconds, true);
-    detail::require_at_least("newton_settings.stagnation_window", stagnation_window, 1);
-    detail::require_enumerator("newton_settings.check_unwritten_residual_entries", check_unwritten_residual_entries,
+    detail::require_non_negative(p + ".negligible_step_size", negligible_step_size);
+    detail::require_at_least(p + ".newton_step_budget", newton_step_budget, 1);
+    detail::require_at_least<std::int64_t>(p + ".residual_evaluation_budget", residual_evaluation_budget, 1);
+    detail::require_at_least<std::int64_t>(p + ".linear_iteration_budget", linear_iteration_budget, 1);
+    detail::require_positive(p + ".wall_time_budget_seconds", wall_time_budget_seconds, true);
+    detail::require_at_least(p + ".stagnation_window", stagnation_window, 1);
+    detail::require_enumerator(p + ".check_unwritten_residual_entries", check_unwritten_residual_entries,
                                unwritten_entry_check::every_evaluation, "off, initial_residual, every_evaluation");
-    detail::require_open_interval("newton_settings.stagnation_factor", stagnation_factor, 0.0, 1.0);
-    detail::require_enumerator("newton_settings.globalization", globalization, globalization_strategy::pseudo_transient,
+    detail::require_open_interval(p + ".stagnation_factor", stagnation_factor, 0.0, 1.0);
+    detail::require_enumerator(p + ".globalization", globalization, globalization_strategy::pseudo_transient,
                                "line_search, full_step, trust_region, pseudo_transient");
-    componentwise.validate("newton_settings.componentwise");
-    detail::require_non_negative("newton_settings.magnitude_spread_warning", magnitude_spread_warning);
-    forcing.validate("newton_settings.forcing");
-    line_search.validate("newton_settings.line_search");
-    trust_region.validate("newton_settings.trust_region");
-    pseudo_transient.validate("newton_settings.pseudo_transient");
-    bounds.validate("newton_settings.bounds");
-    linear.validate("newton_settings.linear");
-    jacobian.validate("newton_settings.jacobian");
-    preconditioner_rebuild.validate("newton_settings.preconditioner_rebuild");
+    componentwise.validate(p + ".componentwise");
+    detail::require_non_negative(p + ".magnitude_spread_warning", magnitude_spread_warning);
+    forcing.validate(p + ".forcing");
+    line_search.validate(p + ".line_search");
+    trust_region.validate(p + ".trust_region");
+    pseudo_transient.validate(p + ".pseudo_transient");
+    bounds.validate(p + ".bounds");
+    linear.validate(p + ".linear");
+    jacobian.validate(p + ".jacobian");
+    preconditioner_rebuild.validate(p + ".preconditioner_rebuild");
   }
 };
 

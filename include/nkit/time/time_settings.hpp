@@ -154,7 +154,7 @@ struct stage_solve_settings {
     const std::string p(prefix);
     detail::require_open_interval(p + ".newton_tolerance_fraction", newton_tolerance_fraction, 0.0, 1.0);
     detail::require_open_interval(p + ".divergence_contraction", divergence_contraction, 0.0, 1.0);
-    newton.validate();
+    newton.validate(p + ".newton");
   }
 };
 
