@@ -175,7 +175,7 @@ TEST_CASE("operator split pass: exact sub-solves reproduce forward block Gauss-S
 
 namespace {
 
-/// What one fixed-step BDF2 run reports.
+/// What one fixed-step run reports.
 struct run_summary {
   Eigen::VectorXd state;
   std::int64_t newton_steps = 0;
@@ -183,9 +183,9 @@ struct run_summary {
   double per_newton_step() const { return static_cast<double>(linear_iterations) / static_cast<double>(newton_steps); }
 };
 
-nkit::time_stepper_settings fixed_bdf2(double span, int steps) {
+nkit::time_stepper_settings fixed_steps(double span, int steps, nkit::time_method method) {
   nkit::time_stepper_settings settings;
-  settings.method = nkit::time_method::bdf;
+  settings.method = method;
   settings.step_control.adaptive = false;
   settings.step_control.initial_step = span / steps;
   settings.relative_tolerance = 1e-8;
@@ -216,9 +216,9 @@ run_summary run(Stepper& stepper, const gray_radiation_diffusion_1d& problem, co
   return summary;
 }
 
-/// BDF2 with the linearised split pass of linearized_split_pass.hpp as preconditioner.
+/// Fixed steps with the linearised split pass of linearized_split_pass.hpp as preconditioner.
 run_summary run_physics_based(const gray_radiation_diffusion_1d& problem, const Eigen::VectorXd& start, double span,
-                              int steps, bool local_material_elimination) {
+                              int steps, nkit::time_method method, bool local_material_elimination) {
   using stepper_type =
       nkit::implicit_time_stepper<nkit::eigen_vector_space<double>, nkit::operator_split_pass_preconditioner>;
   nkit_problems::gray_radiation_linearized_split_pass pass(problem, local_material_elimination);
@@ -228,7 +228,7 @@ run_summary run_physics_based(const gray_radiation_diffusion_1d& problem, const 
         pass.set_up(context.state, stepper_address->current_shift(), context.diagonal_shift);
       },
       [&](const Eigen::VectorXd& r, Eigen::VectorXd& z) { pass.apply(r, z); });
-  stepper_type stepper(fixed_bdf2(span, steps), {}, std::move(preconditioner));
+  stepper_type stepper(fixed_steps(span, steps, method), {}, std::move(preconditioner));
   stepper_address = &stepper;
   return run(stepper, problem, start, span, steps);
 }
@@ -240,8 +240,8 @@ struct preconditioner_comparison {
 
 /// The Marshak wave on `cells` cells from its state at t = 0.5 (by adaptive
 /// TR-BDF2 at a loose tolerance: only a realistic wave state is needed; front
-/// near x = 0.28), then 10 fixed BDF2 steps of Δt = 0.002 with each preconditioner.
-preconditioner_comparison compare_preconditioners(int cells) {
+/// near x = 0.28), then 10 fixed steps of Δt = 0.002 (BDF2 or TR-BDF2) with each preconditioner.
+preconditioner_comparison compare_preconditioners(int cells, nkit::time_method method) {
   const gray_radiation_diffusion_1d problem(cells);
   Eigen::VectorXd start = problem.initial_state();
   {
@@ -256,38 +256,42 @@ preconditioner_comparison compare_preconditioners(int cells) {
   const double span = 0.02;
   const int steps = 10;
   preconditioner_comparison result;
-  nkit::implicit_time_stepper<> plain_stepper(fixed_bdf2(span, steps));
+  nkit::implicit_time_stepper<> plain_stepper(fixed_steps(span, steps, method));
   result.none = run(plain_stepper, problem, start, span, steps);
 
   nkit::field_split_settings split_settings;
   split_settings.form = nkit::field_split_form::block_lower_triangular;
   nkit::implicit_time_stepper<nkit::eigen_vector_space<double>, nkit::field_split_preconditioner> split_stepper(
-      fixed_bdf2(span, steps), {},
+      fixed_steps(span, steps, method), {},
       nkit::field_split_preconditioner(problem.field_layout(), split_settings,
                                        nkit::make_inner_preconditioners(nkit::sparse_direct_preconditioner{},
                                                                         nkit::sparse_direct_preconditioner{})));
   result.field_split = run(split_stepper, problem, start, span, steps);
-  result.physics = run_physics_based(problem, start, span, steps, true);
-  result.frozen = run_physics_based(problem, start, span, steps, false);
+  result.physics = run_physics_based(problem, start, span, steps, method, true);
+  result.frozen = run_physics_based(problem, start, span, steps, method, false);
 
-  WARN(cells << " cells, GMRES iterations per Newton step (total GMRES / Newton steps): none "
-             << result.none.per_newton_step() << " (" << result.none.linear_iterations << " / "
-             << result.none.newton_steps << "), field split block Gauss-Seidel + sparse LU "
-             << result.field_split.per_newton_step() << " (" << result.field_split.linear_iterations << " / "
-             << result.field_split.newton_steps << "), linearised split pass " << result.physics.per_newton_step()
-             << " (" << result.physics.linear_iterations << " / " << result.physics.newton_steps
-             << "), split pass without the local elimination " << result.frozen.per_newton_step() << " ("
-             << result.frozen.linear_iterations << " / " << result.frozen.newton_steps << ")");
+  WARN(nkit::name(method) << ", " << cells
+                          << " cells, GMRES iterations per Newton step (total GMRES / Newton steps): none "
+                          << result.none.per_newton_step() << " (" << result.none.linear_iterations << " / "
+                          << result.none.newton_steps << "), field split block Gauss-Seidel + sparse LU "
+                          << result.field_split.per_newton_step() << " (" << result.field_split.linear_iterations
+                          << " / " << result.field_split.newton_steps << "), linearised split pass "
+                          << result.physics.per_newton_step() << " (" << result.physics.linear_iterations << " / "
+                          << result.physics.newton_steps << "), split pass without the local elimination "
+                          << result.frozen.per_newton_step() << " (" << result.frozen.linear_iterations << " / "
+                          << result.frozen.newton_steps << ")");
 
   // Same states: each stage is solved until the estimated weighted RMS error is
   // <= 0.1 (stage_solve_settings::newton_tolerance_fraction), so an entry is off
   // by at most 0.1 √(2N) w_max, w_max = atol + rtol·max|u| (max|u| <= 4, the
-  // boundary value E_b = 4q). BDF2 on this dissipative problem does not amplify
-  // earlier errors (common practice), so over `steps` steps and two runs the
-  // difference stays below 2 · steps · 0.1 √(2N) w_max.
-  const nkit::time_stepper_settings settings = fixed_bdf2(span, steps);
+  // boundary value E_b = 4q); TR-BDF2 has two stages per step, counted as
+  // another factor 2. BDF2 and TR-BDF2 on this dissipative problem do not
+  // amplify earlier errors (common practice), so over `steps` steps and two runs
+  // the difference stays below 2 · stages · steps · 0.1 √(2N) w_max.
+  const nkit::time_stepper_settings settings = fixed_steps(span, steps, method);
   const double w_max = settings.absolute_tolerance + settings.relative_tolerance * 4.0;
-  const double bound = 2.0 * steps * 0.1 * std::sqrt(2.0 * cells) * w_max;
+  const double stages = method == nkit::time_method::esdirk ? 2.0 : 1.0;
+  const double bound = 2.0 * stages * steps * 0.1 * std::sqrt(2.0 * cells) * w_max;
   CHECK((result.physics.state - result.field_split.state).cwiseAbs().maxCoeff() <= bound);
   CHECK((result.frozen.state - result.field_split.state).cwiseAbs().maxCoeff() <= bound);
   CHECK((result.none.state - result.field_split.state).cwiseAbs().maxCoeff() <= bound);
@@ -296,36 +300,39 @@ preconditioner_comparison compare_preconditioners(int cells) {
 
 }  // namespace
 
-// (2) On the implicit steps of the Marshak wave the linearised split pass cuts
-// the GMRES iterations per Newton step far below those without a
-// preconditioner, and all runs reach the same states (checked inside
-// compare_preconditioners). Measured (Release, this machine, December 2026),
-// GMRES iterations per Newton step:
-//                                    100 cells   200 cells
-//   none                               20.3        42.2
-//   field split, block Gauss–Seidel     3.86        4.35   (sparse LU per field)
-//   linearised split pass               3.57        4.35
-//   split pass, no local elimination    4.09        4.59
+// (2) On the implicit steps of the Marshak wave (BDF2 and TR-BDF2 stage
+// solves) the linearised split pass cuts the GMRES iterations per Newton step
+// far below those without a preconditioner, and all runs reach the same states
+// (checked inside compare_preconditioners). Measured (Release, this machine,
+// December 2026), GMRES iterations per Newton step:
+//                                      BDF2              TR-BDF2
+//                                 100 cells 200 cells 100 cells 200 cells
+//   none                            20.3      42.2      14.2      29.1
+//   field split, block Gauss–Seidel  3.86      4.35      3.49      4.03  (sparse LU per field)
+//   linearised split pass            3.57      4.35      3.18      3.74
+//   split pass, no local elimination 4.09      4.59      3.51      4.08
 // The checks, with their reasons:
 //   - without a preconditioner the count grows like 1/h: GMRES on the
 //     diffusion-dominated stage operator needs O(√κ) iterations and κ grows
 //     like s D/h² (common practice; for the symmetric positive definite case
 //     the conjugate-gradient bound, Y. Saad, Iterative Methods for Sparse
 //     Linear Systems, 2nd ed. (2003), §6.11.3); halving h at least 1.6× the
-//     count (theory 2×, measured 2.08×);
+//     count (theory 2×, measured 2.08× and 2.05×);
 //   - the split pass solves the diffusion exactly (tridiagonal), so its count
-//     does not grow like 1/h: at most 1.5× on the finer grid (measured 1.22×;
-//     the front, a few cells wide, is what still changes with h);
-//   - "much fewer": at most a quarter of the unpreconditioned count on either
-//     grid (measured 1/5.7 and 1/9.7).
+//     does not grow like 1/h: at most 1.5× on the finer grid (measured 1.22×
+//     and 1.18×; the front, a few cells wide, is what still changes with h);
+//   - "much fewer": at most a quarter of the unpreconditioned count on the
+//     finer grid (measured 1/9.7 and 1/7.8; 1/5.7 and 1/4.5 on the coarse one).
 TEST_CASE("operator split pass: the linearised split pass preconditions the radiation stage solves",
           "[radiation][physics_based]") {
-  const preconditioner_comparison coarse = compare_preconditioners(100);
-  const preconditioner_comparison fine = compare_preconditioners(200);
-  CHECK(fine.none.per_newton_step() >= 1.6 * coarse.none.per_newton_step());
-  CHECK(fine.physics.per_newton_step() <= 1.5 * coarse.physics.per_newton_step());
-  CHECK(4.0 * coarse.physics.per_newton_step() <= coarse.none.per_newton_step());
-  CHECK(4.0 * fine.physics.per_newton_step() <= fine.none.per_newton_step());
+  for (const nkit::time_method method : {nkit::time_method::bdf, nkit::time_method::esdirk}) {
+    CAPTURE(nkit::name(method));
+    const preconditioner_comparison coarse = compare_preconditioners(100, method);
+    const preconditioner_comparison fine = compare_preconditioners(200, method);
+    CHECK(fine.none.per_newton_step() >= 1.6 * coarse.none.per_newton_step());
+    CHECK(fine.physics.per_newton_step() <= 1.5 * coarse.physics.per_newton_step());
+    CHECK(4.0 * fine.physics.per_newton_step() <= fine.none.per_newton_step());
+  }
 }
 
 TEST_CASE("operator split pass: bad input names the setting", "[radiation][physics_based]") {
