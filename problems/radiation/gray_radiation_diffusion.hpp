@@ -169,11 +169,15 @@ class gray_radiation_diffusion_1d {
   }
   /// Radiation flux into the domain at x = 0 (F_in above).
   double inflow(const Eigen::VectorXd& u) const {
-    return boundary_transfer(temperature(u, 0)) * (4.0 * m_parameters.incoming_flux - energy(u, 0));
+    if (m_parameters.insulated_boundaries) return 0.0;
+    const double d = radiation_diffusion(temperature(u, 0));
+    return 2.0 * d * (4.0 * m_parameters.incoming_flux - energy(u, 0)) / (m_h + 4.0 * d);
   }
   /// Radiation flux out of the domain at x = 1 (F_out above).
   double outflow(const Eigen::VectorXd& u) const {
-    return boundary_transfer(temperature(u, m_cells - 1)) * energy(u, m_cells - 1);
+    if (m_parameters.insulated_boundaries) return 0.0;
+    const double d = radiation_diffusion(temperature(u, m_cells - 1));
+    return 2.0 * d * energy(u, m_cells - 1) / (m_h + 4.0 * d);
   }
   /// W = h Σ_i (E_i + T_i), the total energy per unit area.
   double total_energy(const Eigen::VectorXd& u) const {
