@@ -350,7 +350,7 @@ TEST_CASE("radiation diffusion: bad input names the setting and value", "[radiat
   gray_radiation_parameters parameters;
   parameters.conduction_coefficient = -1.0;
   CHECK(message_of([&] { gray_radiation_diffusion_1d problem(10, parameters); }) ==
-        "gray_radiation_parameters.conduction_coefficient must be finite and > 0 (got -1.000000)");
+        "gray_radiation_parameters.conduction_coefficient must be finite and >= 0 (got -1.000000)");
   const gray_radiation_diffusion_1d problem(10);
   CHECK(message_of([&] {
           nkit_problems::gray_radiation_backward_euler_step step(problem, problem.initial_state(), 0.0);

@@ -1,18 +1,7 @@
 // The nonlinear heat wave from an instantaneous point release, against the
-// closed-form Barenblatt–Pattle (Zel'dovich–Kompaneets) solution.
-//
-// Sources: Ya.B. Zel'dovich & A.S. Kompaneets (1950); G.I. Barenblatt,
-// "On some unsteady motions of a liquid or a gas in a porous medium", Prikl.
-// Mat. Mekh. 16 (1952) 67–78; R.E. Pattle, Q. J. Mech. Appl. Math. 12 (1959)
-// 407–409; J.L. Vázquez, The Porous Medium Equation, Oxford (2007), ch. 4
-// (formula from memory of these sources; the test substitutes it into the
-// equation numerically before using it). For v_τ = Δ(v^M) in d dimensions
-// with mass Q released at the origin at τ = 0:
-//   v(x, τ) = τ^(−α) [C − k |x|² τ^(−2β)]₊^(1/(M−1)),
-//   α = d/(d(M−1)+2), β = α/d, k = α(M−1)/(2Md), C fixed by ∫ v dx = Q;
-// u_t = ∇·(u^m ∇u) is that equation with M = m + 1 and τ = t/(m+1).
-// Here d = 1, m = 1 (M = 2): α = β = 1/3, k = 1/12, ∫ v = (4/3) C √(12C) = Q,
-// front |x_f| = √(12C) τ^(1/3).
+// closed-form Barenblatt–Pattle (Zel'dovich–Kompaneets) solution of
+// u_t = (u^m u_x)_x (tests/support/barenblatt_pattle.hpp: formula, sources,
+// derivation), here with m = 1: α = 1/3, front |x_f| = √(12C) (t/2)^(1/3).
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
 #include <catch2/catch.hpp>
@@ -21,18 +10,16 @@
 #include <nkit/time/implicit_time_stepper.hpp>
 #include <vector>
 
+#include "support/barenblatt_pattle.hpp"
+
 namespace {
 
 constexpr double released_heat = 1.0;  // Q
-const double barenblatt_c = std::pow(3.0 * released_heat / (4.0 * std::sqrt(12.0)), 2.0 / 3.0);
+const nkit_test::barenblatt_pattle_solution closed_form(1.0, released_heat);
 
 /// u(x, t) of u_t = (u u_x)_x (m = 1).
-double barenblatt(double x, double t) {
-  const double tau = t / 2.0;
-  const double bracket = barenblatt_c - x * x * std::pow(tau, -2.0 / 3.0) / 12.0;
-  return bracket > 0.0 ? std::pow(tau, -1.0 / 3.0) * bracket : 0.0;
-}
-double barenblatt_front(double t) { return std::sqrt(12.0 * barenblatt_c) * std::cbrt(t / 2.0); }
+double barenblatt(double x, double t) { return closed_form(x, t); }
+double barenblatt_front(double t) { return closed_form.front(t); }
 
 /// Finite volumes on [−L, L], N cells, insulated ends: du_i/dt = (F_(i−½) − F_(i+½))/Δx,
 /// F_(i+½) = −½(u_i + u_(i+1)) (u_(i+1) − u_i)/Δx. Conservative: Σ_i f_i = 0 exactly.

@@ -49,6 +49,7 @@
 #include "preconditioners/incomplete_lut.hpp"
 #include "preconditioners/inner_gmres.hpp"
 #include "preconditioners/jacobi.hpp"
+#include "preconditioners/operator_split_pass.hpp"
 #include "preconditioners/sparse_direct.hpp"
 // globalization: per-step strategies
 #include "globalization/bounds.hpp"

@@ -55,6 +55,13 @@
 // time-stepping formula (BDF, Runge–Kutta) inherits this per step, up to the
 // residual left by the nonlinear solve.
 //
+// Equilibrium-limit variant (tests/test_radiation_equilibrium_limit.cpp): with
+// insulated_boundaries the radiation flux is zero at both ends (F_in = F_out =
+// 0, so W is conserved exactly), and conduction_coefficient = 0 turns the
+// material conduction off. Where σ_a is large the two fields relax to E = T⁴
+// and the pair becomes one nonlinear diffusion of e = E + T (derivation in
+// that test).
+//
 // The scenario is a verification problem of the literature, nondimensional; it
 // describes no particular device or material.
 #ifndef NKIT_PROBLEMS_RADIATION_GRAY_RADIATION_DIFFUSION_HPP
@@ -74,10 +81,11 @@ namespace nkit_problems {
 /// Parameters of the dimensionless model (defaults: the Marshak wave above).
 struct gray_radiation_parameters {
   double atomic_number = 1.0;              ///< z in σ_a = z³/T³ (from memory: z = 1 in the 1-D case of the paper)
-  double conduction_coefficient = 0.01;    ///< κ in D_t = κ T^(5/2) (our choice)
+  double conduction_coefficient = 0.01;    ///< κ in D_t = κ T^(5/2) (our choice); 0 = no material conduction
   double incoming_flux = 1.0;              ///< q: ¼E − (1/(6σ_a)) ∂x E = q at x = 0
   double initial_radiation_energy = 1e-5;  ///< E(x, 0); T(x, 0) = E^(1/4)
   bool flux_limiter = false;               ///< D_r = 1/(3σ_a + |∂x E|/E) on interior faces
+  bool insulated_boundaries = false;       ///< F_in = F_out = 0 instead of the Marshak conditions
 
   void validate() const {
     const auto positive = [](const char* name, double value) {
@@ -87,7 +95,10 @@ struct gray_radiation_parameters {
       }
     };
     positive("atomic_number", atomic_number);
-    positive("conduction_coefficient", conduction_coefficient);
+    if (!(conduction_coefficient >= 0.0 && std::isfinite(conduction_coefficient))) {
+      throw std::invalid_argument("gray_radiation_parameters.conduction_coefficient must be finite and >= 0 (got " +
+                                  std::to_string(conduction_coefficient) + ")");
+    }
     positive("initial_radiation_energy", initial_radiation_energy);
     if (!(incoming_flux >= 0.0 && std::isfinite(incoming_flux))) {
       throw std::invalid_argument("gray_radiation_parameters.incoming_flux must be finite and >= 0 (got " +
@@ -149,13 +160,22 @@ class gray_radiation_diffusion_1d {
   /// D_t = κ T^(5/2).
   double conduction(double t) const { return m_parameters.conduction_coefficient * t * t * std::sqrt(t); }
 
+  /// 2D/(h + 4D) with D = D_r(t) of a boundary cell: F_in = b (4q − E_0), F_out
+  /// = b E_(N−1) (above); 0 with insulated_boundaries.
+  double boundary_transfer(double t) const {
+    if (m_parameters.insulated_boundaries) return 0.0;
+    const double d = radiation_diffusion(t);
+    return 2.0 * d / (m_h + 4.0 * d);
+  }
   /// Radiation flux into the domain at x = 0 (F_in above).
   double inflow(const Eigen::VectorXd& u) const {
+    if (m_parameters.insulated_boundaries) return 0.0;
     const double d = radiation_diffusion(temperature(u, 0));
     return 2.0 * d * (4.0 * m_parameters.incoming_flux - energy(u, 0)) / (m_h + 4.0 * d);
   }
   /// Radiation flux out of the domain at x = 1 (F_out above).
   double outflow(const Eigen::VectorXd& u) const {
+    if (m_parameters.insulated_boundaries) return 0.0;
     const double d = radiation_diffusion(temperature(u, m_cells - 1));
     return 2.0 * d * energy(u, m_cells - 1) / (m_h + 4.0 * d);
   }
@@ -166,21 +186,25 @@ class gray_radiation_diffusion_1d {
     return m_h * sum;
   }
 
+  /// D_(i+½) of interior face i + ½ (i = 0 … N−2), limited when flux_limiter is set.
+  double radiation_face_coefficient(const Eigen::VectorXd& u, int i) const {
+    const double d = 0.5 * (radiation_diffusion(temperature(u, i)) + radiation_diffusion(temperature(u, i + 1)));
+    if (!m_parameters.flux_limiter) return d;
+    const double e_left = energy(u, i), e_right = energy(u, i + 1);
+    const double mean = 0.5 * (e_left + e_right);
+    return 1.0 / (1.0 / d + std::abs(e_right - e_left) / (m_h * mean));
+  }
+  /// K_(i+½) of interior face i + ½.
+  double conduction_face_coefficient(const Eigen::VectorXd& u, int i) const {
+    return 0.5 * (conduction(temperature(u, i)) + conduction(temperature(u, i + 1)));
+  }
   /// Radiation flux through interior face i + ½ (i = 0 … N−2).
   double radiation_face_flux(const Eigen::VectorXd& u, int i) const {
-    const double e_left = energy(u, i), e_right = energy(u, i + 1);
-    double d = 0.5 * (radiation_diffusion(temperature(u, i)) + radiation_diffusion(temperature(u, i + 1)));
-    if (m_parameters.flux_limiter) {
-      const double mean = 0.5 * (e_left + e_right);
-      d = 1.0 / (1.0 / d + std::abs(e_right - e_left) / (m_h * mean));
-    }
-    return -d * (e_right - e_left) / m_h;
+    return -radiation_face_coefficient(u, i) * (energy(u, i + 1) - energy(u, i)) / m_h;
   }
   /// Conductive flux through interior face i + ½.
   double conduction_face_flux(const Eigen::VectorXd& u, int i) const {
-    const double t_left = temperature(u, i), t_right = temperature(u, i + 1);
-    const double k = 0.5 * (conduction(t_left) + conduction(t_right));
-    return -k * (t_right - t_left) / m_h;
+    return -conduction_face_coefficient(u, i) * (temperature(u, i + 1) - temperature(u, i)) / m_h;
   }
 
   /// f(t, u): the rates above (f sized like u; t unused, the problem is autonomous).
