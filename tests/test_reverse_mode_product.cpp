@@ -129,7 +129,9 @@ TEST_CASE("cost of reverse-mode transposed products in work units", "[.reverse_m
   };
   Eigen::VectorXd r(n), out(n);
   const double unit = median_of(51, [&] { design(u, p, r); });
-  auto product = nkit::make_reverse_mode_transposed_product(design_at_fixed_parameters{&design, p});
+  // Buffers of 2^22 entries: more than this tape's operation, location, value and Taylor
+  // counts, so ADOL-C keeps it in memory from the first recording (no files).
+  auto product = nkit::make_reverse_mode_transposed_product(design_at_fixed_parameters{&design, p}, 1, 1u << 22);
   const double first_record = seconds_of([&] { product.record(u); });
   const double record = median_of(11, [&] { product.record(u); });
   const double reverse = median_of(51, [&] { product.apply(w, out); });

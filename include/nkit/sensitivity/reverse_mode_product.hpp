@@ -14,10 +14,15 @@
 /// every new state: apply() always uses the tape of the last record().
 /// Reverse sweeps reuse the values kept from the recording (trace_on with
 /// kept Taylor values), so a product costs one reverse sweep and no forward
-/// sweep. Tapes live in memory: when a recording overflows ADOL-C's default
-/// buffers (524 288 entries, when ADOL-C would spill the tape to files in the
-/// working directory), record() records again with buffers sized from the
-/// tape's statistics and keeps those sizes for later recordings.
+/// sweep. Tapes live in memory: a recording longer than the buffers (ADOL-C's
+/// default is 524 288 entries each, or `buffer_entries` given to the
+/// constructor) makes ADOL-C write the tape to files in the working directory
+/// (ADOLC-*_<tag>.tap); record() then removes that tape (ADOL-C's removeTape;
+/// ADOL-C 2.7.2 leaves its location and Taylor files behind) and records again
+/// in memory with buffers sized from the tape's statistics, kept for later
+/// recordings. Give `buffer_entries` at least the tape's operation, location,
+/// value and Taylor counts (taped_operations() after a recording is one of
+/// them) to avoid that first spill.
 ///
 /// Cost (docs/sensitivities.md): recording several residual evaluations' worth
 /// of time (the adouble sweep writes every operation to the tape), then a few
@@ -79,9 +84,10 @@ using adolc_vector = Eigen::Matrix<adouble, Eigen::Dynamic, 1>;
 template <class Residual>
 class reverse_mode_transposed_product {
  public:
-  /// `tape_tag`: the ADOL-C tape number this object records on (>= 0).
-  explicit reverse_mode_transposed_product(Residual residual, short tape_tag = 1)
-      : m_residual(std::move(residual)), m_tag(tape_tag) {
+  /// `tape_tag`: the ADOL-C tape number this object records on (>= 0);
+  /// `buffer_entries`: entries per ADOL-C buffer (0: ADOL-C's defaults; see the file comment).
+  explicit reverse_mode_transposed_product(Residual residual, short tape_tag = 1, unsigned buffer_entries = 0)
+      : m_residual(std::move(residual)), m_tag(tape_tag), m_buffer(buffer_entries) {
     if (tape_tag < 0) {
       throw std::invalid_argument("nkit: reverse_mode_transposed_product tape_tag must be >= 0 (got " +
                                   std::to_string(tape_tag) + ")");
@@ -150,6 +156,7 @@ class reverse_mode_transposed_product {
     const bool in_files = statistics[OP_FILE_ACCESS] != 0 || statistics[LOC_FILE_ACCESS] != 0 ||
                           statistics[VAL_FILE_ACCESS] != 0 || statistics[TAY_STACK_SIZE] > taylor_buffer;
     if (!in_files) return true;
+    removeTape(m_tag, ADOLC_REMOVE_COMPLETELY);
     std::size_t largest = statistics[NUM_OPERATIONS];
     for (std::size_t count : {statistics[NUM_LOCATIONS], statistics[NUM_VALUES], statistics[TAY_STACK_SIZE]}) {
       largest = count > largest ? count : largest;
@@ -160,7 +167,7 @@ class reverse_mode_transposed_product {
 
   Residual m_residual;
   short m_tag;
-  unsigned m_buffer = 0;  ///< buffer entries for trace_on (0: ADOL-C's defaults)
+  unsigned m_buffer;  ///< buffer entries for trace_on (0: ADOL-C's defaults)
   Eigen::Index m_inputs = 0;
   Eigen::VectorXd m_value;    ///< R(u) of the last recording
   Eigen::VectorXd m_weights;  ///< copy of w for ADOL-C
@@ -170,8 +177,9 @@ class reverse_mode_transposed_product {
 
 /// Deduces the residual type: reverse_mode_transposed_product<Residual>.
 template <class Residual>
-reverse_mode_transposed_product<Residual> make_reverse_mode_transposed_product(Residual residual, short tape_tag = 1) {
-  return reverse_mode_transposed_product<Residual>(std::move(residual), tape_tag);
+reverse_mode_transposed_product<Residual> make_reverse_mode_transposed_product(Residual residual, short tape_tag = 1,
+                                                                               unsigned buffer_entries = 0) {
+  return reverse_mode_transposed_product<Residual>(std::move(residual), tape_tag, buffer_entries);
 }
 
 }  // namespace nkit
