@@ -7,14 +7,15 @@
 #   bash cmake/install_dependencies.sh --all      also the optional tools the full test run uses:
 #                                                 gnuplot, clang + sanitizer runtime, valgrind,
 #                                                 SuiteSparse, Open MPI, hypre, nlohmann-json,
-#                                                 gfortran (the Fortran interface)
+#                                                 gfortran (the Fortran interface), ADOL-C
+#                                                 (reverse-mode transposed products)
 #
 # Runs apt-get non-interactively; uses sudo when not run as root.
 set -euo pipefail
 
 required=(g++ make cmake python3 libeigen3-dev libboost-dev catch2 libbenchmark-dev)
 optional=(gnuplot-nox clang libclang-rt-14-dev valgrind libsuitesparse-dev openmpi-bin libopenmpi-dev libhypre-dev
-          nlohmann-json3-dev gfortran)
+          nlohmann-json3-dev gfortran libadolc-dev)
 
 packages=("${required[@]}")
 if [[ "${1:-}" == "--all" ]]; then

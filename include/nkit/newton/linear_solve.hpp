@@ -180,8 +180,7 @@ class preconditioned_linear_solve {
       static_cast<void>(op), static_cast<void>(rhs), static_cast<void>(x), static_cast<void>(eta);
       throw std::invalid_argument(
           "nkit: the Newton solver's preconditioner has no apply_transpose(r, z), which the transposed (adjoint) "
-          "solve needs; give it one, or use one that has it (identity, jacobi, ilu_zero, incomplete_lut, "
-          "sparse_direct)");
+          "solve needs; give it one, or use one of nkit's preconditioners (all have it)");
     }
     ledger.add(trace_phase::orthogonalization, result.orthogonalization_seconds);
     scope.close();

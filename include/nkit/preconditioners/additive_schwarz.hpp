@@ -26,6 +26,11 @@
 /// (1994) 387–402) or Eigen::SparseLU. Allocation: setup allocates the local
 /// block and factors; apply() goes through Eigen's solve(), which may use
 /// small temporaries for the permutations.
+///
+/// apply_transpose (z = M⁻ᵀ r = A_r⁻ᵀ r on each rank, adjoint solves): the
+/// transposed triangular solves with the same local factors (ILUT as in
+/// incomplete_lut.hpp, SparseLU through its transpose().solve()); no
+/// communication, so it works on distributed spaces as apply() does.
 
 #include <Eigen/IterativeLinearSolvers>
 #include <Eigen/SparseCore>
@@ -40,6 +45,7 @@
 #include "../core/vector_space.hpp"
 #include "../detail/checks.hpp"
 #include "../distributed/row_partition.hpp"
+#include "incomplete_lut.hpp"
 
 namespace nkit {
 
@@ -121,6 +127,18 @@ class additive_schwarz_preconditioner {
     }
   }
 
+  /// z = A_r⁻ᵀ r on this rank's entries. No communication.
+  void apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) const {
+    if (!m_ready) {
+      throw std::logic_error("nkit: additive_schwarz_preconditioner::apply_transpose called before a successful setup");
+    }
+    if (m_settings.local_solver == subdomain_solver::incomplete_lut) {
+      m_incomplete->solve_transposed(r, z);
+    } else {
+      z = m_direct->transpose().solve(r);
+    }
+  }
+
   /// Bytes of the extracted local block(s); Eigen does not report the size of its factors.
   std::size_t memory_bytes() const {
     const auto bytes = [](const auto& matrix) {
@@ -164,7 +182,7 @@ class additive_schwarz_preconditioner {
   local_matrix m_block;
   Eigen::SparseMatrix<double, Eigen::ColMajor, int> m_column_block;
   // Eigen's factorisations cannot be moved; held by pointer so the preconditioner can be.
-  using incomplete_factor = Eigen::IncompleteLUT<double, int>;
+  using incomplete_factor = detail::readable_incomplete_lut;
   using direct_factor = Eigen::SparseLU<Eigen::SparseMatrix<double, Eigen::ColMajor, int>>;
   std::unique_ptr<incomplete_factor> m_incomplete;
   std::unique_ptr<direct_factor> m_direct;

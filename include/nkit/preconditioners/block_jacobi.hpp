@@ -7,6 +7,10 @@
 /// of sparsity_pattern.hpp's grid helpers). Setup: dense LU with partial
 /// pivoting of each block, O(n b²) time, n·b doubles + n ints of storage;
 /// apply: one pair of b × b triangular solves per block, no allocation.
+/// apply_transpose (z = M⁻ᵀ r, adjoint solves): each block was factored as
+/// P B = L U, so B⁻ᵀ = Pᵀ L⁻ᵀ U⁻ᵀ: forward substitution with Uᵀ, backward
+/// with Lᵀ, then the row interchanges undone in reverse order; same cost, no
+/// allocation.
 ///
 /// Fallback (setup_status::ready_with_fallback): a block whose LU meets a
 /// pivot |u_kk| <= ε·b·‖block‖∞ (singular to working precision) is replaced
@@ -97,6 +101,28 @@ class block_jacobi_preconditioner {
         for (std::size_t k = i + 1; k < b; ++k) x[i] -= lu[i * b + k] * x[k];
         x[i] /= lu[i * b + i];
       }
+    }
+  }
+
+  /// z = M⁻ᵀ r with the same factors (see the file comment).
+  void apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) const {
+    if (z.size() != r.size()) z.resize(r.size());
+    const auto b = static_cast<std::size_t>(m_block);
+    const std::size_t blocks = m_pivots.size() / b;
+    for (std::size_t block = 0; block < blocks; ++block) {
+      const double* lu = &m_factors[block * b * b];
+      const int* pivot = &m_pivots[block * b];
+      double* x = z.data() + block * b;
+      const double* rhs = r.data() + block * b;
+      for (std::size_t k = 0; k < b; ++k) x[k] = rhs[k];
+      for (std::size_t i = 0; i < b; ++i) {  // Uᵀ: lower, column i of U is row i of Uᵀ
+        for (std::size_t k = 0; k < i; ++k) x[i] -= lu[k * b + i] * x[k];
+        x[i] /= lu[i * b + i];
+      }
+      for (std::size_t i = b; i-- > 0;) {  // Lᵀ: unit upper
+        for (std::size_t k = i + 1; k < b; ++k) x[i] -= lu[k * b + i] * x[k];
+      }
+      for (std::size_t k = b; k-- > 0;) std::swap(x[k], x[pivot[k]]);  // interchanges undone, in reverse
     }
   }
 

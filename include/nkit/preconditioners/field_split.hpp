@@ -47,6 +47,16 @@
 /// Eigen's direct solves do). Serial Eigen vectors only. When any inner
 /// preconditioner changes between applications (inner GMRES), so does this one
 /// and the Newton driver switches to flexible GMRES.
+///
+/// apply_transpose (z = P⁻ᵀ r, adjoint solves) applies the transpose of the
+/// same P with the inner preconditioners' apply_transpose (std::invalid_argument
+/// from any_preconditioner when one has none): block diagonal → diag(M_f⁻ᵀ);
+/// lower triangular → Pᵀ is block upper triangular with the blocks J_gfᵀ,
+/// z_f = M_f⁻ᵀ (r_f − Σ_{g>f} J_gfᵀ z_g), f = F−1 .. 0; upper triangular the
+/// mirror image (f = 0 .. F−1, g < f); Schur factorisation
+/// P⁻¹ = [I −M_0⁻¹B; 0 I] [M_0⁻¹ 0; −M_1⁻¹C M_0⁻¹ M_1⁻¹], so
+/// t = M_0⁻ᵀ r_1, z_2 = M_1⁻ᵀ (r_2 − Bᵀ t), z_1 = M_0⁻ᵀ (r_1 − Cᵀ z_2).
+/// The blocks it needs are the ones apply() uses; no allocation in nkit's code.
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
@@ -223,6 +233,28 @@ class field_split_preconditioner {
     for (int f = 0; f < fields; ++f) m_layout.scatter(f, m_field_solution[static_cast<std::size_t>(f)], z);
   }
 
+  /// z = P⁻ᵀ r (see the file comment).
+  void apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) {
+    const int fields = m_layout.field_count();
+    if (z.size() != r.size()) z.resize(r.size());
+    for (int f = 0; f < fields; ++f) m_layout.gather(f, r, m_field_residual[static_cast<std::size_t>(f)]);
+    switch (m_settings.form) {
+      case field_split_form::block_diagonal:
+        for (int f = 0; f < fields; ++f) solve_field_transposed(f, m_field_residual[static_cast<std::size_t>(f)]);
+        break;
+      case field_split_form::block_lower_triangular:
+        for (int f = fields - 1; f >= 0; --f) substitute_transposed(f, f + 1, fields);
+        break;
+      case field_split_form::block_upper_triangular:
+        for (int f = 0; f < fields; ++f) substitute_transposed(f, 0, f);
+        break;
+      case field_split_form::schur_complement_factorization:
+        apply_schur_factorization_transposed();
+        break;
+    }
+    for (int f = 0; f < fields; ++f) m_layout.scatter(f, m_field_solution[static_cast<std::size_t>(f)], z);
+  }
+
   /// True when an inner preconditioner changes between applications.
   bool changes_between_applications() const {
     for (const auto& inner : m_inner) {
@@ -364,6 +396,37 @@ class field_split_preconditioner {
     work0.noalias() = block(0, 1) * z1;
     m_inner[0].apply(work0, m_correction);
     z0 -= m_correction;
+  }
+
+  /// z_f = M_f⁻ᵀ rhs.
+  void solve_field_transposed(int field, const Eigen::VectorXd& rhs) {
+    m_inner[static_cast<std::size_t>(field)].apply_transpose(rhs, m_field_solution[static_cast<std::size_t>(field)]);
+  }
+
+  /// z_f = M_f⁻ᵀ (r_f − Σ_{first <= g < last, g != f} J_gfᵀ z_g).
+  void substitute_transposed(int field, int first, int last) {
+    Eigen::VectorXd& work = m_field_work[static_cast<std::size_t>(field)];
+    work = m_field_residual[static_cast<std::size_t>(field)];
+    for (int g = first; g < last; ++g) {
+      if (g == field) continue;
+      work.noalias() -= block(g, field).transpose() * m_field_solution[static_cast<std::size_t>(g)];
+    }
+    solve_field_transposed(field, work);
+  }
+
+  /// t = M_0⁻ᵀ r_0, z_1 = M_1⁻ᵀ (r_1 − Bᵀ t), z_0 = M_0⁻ᵀ (r_0 − Cᵀ z_1).
+  void apply_schur_factorization_transposed() {
+    Eigen::VectorXd& z0 = m_field_solution[0];
+    Eigen::VectorXd& z1 = m_field_solution[1];
+    solve_field_transposed(0, m_field_residual[0]);  // z0 = t
+    Eigen::VectorXd& work1 = m_field_work[1];
+    work1 = m_field_residual[1];
+    work1.noalias() -= block(0, 1).transpose() * z0;
+    solve_field_transposed(1, work1);
+    Eigen::VectorXd& work0 = m_field_work[0];
+    work0 = m_field_residual[0];
+    work0.noalias() -= block(1, 0).transpose() * z1;
+    solve_field_transposed(0, work0);
   }
 
   field_layout m_layout;

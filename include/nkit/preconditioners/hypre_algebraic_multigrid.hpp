@@ -32,6 +32,23 @@
 /// it allocates nothing in nkit (hypre's cycle uses its own workspace).
 /// setup() and apply() are collective on the communicator.
 ///
+/// apply_transpose (z = M⁻ᵀ r, adjoint solves) runs hypre's transposed cycle
+/// (HYPRE_BoomerAMGSolveT, hypre 2.26) on the same hierarchy: residuals with
+/// Aᵀ and with the coarse matrices transposed, restriction by Pᵀ and
+/// interpolation by P swapped accordingly, the coarsest system solved exactly
+/// with its transpose. With E = I − B A the error propagator of one cycle B,
+/// the transposed cycle on Aᵀ has the pre- and post-smoothers swapped and
+/// transposed, so it is exactly Bᵀ when each smoother is its own transpose and
+/// both legs use the same one. hypre's transposed cycle relaxes with
+/// weighted Jacobi only, so nkit allows apply_transpose only with
+/// algebraic_multigrid_settings.smoother = jacobi (Jacobi on every level and
+/// both legs, natural order, Gaussian elimination on the coarsest level: the
+/// transposed cycle is then exactly Bᵀ, and with k cycles per application
+/// (I − (I − BA)^k) A⁻¹ transposes likewise); with any other smoother it
+/// throws std::invalid_argument naming the setting (hypre would silently
+/// relax with Jacobi, which is not the transpose of the forward cycle).
+/// Collective, works on any number of ranks, allocates nothing in nkit.
+///
 /// Not part of nkit.hpp; link the CMake target nkit::hypre. MPI must be
 /// initialised before the first object is created.
 
@@ -114,6 +131,23 @@ inline smoother_codes hypre_code(multigrid_smoother value) {
   }
   return {13, 14};
 }
+inline const char* smoother_name(multigrid_smoother value) {
+  switch (value) {
+    case multigrid_smoother::jacobi:
+      return "jacobi";
+    case multigrid_smoother::hybrid_gauss_seidel:
+      return "hybrid_gauss_seidel";
+    case multigrid_smoother::hybrid_symmetric_gauss_seidel:
+      return "hybrid_symmetric_gauss_seidel";
+    case multigrid_smoother::l1_gauss_seidel:
+      return "l1_gauss_seidel";
+    case multigrid_smoother::chebyshev:
+      return "chebyshev";
+    case multigrid_smoother::l1_jacobi:
+      return "l1_jacobi";
+  }
+  return "unknown";
+}
 inline HYPRE_Int hypre_code(multigrid_cycle value) { return value == multigrid_cycle::w_cycle ? 2 : 1; }
 
 /// Configures a BoomerAMG object as a preconditioner (fixed number of
@@ -131,6 +165,12 @@ inline void apply_settings(HYPRE_Solver solver, const algebraic_multigrid_settin
   HYPRE_BoomerAMGSetCycleType(solver, hypre_code(settings.cycle));
   HYPRE_BoomerAMGSetNumSweeps(solver, settings.smoothing_sweeps);
   const smoother_codes smoother = hypre_code(settings.smoother);
+  if (settings.smoother == multigrid_smoother::jacobi) {
+    // Jacobi on the finest level and both legs, Gaussian elimination on the coarsest, natural order:
+    // the forward cycle whose transpose hypre's transposed cycle is (hypre_algebraic_multigrid.hpp).
+    HYPRE_BoomerAMGSetRelaxType(solver, smoother.down);
+    HYPRE_BoomerAMGSetRelaxOrder(solver, 0);
+  }
   HYPRE_BoomerAMGSetCycleRelaxType(solver, smoother.down, 1);
   HYPRE_BoomerAMGSetCycleRelaxType(solver, smoother.up, 2);
 }
@@ -192,6 +232,29 @@ class algebraic_multigrid_preconditioner {
     HYPRE_IJVectorSetValues(m_right_hand_side, count, m_row_indices.data(), r.data());
     HYPRE_ParVectorSetConstantValues(m_parallel_solution, 0.0);
     HYPRE_BoomerAMGSolve(m_solver, m_parallel_matrix, m_parallel_right_hand_side, m_parallel_solution);
+    if (z.size() != r.size()) z.resize(r.size());
+    HYPRE_IJVectorGetValues(m_solution, count, m_row_indices.data(), z.data());
+  }
+
+  /// z = Bᵀ r, the transposed cycle(s) (see the file comment); needs the
+  /// smoother jacobi. Collective.
+  void apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) {
+    if (m_settings.smoother != multigrid_smoother::jacobi) {
+      throw std::invalid_argument(
+          std::string("nkit: algebraic_multigrid_preconditioner::apply_transpose needs "
+                      "algebraic_multigrid_settings.smoother = jacobi (got ") +
+          detail::smoother_name(m_settings.smoother) +
+          "): hypre's transposed cycle relaxes with Jacobi only, so with another smoother it would not be the "
+          "transpose of apply()");
+    }
+    if (m_solver == nullptr) {
+      throw std::logic_error(
+          "nkit: algebraic_multigrid_preconditioner::apply_transpose called before a successful setup");
+    }
+    const auto count = static_cast<HYPRE_Int>(m_partition.local_rows);
+    HYPRE_IJVectorSetValues(m_right_hand_side, count, m_row_indices.data(), r.data());
+    HYPRE_ParVectorSetConstantValues(m_parallel_solution, 0.0);
+    HYPRE_BoomerAMGSolveT(m_solver, m_parallel_matrix, m_parallel_right_hand_side, m_parallel_solution);
     if (z.size() != r.size()) z.resize(r.size());
     HYPRE_IJVectorGetValues(m_solution, count, m_row_indices.data(), z.data());
   }

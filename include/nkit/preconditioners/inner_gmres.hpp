@@ -17,10 +17,22 @@
 /// Setup copies J (nnz doubles + indices) and sets up `Inner`; apply runs
 /// the inner GMRES, whose workspace (inner_iterations + 3 vectors) is
 /// allocated on the first application and reused. Setup status is that of `Inner`.
+///
+/// apply_transpose (for adjoint solves; only when `Inner` has apply_transpose):
+/// GMRES is nonlinear in r, so M⁻¹ has no transpose to take. nkit gives the
+/// same construction for the transposed system instead: z ≈ J⁻ᵀ r by the same
+/// number of inner GMRES iterations on Jᵀ (products with the stored J
+/// transposed), preconditioned by Inner's apply_transpose, to the same inner
+/// tolerance. Like apply() it is a variable preconditioner (the transposed
+/// solve then uses flexible GMRES, as the forward one does), and it equals the
+/// exact transpose only in the limit of exact inner solves: with inner
+/// relative residuals τ, |⟨M⁻¹v, w⟩ − ⟨v, M⁻ᵀw⟩| <= 2τ‖J⁻¹‖₂‖v‖‖w‖. It
+/// shares apply()'s GMRES workspace (no extra allocation after the first call).
 
 #include <Eigen/Core>
 #include <cstddef>
 #include <string>
+#include <type_traits>
 #include <utility>
 
 #include "../core/linear_operator.hpp"
@@ -67,6 +79,24 @@ class inner_gmres_preconditioner {
     if (z.size() != r.size()) z.resize(r.size());
     matrix_operator<sparse_matrix> op(m_matrix);
     m_last = m_gmres.solve(op, m_inner, r, z, m_settings.inner_relative_tolerance, initial_guess::zero);
+  }
+
+  /// z ≈ J⁻ᵀ r by inner GMRES on Jᵀ preconditioned by Inner's transpose (see the file comment).
+  template <class I = Inner, class = std::enable_if_t<has_apply_transpose_v<I, Eigen::VectorXd>>>
+  void apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) {
+    if (z.size() != r.size()) z.resize(r.size());
+    struct transposed_matrix {
+      const sparse_matrix* matrix;
+      void apply(const Eigen::VectorXd& in, Eigen::VectorXd& out) const { out.noalias() = matrix->transpose() * in; }
+    };
+    struct transposed_inner {
+      I* inner;
+      void apply(const Eigen::VectorXd& in, Eigen::VectorXd& out) { inner->apply_transpose(in, out); }
+      bool changes_between_applications() const { return nkit::changes_between_applications(*inner); }
+    };
+    transposed_matrix op{&m_matrix};
+    transposed_inner preconditioner{&m_inner};
+    m_last = m_gmres.solve(op, preconditioner, r, z, m_settings.inner_relative_tolerance, initial_guess::zero);
   }
 
   std::size_t memory_bytes() const {

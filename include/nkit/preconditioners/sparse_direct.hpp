@@ -18,8 +18,10 @@
 /// solves with the factors (allocates temporaries inside Eigen).
 ///
 /// apply_transpose (z = M⁻ᵀ r, for adjoint solves) exists when the
-/// factorisation offers transpose().solve() (Eigen::SparseLU does): two
-/// triangular solves with the same factors, no refactorisation.
+/// factorisation offers transpose().solve() (Eigen::SparseLU does) or a
+/// member solve_transposed(r, z) (the SuiteSparse factorisations of
+/// suitesparse_direct.hpp): two triangular solves with the same factors, no
+/// refactorisation.
 ///
 /// Fallback (setup_status::ready_with_fallback): when the factorisation
 /// reports failure (J singular to working precision), nkit factorises
@@ -46,6 +48,23 @@ struct has_factor_nonzeros : std::false_type {};
 template <class F>
 struct has_factor_nonzeros<F, std::void_t<decltype(std::declval<const F&>().nnzL() + std::declval<const F&>().nnzU())>>
     : std::true_type {};
+
+/// Whether a factorisation solves with its transpose: transpose().solve(r)
+/// (Eigen::SparseLU) or solve_transposed(r, z) (suitesparse_direct.hpp).
+template <class F, class = void>
+struct has_transpose_view_solve : std::false_type {};
+template <class F>
+struct has_transpose_view_solve<
+    F, std::void_t<decltype(std::declval<F&>().transpose().solve(std::declval<const Eigen::VectorXd&>()))>>
+    : std::true_type {};
+template <class F, class = void>
+struct has_solve_transposed : std::false_type {};
+template <class F>
+struct has_solve_transposed<F, std::void_t<decltype(std::declval<const F&>().solve_transposed(
+                                   std::declval<const Eigen::VectorXd&>(), std::declval<Eigen::VectorXd&>()))>>
+    : std::true_type {};
+template <class F>
+inline constexpr bool can_solve_transposed_v = has_transpose_view_solve<F>::value || has_solve_transposed<F>::value;
 }  // namespace detail
 
 template <class Factorization>
@@ -94,11 +113,15 @@ class direct_factorization_preconditioner {
 
   void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) const { z = m_factor->solve(r); }
 
-  /// z = M⁻ᵀ r with the same factors; only when Factorization has transpose().solve().
-  template <class F = Factorization>
-  auto apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) const
-      -> decltype(static_cast<void>(std::declval<F&>().transpose().solve(r))) {
-    z = m_factor->transpose().solve(r);
+  /// z = M⁻ᵀ r with the same factors; only when Factorization has
+  /// transpose().solve() or solve_transposed(r, z).
+  template <class F = Factorization, std::enable_if_t<detail::can_solve_transposed_v<F>, int> = 0>
+  void apply_transpose(const Eigen::VectorXd& r, Eigen::VectorXd& z) const {
+    if constexpr (detail::has_solve_transposed<F>::value) {
+      m_factor->solve_transposed(r, z);
+    } else {
+      z = m_factor->transpose().solve(r);
+    }
   }
 
   /// Factor storage (L and U nonzeros, 12 bytes each, when the factorisation

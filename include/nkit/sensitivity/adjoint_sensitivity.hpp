@@ -10,9 +10,10 @@
 /// runs GMRES on the Jacobian assembled at u* — the problem's
 /// assemble_jacobian(u, p, J), or colored differences of its
 /// jacobian_pattern() — transposed, right-preconditioned by the Newton
-/// solver's preconditioner transposed (its apply_transpose: built in for the
-/// identity, Jacobi, ILU(0), ILUT and sparse direct factors, which are those
-/// of the last Newton step, not rebuilt).
+/// solver's preconditioner transposed (its apply_transpose, which every
+/// built-in preconditioner has — BoomerAMG with the Jacobi smoother only; the
+/// factors are those of the last Newton step, not rebuilt; table in
+/// docs/sensitivities.md).
 /// Cost: one linear solve plus m products R_p e_j (each one residual sweep
 /// on dual numbers, or one or two residual evaluations by differences),
 /// whatever the number of parameters.
