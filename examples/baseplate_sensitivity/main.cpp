@@ -282,7 +282,7 @@ int run(int argc, char** argv) {
   std::printf(
       "\nDesign step: bring the hottest chip's peak under %.2f deg C by changing %s and %s\n"
       "(invented cost: %g (relative change)^2 + %g (relative change)^2; linearised by the adjoint "
-      "sensitivities, verified by a nonlinear solve)\n",
+      "sensitivities, aimed %g K under the limit, verified by a nonlinear solve; temperatures in deg C)\n",
       limit - kelvin_offset, parameters[static_cast<std::size_t>(chosen[0])].name,
       parameters[static_cast<std::size_t>(chosen[1])].name, weights[0], weights[1], margin);
   std::printf("%4s %12s %14s %14s %14s %14s %10s\n", "step", "hottest chip", "aimed at", "achieved", "parameter 1",
