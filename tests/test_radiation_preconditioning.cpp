@@ -24,6 +24,7 @@
 
 #include "problems/radiation/gray_radiation_diffusion.hpp"
 #include "problems/radiation/linearized_split_pass.hpp"
+#include "support/fixed_jacobian.hpp"
 
 namespace {
 
@@ -31,12 +32,6 @@ using nkit_problems::gray_radiation_diffusion_1d;
 using context_type = nkit::preconditioner_context<nkit::eigen_vector_space<double>>;
 
 constexpr double machine_epsilon = std::numeric_limits<double>::epsilon();
-
-/// Hands a fixed matrix to a preconditioner's setup.
-struct fixed_jacobian final : nkit::jacobian_source {
-  const nkit::sparse_matrix* matrix = nullptr;
-  const nkit::sparse_matrix& assembled_jacobian() override { return *matrix; }
-};
 
 /// A smooth state of the Marshak-wave kind (hot at the left, cold at the right,
 /// not in equilibrium), for operators linearised away from the initial state.
@@ -143,8 +138,7 @@ TEST_CASE("operator split pass: exact sub-solves reproduce forward block Gauss-S
 
   const nkit::eigen_vector_space<double> space;
   const Eigen::VectorXd residual = Eigen::VectorXd::Zero(u.size());
-  fixed_jacobian source;
-  source.matrix = &jacobian;
+  nkit_test::fixed_jacobian source(jacobian);
   const context_type context{space, u, residual, 0, nullptr, &source};
   REQUIRE(pass.setup(context) == nkit::setup_status::ready);
   REQUIRE(gauss_seidel.setup(context) == nkit::setup_status::ready);

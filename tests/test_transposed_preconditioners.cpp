@@ -49,6 +49,7 @@
 
 #include "problems/test_sets/convection_diffusion.hpp"
 #include "support/conduction_design.hpp"
+#include "support/fixed_jacobian.hpp"
 
 using Catch::Matchers::Message;
 using Catch::Matchers::WithinAbs;
@@ -57,15 +58,7 @@ using nkit_test::random_vector;
 
 namespace {
 
-/// Hands a fixed matrix to a preconditioner's setup (for those without build()).
-class fixed_jacobian final : public nkit::jacobian_source {
- public:
-  explicit fixed_jacobian(const nkit::sparse_matrix& matrix) : m_matrix(&matrix) {}
-  const nkit::sparse_matrix& assembled_jacobian() override { return *m_matrix; }
-
- private:
-  const nkit::sparse_matrix* m_matrix;
-};
+using nkit_test::fixed_jacobian;  // hands a fixed matrix to a preconditioner's setup (those without build())
 
 template <class Preconditioner>
 nkit::setup_status set_up(Preconditioner& preconditioner, const nkit::sparse_matrix& matrix) {

@@ -9,18 +9,11 @@
 #include "mpi/mpi_support.hpp"
 #include "problems/model_problem/model_problem.hpp"
 #include "problems/model_problem/solve_strip_problem.hpp"
+#include "support/fixed_jacobian.hpp"
 #include "support/matchers.hpp"
 
 namespace {
-/// Hands a fixed matrix to a preconditioner's setup.
-class fixed_jacobian final : public nkit::jacobian_source {
- public:
-  explicit fixed_jacobian(nkit::sparse_matrix matrix) : m_matrix(std::move(matrix)) {}
-  const nkit::sparse_matrix& assembled_jacobian() override { return m_matrix; }
-
- private:
-  nkit::sparse_matrix m_matrix;
-};
+using nkit_test::fixed_jacobian;  // hands a fixed matrix to a preconditioner's setup
 
 struct strip_setup {
   nkit_problems::strip_heat_problem problem;

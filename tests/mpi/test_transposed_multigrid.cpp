@@ -28,18 +28,11 @@
 #include "mpi/mpi_support.hpp"
 #include "problems/test_sets/convection_diffusion.hpp"
 #include "support/conduction_design.hpp"
+#include "support/fixed_jacobian.hpp"
 
 namespace {
 
-/// Hands a fixed matrix to a preconditioner's setup.
-class fixed_jacobian final : public nkit::jacobian_source {
- public:
-  explicit fixed_jacobian(nkit::sparse_matrix matrix) : m_matrix(std::move(matrix)) {}
-  const nkit::sparse_matrix& assembled_jacobian() override { return m_matrix; }
-
- private:
-  nkit::sparse_matrix m_matrix;
-};
+using nkit_test::fixed_jacobian;  // hands a fixed matrix to a preconditioner's setup
 
 double global_dot(const Eigen::VectorXd& a, const Eigen::VectorXd& b) {
   double local = a.dot(b), global = 0.0;
