@@ -612,7 +612,7 @@ TEST_CASE("radiation diffusion 2-D: iterated split loop reaches coupled backward
   const gray_radiation_diffusion_2d problem(12, 10);
   const double span = 0.2;
   std::vector<double> lagged_differences;
-  for (const int steps : {10, 20}) {
+  for (const int steps : {20, 40}) {
     // Coupled backward Euler, step by step: R(u) = u − u_n − Δt f(u) by Newton–GMRES, sparse LU.
     Eigen::VectorXd coupled = problem.initial_state();
     nkit::newton_settings newton;
@@ -624,7 +624,7 @@ TEST_CASE("radiation diffusion 2-D: iterated split loop reaches coupled backward
     }
     nkit_problems::gray_radiation_operator_split_2d<> lagged(problem);
     nkit_problems::operator_split_settings iterate;
-    iterate.maximum_passes = 50;
+    iterate.maximum_passes = 200;
     iterate.pass_tolerance = 1e-12;
     nkit_problems::gray_radiation_operator_split_2d<> iterated(problem, iterate);
     Eigen::VectorXd a = problem.initial_state(), b = a;
@@ -639,7 +639,7 @@ TEST_CASE("radiation diffusion 2-D: iterated split loop reaches coupled backward
     lagged_differences.push_back(max_difference(a, coupled));
     // Iterated passes stop at 1e-12 relative change (max|u| <= 4): the Gauss–Seidel
     // iteration contracts, so the distance to its fixed point is of that order; the
-    // field solves at 1e-11; 1e-8 leaves room for ten steps of accumulation.
+    // field solves at 1e-11; 1e-8 leaves room for forty steps of accumulation.
     CHECK(max_difference(b, coupled) <= 1e-8);
     CHECK(lagged_differences.back() > 1e3 * max_difference(b, coupled));
     WARN("2-D split loop, " << steps << " steps: lagged - coupled backward Euler " << lagged_differences.back()

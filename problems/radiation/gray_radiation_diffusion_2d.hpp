@@ -10,7 +10,7 @@
 // it describes no real target or material): a "radiatively heated layered
 // target". Low-Z material (z = 1, as in the 1-D Marshak wave) fills the
 // square; a rectangular layer of high-Z material (default z = 5, cells whose
-// centre lies in [0.2, 0.35] × [0, 0.6]) stands in the way of the wave. The
+// centre lies in [0.1, 0.25] × [0, 0.6]) stands in the way of the wave. The
 // left side x = 0 is driven by the incoming flux q (the Marshak condition of
 // the 1-D problem, ¼E − (1/(6σ_a)) ∂x E = q), the right side x = 1 is a vacuum
 // boundary (¼E + (1/(6σ_a)) ∂x E = 0), top and bottom are insulated (zero flux
@@ -81,8 +81,8 @@ struct layered_target_parameters {
   /// The low-Z material and the drive (atomic_number is the low-Z z).
   gray_radiation_parameters material{};
   double layer_atomic_number = 5.0;  ///< z of the high-Z layer (invented)
-  double layer_left = 0.2;           ///< the layer: cells whose centre lies in
-  double layer_right = 0.35;         ///< [layer_left, layer_right] ×
+  double layer_left = 0.1;           ///< the layer: cells whose centre lies in
+  double layer_right = 0.25;         ///< [layer_left, layer_right] ×
   double layer_bottom = 0.0;         ///< [layer_bottom, layer_top]
   double layer_top = 0.6;
 

@@ -54,9 +54,10 @@ struct operator_split_settings {
 };
 
 /// Counts of one split step: those of operator_split_step_report (both
-/// equations, every pass) and the passes run.
+/// equations, every pass), the passes run and the preconditioner setups.
 struct operator_split_step_report_2d : operator_split_step_report {
   int passes = 0;
+  std::int64_t preconditioner_setups = 0;
 };
 
 template <class Preconditioner = nkit::sparse_direct_preconditioner>
@@ -144,6 +145,7 @@ class gray_radiation_operator_split_2d {
     report.converged = report.converged && solve.converged();
     report.newton_steps += solve.newton_steps;
     report.linear_iterations += solve.linear_iterations;
+    report.preconditioner_setups += solve.preconditioner_setups;
   }
 
   const gray_radiation_diffusion_2d& m_problem;
