@@ -3,8 +3,8 @@
 #   1. installs the Debian packages (cmake/install_dependencies.sh --all)
 #   2. g++ Release build with warnings as errors, then the whole ctest suite
 #   3. valgrind memcheck on a subset of the g++ build (cmake/run_valgrind.sh)
-#   4. clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer and
-#      warnings as errors (plus the libFuzzer target), then the whole ctest
+#   4. clang++ build (unoptimised) with AddressSanitizer + UndefinedBehaviorSanitizer and
+#      warnings as errors (plus the libFuzzer targets), then the whole ctest
 #      suite again (it replays the fuzz corpus once)
 #   5. a deterministic fuzz run: the checked-in corpus, then NKIT_FUZZ_RUNS (default 30000)
 #      mutations from the fixed seed NKIT_FUZZ_SEED (default 20261202), so the same commit always
@@ -37,9 +37,14 @@ stage "valgrind memcheck (subset of the g++ build)"
 bash "$source_dir/cmake/run_valgrind.sh" "$build_root/ci-gcc"
 
 stage "clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer (warnings are errors)"
+# Unoptimised (-O0) with line tables only: the sanitizer build compiles about 3x faster than at
+# -O2 -g and the suite still runs in minutes; stack traces keep file:line. The header-by-header
+# compile checks and the benchmarks ran in the g++ stage already.
+sanitizer_flags="-O0 -gline-tables-only -DNDEBUG"
 cmake -S "$source_dir" -B "$build_root/ci-clang-sanitize" -DCMAKE_BUILD_TYPE=RelWithDebInfo \
+  "-DCMAKE_CXX_FLAGS_RELWITHDEBINFO=$sanitizer_flags" "-DCMAKE_C_FLAGS_RELWITHDEBINFO=$sanitizer_flags" \
   -DCMAKE_CXX_COMPILER=clang++ -DCMAKE_C_COMPILER=clang -DNKIT_WARNINGS_AS_ERRORS=ON -DNKIT_SANITIZE=address,undefined \
-  -DNKIT_BUILD_BENCHMARKS=OFF -DNKIT_BUILD_FUZZERS=ON -DNKIT_BUILD_FORTRAN_INTERFACE=OFF
+  -DNKIT_BUILD_BENCHMARKS=OFF -DNKIT_BUILD_HEADER_CHECKS=OFF -DNKIT_BUILD_FUZZERS=ON -DNKIT_BUILD_FORTRAN_INTERFACE=OFF
 cmake --build "$build_root/ci-clang-sanitize" -j "$jobs"
 stage "test suite (sanitizers)"
 ASAN_OPTIONS=detect_leaks=1:abort_on_error=1 UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 \
