@@ -20,9 +20,15 @@
 // the deformation rate, the residual left per step, the first-step histories;
 // a VTK file of the final fields.
 //
+// --globalization (line search, trust region, pseudo-transient continuation),
+// --picard_start_passes (Picard passes before each Newton solve) and
+// --forcing_maximum (the largest Eisenstat–Walker forcing term) are the knobs
+// compared at 10 km by compare_globalizations.sh (docs/gallery.md).
+//
 //   sea_ice [--cells_per_side=50] [--days=2] [--time_step_hours=2] [--picard_passes=10]
-//           [--newton_tolerance=1e-8] [--globalization=line_search] [--rebuild_every=3]
-//           [--convergence_passes=300] [--output=sea_ice_output] [--help]
+//           [--newton_tolerance=1e-8] [--globalization=line_search] [--picard_start_passes=0]
+//           [--forcing_maximum=0.9] [--rebuild_every=3] [--convergence_passes=300]
+//           [--output=sea_ice_output] [--help]
 #include <algorithm>
 #include <chrono>
 #include <cstdio>
@@ -71,7 +77,9 @@ int run(int argc, char** argv) {
   options.option("time_step_hours", "2", "time step of the momentum equation and of the ice transport");
   options.option("picard_passes", "10", "Picard passes per step in the Picard trajectory (sea-ice codes use 2-10)");
   options.option("newton_tolerance", "1e-8", "Newton-Krylov stops at |R| <= this * |R(u_old)|");
-  options.option("globalization", "line_search", "line_search or pseudo_transient");
+  options.option("globalization", "line_search", "line_search, trust_region or pseudo_transient");
+  options.option("forcing_maximum", "0.9", "largest Eisenstat-Walker forcing term (GMRES tolerance per Newton step)");
+  options.option("picard_start_passes", "0", "Picard passes before each Newton-Krylov solve (a warm start)");
   options.option("rebuild_every", "3", "refactor the frozen-viscosity preconditioner every this many Newton steps");
   options.option("convergence_passes", "300",
                  "first step only: Picard towards the Newton tolerance, at most this many passes");
@@ -86,17 +94,28 @@ int run(int argc, char** argv) {
   if (!(days > 0.0)) throw std::invalid_argument("sea_ice: --days must be > 0");
   if (passes < 1)
     throw std::invalid_argument("sea_ice: --picard_passes must be >= 1 (got " + std::to_string(passes) + ")");
-  if (globalization != "line_search" && globalization != "pseudo_transient") {
-    throw std::invalid_argument("sea_ice: --globalization must be line_search or pseudo_transient (got " +
+  if (globalization != "line_search" && globalization != "trust_region" && globalization != "pseudo_transient") {
+    throw std::invalid_argument("sea_ice: --globalization must be line_search, trust_region or pseudo_transient (got " +
                                 globalization + ")");
   }
+  const int start_passes = options.integer("picard_start_passes");
+  if (start_passes < 0)
+    throw std::invalid_argument("sea_ice: --picard_start_passes must be >= 0 (got " + std::to_string(start_passes) +
+                                ")");
   const int steps = std::max(1, static_cast<int>(days * 86400.0 / step + 0.5));
 
   nkit::newton_settings newton;
   newton.relative_tolerance = options.number("newton_tolerance");
   newton.newton_step_budget = 200;
   newton.linear.restart_length = 40;
+  newton.forcing.maximum_value = options.number("forcing_maximum");
+  if (!(newton.forcing.maximum_value > 0.0 && newton.forcing.maximum_value < 1.0)) {
+    throw std::invalid_argument("sea_ice: --forcing_maximum must lie in (0, 1) (got " +
+                                options.text("forcing_maximum") + ")");
+  }
+  newton.forcing.initial_value = std::min(newton.forcing.initial_value, newton.forcing.maximum_value);
   if (globalization == "pseudo_transient") newton.globalization = nkit::globalization_strategy::pseudo_transient;
+  if (globalization == "trust_region") newton.globalization = nkit::globalization_strategy::trust_region;
   // Lagged preconditioner: refactor every few steps, and at once when GMRES slows down (common practice).
   newton.preconditioner_rebuild.rebuild_every_newton_steps = options.integer("rebuild_every");
   newton.preconditioner_rebuild.rebuild_when_linear_iterations_exceed = 25;
@@ -130,6 +149,7 @@ int run(int argc, char** argv) {
     newton_problem(u_newton, r);
     const double newton_initial = r.norm();
     auto start = std::chrono::steady_clock::now();
+    if (start_passes > 0) nkit_problems::solve_momentum_by_picard(newton_problem, u_newton, 0.0, start_passes);
     const nkit::solve_report report = nkit_problems::solve_momentum_by_newton_krylov(newton_problem, u_newton, newton);
     sample.newton_seconds = seconds_since(start);
     sample.newton_steps = report.newton_steps;
