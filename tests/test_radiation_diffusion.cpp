@@ -585,22 +585,6 @@ TEST_CASE("radiation diffusion 2-D: the coupled solve with field-split precondit
   CHECK(problem.heated_area(direct, 0.3) > 0.02);
 }
 
-namespace {
-
-/// One coupled backward-Euler step of the 2-D problem as a steady residual.
-struct coupled_backward_euler_2d {
-  const gray_radiation_diffusion_2d& problem;
-  Eigen::VectorXd old_state;
-  double step;
-  void operator()(const Eigen::VectorXd& u, Eigen::VectorXd& r) const {
-    problem.rate(0.0, u, r);
-    r = u - old_state - step * r;
-  }
-  const nkit::sparsity_pattern& jacobian_pattern() const { return problem.jacobian_pattern(); }
-};
-
-}  // namespace
-
 // (j) The 2-D split loop: lagged (one pass) and iterated. The iterated loop's
 // fixed point is the coupled backward-Euler step, so with passes to 1e-12 it
 // matches coupled backward Euler (BDF order 1) up to the solve tolerances;
@@ -620,7 +604,8 @@ TEST_CASE("radiation diffusion 2-D: iterated split loop reaches coupled backward
     newton.absolute_tolerance = 1e-14;
     nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> solver(newton);
     for (int n = 0; n < steps; ++n) {
-      REQUIRE(solver.solve(coupled_backward_euler_2d{problem, coupled, span / steps}, coupled).converged());
+      REQUIRE(solver.solve(nkit_problems::gray_radiation_backward_euler_step(problem, coupled, span / steps), coupled)
+                  .converged());
     }
     nkit_problems::gray_radiation_operator_split_2d<> lagged(problem);
     nkit_problems::operator_split_settings iterate;

@@ -57,19 +57,6 @@ nkit::field_split_preconditioner make_split(const nkit::field_layout& layout, nk
       nkit::make_inner_preconditioners(nkit::sparse_direct_preconditioner{}, nkit::sparse_direct_preconditioner{}));
 }
 
-/// One coupled backward-Euler step as a steady residual (the closing check).
-struct backward_euler_step {
-  const gray_radiation_diffusion_2d& problem;
-  Eigen::VectorXd old_state;
-  double step;
-  void operator()(const Eigen::VectorXd& u, Eigen::VectorXd& r) const {
-    problem.rate(0.0, u, r);
-    r = u - old_state - step * r;
-  }
-  const nkit::field_layout& field_layout() const { return problem.field_layout(); }
-  const nkit::sparsity_pattern& jacobian_pattern() const { return problem.jacobian_pattern(); }
-};
-
 int run(int argc, char** argv) {
   nkit_examples::command_line options("radiation_layered_target",
                                       "2-D radiatively heated layered target, non-equilibrium gray radiation diffusion "
@@ -179,7 +166,7 @@ int run(int argc, char** argv) {
   // step size) from the final state, Newton–GMRES with the same split.
   const auto folder = nkit_examples::make_output_folder(options.text("output"));
   {
-    const backward_euler_step check{problem, u, last_step};
+    const nkit_problems::gray_radiation_backward_euler_step check(problem, u, last_step);
     nkit::newton_settings newton;
     newton.relative_tolerance = 1e-10;
     newton.linear.restart_length = 60;

@@ -256,11 +256,13 @@ class gray_radiation_diffusion_1d {
 /// One backward-Euler step of the coupled problem as a steady nkit residual,
 /// R(u) = u − u_old − Δt f(u), with the problem's field_layout() (so the Newton
 /// report carries per-field residual norms) and jacobian_pattern(). Holds a
-/// reference to the problem and a copy of u_old.
+/// reference to the problem and a copy of u_old. `Problem`: the 1-D problem
+/// here or the 2-D one (gray_radiation_diffusion_2d.hpp), deduced from the
+/// constructor's first argument.
+template <class Problem>
 class gray_radiation_backward_euler_step {
  public:
-  gray_radiation_backward_euler_step(const gray_radiation_diffusion_1d& problem, Eigen::VectorXd old_state,
-                                     double step_size)
+  gray_radiation_backward_euler_step(const Problem& problem, Eigen::VectorXd old_state, double step_size)
       : m_problem(problem), m_old(std::move(old_state)), m_step(step_size) {
     if (!(step_size > 0.0 && std::isfinite(step_size))) {
       throw std::invalid_argument("gray_radiation_backward_euler_step: step_size must be finite and > 0 (got " +
@@ -276,7 +278,7 @@ class gray_radiation_backward_euler_step {
   const nkit::sparsity_pattern& jacobian_pattern() const { return m_problem.jacobian_pattern(); }
 
  private:
-  const gray_radiation_diffusion_1d& m_problem;
+  const Problem& m_problem;
   Eigen::VectorXd m_old;
   double m_step;
 };
