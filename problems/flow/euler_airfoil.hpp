@@ -24,8 +24,9 @@
 // "Computational Fluid Dynamics: Principles and Applications", Elsevier 2001,
 // §4.3.3 (from memory). Entropy fix of A. Harten, "High resolution schemes for
 // hyperbolic conservation laws", J. Comput. Phys. 49 (1983) 357–393: |λ| is
-// replaced by (λ² + δ²)/(2δ) where |λ| < δ, δ = entropy_fix_fraction·(|q̃| + c̃)
-// (a fraction of the spectral radius: common practice), on all three waves.
+// replaced by (λ² + δ²)/(2δ) where |λ| < δ, on all three waves, with
+// δ = entropy_fix_fraction·c̃ (a fraction of the Roe-averaged sound speed:
+// common practice; unlike a fraction of |q̃| + c̃ it has no corner at q̃ = 0).
 // Why Roe and not HLLC (nozzle.hpp): Newton needs a residual that is
 // differentiable at the solution. HLLC switches branch where the contact
 // speed S* changes sign, which happens at every wall face (S* = 0 with the
@@ -100,7 +101,7 @@ struct euler_airfoil_settings {
   double mach_number = 0.5;              ///< M∞, > 0
   double angle_of_attack_degrees = 0.0;  ///< α in degrees, |α| < 90
   bool second_order = true;              ///< MUSCL + van Albada; false: first order
-  double entropy_fix_fraction = 0.1;     ///< Harten's δ / (|q̃| + c̃), in [0, 1]
+  double entropy_fix_fraction = 0.1;     ///< Harten's δ / c̃, in [0, 1]
   airfoil_body_boundary body_boundary = airfoil_body_boundary::slip_wall;
 
   void validate() const {
@@ -180,7 +181,7 @@ class euler_airfoil_flow {
     const Scalar c = sqrt((euler_gamma - 1.0) * (h - kinetic)), q = u * nx + v * ny;
     const Scalar d_rho = r[0] - l[0], d_u = r[1] - l[1], d_v = r[2] - l[2], d_p = r[3] - l[3];
     const Scalar d_q = d_u * nx + d_v * ny;
-    const Scalar delta = m_settings.entropy_fix_fraction * (abs(q) + c);
+    const Scalar delta = m_settings.entropy_fix_fraction * c;
     const auto fixed = [&delta](const Scalar& lambda) -> Scalar {
       const Scalar magnitude = abs(lambda);
       if (magnitude < delta) return (lambda * lambda + delta * delta) / (2.0 * delta);
