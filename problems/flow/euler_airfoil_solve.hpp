@@ -8,8 +8,8 @@
 // R'(U) + W/δ assembled by colored finite differences from the problem's
 // jacobian_pattern() (at second order the wide MUSCL stencil, 9 cells of 4
 // unknowns per row). A preconditioner from the first-order operator (five
-// cells per row, cheaper to factor, but a weaker approximation) is the
-// subject of the example this problem is written for.
+// cells per row, cheaper to factor, but a weaker approximation):
+// euler_airfoil_first_order_jacobian.hpp.
 #ifndef NKIT_PROBLEMS_FLOW_EULER_AIRFOIL_SOLVE_HPP
 #define NKIT_PROBLEMS_FLOW_EULER_AIRFOIL_SOLVE_HPP
 
@@ -18,6 +18,7 @@
 #include <nkit/preconditioners/sparse_direct.hpp>
 
 #include "problems/flow/euler_airfoil.hpp"
+#include "problems/flow/euler_airfoil_first_order_jacobian.hpp"
 
 namespace nkit_problems {
 
@@ -38,8 +39,10 @@ inline nkit::newton_settings euler_airfoil_newton_settings(double initial_cfl = 
 
 /// Solves with the preconditioner type given (any of nkit's that set up from
 /// the assembled Jacobian: sparse_direct_preconditioner, ilu_zero_preconditioner, ...).
-template <class Preconditioner = nkit::sparse_direct_preconditioner>
-nkit::solve_report solve_euler_airfoil(const euler_airfoil_flow& problem, Eigen::VectorXd& u,
+/// `Problem`: euler_airfoil_flow (preconditioner from its own Jacobian) or
+/// euler_airfoil_with_first_order_jacobian (from the first-order operator's).
+template <class Preconditioner = nkit::sparse_direct_preconditioner, class Problem>
+nkit::solve_report solve_euler_airfoil(const Problem& problem, Eigen::VectorXd& u,
                                        const nkit::newton_settings& settings = euler_airfoil_newton_settings()) {
   nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, Preconditioner> solver(settings);
   return solver.solve(problem, u);
