@@ -10,11 +10,11 @@
 // assemble (fewer colors) and to factor, and is better conditioned (more
 // dissipation), at the price of more GMRES iterations per Newton step with an
 // exact factorisation. Measured on NACA 0012, M = 0.5, α = 2°, 64 × 32 cells,
-// pseudo-transient Newton–GMRES to 1e-10 (euler_airfoil_solve.hpp), one core
-// of the shared development machine: ILU(0) of the second-order Jacobian 31
-// Newton steps, 375 GMRES iterations, 1.25 s; ILU(0) of the first-order
-// Jacobian 32 steps, 190 iterations, 0.52 s; sparse LU of the first-order
-// Jacobian 20 steps, 94 iterations, 3.2 s (2.7 s of it factorising).
+// pseudo-transient Newton–GMRES from CFL 50 to 1e-10 (euler_airfoil_solve.hpp),
+// one core of the shared development machine: ILU(0) of the second-order
+// Jacobian 24 Newton steps, 317 GMRES iterations, 1.0 s; ILU(0) of the
+// first-order Jacobian 21 steps, 169 iterations, 0.39 s; sparse LU of the
+// first-order Jacobian 14 steps, 85 iterations, 2.5 s (2.0 s of it factorising).
 //
 // assemble_jacobian builds it by colored forward differences of the
 // first-order residual (nkit::colored_difference_jacobian, Curtis, Powell &

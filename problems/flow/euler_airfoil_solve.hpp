@@ -24,7 +24,7 @@ namespace nkit_problems {
 
 /// Settings of the airfoil solve: pseudo-transient from CFL `initial_cfl`,
 /// converged when ‖R(U)‖₂ <= relative_tolerance · ‖R(U0)‖₂.
-inline nkit::newton_settings euler_airfoil_newton_settings(double initial_cfl = 10.0,
+inline nkit::newton_settings euler_airfoil_newton_settings(double initial_cfl = 50.0,
                                                            double relative_tolerance = 1e-10) {
   nkit::newton_settings settings;
   settings.globalization = nkit::globalization_strategy::pseudo_transient;
