@@ -127,6 +127,33 @@ TEST_CASE("O-grid: positive areas, closed cells, areas add up to the annulus", "
     // Clockwise node order: both shoelace sums are negative.
     CHECK_THAT(area_sum, WithinRel(inner - outer, 1e-12));
   }
+  // Wall orthogonality (airfoil_grid.hpp): the first radial edge leaves P_i
+  // along (1 − b) n_i + b e_i with n_i normal to the central-difference
+  // tangent P_{i+1} − P_{i−1} and b = 3r² − 2r³ <= 3 (d_1/D)², d_1 the first
+  // radial spacing: |cos(edge, tangent)| <= b. With straight lines (D = 0)
+  // the same measure is far from zero near the edges.
+  const auto worst_wall_cosine = [](const airfoil_o_grid& grid, double& bound) {
+    double worst = 0.0;
+    bound = 0.0;
+    for (int i = 0; i < grid.cells_around(); ++i) {
+      const auto p = grid.node(i, 0), d = grid.node(i, 1), before = grid.node(i - 1, 0), after = grid.node(i + 1, 0);
+      const double ex = d.x - p.x, ey = d.y - p.y, tx = after.x - before.x, ty = after.y - before.y;
+      worst = std::max(worst, std::abs(ex * tx + ey * ty) / (std::hypot(ex, ey) * std::hypot(tx, ty)));
+      const double r = std::hypot(ex, ey) / grid.settings().wall_normal_blend_distance;
+      bound = std::max(bound, 3.0 * r * r);
+    }
+    return worst;
+  };
+  double bound = 0.0;
+  const airfoil_o_grid orthogonal(naca_four_digit_airfoil("0012"), coarse_grid());
+  const double blended = worst_wall_cosine(orthogonal, bound);
+  airfoil_grid_settings straight_lines = coarse_grid();
+  straight_lines.wall_normal_blend_distance = 0.0;
+  double unused = 0.0;
+  const double straight = worst_wall_cosine(airfoil_o_grid(naca_four_digit_airfoil("0012"), straight_lines), unused);
+  CAPTURE(blended, bound, straight);
+  CHECK(blended <= bound + 1e-12);
+  CHECK(straight > 0.5);
   airfoil_grid_settings bad = coarse_grid();
   bad.cells_around = 63;
   CHECK_THROWS_AS(airfoil_o_grid(naca_four_digit_airfoil("0012"), bad), std::invalid_argument);
@@ -370,7 +397,7 @@ TEST_CASE("subsonic NACA 0012 on a coarse grid: symmetry, thin-airfoil lift and 
   // are mirror images): the discrete solution is symmetric, so c_l = 0 up to
   // the rounding of the symmetric pair sums and the unconverged part of the
   // solution (‖R‖ <= 1e-10 ‖R0‖ ≈ 5e-12, times the inverse Jacobian’s norm
-  // over the wall faces): 1e-8 asked (measured 6e-12).
+  // over the wall faces): 1e-8 asked (measured 5e-11).
   CHECK(std::abs(cl0) <= 1e-8);
   // The same symmetry for the surface pressure: wall faces i and n−1−i are
   // mirror images (same tolerance reasoning, c_p = O(1)).
@@ -389,7 +416,7 @@ TEST_CASE("subsonic NACA 0012 on a coarse grid: symmetry, thin-airfoil lift and 
   // are s ≈ 0.0045 from the leading edge; on a circle of the leading-edge
   // radius r = 1.1019 t² = 0.0159 (Abbott & von Doenhoff 1959 §6.4, from
   // memory) potential flow gives c_p = 1 − 4 sin²(s/r) ≈ 0.69 incompressible,
-  // somewhat more at M = 0.5: asked > 0.6 (measured 0.846; 0.899 on 96 × 48).
+  // somewhat more at M = 0.5: asked > 0.6 (measured 0.934; 0.959 on 96 × 48).
   const double stagnation_cp = 2.0 / (1.4 * 0.25) * (std::pow(1.0 + 0.2 * 0.25, 3.5) - 1.0);
   CAPTURE(largest_asymmetry, largest_cp, stagnation_cp);
   CHECK(largest_asymmetry <= 1e-8);
@@ -401,7 +428,7 @@ TEST_CASE("subsonic NACA 0012 on a coarse grid: symmetry, thin-airfoil lift and 
   // M = 0.5, α = 2°. Allowed ±15 %: a 12 % thick section lifts some 9 % more
   // than thin-airfoil theory (inviscid lift slope about 2π(1 + 0.77 t/c),
   // from memory); the coarse grid's numerical dissipation takes lift away
-  // (first order on this grid gives 0.225, measured: 9 % below second
+  // (first order on this grid gives 0.222, measured: 12 % below second
   // order), and the far field without a vortex correction at R = 20 chords
   // costs a few per cent (order c/R, from memory).
   const double pi = std::acos(-1.0);
@@ -428,8 +455,8 @@ TEST_CASE("subsonic NACA 0012 on a coarse grid: symmetry, thin-airfoil lift and 
   // Refining by 3/2 must shrink that spurious drag: by (3/2)² = 2.25 for a
   // second-order scheme, by 1.5 at first order; the limiter and the singular
   // trailing edge lower the order locally, so at least first order is asked
-  // (measured ratio 1.76: c_d = 0.0141 → 0.0080). The lift stays in the
-  // thin-airfoil band above (measured 0.260).
+  // (measured ratio 1.94: c_d = 0.0068 → 0.0035). The lift stays in the
+  // thin-airfoil band above (measured 0.263).
   const double refined_drag = refined.forces.drag_coefficient;
   CAPTURE(refined_drag, refined.forces.lift_coefficient);
   CHECK(refined_drag > 0.0);

@@ -12,9 +12,9 @@
 // exact factorisation. Measured on NACA 0012, M = 0.5, α = 2°, 64 × 32 cells,
 // pseudo-transient Newton–GMRES from CFL 50 to 1e-10 (euler_airfoil_solve.hpp),
 // one core of the shared development machine: ILU(0) of the second-order
-// Jacobian 24 Newton steps, 317 GMRES iterations, 1.0 s; ILU(0) of the
-// first-order Jacobian 21 steps, 169 iterations, 0.39 s; sparse LU of the
-// first-order Jacobian 14 steps, 85 iterations, 2.5 s (2.0 s of it factorising).
+// Jacobian 19 Newton steps, 341 GMRES iterations, 0.88 s; ILU(0) of the
+// first-order Jacobian 19 steps, 153 iterations, 0.35 s; sparse LU of the
+// first-order Jacobian 13 steps, 76 iterations, 2.3 s (1.8 s of it factorising).
 //
 // assemble_jacobian builds it by colored forward differences of the
 // first-order residual (nkit::colored_difference_jacobian, Curtis, Powell &
