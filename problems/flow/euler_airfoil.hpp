@@ -49,7 +49,8 @@
 // are O(1) in these units) only removes the 0/0 of a uniform state. Index
 // differences along the grid lines (no metric weights): common practice on
 // smooth structured grids. second_order = false gives first order (w_L = w_i):
-// the operator whose Jacobian a preconditioner can use (first_order_pattern()).
+// the operator whose Jacobian a preconditioner can use
+// (euler_airfoil_first_order_jacobian.hpp).
 //
 // Boundaries (common practice):
 //  * i: periodic (the O-grid wrap).
@@ -65,9 +66,14 @@
 //    from the interior at outflow. As in Blazek (2001) §8.6 (from memory;
 //    there also the vortex correction, not used here: lift therefore
 //    carries an O(1/R) far-field error).
+//    The switch of the tangential velocity and entropy at q_b = 0 makes the
+//    far-field state jump there (by the small difference between the interior
+//    and the free stream at R chords): the one place where the residual is
+//    not differentiable; it has not stalled Newton in the cases tested.
 //  * body_boundary = free_stream (verification only): the j = 0 faces get the
 //    far-field treatment too, so a uniform free stream at any angle is an
-//    exact solution of the discrete equations (free-stream preservation).
+//    exact solution of the discrete equations up to round-off (free-stream
+//    preservation).
 //
 // Unknowns interleaved per cell: cell c = i + n·j (airfoil_o_grid::cell_index)
 // holds (ρ, ρu, ρv, ρE) at 4c .. 4c + 3.
