@@ -168,7 +168,7 @@ TEST_CASE("Roe flux: consistency with the physical flux, upwinding at supersonic
     const double c2 = 1.4 * w[3] / w[0], v2 = w[1] * w[1] + w[2] * w[2];
     return (w[0] * c2 + w[0] * v2) * (1.0 + std::sqrt(c2) + std::sqrt(v2));
   };
-  // Consistency F̂(w, w) = F(w)·S (Roe 1981, the first property of the Roe matrix):
+  // Consistency F̂(w, w) = F(w)·S (Roe 1981: the Roe matrix is consistent, Ã(U, U) = A(U)):
   // the dissipation multiplies exact zeros; only the unit normal's rounding remains.
   const state states[] = {{1.0, 0.5, 0.1, 1.0 / 1.4}, {0.8, -0.3, 0.7, 0.5}, {2.0, 1.9, -0.4, 1.2}};
   const double faces[][2] = {{1.0, 0.0}, {0.3, -0.7}, {-2.5e-3, 1.1e-3}};
