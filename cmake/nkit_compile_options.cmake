@@ -66,3 +66,21 @@ function(nkit_optimize_under_sanitizers target)
   set_source_files_properties(${first} PROPERTIES COMPILE_OPTIONS -O2)
   set_property(TARGET ${target} PROPERTY SOURCES ${first} ${rest})
 endfunction()
+
+# nkit_add_header_checks(<target> HEADERS <headers...> LIBRARIES <libraries...>): every
+# header compiles on its own. One generated translation unit per header, including it
+# twice (the second time checks the include guard), built as the object library <target>
+# with <libraries> and the project's warnings. Headers are named as code includes them
+# (<nkit/...> or <problems/...>).
+function(nkit_add_header_checks target)
+  cmake_parse_arguments(PARSE_ARGV 1 arg "" "" "HEADERS;LIBRARIES")
+  set(units)
+  foreach(header IN LISTS arg_HEADERS)
+    string(MAKE_C_IDENTIFIER ${header} unit)
+    set(unit_file ${CMAKE_CURRENT_BINARY_DIR}/header_units/${unit}.cpp)
+    file(CONFIGURE OUTPUT ${unit_file} CONTENT "#include <${header}>\n#include <${header}>  // include guard works\n")
+    list(APPEND units ${unit_file})
+  endforeach()
+  add_library(${target} OBJECT ${units})
+  target_link_libraries(${target} PRIVATE ${arg_LIBRARIES} nkit_compile_options)
+endfunction()
