@@ -21,22 +21,14 @@
 
 #include "problems/flow/euler_airfoil.hpp"
 #include "problems/flow/euler_airfoil_first_order_jacobian.hpp"
+#include "problems/flow/steady_flow_settings.hpp"
 
 namespace nkit_problems {
 
-/// Settings of the airfoil solve: pseudo-transient from CFL `initial_cfl`,
-/// converged when ‖R(U)‖₂ <= relative_tolerance · ‖R(U0)‖₂.
+/// Settings of the airfoil solve (steady_flow_settings.hpp): from CFL `initial_cfl`, at most 200 Newton steps.
 inline nkit::newton_settings euler_airfoil_newton_settings(double initial_cfl = 50.0,
                                                            double relative_tolerance = 1e-10) {
-  nkit::newton_settings settings;
-  settings.globalization = nkit::globalization_strategy::pseudo_transient;
-  settings.pseudo_transient.initial_step = initial_cfl;
-  settings.relative_tolerance = relative_tolerance;
-  settings.newton_step_budget = 200;
-  // The residual may rise while the start-up transient leaves the domain: no
-  // stagnation stop during the pseudo-time march.
-  settings.stagnation_window = settings.newton_step_budget;
-  return settings;
+  return steady_flow_newton_settings(initial_cfl, relative_tolerance, 200);
 }
 
 /// Solves with the preconditioner type given (any of nkit's that set up from

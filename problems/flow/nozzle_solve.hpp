@@ -14,21 +14,13 @@
 #include <nkit/preconditioners/sparse_direct.hpp>
 
 #include "problems/flow/nozzle.hpp"
+#include "problems/flow/steady_flow_settings.hpp"
 
 namespace nkit_problems {
 
-/// Settings of the nozzle solve: pseudo-transient from CFL `initial_cfl`,
-/// converged when ‖R(U)‖₂ <= relative_tolerance · ‖R(U0)‖₂.
+/// Settings of the nozzle solve (steady_flow_settings.hpp): from CFL `initial_cfl`, at most 400 Newton steps.
 inline nkit::newton_settings nozzle_newton_settings(double initial_cfl = 50.0, double relative_tolerance = 1e-10) {
-  nkit::newton_settings settings;
-  settings.globalization = nkit::globalization_strategy::pseudo_transient;
-  settings.pseudo_transient.initial_step = initial_cfl;
-  settings.relative_tolerance = relative_tolerance;
-  settings.newton_step_budget = 400;
-  // The residual rises while the start-up transient crosses the nozzle: no
-  // stagnation stop during the pseudo-time march.
-  settings.stagnation_window = settings.newton_step_budget;
-  return settings;
+  return steady_flow_newton_settings(initial_cfl, relative_tolerance, 400);
 }
 
 inline nkit::solve_report solve_nozzle(const quasi_one_dimensional_nozzle& problem, Eigen::VectorXd& u,
