@@ -1,5 +1,7 @@
-// Writer for VTK legacy ASCII files (format version 3.0, readable by any VTK
-// viewer): a rectilinear grid whose cells carry scalar and vector fields.
+// Writers for VTK legacy ASCII files (format version 3.0, readable by any VTK
+// viewer): a rectilinear grid, or a curvilinear structured grid given by its
+// node coordinates (body-fitted grids), whose cells carry scalar and vector
+// fields.
 // Shared example plumbing (not part of the nkit library).
 #ifndef NKIT_EXAMPLES_COMMON_VTK_LEGACY_HPP
 #define NKIT_EXAMPLES_COMMON_VTK_LEGACY_HPP
@@ -96,6 +98,86 @@ class vtk_rectilinear_file {
     }
   }
 
+  std::vector<double> m_x, m_y;
+  std::vector<std::pair<std::string, Eigen::VectorXd>> m_scalars;
+  std::vector<vector_field> m_vectors;
+};
+
+/// Cell data on a curvilinear structured grid of nx × ny cells given by its
+/// (nx + 1) × (ny + 1) nodes, i fastest (z is a single plane). Cells and fields
+/// are ordered i + nx·j like the nodes. A periodic direction (an O-grid) is
+/// written with its seam node repeated, so node nx is a copy of node 0.
+class vtk_structured_grid_file {
+ public:
+  /// `nodes_x`, `nodes_y`: (nx + 1)(ny + 1) node coordinates, index i + (nx + 1) j.
+  vtk_structured_grid_file(int nx, int ny, std::vector<double> nodes_x, std::vector<double> nodes_y)
+      : m_nx(nx), m_ny(ny), m_x(std::move(nodes_x)), m_y(std::move(nodes_y)) {
+    if (nx < 1 || ny < 1) throw std::invalid_argument("vtk_structured_grid_file: need at least one cell");
+    const std::size_t nodes = static_cast<std::size_t>(nx + 1) * static_cast<std::size_t>(ny + 1);
+    if (m_x.size() != nodes || m_y.size() != nodes) {
+      throw std::invalid_argument("vtk_structured_grid_file: need " + std::to_string(nodes) +
+                                  " node coordinates (got " + std::to_string(m_x.size()) + " x and " +
+                                  std::to_string(m_y.size()) + " y)");
+    }
+  }
+
+  Eigen::Index cells() const { return static_cast<Eigen::Index>(m_nx) * static_cast<Eigen::Index>(m_ny); }
+
+  void add_scalar(const std::string& name, const Eigen::VectorXd& values) {
+    check(name, values.size());
+    m_scalars.emplace_back(name, values);
+  }
+  void add_vector(const std::string& name, const Eigen::VectorXd& x_component, const Eigen::VectorXd& y_component) {
+    check(name, x_component.size());
+    check(name, y_component.size());
+    m_vectors.push_back({name, x_component, y_component});
+  }
+
+  void write(const std::filesystem::path& path, const std::string& title) const {
+    std::ofstream out(path);
+    if (!out) throw std::runtime_error("cannot write " + path.string());
+    out << "# vtk DataFile Version 3.0\n" << title.substr(0, 255) << "\nASCII\nDATASET STRUCTURED_GRID\n";
+    out << "DIMENSIONS " << m_nx + 1 << ' ' << m_ny + 1 << " 1\n";
+    out << "POINTS " << m_x.size() << " double\n";
+    char buffer[96];
+    for (std::size_t p = 0; p < m_x.size(); ++p) {
+      std::snprintf(buffer, sizeof buffer, "%.9g %.9g 0\n", m_x[p], m_y[p]);
+      out << buffer;
+    }
+    out << "CELL_DATA " << cells() << '\n';
+    for (const auto& [name, values] : m_scalars) {
+      out << "SCALARS " << name << " double 1\nLOOKUP_TABLE default\n";
+      for (Eigen::Index p = 0; p < values.size(); ++p) {
+        std::snprintf(buffer, sizeof buffer, "%.9g\n", values(p));
+        out << buffer;
+      }
+    }
+    for (const auto& v : m_vectors) {
+      out << "VECTORS " << v.name << " double\n";
+      for (Eigen::Index p = 0; p < v.x.size(); ++p) {
+        std::snprintf(buffer, sizeof buffer, "%.9g %.9g 0\n", v.x(p), v.y(p));
+        out << buffer;
+      }
+    }
+    if (!out) throw std::runtime_error("error while writing " + path.string());
+  }
+
+ private:
+  struct vector_field {
+    std::string name;
+    Eigen::VectorXd x, y;
+  };
+  void check(const std::string& name, Eigen::Index size) const {
+    if (name.empty() || name.find(' ') != std::string::npos) {
+      throw std::invalid_argument("vtk_structured_grid_file: field names must be non-empty and without spaces");
+    }
+    if (size != cells()) {
+      throw std::invalid_argument("vtk_structured_grid_file: field " + name + " has " + std::to_string(size) +
+                                  " values for " + std::to_string(cells()) + " cells");
+    }
+  }
+
+  int m_nx, m_ny;
   std::vector<double> m_x, m_y;
   std::vector<std::pair<std::string, Eigen::VectorXd>> m_scalars;
   std::vector<vector_field> m_vectors;

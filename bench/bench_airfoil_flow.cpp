@@ -1,0 +1,238 @@
+// Steady Euler flow around the NACA 0012 at M = 0.5, α = 2°
+// (problems/flow/euler_airfoil.hpp, second order: Roe + MUSCL/van Albada) on
+// three O-grids, converged from the uniform free stream two ways:
+//  * nkit: pseudo-transient Newton–GMRES from CFL 50, ILU(0) of the
+//    first-order operator's Jacobian (euler_airfoil_solve.hpp,
+//    euler_airfoil_first_order_jacobian.hpp), to ‖R‖ <= 1e-10 ‖R(U0)‖;
+//  * explicit pseudo-time marching, the way many flow codes converge to a
+//    steady state: dU/dτ = −R(U)/Ω with a local time step per cell,
+//    Δτ = CFL·Ω / Σ_faces (|q| + c)|S| (common practice; the same spectral
+//    radius that weights nkit's pseudo-time term), advanced by Boost.Odeint's
+//    classical fourth-order Runge–Kutta method (runge_kutta4). With the local
+//    step the system is dU/ds = −R(U)/λ(U) marched with Δs = CFL, λ frozen
+//    over each step. CFL 2 by default (--nkit_explicit_cfl; below the stability limit of RK4 on the real
+//    axis, about 2.785, and on the imaginary axis, about 2.83, for the
+//    conservative four-face spectral-radius sum: common practice). ‖R‖ is
+//    checked every 10 steps (those evaluations are counted in the time); the
+//    march stops at the same 1e-10 reduction, on divergence, or at a CPU-time
+//    cap (--nkit_explicit_cpu_cap=SECONDS, 60 by default), reporting the
+//    reduction it reached. Built when Boost (Odeint) is found.
+// Counters: newton_steps, gmres_iterations, explicit_steps,
+// final_relative_residual (‖R‖/‖R(U0)‖ at the end), work_units (wall time /
+// residual_seconds, the median of 21 timed residual evaluations at the free
+// stream, measured the same way just before each run), wall_seconds,
+// converged (1/0), lift_coefficient (both must agree when both converge).
+// --nkit_history_folder=DIR also writes each run's residual history as CSV
+// (DIR/<method>_<cells around>.csv: wall seconds, work units, relative
+// residual), which bench/plot_airfoil_flow_histories.gp plots.
+//   bench_airfoil_flow --benchmark_out=airfoil_flow.json --benchmark_out_format=json [--nkit_history_folder=DIR]
+// Timings taken on a shared machine are rough; compare ratios within one run.
+#include <benchmark/benchmark.h>
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <cstring>
+#include <ctime>
+#include <filesystem>
+#include <fstream>
+#include <string>
+#include <utility>
+#include <vector>
+#if defined(NKIT_BENCH_HAS_ODEINT)
+#include <boost/numeric/odeint.hpp>
+#include <boost/numeric/odeint/external/eigen/eigen.hpp>
+#endif
+
+#include "problems/flow/euler_airfoil_solve.hpp"
+
+namespace {
+
+constexpr double target_reduction = 1e-10;
+
+struct bench_options {
+  double explicit_cpu_cap_seconds = 60.0;
+  double explicit_cfl = 2.0;
+  std::string history_folder;  ///< empty: no history files
+};
+bench_options& options() {
+  static bench_options instance;
+  return instance;
+}
+
+/// (wall seconds, relative residual) pairs as CSV in the history folder, if one was given.
+void write_history(const std::string& name, const std::vector<std::pair<double, double>>& history,
+                   double residual_seconds) {
+  if (options().history_folder.empty()) return;
+  std::filesystem::create_directories(options().history_folder);
+  std::ofstream out(std::filesystem::path(options().history_folder) / (name + ".csv"));
+  out << "wall_seconds,work_units,relative_residual\n";
+  for (const auto& [seconds, relative] : history) {
+    out << seconds << ',' << seconds / residual_seconds << ',' << relative << '\n';
+  }
+}
+
+nkit_problems::euler_airfoil_flow make_flow(int cells_around) {
+  nkit_problems::airfoil_grid_settings grid;
+  grid.cells_around = cells_around;
+  grid.cells_outward = cells_around / 2;
+  grid.stretching_ratio = std::pow(1.2, 32.0 / grid.cells_outward);  // the 64 × 32 grid refined alike
+  nkit_problems::euler_airfoil_settings settings;
+  settings.mach_number = 0.5;
+  settings.angle_of_attack_degrees = 2.0;
+  return nkit_problems::euler_airfoil_flow(
+      nkit_problems::airfoil_o_grid(nkit_problems::naca_four_digit_airfoil("0012"), grid), settings);
+}
+
+double seconds_since(std::chrono::steady_clock::time_point start) {
+  return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+}
+
+/// Median wall time of one residual evaluation at u (21 evaluations).
+double median_residual_seconds(const nkit_problems::euler_airfoil_flow& flow, const Eigen::VectorXd& u) {
+  Eigen::VectorXd r(u.size());
+  std::vector<double> times;
+  for (int k = 0; k < 21; ++k) {
+    const auto start = std::chrono::steady_clock::now();
+    flow(u, r);
+    benchmark::DoNotOptimize(r.data());
+    times.push_back(seconds_since(start));
+  }
+  std::nth_element(times.begin(), times.begin() + 10, times.end());
+  return times[10];
+}
+
+void publish(benchmark::State& state, double newton_steps, double gmres_iterations, double explicit_steps,
+             double relative, double wall, double residual_seconds, bool converged, double lift) {
+  state.counters["newton_steps"] = newton_steps;
+  state.counters["gmres_iterations"] = gmres_iterations;
+  state.counters["explicit_steps"] = explicit_steps;
+  state.counters["final_relative_residual"] = relative;
+  state.counters["work_units"] = wall / residual_seconds;
+  state.counters["wall_seconds"] = wall;
+  state.counters["residual_seconds"] = residual_seconds;
+  state.counters["converged"] = converged ? 1.0 : 0.0;
+  state.counters["lift_coefficient"] = lift;
+}
+
+void airfoil_newton_krylov(benchmark::State& state) {
+  const auto flow = make_flow(static_cast<int>(state.range(0)));
+  const nkit_problems::euler_airfoil_with_first_order_jacobian problem(flow);
+  for (auto _ : state) {
+    Eigen::VectorXd u = flow.initial_guess();
+    const double residual_seconds = median_residual_seconds(flow, u);
+    const auto report = nkit_problems::solve_euler_airfoil<nkit::ilu_zero_preconditioner>(
+        problem, u, nkit_problems::euler_airfoil_newton_settings(50.0, target_reduction));
+    state.SetIterationTime(report.wall_seconds);
+    std::vector<std::pair<double, double>> history{{0.0, 1.0}};
+    for (const auto& h : report.history) history.emplace_back(h.elapsed_seconds, h.relative_residual_norm);
+    write_history("newton_krylov_" + std::to_string(state.range(0)), history, residual_seconds);
+    publish(state, report.newton_steps, static_cast<double>(report.linear_iterations), 0.0,
+            report.final_residual_norm / report.initial_residual_norm, report.wall_seconds, residual_seconds,
+            report.converged(), flow.forces(u).lift_coefficient);
+  }
+}
+
+#if defined(NKIT_BENCH_HAS_ODEINT)
+constexpr int residual_check_every = 10;
+double cpu_seconds() { return static_cast<double>(std::clock()) / CLOCKS_PER_SEC; }
+
+/// dU/ds = −R(U)/λ with λ (the local spectral-radius sum) frozen over a step.
+struct local_time_step_system {
+  const nkit_problems::euler_airfoil_flow* flow;
+  const Eigen::VectorXd* spectral_radius;
+  void operator()(const Eigen::VectorXd& u, Eigen::VectorXd& rate, double /*s*/) const {
+    rate.resize(u.size());
+    (*flow)(u, rate);
+    rate = -rate.cwiseQuotient(*spectral_radius);
+  }
+};
+
+void airfoil_explicit_runge_kutta(benchmark::State& state) {
+  namespace odeint = boost::numeric::odeint;
+  const auto flow = make_flow(static_cast<int>(state.range(0)));
+  for (auto _ : state) {
+    Eigen::VectorXd u = flow.initial_guess(), r(u.size()), radius(u.size());
+    const double residual_seconds = median_residual_seconds(flow, u);
+    odeint::runge_kutta4<Eigen::VectorXd, double, Eigen::VectorXd, double, odeint::vector_space_algebra> stepper;
+    const auto start = std::chrono::steady_clock::now();
+    const double cpu_start = cpu_seconds();
+    flow(u, r);
+    const double initial = r.norm();
+    double relative = 1.0;
+    std::vector<std::pair<double, double>> history{{0.0, 1.0}};
+    long steps = 0;
+    bool converged = false;
+    while (true) {
+      flow.pseudo_time_weights(u, radius);
+      stepper.do_step(local_time_step_system{&flow, &radius}, u, 0.0, options().explicit_cfl);
+      ++steps;
+      if (steps % residual_check_every != 0) continue;
+      flow(u, r);
+      relative = r.norm() / initial;
+      history.emplace_back(seconds_since(start), relative);
+      if (relative <= target_reduction) {
+        converged = true;
+        break;
+      }
+      if (!std::isfinite(relative) || relative > 1e6) break;  // diverged
+      if (cpu_seconds() - cpu_start > options().explicit_cpu_cap_seconds) break;
+    }
+    const double wall = seconds_since(start);
+    state.SetIterationTime(wall);
+    write_history("explicit_runge_kutta_" + std::to_string(state.range(0)), history, residual_seconds);
+    publish(state, 0.0, 0.0, static_cast<double>(steps), relative, wall, residual_seconds, converged,
+            std::isfinite(relative) ? flow.forces(u).lift_coefficient : 0.0);
+  }
+}
+
+#endif  // NKIT_BENCH_HAS_ODEINT
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  // Our options, removed before Google Benchmark parses the rest.
+  int kept = 1;
+  for (int k = 1; k < argc; ++k) {
+    if (std::strncmp(argv[k], "--nkit_explicit_cpu_cap=", 24) == 0) {
+      options().explicit_cpu_cap_seconds = std::atof(argv[k] + 24);
+    } else if (std::strncmp(argv[k], "--nkit_explicit_cfl=", 20) == 0) {
+      options().explicit_cfl = std::atof(argv[k] + 20);
+    } else if (std::strncmp(argv[k], "--nkit_history_folder=", 22) == 0) {
+      options().history_folder = argv[k] + 22;
+    } else {
+      argv[kept++] = argv[k];
+    }
+  }
+  argc = kept;
+  benchmark::RegisterBenchmark("airfoil_newton_krylov", airfoil_newton_krylov)
+      ->Arg(48)
+      ->Arg(64)
+      ->Arg(96)
+      ->UseManualTime()
+      ->Unit(benchmark::kSecond)
+      ->Iterations(1);
+#if defined(NKIT_BENCH_HAS_ODEINT)
+  benchmark::RegisterBenchmark("airfoil_explicit_runge_kutta", airfoil_explicit_runge_kutta)
+      ->Arg(48)
+      ->Arg(64)
+      ->Arg(96)
+      ->UseManualTime()
+      ->Unit(benchmark::kSecond)
+      ->Iterations(1);
+#endif
+  benchmark::Initialize(&argc, argv);
+  if (benchmark::ReportUnrecognizedArguments(argc, argv)) return 1;
+  if (!(options().explicit_cfl > 0.0 && options().explicit_cfl < 3.0)) {
+    std::fprintf(stderr, "bench_airfoil_flow: --nkit_explicit_cfl must be in (0, 3) (got %g)\n",
+                 options().explicit_cfl);
+    return 1;
+  }
+  benchmark::AddCustomContext("nkit_explicit_cpu_cap_seconds", std::to_string(options().explicit_cpu_cap_seconds));
+  benchmark::AddCustomContext("nkit_explicit_cfl", std::to_string(options().explicit_cfl));
+  benchmark::RunSpecifiedBenchmarks();
+  benchmark::Shutdown();
+  return 0;
+}

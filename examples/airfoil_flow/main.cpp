@@ -1,0 +1,283 @@
+// Steady two-dimensional Euler flow around a NACA four-digit airfoil
+// (problems/flow/euler_airfoil.hpp: cell-centred finite volumes on a
+// body-fitted O-grid, Roe fluxes with Harten's entropy fix, MUSCL with the van
+// Albada limiter), converged from the uniform free stream by nkit's
+// pseudo-transient continuation with Newton–GMRES, preconditioned by ILU(0)
+// of the first-order operator's Jacobian
+// (problems/flow/euler_airfoil_first_order_jacobian.hpp,
+// euler_airfoil_solve.hpp).
+//
+// A CONVERGED RESIDUAL IS NOT A VALIDATED AERODYNAMIC MODEL. The equations
+// are inviscid (no boundary layer, no viscous drag, no separation), the
+// far-field boundary has no vortex correction (lift carries an O(1/R) error
+// for a far field R chords away) and the grid is algebraic and coarse; the
+// printed coefficients are those of this discretisation, to be compared with
+// published inviscid results (docs/gallery.md names them), not with a wing.
+//
+// Printed: lift and drag coefficients (pressure forces only: in subsonic
+// inviscid flow the drag is zero, so c_d is the discretisation's spurious
+// drag), Newton steps, GMRES iterations, wall time, work units (wall time /
+// the median time of one residual evaluation) and the residual reduction; on a
+// surface with supersonic flow, where the captured shock stands (the most
+// downstream point where c_p rises through the critical pressure coefficient
+// c_p*, the sonic value, by linear interpolation between wall faces).
+// Written in --output: surface_pressure.csv (x/c, c_p, surface), residual_history.csv
+// (Newton step, wall seconds, work units, relative residual, GMRES iterations,
+// CFL), mach_field.dat (node-averaged Mach number near the airfoil, gnuplot
+// grid blocks), airfoil_flow.vtk (curvilinear structured grid: density,
+// velocity, pressure, Mach number, entropy error per cell) and, with gnuplot,
+// airfoil_mach.png, airfoil_pressure_coefficient.png, airfoil_residuals.png.
+//
+//   airfoil_flow [--airfoil=0012] [--mach=0.5] [--angle_of_attack_degrees=2] [--cells_around=128]
+//                [--cells_outward=64] [--far_field_radius=20] [--stretching_ratio=0] [--initial_cfl=50]
+//                [--relative_tolerance=1e-10] [--newton_step_budget=200] [--output=airfoil_flow_output]
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <fstream>
+#include <iostream>
+#include <string>
+#include <vector>
+
+#include "common/command_line.hpp"
+#include "common/run_output.hpp"
+#include "common/vtk_legacy.hpp"
+#include "problems/flow/euler_airfoil_solve.hpp"
+
+namespace {
+
+using nkit_problems::euler_airfoil_flow;
+using nkit_problems::point2;
+
+/// c_p at sonic speed for free-stream Mach M (isentropic flow):
+/// c_p* = 2/(γM²) [((2 + (γ−1)M²)/(γ+1))^(γ/(γ−1)) − 1]; NACA Report 1135
+/// (Ames Research Staff, 1953), isentropic relations.
+double critical_pressure_coefficient(double mach) {
+  const double g = nkit_problems::euler_gamma;
+  return 2.0 / (g * mach * mach) * (std::pow((2.0 + (g - 1.0) * mach * mach) / (g + 1.0), g / (g - 1.0)) - 1.0);
+}
+
+/// x/c of the most downstream upward crossing of c_p* along one surface
+/// (x increasing); negative when the surface has no supersonic pocket.
+double shock_position(const std::vector<double>& x, const std::vector<double>& cp, double cp_critical) {
+  double position = -1.0;
+  for (std::size_t k = 0; k + 1 < x.size(); ++k) {
+    if (cp[k] < cp_critical && cp[k + 1] >= cp_critical) {
+      const double t = (cp_critical - cp[k]) / (cp[k + 1] - cp[k]);
+      position = x[k] + t * (x[k + 1] - x[k]);
+    }
+  }
+  return position;
+}
+
+int run(int argc, char** argv) {
+  nkit_examples::command_line options(
+      "airfoil_flow", "steady 2-D Euler flow around a NACA airfoil, pseudo-transient Newton-GMRES (ILU(0))");
+  options.option("airfoil", "0012", "NACA four-digit designation, e.g. 0012 or 2412");
+  options.option("mach", "0.5", "free-stream Mach number");
+  options.option("angle_of_attack_degrees", "2", "angle of attack in degrees");
+  options.option("cells_around", "128", "cells around the airfoil (even)");
+  options.option("cells_outward", "64", "cells from the wall to the far field");
+  options.option("far_field_radius", "20", "far-field circle radius in chords");
+  options.option("stretching_ratio", "0",
+                 "ratio of successive radial spacings; 0 = 1.2^(32/cells_outward), the 64 x 32 grid refined alike");
+  options.option("initial_cfl", "50", "first pseudo-time step, a CFL number (local time steps)");
+  options.option("relative_tolerance", "1e-10", "stop when ||R|| <= this * ||R(free stream)||");
+  options.option("newton_step_budget", "200", "pseudo-time (Newton) steps allowed");
+  options.option("output", "airfoil_flow_output", "folder for CSV, VTK and PNG files");
+  if (!options.parse(argc, argv)) return 0;
+
+  nkit_problems::airfoil_grid_settings grid_settings;
+  grid_settings.cells_around = options.integer("cells_around");
+  grid_settings.cells_outward = options.integer("cells_outward");
+  grid_settings.far_field_radius = options.number("far_field_radius");
+  const double stretching = options.number("stretching_ratio");
+  if (stretching < 0.0) {
+    throw std::invalid_argument("airfoil_flow: --stretching_ratio must be 0 (automatic) or in [1, 2) (got " +
+                                options.text("stretching_ratio") + ")");
+  }
+  if (grid_settings.cells_outward < 4) {
+    throw std::invalid_argument("airfoil_flow: --cells_outward must be >= 4 (got " + options.text("cells_outward") +
+                                ")");
+  }
+  grid_settings.stretching_ratio = stretching > 0.0 ? stretching : std::pow(1.2, 32.0 / grid_settings.cells_outward);
+  nkit_problems::euler_airfoil_settings flow_settings;
+  flow_settings.mach_number = options.number("mach");
+  flow_settings.angle_of_attack_degrees = options.number("angle_of_attack_degrees");
+  const nkit_problems::naca_four_digit_airfoil airfoil(options.text("airfoil"));
+  const euler_airfoil_flow flow(nkit_problems::airfoil_o_grid(airfoil, grid_settings), flow_settings);
+  const nkit_problems::euler_airfoil_with_first_order_jacobian problem(flow);
+  const auto folder = nkit_examples::make_output_folder(options.text("output"));
+  const int n = grid_settings.cells_around, m = grid_settings.cells_outward;
+
+  std::printf(
+      "NACA %s, M = %g, alpha = %g deg: steady 2-D Euler, Roe + MUSCL/van Albada, O-grid %d x %d cells, far field "
+      "%g chords, stretching %.4f\n"
+      "A converged residual is not a validated aerodynamic model (inviscid, no far-field vortex correction, "
+      "algebraic grid).\noptions: %s\n\n",
+      options.text("airfoil").c_str(), flow_settings.mach_number, flow_settings.angle_of_attack_degrees, n, m,
+      grid_settings.far_field_radius, grid_settings.stretching_ratio, options.summary().c_str());
+
+  Eigen::VectorXd u = flow.initial_guess();
+  auto settings =
+      nkit_problems::euler_airfoil_newton_settings(options.number("initial_cfl"), options.number("relative_tolerance"));
+  settings.newton_step_budget = options.integer("newton_step_budget");
+  settings.stagnation_window = settings.newton_step_budget;
+  const nkit::solve_report report =
+      nkit_problems::solve_euler_airfoil<nkit::ilu_zero_preconditioner>(problem, u, settings);
+  const double residual_seconds = report.median_residual_seconds;
+  nkit::print_convergence_table(std::cout, report);
+
+  const nkit_problems::airfoil_forces forces = flow.forces(u);
+  const double reduction = report.final_residual_norm / report.initial_residual_norm;
+  std::printf(
+      "\n%s after %d Newton steps, %lld GMRES iterations, %.3f s wall time, %.0f work units (one residual "
+      "evaluation %.3g ms), residual reduced by %.2e\n",
+      report.converged() ? "converged" : "NOT converged", report.newton_steps,
+      static_cast<long long>(report.linear_iterations), report.wall_seconds, report.work_units(),
+      1e3 * residual_seconds, reduction);
+  std::printf("lift coefficient c_l = %.4f, drag coefficient c_d = %.5f (pressure forces of this discretisation)\n",
+              forces.lift_coefficient, forces.drag_coefficient);
+
+  // Surfaces by increasing x: wall faces 0..n/2−1 run along the lower surface
+  // from the trailing edge to the leading edge, n/2..n−1 back along the upper.
+  std::vector<double> lower_x, lower_cp, upper_x, upper_cp;
+  for (int i = n / 2 - 1; i >= 0; --i) {
+    lower_x.push_back(forces.wall_face_centre[static_cast<std::size_t>(i)].x);
+    lower_cp.push_back(forces.pressure_coefficient[static_cast<std::size_t>(i)]);
+  }
+  for (int i = n / 2; i < n; ++i) {
+    upper_x.push_back(forces.wall_face_centre[static_cast<std::size_t>(i)].x);
+    upper_cp.push_back(forces.pressure_coefficient[static_cast<std::size_t>(i)]);
+  }
+  const double cp_critical = critical_pressure_coefficient(flow_settings.mach_number);
+  const double minimum_cp = std::min(*std::min_element(lower_cp.begin(), lower_cp.end()),
+                                     *std::min_element(upper_cp.begin(), upper_cp.end()));
+  std::printf("lowest c_p %.4f; sonic c_p* = %.4f:", minimum_cp, cp_critical);
+  if (minimum_cp >= cp_critical) {
+    std::printf(" the flow stays subsonic along the surface\n");
+  } else {
+    const double upper = shock_position(upper_x, upper_cp, cp_critical);
+    const double lower = shock_position(lower_x, lower_cp, cp_critical);
+    const auto describe = [](double x) { return x < 0.0 ? std::string("none") : std::to_string(x).substr(0, 6); };
+    std::printf(" supersonic pockets; shock (c_p rising through c_p*) at x/c = %s upper, %s lower\n",
+                describe(upper).c_str(), describe(lower).c_str());
+  }
+
+  // surface_pressure.csv
+  {
+    std::ofstream csv(folder / "surface_pressure.csv");
+    csv << "x_over_chord,pressure_coefficient,surface\n";
+    for (std::size_t k = 0; k < lower_x.size(); ++k) csv << lower_x[k] << ',' << lower_cp[k] << ",lower\n";
+    csv << "\n\n";  // a gnuplot data block per surface
+    for (std::size_t k = 0; k < upper_x.size(); ++k) csv << upper_x[k] << ',' << upper_cp[k] << ",upper\n";
+  }
+  // residual_history.csv
+  {
+    std::ofstream csv(folder / "residual_history.csv");
+    csv << "newton_step,wall_seconds,work_units,relative_residual,gmres_iterations,cfl\n";
+    csv << "0,0,0,1,0,0\n";
+    for (const auto& h : report.history) {
+      csv << h.step << ',' << h.elapsed_seconds << ','
+          << (residual_seconds > 0.0 ? h.elapsed_seconds / residual_seconds : 0.0) << ',' << h.relative_residual_norm
+          << ',' << h.linear_iterations << ',' << h.pseudo_time_step << '\n';
+    }
+  }
+  // Cell fields and the VTK file (the O-grid seam node repeated).
+  const nkit_problems::airfoil_o_grid& grid = flow.grid();
+  Eigen::VectorXd density(grid.cells()), velocity_x(grid.cells()), velocity_y(grid.cells()), pressure(grid.cells()),
+      mach(grid.cells());
+  for (int c = 0; c < grid.cells(); ++c) {
+    const auto w = euler_airfoil_flow::primitive(euler_airfoil_flow::cell_state(u, c));
+    density(c) = w[0];
+    velocity_x(c) = w[1];
+    velocity_y(c) = w[2];
+    pressure(c) = w[3];
+    mach(c) = std::hypot(w[1], w[2]) / std::sqrt(nkit_problems::euler_gamma * w[3] / w[0]);
+  }
+  std::vector<double> node_x, node_y;
+  for (int j = 0; j <= m; ++j) {
+    for (int i = 0; i <= n; ++i) {
+      node_x.push_back(grid.node(i, j).x);
+      node_y.push_back(grid.node(i, j).y);
+    }
+  }
+  nkit_examples::vtk_structured_grid_file vtk(n, m, node_x, node_y);
+  vtk.add_scalar("density", density);
+  vtk.add_vector("velocity", velocity_x, velocity_y);
+  vtk.add_scalar("pressure", pressure);
+  vtk.add_scalar("mach", mach);
+  vtk.add_scalar("entropy_error", flow.entropy_error(u));
+  vtk.write(folder / "airfoil_flow.vtk", "nkit steady Euler flow around a NACA " + options.text("airfoil") +
+                                             " airfoil (non-dimensional: free-stream density and sound speed 1)");
+  // mach_field.dat: Mach number averaged to the nodes within 3 chords of mid-chord.
+  {
+    std::ofstream out(folder / "mach_field.dat");
+    out << "# x y mach (node averages of the cell values), one block per grid ring j\n";
+    for (int j = 0; j <= m; ++j) {
+      bool near = false;
+      for (int i = 0; i < n; ++i) near = near || std::hypot(grid.node(i, j).x - 0.5, grid.node(i, j).y) < 3.0;
+      if (!near) break;
+      for (int i = 0; i <= n; ++i) {
+        double sum = 0.0;
+        int count = 0;
+        for (const int jj : {j - 1, j}) {
+          if (jj < 0 || jj >= m) continue;
+          sum += mach(static_cast<Eigen::Index>(grid.cell_index(i - 1, jj))) +
+                 mach(static_cast<Eigen::Index>(grid.cell_index(i, jj)));
+          count += 2;
+        }
+        out << grid.node(i, j).x << ' ' << grid.node(i, j).y << ' ' << sum / count << '\n';
+      }
+      out << '\n';
+    }
+  }
+
+  const std::string case_title = "NACA " + options.text("airfoil") + ", M = " + options.text("mach") +
+                                 ", {/Symbol a} = " + options.text("angle_of_attack_degrees") + "°, " +
+                                 std::to_string(n) + " x " + std::to_string(m) + " cells";
+  const std::string mach_script =
+      "set terminal pngcairo size 1000,650 enhanced font 'Sans,11'\nset output 'airfoil_mach.png'\n"
+      "set view map\nset size ratio -1\nset xrange [-0.6:1.6]\nset yrange [-0.7:0.7]\n"
+      "set pm3d map interpolate 1,1\nset palette rgb 33,13,10\nset cblabel 'Mach number'\n"
+      "set contour base\nset cntrparam levels incremental 0.1,0.1,2.0\nunset clabel\nset key off\n"
+      "set title 'Steady Euler flow, " +
+      case_title +
+      ": Mach number (contours every 0.1)'\nset xlabel 'x / chord'\nset ylabel 'y / chord'\n"
+      "splot 'mach_field.dat' using 1:2:3 with pm3d, '' using 1:2:3 with lines nosurface lc rgb 'black' lw 0.6, "
+      "'mach_field.dat' every :::0::0 using 1:2:(0) with lines nocontour lc rgb 'black' lw 2\n";
+  nkit_examples::run_gnuplot(folder, "airfoil_mach.gp", mach_script, std::cout);
+  char critical_line[160];
+  std::snprintf(critical_line, sizeof critical_line, "%.6f", -cp_critical);
+  const std::string cp_script =
+      "set terminal pngcairo size 900,600 enhanced font 'Sans,11'\nset output 'airfoil_pressure_coefficient.png'\n"
+      "set datafile separator ','\nset grid\nset key bottom right\n"
+      "set title 'Surface pressure, " +
+      case_title +
+      "'\nset xlabel 'x / chord'\nset ylabel '-c_p'\n"
+      "plot 'surface_pressure.csv' index 1 using 1:(-$2) skip 1 with linespoints pt 7 ps 0.5 lw 2 lc rgb 'red' "
+      "title 'upper surface', 'surface_pressure.csv' index 0 using 1:(-$2) skip 1 with linespoints pt 7 ps 0.5 lw 2 "
+      "lc rgb 'blue' title 'lower surface', " +
+      (minimum_cp < 0.7 * cp_critical
+           ? std::string(critical_line) + " with lines dt 2 lc rgb 'gray' title '-c_p* (sonic)'"
+           : std::string("1/0 notitle")) +
+      "\n";
+  nkit_examples::run_gnuplot(folder, "airfoil_pressure_coefficient.gp", cp_script, std::cout);
+  nkit_examples::run_gnuplot(
+      folder, "airfoil_residuals.gp",
+      nkit_examples::residual_history_script("airfoil_residuals.png",
+                                             "Airfoil flow: pseudo-transient Newton-GMRES, ILU(0) of the first-order "
+                                             "Jacobian",
+                                             "work units (wall time / one residual evaluation)",
+                                             {{"residual_history.csv", 3, 4, "||R|| / ||R_0||"}}),
+      std::cout);
+  std::printf(
+      "\nwrote surface_pressure.csv, residual_history.csv, mach_field.dat, airfoil_flow.vtk (and PNGs with gnuplot) "
+      "in %s\n",
+      std::filesystem::absolute(folder).string().c_str());
+  return report.converged() ? 0 : 1;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) { return nkit_examples::run_reporting_errors(run, argc, argv); }
