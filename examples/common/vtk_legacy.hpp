@@ -17,25 +17,14 @@
 
 namespace nkit_examples {
 
-/// Cell data on a rectilinear grid given by its node coordinates (x, y;
-/// z is a single plane). Fields are stored cell by cell, x fastest
-/// (index i + nx·j), which is the natural ordering of the examples.
-class vtk_rectilinear_file {
+/// The cell fields of a legacy VTK file (scalars and 2-D vectors), each checked
+/// against the cell count, and their CELL_DATA section. `owner` names the file
+/// type in error messages.
+class vtk_cell_fields {
  public:
-  vtk_rectilinear_file(std::vector<double> x_nodes, std::vector<double> y_nodes)
-      : m_x(std::move(x_nodes)), m_y(std::move(y_nodes)) {
-    if (m_x.size() < 2 || m_y.size() < 1) throw std::invalid_argument("vtk_rectilinear_file: need at least one cell");
-  }
+  vtk_cell_fields(const char* owner, Eigen::Index cells) : m_owner(owner), m_cells(cells) {}
 
-  /// Uniform grid of nx × ny cells on [x0, x1] × [y0, y1] (ny = 1 for a line).
-  static vtk_rectilinear_file uniform(int nx, int ny, double x0, double x1, double y0, double y1) {
-    std::vector<double> x(static_cast<std::size_t>(nx) + 1), y(static_cast<std::size_t>(ny) + 1);
-    for (int i = 0; i <= nx; ++i) x[static_cast<std::size_t>(i)] = x0 + (x1 - x0) * i / nx;
-    for (int j = 0; j <= ny; ++j) y[static_cast<std::size_t>(j)] = y0 + (y1 - y0) * j / ny;
-    return vtk_rectilinear_file(std::move(x), std::move(y));
-  }
-
-  Eigen::Index cells() const { return static_cast<Eigen::Index>((m_x.size() - 1) * (m_y.size() - 1)); }
+  Eigen::Index cells() const { return m_cells; }
 
   void add_scalar(const std::string& name, const Eigen::VectorXd& values) {
     check(name, values.size());
@@ -47,15 +36,8 @@ class vtk_rectilinear_file {
     m_vectors.push_back({name, x_component, y_component});
   }
 
-  void write(const std::filesystem::path& path, const std::string& title) const {
-    std::ofstream out(path);
-    if (!out) throw std::runtime_error("cannot write " + path.string());
-    out << "# vtk DataFile Version 3.0\n" << title.substr(0, 255) << "\nASCII\nDATASET RECTILINEAR_GRID\n";
-    out << "DIMENSIONS " << m_x.size() << ' ' << m_y.size() << " 1\n";
-    write_coordinates(out, "X_COORDINATES", m_x);
-    write_coordinates(out, "Y_COORDINATES", m_y);
-    write_coordinates(out, "Z_COORDINATES", {0.0});
-    out << "CELL_DATA " << cells() << '\n';
+  void write(std::ofstream& out) const {
+    out << "CELL_DATA " << m_cells << '\n';
     char buffer[96];
     for (const auto& [name, values] : m_scalars) {
       out << "SCALARS " << name << " double 1\nLOOKUP_TABLE default\n";
@@ -71,7 +53,6 @@ class vtk_rectilinear_file {
         out << buffer;
       }
     }
-    if (!out) throw std::runtime_error("error while writing " + path.string());
   }
 
  private:
@@ -81,13 +62,61 @@ class vtk_rectilinear_file {
   };
   void check(const std::string& name, Eigen::Index size) const {
     if (name.empty() || name.find(' ') != std::string::npos) {
-      throw std::invalid_argument("vtk_rectilinear_file: field names must be non-empty and without spaces");
+      throw std::invalid_argument(std::string(m_owner) + ": field names must be non-empty and without spaces");
     }
-    if (size != cells()) {
-      throw std::invalid_argument("vtk_rectilinear_file: field " + name + " has " + std::to_string(size) +
-                                  " values for " + std::to_string(cells()) + " cells");
+    if (size != m_cells) {
+      throw std::invalid_argument(std::string(m_owner) + ": field " + name + " has " + std::to_string(size) +
+                                  " values for " + std::to_string(m_cells) + " cells");
     }
   }
+
+  const char* m_owner;
+  Eigen::Index m_cells;
+  std::vector<std::pair<std::string, Eigen::VectorXd>> m_scalars;
+  std::vector<vector_field> m_vectors;
+};
+
+/// Cell data on a rectilinear grid given by its node coordinates (x, y;
+/// z is a single plane). Fields are stored cell by cell, x fastest
+/// (index i + nx·j), which is the natural ordering of the examples.
+class vtk_rectilinear_file {
+ public:
+  vtk_rectilinear_file(std::vector<double> x_nodes, std::vector<double> y_nodes)
+      : m_x(std::move(x_nodes)),
+        m_y(std::move(y_nodes)),
+        m_fields("vtk_rectilinear_file", m_x.size() < 2 || m_y.size() < 2
+                                             ? 0
+                                             : static_cast<Eigen::Index>((m_x.size() - 1) * (m_y.size() - 1))) {
+    if (m_x.size() < 2 || m_y.size() < 1) throw std::invalid_argument("vtk_rectilinear_file: need at least one cell");
+  }
+
+  /// Uniform grid of nx × ny cells on [x0, x1] × [y0, y1] (ny = 1 for a line).
+  static vtk_rectilinear_file uniform(int nx, int ny, double x0, double x1, double y0, double y1) {
+    std::vector<double> x(static_cast<std::size_t>(nx) + 1), y(static_cast<std::size_t>(ny) + 1);
+    for (int i = 0; i <= nx; ++i) x[static_cast<std::size_t>(i)] = x0 + (x1 - x0) * i / nx;
+    for (int j = 0; j <= ny; ++j) y[static_cast<std::size_t>(j)] = y0 + (y1 - y0) * j / ny;
+    return vtk_rectilinear_file(std::move(x), std::move(y));
+  }
+
+  Eigen::Index cells() const { return m_fields.cells(); }
+  void add_scalar(const std::string& name, const Eigen::VectorXd& values) { m_fields.add_scalar(name, values); }
+  void add_vector(const std::string& name, const Eigen::VectorXd& x_component, const Eigen::VectorXd& y_component) {
+    m_fields.add_vector(name, x_component, y_component);
+  }
+
+  void write(const std::filesystem::path& path, const std::string& title) const {
+    std::ofstream out(path);
+    if (!out) throw std::runtime_error("cannot write " + path.string());
+    out << "# vtk DataFile Version 3.0\n" << title.substr(0, 255) << "\nASCII\nDATASET RECTILINEAR_GRID\n";
+    out << "DIMENSIONS " << m_x.size() << ' ' << m_y.size() << " 1\n";
+    write_coordinates(out, "X_COORDINATES", m_x);
+    write_coordinates(out, "Y_COORDINATES", m_y);
+    write_coordinates(out, "Z_COORDINATES", {0.0});
+    m_fields.write(out);
+    if (!out) throw std::runtime_error("error while writing " + path.string());
+  }
+
+ private:
   static void write_coordinates(std::ofstream& out, const char* label, const std::vector<double>& values) {
     out << label << ' ' << values.size() << " double\n";
     char buffer[32];
@@ -99,8 +128,7 @@ class vtk_rectilinear_file {
   }
 
   std::vector<double> m_x, m_y;
-  std::vector<std::pair<std::string, Eigen::VectorXd>> m_scalars;
-  std::vector<vector_field> m_vectors;
+  vtk_cell_fields m_fields;
 };
 
 /// Cell data on a curvilinear structured grid of nx × ny cells given by its
@@ -111,7 +139,11 @@ class vtk_structured_grid_file {
  public:
   /// `nodes_x`, `nodes_y`: (nx + 1)(ny + 1) node coordinates, index i + (nx + 1) j.
   vtk_structured_grid_file(int nx, int ny, std::vector<double> nodes_x, std::vector<double> nodes_y)
-      : m_nx(nx), m_ny(ny), m_x(std::move(nodes_x)), m_y(std::move(nodes_y)) {
+      : m_nx(nx),
+        m_ny(ny),
+        m_x(std::move(nodes_x)),
+        m_y(std::move(nodes_y)),
+        m_fields("vtk_structured_grid_file", static_cast<Eigen::Index>(nx) * static_cast<Eigen::Index>(ny)) {
     if (nx < 1 || ny < 1) throw std::invalid_argument("vtk_structured_grid_file: need at least one cell");
     const std::size_t nodes = static_cast<std::size_t>(nx + 1) * static_cast<std::size_t>(ny + 1);
     if (m_x.size() != nodes || m_y.size() != nodes) {
@@ -121,16 +153,10 @@ class vtk_structured_grid_file {
     }
   }
 
-  Eigen::Index cells() const { return static_cast<Eigen::Index>(m_nx) * static_cast<Eigen::Index>(m_ny); }
-
-  void add_scalar(const std::string& name, const Eigen::VectorXd& values) {
-    check(name, values.size());
-    m_scalars.emplace_back(name, values);
-  }
+  Eigen::Index cells() const { return m_fields.cells(); }
+  void add_scalar(const std::string& name, const Eigen::VectorXd& values) { m_fields.add_scalar(name, values); }
   void add_vector(const std::string& name, const Eigen::VectorXd& x_component, const Eigen::VectorXd& y_component) {
-    check(name, x_component.size());
-    check(name, y_component.size());
-    m_vectors.push_back({name, x_component, y_component});
+    m_fields.add_vector(name, x_component, y_component);
   }
 
   void write(const std::filesystem::path& path, const std::string& title) const {
@@ -144,43 +170,14 @@ class vtk_structured_grid_file {
       std::snprintf(buffer, sizeof buffer, "%.9g %.9g 0\n", m_x[p], m_y[p]);
       out << buffer;
     }
-    out << "CELL_DATA " << cells() << '\n';
-    for (const auto& [name, values] : m_scalars) {
-      out << "SCALARS " << name << " double 1\nLOOKUP_TABLE default\n";
-      for (Eigen::Index p = 0; p < values.size(); ++p) {
-        std::snprintf(buffer, sizeof buffer, "%.9g\n", values(p));
-        out << buffer;
-      }
-    }
-    for (const auto& v : m_vectors) {
-      out << "VECTORS " << v.name << " double\n";
-      for (Eigen::Index p = 0; p < v.x.size(); ++p) {
-        std::snprintf(buffer, sizeof buffer, "%.9g %.9g 0\n", v.x(p), v.y(p));
-        out << buffer;
-      }
-    }
+    m_fields.write(out);
     if (!out) throw std::runtime_error("error while writing " + path.string());
   }
 
  private:
-  struct vector_field {
-    std::string name;
-    Eigen::VectorXd x, y;
-  };
-  void check(const std::string& name, Eigen::Index size) const {
-    if (name.empty() || name.find(' ') != std::string::npos) {
-      throw std::invalid_argument("vtk_structured_grid_file: field names must be non-empty and without spaces");
-    }
-    if (size != cells()) {
-      throw std::invalid_argument("vtk_structured_grid_file: field " + name + " has " + std::to_string(size) +
-                                  " values for " + std::to_string(cells()) + " cells");
-    }
-  }
-
   int m_nx, m_ny;
   std::vector<double> m_x, m_y;
-  std::vector<std::pair<std::string, Eigen::VectorXd>> m_scalars;
-  std::vector<vector_field> m_vectors;
+  vtk_cell_fields m_fields;
 };
 
 }  // namespace nkit_examples
