@@ -190,24 +190,24 @@ std::vector<radiation_configuration> configurations() {
        [](const gray_radiation_diffusion_2d& p, int n) { return split_run(p, n, 1); }},
       {"split_iterated", {120, 240}, [](const gray_radiation_diffusion_2d& p, int n) { return split_run(p, n, 100); }},
       {"coupled_block_diagonal",
-       {60, 120},
+       {60, 120, 240},
        [](const gray_radiation_diffusion_2d& p, int n) {
          return coupled_run(p, n, nkit::field_split_form::block_diagonal, cpu_cap_seconds);
        }},
       {"coupled_block_gauss_seidel",
-       {60, 120},
+       {60, 120, 240},
        [](const gray_radiation_diffusion_2d& p, int n) {
          return coupled_run(p, n, nkit::field_split_form::block_lower_triangular, cpu_cap_seconds);
        }},
       // The same two, with the AMG hierarchies rebuilt at every accepted step (the
       // temperature-dependent opacities change the field blocks from step to step).
       {"coupled_block_diagonal_rebuilt_every_step",
-       {60, 120},
+       {60, 120, 240},
        [](const gray_radiation_diffusion_2d& p, int n) {
          return coupled_run(p, n, nkit::field_split_form::block_diagonal, cpu_cap_seconds, 1);
        }},
       {"coupled_block_gauss_seidel_rebuilt_every_step",
-       {60, 120},
+       {60, 120, 240},
        [](const gray_radiation_diffusion_2d& p, int n) {
          return coupled_run(p, n, nkit::field_split_form::block_lower_triangular, cpu_cap_seconds, 1);
        }},
