@@ -5,7 +5,7 @@
 #   bash cmake/install_dependencies.sh --flagship the same plus gnuplot, which draws the flagship demo's
 #                                                 pictures (cmake/run_flagship_demo.sh)
 #   bash cmake/install_dependencies.sh --all      also the optional tools the full test run uses:
-#                                                 Ninja, gnuplot, clang + sanitizer runtime, valgrind,
+#                                                 gnuplot, clang + sanitizer runtime, valgrind,
 #                                                 SuiteSparse, Open MPI, hypre, nlohmann-json,
 #                                                 gfortran (the Fortran interface), ADOL-C
 #                                                 (reverse-mode transposed products)
@@ -14,7 +14,7 @@
 set -euo pipefail
 
 required=(g++ make cmake python3 libeigen3-dev libboost-dev catch2 libbenchmark-dev)
-optional=(ninja-build gnuplot-nox clang libclang-rt-14-dev valgrind libsuitesparse-dev openmpi-bin libopenmpi-dev libhypre-dev
+optional=(gnuplot-nox clang libclang-rt-14-dev valgrind libsuitesparse-dev openmpi-bin libopenmpi-dev libhypre-dev
           nlohmann-json3-dev gfortran libadolc-dev)
 
 packages=("${required[@]}")

@@ -19,9 +19,6 @@ build_root=${NKIT_BUILD_ROOT:-$source_dir/build}
 jobs=${NKIT_JOBS:-$(nproc)}
 
 bash "$source_dir/cmake/install_dependencies.sh" --all
-# Ninja (installed above) schedules the whole tree's compile jobs at once; Make is the fallback.
-generator=()
-if command -v ninja > /dev/null; then generator=(-G Ninja); fi
 
 stage_start=$SECONDS
 stage() {
@@ -30,7 +27,7 @@ stage() {
 }
 
 stage "g++ Release build (warnings are errors)"
-cmake "${generator[@]}" -S "$source_dir" -B "$build_root/ci-gcc" -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_COMPILER=g++ \
+cmake -S "$source_dir" -B "$build_root/ci-gcc" -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_COMPILER=g++ \
   -DCMAKE_C_COMPILER=gcc -DNKIT_WARNINGS_AS_ERRORS=ON
 cmake --build "$build_root/ci-gcc" -j "$jobs"
 stage "test suite (g++)"
@@ -44,7 +41,7 @@ stage "clang++ build with AddressSanitizer + UndefinedBehaviorSanitizer (warning
 # -O2 -g and the suite still runs in minutes; stack traces keep file:line. The header-by-header
 # compile checks and the benchmarks ran in the g++ stage already.
 sanitizer_flags="-O0 -gline-tables-only -DNDEBUG"
-cmake "${generator[@]}" -S "$source_dir" -B "$build_root/ci-clang-sanitize" -DCMAKE_BUILD_TYPE=RelWithDebInfo \
+cmake -S "$source_dir" -B "$build_root/ci-clang-sanitize" -DCMAKE_BUILD_TYPE=RelWithDebInfo \
   "-DCMAKE_CXX_FLAGS_RELWITHDEBINFO=$sanitizer_flags" "-DCMAKE_C_FLAGS_RELWITHDEBINFO=$sanitizer_flags" \
   -DCMAKE_CXX_COMPILER=clang++ -DCMAKE_C_COMPILER=clang -DNKIT_WARNINGS_AS_ERRORS=ON -DNKIT_SANITIZE=address,undefined \
   -DNKIT_BUILD_BENCHMARKS=OFF -DNKIT_BUILD_HEADER_CHECKS=OFF -DNKIT_BUILD_FUZZERS=ON -DNKIT_BUILD_FORTRAN_INTERFACE=OFF
