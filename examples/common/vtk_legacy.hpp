@@ -36,7 +36,7 @@ class vtk_cell_fields {
     m_vectors.push_back({name, x_component, y_component});
   }
 
-  void write(std::ofstream& out) const {
+  void write_cell_data(std::ofstream& out) const {
     out << "CELL_DATA " << m_cells << '\n';
     char buffer[96];
     for (const auto& [name, values] : m_scalars) {
@@ -79,14 +79,15 @@ class vtk_cell_fields {
 /// Cell data on a rectilinear grid given by its node coordinates (x, y;
 /// z is a single plane). Fields are stored cell by cell, x fastest
 /// (index i + nx·j), which is the natural ordering of the examples.
-class vtk_rectilinear_file {
+class vtk_rectilinear_file : public vtk_cell_fields {
  public:
   vtk_rectilinear_file(std::vector<double> x_nodes, std::vector<double> y_nodes)
-      : m_x(std::move(x_nodes)),
-        m_y(std::move(y_nodes)),
-        m_fields("vtk_rectilinear_file", m_x.size() < 2 || m_y.size() < 2
-                                             ? 0
-                                             : static_cast<Eigen::Index>((m_x.size() - 1) * (m_y.size() - 1))) {
+      : vtk_cell_fields("vtk_rectilinear_file",
+                        x_nodes.size() < 2 || y_nodes.size() < 2
+                            ? 0
+                            : static_cast<Eigen::Index>((x_nodes.size() - 1) * (y_nodes.size() - 1))),
+        m_x(std::move(x_nodes)),
+        m_y(std::move(y_nodes)) {
     if (m_x.size() < 2 || m_y.size() < 1) throw std::invalid_argument("vtk_rectilinear_file: need at least one cell");
   }
 
@@ -98,12 +99,6 @@ class vtk_rectilinear_file {
     return vtk_rectilinear_file(std::move(x), std::move(y));
   }
 
-  Eigen::Index cells() const { return m_fields.cells(); }
-  void add_scalar(const std::string& name, const Eigen::VectorXd& values) { m_fields.add_scalar(name, values); }
-  void add_vector(const std::string& name, const Eigen::VectorXd& x_component, const Eigen::VectorXd& y_component) {
-    m_fields.add_vector(name, x_component, y_component);
-  }
-
   void write(const std::filesystem::path& path, const std::string& title) const {
     std::ofstream out(path);
     if (!out) throw std::runtime_error("cannot write " + path.string());
@@ -112,7 +107,7 @@ class vtk_rectilinear_file {
     write_coordinates(out, "X_COORDINATES", m_x);
     write_coordinates(out, "Y_COORDINATES", m_y);
     write_coordinates(out, "Z_COORDINATES", {0.0});
-    m_fields.write(out);
+    write_cell_data(out);
     if (!out) throw std::runtime_error("error while writing " + path.string());
   }
 
@@ -128,22 +123,21 @@ class vtk_rectilinear_file {
   }
 
   std::vector<double> m_x, m_y;
-  vtk_cell_fields m_fields;
 };
 
 /// Cell data on a curvilinear structured grid of nx × ny cells given by its
 /// (nx + 1) × (ny + 1) nodes, i fastest (z is a single plane). Cells and fields
 /// are ordered i + nx·j like the nodes. A periodic direction (an O-grid) is
 /// written with its seam node repeated, so node nx is a copy of node 0.
-class vtk_structured_grid_file {
+class vtk_structured_grid_file : public vtk_cell_fields {
  public:
   /// `nodes_x`, `nodes_y`: (nx + 1)(ny + 1) node coordinates, index i + (nx + 1) j.
   vtk_structured_grid_file(int nx, int ny, std::vector<double> nodes_x, std::vector<double> nodes_y)
-      : m_nx(nx),
+      : vtk_cell_fields("vtk_structured_grid_file", static_cast<Eigen::Index>(nx) * static_cast<Eigen::Index>(ny)),
+        m_nx(nx),
         m_ny(ny),
         m_x(std::move(nodes_x)),
-        m_y(std::move(nodes_y)),
-        m_fields("vtk_structured_grid_file", static_cast<Eigen::Index>(nx) * static_cast<Eigen::Index>(ny)) {
+        m_y(std::move(nodes_y)) {
     if (nx < 1 || ny < 1) throw std::invalid_argument("vtk_structured_grid_file: need at least one cell");
     const std::size_t nodes = static_cast<std::size_t>(nx + 1) * static_cast<std::size_t>(ny + 1);
     if (m_x.size() != nodes || m_y.size() != nodes) {
@@ -151,12 +145,6 @@ class vtk_structured_grid_file {
                                   " node coordinates (got " + std::to_string(m_x.size()) + " x and " +
                                   std::to_string(m_y.size()) + " y)");
     }
-  }
-
-  Eigen::Index cells() const { return m_fields.cells(); }
-  void add_scalar(const std::string& name, const Eigen::VectorXd& values) { m_fields.add_scalar(name, values); }
-  void add_vector(const std::string& name, const Eigen::VectorXd& x_component, const Eigen::VectorXd& y_component) {
-    m_fields.add_vector(name, x_component, y_component);
   }
 
   void write(const std::filesystem::path& path, const std::string& title) const {
@@ -170,14 +158,13 @@ class vtk_structured_grid_file {
       std::snprintf(buffer, sizeof buffer, "%.9g %.9g 0\n", m_x[p], m_y[p]);
       out << buffer;
     }
-    m_fields.write(out);
+    write_cell_data(out);
     if (!out) throw std::runtime_error("error while writing " + path.string());
   }
 
  private:
   int m_nx, m_ny;
   std::vector<double> m_x, m_y;
-  vtk_cell_fields m_fields;
 };
 
 }  // namespace nkit_examples
