@@ -331,6 +331,82 @@ TEST_CASE("operator split pass: the linearised split pass preconditions the radi
   }
 }
 
+// (3) The stepper's GMRES-growth rebuild trigger
+// (time_preconditioner_rebuild_settings::linear_iterations_growth_factor,
+// time/time_settings.hpp). With fixed steps neither the shift test nor (here,
+// switched off) the contraction test asks for a fresh preconditioner, so a field
+// split set up at the first stage ages while the Marshak front moves, and its
+// GMRES count per Newton step grows. The rule is the specification, checked on
+// the step history (BDF: one stage per step): a step whose count exceeds
+// factor × max(baseline, 2), the baseline being the count of the last step with
+// a setup, is followed by a step with a setup. The run without the trigger must
+// show such a growth, or the case tests nothing.
+TEST_CASE("time stepper: a stage whose GMRES count grew past the factor gets a fresh preconditioner",
+          "[radiation][time]") {
+  const gray_radiation_diffusion_1d problem(100);
+  const double span = 0.1;
+  const int steps = 50;
+  const auto integrate = [&](double growth_factor) {
+    nkit::time_stepper_settings settings = fixed_steps(span, steps, nkit::time_method::bdf);
+    settings.preconditioner_rebuild.every_accepted_steps = 0;
+    settings.preconditioner_rebuild.slow_contraction = 0.999;
+    settings.preconditioner_rebuild.linear_iterations_growth_factor = growth_factor;
+    nkit::field_split_settings split_settings;
+    split_settings.form = nkit::field_split_form::block_lower_triangular;
+    nkit::implicit_time_stepper<nkit::eigen_vector_space<double>, nkit::field_split_preconditioner> stepper(
+        settings, {},
+        nkit::field_split_preconditioner(problem.field_layout(), split_settings,
+                                         nkit::make_inner_preconditioners(nkit::sparse_direct_preconditioner{},
+                                                                          nkit::sparse_direct_preconditioner{})));
+    gray_radiation_diffusion_1d copy = problem;
+    Eigen::VectorXd u = problem.initial_state();
+    const nkit::integration_report report = stepper.integrate(copy, u, 0.0, span);
+    INFO("growth factor " << growth_factor << ": " << std::string(report.message()) << " at t = " << report.final_time);
+    REQUIRE(report.reached_end());
+    REQUIRE(report.accepted_steps == steps);
+    REQUIRE(report.history.size() == static_cast<std::size_t>(steps));
+    return report;
+  };
+  const auto per_newton_step = [](const nkit::time_step_record& record) {
+    return static_cast<double>(record.linear_iterations) / std::max(1, record.newton_steps);
+  };
+  // Largest count over the threshold, and the number of such steps not followed by a setup.
+  const auto scan = [&](const nkit::integration_report& report, double factor) {
+    double baseline = -1.0, worst_ratio = 0.0;
+    int unanswered = 0;
+    for (std::size_t k = 0; k < report.history.size(); ++k) {
+      const nkit::time_step_record& record = report.history[k];
+      if (record.preconditioner_setups > 0) baseline = per_newton_step(record);
+      if (baseline < 0.0 || record.newton_steps == 0) continue;
+      const double ratio = per_newton_step(record) / std::max(baseline, 2.0);
+      worst_ratio = std::max(worst_ratio, ratio);
+      if (ratio > factor && k + 1 < report.history.size() && report.history[k + 1].preconditioner_setups == 0)
+        ++unanswered;
+    }
+    return std::make_pair(worst_ratio, unanswered);
+  };
+  const double factor = 3.0;
+  const nkit::integration_report lagged = integrate(0.0);
+  const nkit::integration_report watched = integrate(factor);
+  const auto [lagged_worst, lagged_unanswered] = scan(lagged, factor);
+  const auto [watched_worst, watched_unanswered] = scan(watched, factor);
+  WARN("fixed steps, lagged field split: " << lagged.preconditioner_setups << " setups, " << lagged.linear_iterations
+                                           << " GMRES iterations, worst growth " << lagged_worst
+                                           << "; with the trigger: " << watched.preconditioner_setups << " setups, "
+                                           << watched.linear_iterations << " GMRES, worst growth " << watched_worst);
+  REQUIRE(lagged.preconditioner_setups == 1);  // the first stage only: nothing else asks
+  REQUIRE(lagged_unanswered > 0);              // the scenario does age the preconditioner
+  CHECK(watched_unanswered == 0);
+  CHECK(watched.preconditioner_setups > 1);
+  CHECK(watched.linear_iterations < lagged.linear_iterations);
+  // Bad settings name the field.
+  nkit::time_preconditioner_rebuild_settings bad;
+  bad.linear_iterations_growth_factor = 1.0;
+  CHECK(message_of([&] { bad.validate(); }).find("linear_iterations_growth_factor") != std::string::npos);
+  bad.linear_iterations_growth_factor = 0.0;
+  CHECK_NOTHROW(bad.validate());
+}
+
 TEST_CASE("operator split pass: bad input names the setting", "[radiation][physics_based]") {
   const auto apply_nothing = [](const Eigen::VectorXd& r, Eigen::VectorXd& z) { z = r; };
   const auto set_up_nothing = [](const context_type&) {};

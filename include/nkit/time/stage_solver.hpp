@@ -20,7 +20,9 @@
 /// Rebuild policy (time_preconditioner_rebuild_settings): before a stage, ask the
 /// Newton solver for a fresh preconditioner when γΔt differs from its value at
 /// the last setup by more than shift_change_factor, when the previous stage
-/// contracted slower than slow_contraction, every every_accepted_steps
+/// contracted slower than slow_contraction, when the previous stage needed more
+/// than linear_iterations_growth_factor times the GMRES iterations per Newton
+/// step of the first stage after the last setup, every every_accepted_steps
 /// accepted steps, after a failed stage, and at the first stage of an
 /// integration. The row scales of the stage residual (stage_residual.hpp) are
 /// refreshed only then, so a lagged preconditioner stays consistent with them.
@@ -62,6 +64,8 @@ class stage_solver {
     m_setup_shift = -1.0;
     m_rebuild_after_failure = false;
     m_accepted_since_setup = 0;
+    m_baseline_iterations_per_newton_step = -1.0;
+    m_last_iterations_per_newton_step = 0.0;
   }
   void after_accepted_step() { ++m_accepted_since_setup; }
   void after_failed_step(const time_preconditioner_rebuild_settings& policy) {
@@ -120,10 +124,17 @@ class stage_solver {
     record.newton_steps += inner.newton_steps;
     record.linear_iterations += inner.linear_iterations;
     record.preconditioner_setups += inner.preconditioner_setups;
+    if (inner.newton_steps > 0) {
+      m_last_iterations_per_newton_step =
+          static_cast<double>(inner.linear_iterations) / static_cast<double>(inner.newton_steps);
+    }
     if (inner.preconditioner_setups > 0) {
       m_setup_shift = shift;
       m_accepted_since_setup = 0;
       m_rebuild_after_failure = false;
+      m_baseline_iterations_per_newton_step = inner.newton_steps > 0 ? m_last_iterations_per_newton_step : -1.0;
+    } else if (m_baseline_iterations_per_newton_step < 0.0 && inner.newton_steps > 0) {
+      m_baseline_iterations_per_newton_step = m_last_iterations_per_newton_step;
     }
     m_last_contraction = contraction;
     m_contraction_memory = iteration > 1 ? contraction : std::pow(std::max(m_contraction_memory, 1e-16), 0.8);
@@ -153,6 +164,11 @@ class stage_solver {
       if (ratio > policy.shift_change_factor || ratio * policy.shift_change_factor < 1.0) rebuild = true;
     }
     if (policy.every_accepted_steps > 0 && m_accepted_since_setup >= policy.every_accepted_steps) rebuild = true;
+    if (policy.linear_iterations_growth_factor > 0.0 && m_baseline_iterations_per_newton_step >= 0.0 &&
+        m_last_iterations_per_newton_step >
+            policy.linear_iterations_growth_factor * std::max(m_baseline_iterations_per_newton_step, 2.0)) {
+      rebuild = true;
+    }
     return rebuild;
   }
 
@@ -165,6 +181,9 @@ class stage_solver {
   double m_setup_shift = -1.0;
   bool m_rebuild_after_failure = false;
   int m_accepted_since_setup = 0;
+  /// GMRES iterations per Newton step: the first stage after the last setup (−1: not yet measured), the last stage.
+  double m_baseline_iterations_per_newton_step = -1.0;
+  double m_last_iterations_per_newton_step = 0.0;
 };
 
 }  // namespace detail
