@@ -15,7 +15,7 @@ import re
 import sys
 
 LAYERS = ["detail", "core", "fields", "grids", "distributed", "report", "krylov", "jacobian", "preconditioners",
-          "globalization", "newton", "continuation", "time", "fixed_point", "sensitivity"]
+          "globalization", "newton", "multilevel", "continuation", "time", "fixed_point", "sensitivity"]
 MAX_LINES = 600
 INCLUDE = re.compile(r'^\s*#\s*include\s+"([^"]+)"', re.MULTILINE)
 

@@ -67,6 +67,10 @@
 #include "newton/preconditioner_schedule.hpp"
 #include "newton/problem_access.hpp"
 #include "newton/run_handle.hpp"
+// multilevel: grid sequencing (nested iteration)
+#include "multilevel/grid_sequencing_report.hpp"
+#include "multilevel/grid_sequencing_settings.hpp"
+#include "multilevel/grid_sequencing_solver.hpp"
 // continuation
 #include "continuation/bordered_system.hpp"
 #include "continuation/bordered_vector_space.hpp"
