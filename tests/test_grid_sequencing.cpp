@@ -167,6 +167,49 @@ TEST_CASE("Grid sequencing: one level is a plain solve, a converged given state 
   CHECK(u == before);
 }
 
+TEST_CASE("Grid sequencing that does not converge returns the better of the finest iterate and the given state",
+          "[grid_sequencing]") {
+  // The driver's contract (multilevel/grid_sequencing_solver.hpp): u never ends
+  // worse than given. Our own scenario: the model problem 16² to 64²
+  // (problems/model_problem/model_problem.hpp), one Newton step per level.
+  const nkit::structured_grid_hierarchy hierarchy(structured_grid({64, 64}, 1, {1.0, 1.0}), 3);
+  std::vector<nkit_problems::heat_conduction_model_problem> problems;
+  for (int level = 0; level < 3; ++level) problems.emplace_back(hierarchy.grid(level).cells(0));
+  const auto problem_at_level = [&](int level) -> auto& { return problems[static_cast<std::size_t>(level)]; };
+  const auto solver_at_level = nkit::newton_solver_per_level<nkit::ilu_zero_preconditioner>{};
+  nkit::grid_sequencing_settings settings;
+  settings.newton = model_problem_settings();
+  settings.newton.newton_step_budget = 1;
+  nkit::grid_sequencing_solver sequencing(settings);
+  Eigen::VectorXd r(4096);
+
+  SECTION("from T = 0 the finest iterate is better: u holds it") {
+    Eigen::VectorXd u = Eigen::VectorXd::Zero(4096);
+    const nkit::grid_sequencing_report report = sequencing.solve(hierarchy, problem_at_level, solver_at_level, u);
+    CHECK(report.reason == nkit::stop_reason::newton_step_budget_spent);
+    REQUIRE(report.reached_finest_level);
+    CHECK(report.levels.size() == 3);  // unconverged coarse levels hand their best iterate on
+    CHECK_FALSE(report.returned_given_state);
+    problems.back()(u, r);
+    CHECK_THAT(r.norm(), Catch::Matchers::WithinRel(report.finest().final_residual_norm, 1e-12));
+    CHECK(r.norm() < report.finest().reference_residual_norm);
+  }
+  SECTION("from a converged state and an unreachable tolerance: u keeps the given state") {
+    Eigen::VectorXd u = Eigen::VectorXd::Zero(4096);
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> plain(
+        model_problem_settings());
+    REQUIRE(plain.solve(problems.back(), u).converged());
+    const Eigen::VectorXd given = u;
+    settings.newton.relative_tolerance = 1e-12;
+    sequencing.configure(settings);
+    const nkit::grid_sequencing_report report = sequencing.solve(hierarchy, problem_at_level, solver_at_level, u);
+    CHECK_FALSE(report.converged());
+    CHECK(report.returned_given_state);
+    CHECK(report.finest().final_residual_norm > report.finest().reference_residual_norm);
+    CHECK(u == given);
+  }
+}
+
 TEST_CASE("Grid sequencing stopped on a coarse level leaves the given state untouched", "[grid_sequencing]") {
   // A monitor-free interruption: the cancellation flag raised before the solve.
   const nkit::structured_grid_hierarchy hierarchy(structured_grid({32, 32}, 1, {1.0, 1.0}), 3);
