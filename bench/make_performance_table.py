@@ -35,6 +35,10 @@ NAMES = {
     "newton_gmres_algebraic_multigrid_lagged": "nkit Newton-GMRES + algebraic multigrid (BoomerAMG), lagged",
     "newton_gmres_algebraic_multigrid_lagged_aggressive":
         "nkit Newton-GMRES + algebraic multigrid (BoomerAMG), lagged, aggressive coarsening",
+    "newton_gmres_grid_sequencing_modified_ilu_zero":
+        "nkit grid sequencing, Newton-GMRES + modified ILU(0) per level, lagged",
+    "newton_gmres_grid_sequencing_algebraic_multigrid_lagged_aggressive":
+        "nkit grid sequencing, Newton-GMRES + algebraic multigrid (BoomerAMG) per level, lagged, aggressive coarsening",
     "exact_newton_sparse_lu": "exact Newton + Eigen SparseLU",
     "exact_newton_umfpack": "exact Newton + UMFPACK",
     "picard_sparse_lu": "Picard (frozen k) + Eigen SparseLU",

@@ -14,8 +14,8 @@ import os
 import re
 import sys
 
-LAYERS = ["detail", "core", "fields", "distributed", "report", "krylov", "jacobian", "preconditioners",
-          "globalization", "newton", "continuation", "time", "fixed_point", "sensitivity"]
+LAYERS = ["detail", "core", "fields", "grids", "distributed", "report", "krylov", "jacobian", "preconditioners",
+          "globalization", "newton", "multilevel", "continuation", "time", "fixed_point", "sensitivity"]
 MAX_LINES = 600
 INCLUDE = re.compile(r'^\s*#\s*include\s+"([^"]+)"', re.MULTILINE)
 

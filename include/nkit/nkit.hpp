@@ -22,6 +22,10 @@
 #include "fields/field_blocks.hpp"
 #include "fields/field_layout.hpp"
 #include "fields/field_residual_norms.hpp"
+// grids: cell-centred structured grids, their hierarchies and transfers
+#include "grids/cell_centered_transfer.hpp"
+#include "grids/structured_grid.hpp"
+#include "grids/structured_grid_hierarchy.hpp"
 // report: stop reasons, report, monitors, output, trace, scaling study
 #include "report/monitor.hpp"
 #include "report/outcome.hpp"
@@ -63,6 +67,10 @@
 #include "newton/preconditioner_schedule.hpp"
 #include "newton/problem_access.hpp"
 #include "newton/run_handle.hpp"
+// multilevel: grid sequencing (nested iteration)
+#include "multilevel/grid_sequencing_report.hpp"
+#include "multilevel/grid_sequencing_settings.hpp"
+#include "multilevel/grid_sequencing_solver.hpp"
 // continuation
 #include "continuation/bordered_system.hpp"
 #include "continuation/bordered_vector_space.hpp"
