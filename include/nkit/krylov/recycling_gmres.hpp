@@ -35,7 +35,10 @@
 ///
 /// Memory: m + 1 + 4k vectors plus two work vectors, O(m²) doubles and an m × m
 /// dense eigenproblem workspace, all sized on the first solve (or
-/// allocate_like()); later solves of the same size allocate nothing.
+/// allocate_like()); later solves of the same size allocate nothing (checked
+/// for m = 12 by tests/allocation; for m > 48 Eigen 3.4's blocked Householder
+/// path inside its eigenvalue solver allocates a small matrix per cycle, read
+/// from its source, not measured).
 
 #include <Eigen/Core>
 #include <algorithm>
