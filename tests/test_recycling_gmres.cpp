@@ -10,6 +10,7 @@
 #include <Eigen/SparseLU>
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <limits>
 #include <nkit/core/preconditioner.hpp>
 #include <nkit/krylov/gmres.hpp>
 #include <nkit/krylov/recycling_gmres.hpp>
@@ -243,7 +244,8 @@ struct sequence_totals {
 };
 
 template <class Solve>
-sequence_totals run_sequence(nkit_problems::model_problem_system_sequence sequence, int systems, Solve&& solve) {
+sequence_totals run_sequence(nkit_problems::model_problem_system_sequence sequence, int systems, double tolerance,
+                             Solve&& solve) {
   sequence_totals totals;
   nkit::sparse_matrix matrix;
   Eigen::VectorXd right_hand_side;
@@ -253,6 +255,10 @@ sequence_totals run_sequence(nkit_problems::model_problem_system_sequence sequen
     increment.setZero(right_hand_side.size());
     const nkit::linear_solve_result result = solve(matrix, right_hand_side, increment);
     REQUIRE(result.converged());
+    // The true residual meets the tolerance on every system: with a changed
+    // matrix a stale C = A U (no refresh, steps 3–5) would break this while
+    // the recurrence still reported convergence.
+    CHECK((right_hand_side - matrix * increment).norm() <= 1.01 * tolerance * right_hand_side.norm());
     totals.iterations += result.iterations;
     totals.operator_applications += result.operator_applications;
     ++totals.systems;
@@ -299,8 +305,8 @@ TEST_CASE("recycling cuts the linear work over the implicit time steps of the mo
   plain_settings.restart_length = m;
   plain_settings.maximum_iterations = 5000;
   nkit::gmres_solver<> plain(plain_settings);
-  const auto plain_totals =
-      run_sequence(sequence, steps, [&](const nkit::sparse_matrix& a, const Eigen::VectorXd& b, Eigen::VectorXd& x) {
+  const auto plain_totals = run_sequence(
+      sequence, steps, tolerance, [&](const nkit::sparse_matrix& a, const Eigen::VectorXd& b, Eigen::VectorXd& x) {
         nkit::matrix_operator<nkit::sparse_matrix> op(a);
         if (!ilu) {
           nkit::identity_preconditioner none;
@@ -315,8 +321,8 @@ TEST_CASE("recycling cuts the linear work over the implicit time steps of the mo
   settings.recycle_dimension = k;
   settings.maximum_iterations = 5000;
   nkit::recycling_gmres_solver<> recycling(settings);
-  const auto recycling_totals =
-      run_sequence(sequence, steps, [&](const nkit::sparse_matrix& a, const Eigen::VectorXd& b, Eigen::VectorXd& x) {
+  const auto recycling_totals = run_sequence(
+      sequence, steps, tolerance, [&](const nkit::sparse_matrix& a, const Eigen::VectorXd& b, Eigen::VectorXd& x) {
         nkit::matrix_operator<nkit::sparse_matrix> op(a);
         if (!ilu) {
           nkit::identity_preconditioner none;
@@ -359,7 +365,15 @@ TEST_CASE("recycling GMRES settings are validated with the field named", "[recyc
   settings.relative_tolerance = -1e-3;
   CHECK_THROWS_WITH(nkit::recycling_gmres_solver<>(settings),
                     "nkit: recycling_gmres_settings.relative_tolerance must be finite and >= 0 (got -0.001)");
+  settings.relative_tolerance = std::numeric_limits<double>::quiet_NaN();
+  CHECK_THROWS_WITH(nkit::recycling_gmres_solver<>(settings),
+                    "nkit: recycling_gmres_settings.relative_tolerance must be finite and >= 0 (got nan)");
   settings.relative_tolerance = 1e-8;
+  settings.reorthogonalization = static_cast<nkit::reorthogonalization_policy>(3);
+  CHECK_THROWS_WITH(nkit::recycling_gmres_solver<>(settings),
+                    "nkit: recycling_gmres_settings.reorthogonalization must be one of never, when_needed, always "
+                    "(got 3)");
+  settings.reorthogonalization = nkit::reorthogonalization_policy::when_needed;
   nkit::recycling_gmres_solver<> solver(settings);
   const Eigen::MatrixXd identity = Eigen::MatrixXd::Identity(4, 4);
   nkit::matrix_operator<Eigen::MatrixXd> op(identity);
@@ -372,4 +386,63 @@ TEST_CASE("recycling GMRES settings are validated with the field named", "[recyc
   // variant, which this solver does not have.
   declared_changing varying;
   CHECK_THROWS_AS(solver.solve(op, varying, b, x, 1e-8), std::invalid_argument);
+}
+
+TEST_CASE("a huge but valid restart_length allocates only what a cycle can use", "[recycling_gmres][input]") {
+  // As gmres_solver: a cycle never holds more than recycle_dimension +
+  // maximum_iterations vectors. Without that cap this test would ask for a
+  // (2·10⁶ + 1) × 2·10⁶ dense matrix and fail with std::bad_alloc.
+  nkit::recycling_gmres_settings settings;
+  settings.restart_length = 2000000;
+  settings.recycle_dimension = 2;
+  settings.maximum_iterations = 10;
+  nkit::recycling_gmres_solver<> solver(settings);
+  const Eigen::VectorXd diagonal = Eigen::VectorXd::LinSpaced(10, 1.0, 2.0);
+  const Eigen::MatrixXd a = diagonal.asDiagonal();
+  nkit::matrix_operator<Eigen::MatrixXd> op(a);
+  nkit::identity_preconditioner none;
+  const Eigen::VectorXd b = Eigen::VectorXd::Ones(10);
+  Eigen::VectorXd x(10);
+  nkit::linear_solve_result result;
+  REQUIRE_NOTHROW(result = solver.solve(op, none, b, x, 1e-12, nkit::initial_guess::zero));
+  // Ten distinct eigenvalues: GMRES terminates in at most 10 steps (Saad & Schultz 1986).
+  CHECK(result.converged());
+  CHECK((b - a * x).norm() <= 1e-11 * b.norm());
+}
+
+TEST_CASE("a changed matrix needs the refresh of C = A U that recycling GMRES does by default", "[recycling_gmres]") {
+  // Parks et al. 2006, Algorithm 2.1 steps 3–5: for a new matrix the kept U
+  // must be re-multiplied, C = A_new U, and C re-orthonormalised; the
+  // least-squares problem relies on A Ũ = C D. A false "same operator"
+  // declaration keeps the old C, so the residual recurrence no longer
+  // describes b − A x: the solver reports convergence the true residual misses
+  // (the same kind of check as the undeclared changing preconditioner in
+  // test_gmres.cpp).
+  const int n = 500;
+  const sparse first_matrix = diagonal_with_small_outliers(n, 4);
+  sparse second_matrix = first_matrix;
+  for (int i = 0; i < n; ++i) second_matrix.coeffRef(i, i) += 0.05;  // our own perturbation
+  const Eigen::VectorXd b = random_vector(n, 12u);
+  const double tolerance = 1e-8;
+  nkit::identity_preconditioner none;
+  nkit::recycling_gmres_settings settings;
+  settings.restart_length = 20;
+  settings.recycle_dimension = 5;
+  settings.maximum_iterations = 2000;
+  const bool declare_same_operator = GENERATE(false, true);
+  nkit::recycling_gmres_solver<> solver(settings);
+  Eigen::VectorXd x(n);
+  nkit::matrix_operator<sparse> first_operator(first_matrix);
+  REQUIRE(solver.solve(first_operator, none, b, x, tolerance, nkit::initial_guess::zero).converged());
+  if (declare_same_operator) solver.next_solve_uses_same_operator();  // wrong on purpose
+  nkit::matrix_operator<sparse> second_operator(second_matrix);
+  const auto result = solver.solve(second_operator, none, b, x, tolerance, nkit::initial_guess::zero);
+  const double true_relative_residual = (b - second_matrix * x).norm() / b.norm();
+  INFO("true relative residual " << true_relative_residual << ", status " << nkit::name(result.status));
+  if (declare_same_operator) {
+    CHECK(true_relative_residual > 100 * tolerance);
+  } else {
+    CHECK(result.converged());
+    CHECK(true_relative_residual <= 1.01 * tolerance);
+  }
 }

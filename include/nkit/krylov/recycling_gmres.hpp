@@ -103,7 +103,7 @@ class recycling_gmres_solver {
   /// Allocates the workspace for vectors shaped like `prototype`. A new size
   /// drops the recycled subspace.
   void allocate_like(const vector_type& prototype) {
-    const int m = m_settings.restart_length;
+    const int m = cycle_length();
     const int k = m_settings.recycle_dimension;
     if (!m_recycled.empty() && m_recycled.front().size() != prototype.size()) m_recycled_count = 0;
     resize_set(m_basis, m + 1, prototype);
@@ -164,6 +164,15 @@ class recycling_gmres_solver {
   }
 
  private:
+  /// Vectors of one cycle: restart_length, but never more than a cycle can use
+  /// (k recycled plus maximum_iterations Arnoldi steps), so a huge
+  /// restart_length does not allocate what no cycle needs (as gmres_solver).
+  int cycle_length() const {
+    return static_cast<int>(
+        std::min<long long>(m_settings.restart_length,
+                            static_cast<long long>(m_settings.recycle_dimension) + m_settings.maximum_iterations));
+  }
+
   void resize_set(std::vector<vector_type>& set, int count, const vector_type& prototype) {
     if (set.size() != static_cast<std::size_t>(count)) set.resize(static_cast<std::size_t>(count));
     for (auto& v : set) m_space.allocate_like(v, prototype);
@@ -220,7 +229,7 @@ class recycling_gmres_solver {
       return result;
     }
 
-    const int m = m_settings.restart_length;
+    const int m = cycle_length();
     int total = 0;
     while (true) {
       if (beta <= target) {
