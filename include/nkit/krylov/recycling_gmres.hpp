@@ -431,8 +431,9 @@ class recycling_gmres_solver {
     for (int i = 0; i < columns; ++i) m_cross(kept + i, kept + i) = 1.0;
     for (int j = 0; j < kept; ++j) {
       const vector_type& u = m_recycled[static_cast<std::size_t>(j)];
-      for (int i = 0; i < kept; ++i) m_cross(i, j) = m_space.dot(m_images[static_cast<std::size_t>(i)], u);
-      for (int i = 0; i <= columns; ++i) m_cross(kept + i, j) = m_space.dot(m_basis[static_cast<std::size_t>(i)], u);
+      // Column j of Ŵᵀ V̂ is contiguous: two fused reductions on a distributed space.
+      dot_many(m_space, m_images.data(), kept, u, m_cross.col(j).data());
+      dot_many(m_space, m_basis.data(), columns + 1, u, m_cross.col(j).data() + kept);
     }
     const int wanted = m_settings.recycle_dimension;
     const int found = m_ritz.compute(m_extended, m_cross, n, wanted);
