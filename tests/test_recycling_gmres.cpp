@@ -415,10 +415,13 @@ TEST_CASE("a changed matrix needs the refresh of C = A U that recycling GMRES do
   // Parks et al. 2006, Algorithm 2.1 steps 3–5: for a new matrix the kept U
   // must be re-multiplied, C = A_new U, and C re-orthonormalised; the
   // least-squares problem relies on A Ũ = C D. A false "same operator"
-  // declaration keeps the old C, so the residual recurrence no longer
-  // describes b − A x: the solver reports convergence the true residual misses
-  // (the same kind of check as the undeclared changing preconditioner in
-  // test_gmres.cpp).
+  // declaration keeps the old C, so the Givens estimate no longer describes
+  // b − A x. The solver declares convergence only on the true residual: when
+  // the estimate meets the target it forms b − A x, and on a miss recomputes C
+  // and continues. So both runs must converge with the true residual within
+  // the tolerance. Bound: ‖b − A x‖ <= tolerance · ‖b‖ as the solver computed
+  // it; the factor 1.01 covers Eigen's product summing in another order than
+  // the solver's (common practice for a change of summation order).
   const int n = 500;
   const sparse first_matrix = diagonal_with_small_outliers(n, 4);
   sparse second_matrix = first_matrix;
@@ -440,12 +443,12 @@ TEST_CASE("a changed matrix needs the refresh of C = A U that recycling GMRES do
   const auto result = solver.solve(second_operator, none, b, x, tolerance, nkit::initial_guess::zero);
   const double true_relative_residual = (b - second_matrix * x).norm() / b.norm();
   INFO("true relative residual " << true_relative_residual << ", status " << nkit::name(result.status));
-  if (declare_same_operator) {
-    CHECK(true_relative_residual > 100 * tolerance);
-  } else {
-    CHECK(result.converged());
-    CHECK(true_relative_residual <= 1.01 * tolerance);
-  }
+  REQUIRE(result.converged());
+  CHECK(true_relative_residual <= 1.01 * tolerance);
+  // Both runs pay the k products of C = A Ũ: up front (undeclared) or after the
+  // estimate/true-residual mismatch (the false declaration), which this checks happened.
+  CHECK(result.operator_applications >= result.iterations + settings.recycle_dimension);
+  CHECK(result.final_residual_norm <= tolerance * b.norm());
 }
 
 TEST_CASE("recycling GMRES through the block space matches the Eigen space", "[recycling_gmres][space]") {

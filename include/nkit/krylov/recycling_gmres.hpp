@@ -26,7 +26,10 @@
 ///
 /// Right preconditioning as in gmres.hpp: the method runs on A M⁻¹, Ũ and V
 /// live in that space, x = x0 + M⁻¹ (Ũ y_U + V y_V) (one M⁻¹ per cycle), and the
-/// residual minimised and tested is the true residual b − A x. Each cycle starts
+/// residual minimised is b − A x. Convergence is declared only on the true
+/// residual: when the Givens estimate meets the target, b − A x is formed (one
+/// operator application); if it misses, C is recomputed as for a changed
+/// operator and the solve continues. Each cycle starts
 /// from the true residual (one operator application, as gmres.hpp restarts);
 /// its component in range(C) enters the least-squares right-hand side Ŵᵀ r
 /// (step 27) instead of a separate projection step (steps 6–7; same iterate in
@@ -57,6 +60,7 @@
 #include "../core/preconditioner.hpp"
 #include "../core/vector_space.hpp"
 #include "../detail/checks.hpp"
+#include "../detail/dense_gram_schmidt.hpp"
 #include "../detail/givens.hpp"
 #include "../detail/timer.hpp"
 #include "../report/monitor.hpp"
@@ -218,10 +222,7 @@ class recycling_gmres_solver {
       m_space.fill(0, x);
       m_space.copy(b, residual);
     } else {
-      op.apply(static_cast<const vector_type&>(x), residual);
-      ++result.operator_applications;
-      m_space.combine(1, b, -1, residual, residual);
-      beta = m_space.norm(residual);
+      beta = true_residual(op, b, x, result);
     }
     result.initial_residual_norm = result.final_residual_norm = beta;
     if (!std::isfinite(beta)) {
@@ -231,6 +232,7 @@ class recycling_gmres_solver {
 
     const int m = cycle_length();
     int total = 0;
+    int total_at_last_mismatch = -1;  // no progress since the last estimate/true mismatch: stagnated
     while (true) {
       if (beta <= target) {
         result.status = linear_solve_status::converged;
@@ -325,9 +327,29 @@ class recycling_gmres_solver {
       }
       if (m_settings.recycle_dimension > 0 && columns > 0) choose_recycled_subspace(kept, columns, n);
       if (n > 0 && estimate <= target) {
-        result.status = linear_solve_status::converged;
-        result.final_residual_norm = estimate;
-        break;
+        // The Givens estimate met the target: converged only if the true
+        // residual does. Otherwise C = A M⁻¹ Ũ may not hold (e.g. a wrong
+        // next_solve_uses_same_operator()): recompute C, continue from b − A x.
+        const double checked = true_residual(op, b, x, result);
+        result.final_residual_norm = checked;
+        if (!std::isfinite(checked)) {
+          result.status = linear_solve_status::non_finite;
+          break;
+        }
+        if (checked <= target) {
+          result.status = linear_solve_status::converged;
+          break;
+        }
+        if (total == total_at_last_mismatch || total >= m_settings.maximum_iterations) {
+          result.status = total == total_at_last_mismatch ? linear_solve_status::stagnated
+                                                          : linear_solve_status::maximum_iterations_reached;
+          break;
+        }
+        total_at_last_mismatch = total;
+        if (m_recycled_count > 0 && !refresh_images(op, preconditioner, result)) m_recycled_count = 0;
+        ++result.restarts;
+        beta = checked;
+        continue;
       }
       if (non_finite) {
         result.status = linear_solve_status::non_finite;
@@ -346,10 +368,7 @@ class recycling_gmres_solver {
         break;
       }
       // Next cycle from the true residual of the current iterate.
-      op.apply(static_cast<const vector_type&>(x), residual);
-      ++result.operator_applications;
-      m_space.combine(1, b, -1, residual, residual);
-      const double restarted = m_space.norm(residual);
+      const double restarted = true_residual(op, b, x, result);
       ++result.restarts;
       if (!std::isfinite(restarted)) {
         result.status = linear_solve_status::non_finite;
@@ -364,6 +383,15 @@ class recycling_gmres_solver {
     }
     result.iterations = total;
     return result;
+  }
+
+  /// m_update = b − A x (one operator application); returns its norm.
+  template <class Operator>
+  double true_residual(Operator& op, const vector_type& b, const vector_type& x, linear_solve_result& result) {
+    op.apply(x, m_update);
+    ++result.operator_applications;
+    m_space.combine(1, b, -1, m_update, m_update);
+    return m_space.norm(m_update);
   }
 
   /// Orthogonalises basis[j+1] against C (into the B block of Ḡ, rows
@@ -448,22 +476,8 @@ class recycling_gmres_solver {
       }
     }
     m_kept_factor.setZero();
-    for (int c = 0; c < found; ++c) {
-      for (int pass = 0; pass < 2; ++pass) {
-        for (int q = 0; q < c; ++q) {
-          double projection = 0.0;
-          for (int r = 0; r <= n; ++r) projection += m_kept_images(r, q) * m_kept_images(r, c);
-          m_kept_factor(q, c) += projection;
-          for (int r = 0; r <= n; ++r) m_kept_images(r, c) -= projection * m_kept_images(r, q);
-        }
-      }
-      double norm = 0.0;
-      for (int r = 0; r <= n; ++r) norm += m_kept_images(r, c) * m_kept_images(r, c);
-      norm = std::sqrt(norm);
-      if (!(norm > 0.0) || !std::isfinite(norm)) return;  // Ḡ P rank deficient: keep the previous subspace
-      m_kept_factor(c, c) = norm;
-      for (int r = 0; r <= n; ++r) m_kept_images(r, c) /= norm;
-    }
+    // Ḡ P rank deficient: keep the previous subspace.
+    if (detail::dense_gram_schmidt_qr(m_kept_images, m_kept_factor, n + 1, found) < found) return;
     // Coordinates of U = V̂ P R⁻¹ (step 34): solve Φ R = P row by row.
     for (int r = 0; r < n; ++r) {
       for (int c = 0; c < found; ++c) {
