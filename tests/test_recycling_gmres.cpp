@@ -206,6 +206,32 @@ TEST_CASE("a recycled subspace deflates small outlying eigenvalues for a second 
   CHECK(second.iterations <= (cycles + 1) * (m - k));
 }
 
+TEST_CASE("the harmonic Ritz step keeps recycling when the cycle matrix is ill-conditioned", "[recycling_gmres]") {
+  // A = diag(1e-7, 2e-7, 3e-7, [1, 10]) (our own test matrix): Ḡ inherits a
+  // condition number near 10⁸ from A. Forming Ḡᵀ Ḡ would square it to 10¹⁶,
+  // beyond what a Cholesky factorisation in double precision can resolve; the
+  // triangular factor R of Ḡ (Ḡᵀ Ḡ = Rᵀ R) keeps 10⁸, far inside the pivot
+  // test |r_jj| > 10³ ε ‖Ḡ e_j‖ (≈ 1/4.5·10¹²). So no harmonic Ritz step is
+  // skipped and all k vectors are kept.
+  const int n = 300;
+  sparse a = diagonal_with_small_outliers(n, 3);
+  for (int i = 0; i < 3; ++i) a.coeffRef(i, i) = 1e-7 * (i + 1);
+  const Eigen::VectorXd b = random_vector(n, 31u);
+  nkit::matrix_operator<sparse> op(a);
+  nkit::identity_preconditioner none;
+  nkit::recycling_gmres_settings settings;
+  settings.restart_length = 20;
+  settings.recycle_dimension = 5;
+  settings.maximum_iterations = 5000;
+  nkit::recycling_gmres_solver<> solver(settings);
+  Eigen::VectorXd x(n);
+  const auto result = solver.solve(op, none, b, x, 1e-8, nkit::initial_guess::zero);
+  INFO("iterations " << result.iterations << ", skipped Ritz steps " << result.recycle_updates_skipped);
+  CHECK(result.converged());
+  CHECK(result.recycle_updates_skipped == 0);
+  CHECK(solver.recycled_dimension() == settings.recycle_dimension);
+}
+
 TEST_CASE("recycling GMRES without keeping the subspace starts every solve afresh", "[recycling_gmres]") {
   const int n = 500;
   const sparse a = diagonal_with_small_outliers(n, 3);

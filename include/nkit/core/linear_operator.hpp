@@ -68,6 +68,10 @@ struct linear_solve_result {
   double initial_residual_norm = 0.0;      ///< ‖b − A x0‖
   double final_residual_norm = 0.0;        ///< ‖b − A x‖ as tracked by the Givens recurrence
   double orthogonalization_seconds = 0.0;  ///< wall time spent in Gram–Schmidt
+  /// Recycling GMRES only: cycles whose harmonic Ritz step found no usable
+  /// vectors (Ḡ numerically rank deficient, the eigenvalue iteration failed, or
+  /// Ḡ P rank deficient), so the previous recycled subspace was kept.
+  int recycle_updates_skipped = 0;
   bool converged() const { return status == linear_solve_status::converged; }
   /// final_residual_norm / ‖b‖ (0 when b = 0).
   double relative_residual() const {

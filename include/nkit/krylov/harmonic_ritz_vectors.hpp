@@ -20,8 +20,12 @@
 /// The vectors kept are those of the k harmonic Ritz values of smallest
 /// magnitude: they approximate the eigenvectors that slow restarted GMRES down.
 ///
-/// Solved here through the Cholesky factor L Lᵀ = Ḡᵀ Ḡ (Ḡ has full column
-/// rank while Arnoldi has not broken down): with μ = 1/θ and z = L⁻ᵀ w,
+/// Solved here through the triangular factor R of the QR of Ḡ (the caller's
+/// Givens rotations), Ḡᵀ Ḡ = Rᵀ R, so Ḡᵀ Ḡ is never formed and the condition
+/// number is not squared. R is nonsingular while Arnoldi has not broken down;
+/// a pivot |r_jj| <= 10³ ε ‖Ḡ e_j‖ (each compared with its own column, common
+/// practice) counts as singular and the step reports failure. With L = Rᵀ,
+/// μ = 1/θ and z = L⁻ᵀ w,
 ///     L⁻¹ Ḡᵀ (Ŵᵀ V̂) L⁻ᵀ w = μ w,
 /// a standard real eigenproblem whose largest |μ| are the smallest |θ|; an
 /// infinite θ (singular right-hand side matrix) becomes μ = 0 and is never
@@ -60,41 +64,31 @@ class harmonic_ritz_vectors {
   }
 
   /// Computes up to `wanted` harmonic Ritz vectors of the cycle described by
-  /// `extended` = Ḡ ((n + 1) × n, unrotated) and `cross` = Ŵᵀ V̂ ((n + 1) × n);
-  /// returns how many it found (0 when Ḡᵀ Ḡ is not numerically definite or
-  /// the eigenvalue iteration failed). Their coordinates in V̂ are the first
-  /// returned columns of vectors(), orthonormalised (the span is what matters).
-  template <class Extended, class Cross>
-  int compute(const Extended& extended, const Cross& cross, int n, int wanted) {
+  /// `extended` = Ḡ ((n + 1) × n, unrotated), `triangular` = R (upper
+  /// triangular n × n leading block, Ḡ = Q [R; 0] with Q orthogonal) and
+  /// `cross` = Ŵᵀ V̂ ((n + 1) × n); returns how many it found (0 when R is
+  /// numerically singular or the eigenvalue iteration failed). Their
+  /// coordinates in V̂ are the first returned columns of vectors(),
+  /// orthonormalised (the span is what matters).
+  template <class Extended, class Triangular, class Cross>
+  int compute(const Extended& extended, const Triangular& triangular, const Cross& cross, int n, int wanted) {
     const Eigen::Index size = m_gram.rows();
     if (n < 1 || wanted < 1 || n > size) return 0;
     if (wanted > n) wanted = n;
-    // Ḡᵀ Ḡ and Ḡᵀ (Ŵᵀ V̂) by plain loops (no temporaries: sizes are small).
+    // L = Rᵀ (lower triangle of m_gram) and Ḡᵀ (Ŵᵀ V̂), by plain loops (no temporaries).
     for (int j = 0; j < n; ++j) {
-      for (int i = 0; i < n; ++i) {
-        double gram = 0.0;
-        double pencil = 0.0;
-        for (int l = 0; l <= n; ++l) {
-          gram += extended(l, i) * extended(l, j);
-          pencil += extended(l, i) * cross(l, j);
-        }
-        m_gram(i, j) = gram;
-        m_pencil(i, j) = pencil;
+      double column_norm_squared = 0.0;
+      for (int l = 0; l <= n; ++l) column_norm_squared += extended(l, j) * extended(l, j);
+      const double pivot = triangular(j, j);
+      if (!(std::abs(pivot) > 1e3 * std::numeric_limits<double>::epsilon() * std::sqrt(column_norm_squared)) ||
+          !std::isfinite(pivot)) {
+        return 0;
       }
-    }
-    // Cholesky in place (lower triangle of m_gram).
-    const double scale = m_gram.topLeftCorner(n, n).diagonal().maxCoeff();
-    if (!(scale > 0.0) || !std::isfinite(scale)) return 0;
-    for (int j = 0; j < n; ++j) {
-      double pivot = m_gram(j, j);
-      for (int l = 0; l < j; ++l) pivot -= m_gram(j, l) * m_gram(j, l);
-      if (!(pivot > 1e3 * std::numeric_limits<double>::epsilon() * scale)) return 0;
-      const double diagonal = std::sqrt(pivot);
-      m_gram(j, j) = diagonal;
-      for (int i = j + 1; i < n; ++i) {
-        double value = m_gram(i, j);
-        for (int l = 0; l < j; ++l) value -= m_gram(i, l) * m_gram(j, l);
-        m_gram(i, j) = value / diagonal;
+      for (int i = 0; i < n; ++i) {
+        double pencil = 0.0;
+        for (int l = 0; l <= n; ++l) pencil += extended(l, i) * cross(l, j);
+        m_pencil(i, j) = pencil;
+        m_gram(i, j) = i >= j ? triangular(j, i) : 0.0;
       }
     }
     // S = L⁻¹ F L⁻ᵀ with F = m_pencil: first X = L⁻¹ F (columns), then S = X L⁻ᵀ (rows).
@@ -183,7 +177,7 @@ class harmonic_ritz_vectors {
     return kept;
   }
 
-  Eigen::MatrixXd m_gram;     ///< Ḡᵀ Ḡ, then its Cholesky factor L (lower triangle)
+  Eigen::MatrixXd m_gram;     ///< L = Rᵀ (lower triangle), Ḡᵀ Ḡ = L Lᵀ
   Eigen::MatrixXd m_pencil;   ///< Ḡᵀ Ŵᵀ V̂, then L⁻¹ of it
   Eigen::MatrixXd m_padded;   ///< L⁻¹ Ḡᵀ Ŵᵀ V̂ L⁻ᵀ in the top-left corner, zero elsewhere
   Eigen::MatrixXd m_vectors;  ///< kept coordinates

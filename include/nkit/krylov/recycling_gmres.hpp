@@ -325,7 +325,9 @@ class recycling_gmres_solver {
         result.final_residual_norm = beta;
         break;
       }
-      if (m_settings.recycle_dimension > 0 && columns > 0) choose_recycled_subspace(kept, columns, n);
+      if (m_settings.recycle_dimension > 0 && columns > 0 && !choose_recycled_subspace(kept, columns, n)) {
+        ++result.recycle_updates_skipped;
+      }
       if (n > 0 && estimate <= target) {
         // The Givens estimate met the target: converged only if the true
         // residual does. Otherwise C = A M⁻¹ Ũ may not hold (e.g. a wrong
@@ -452,7 +454,8 @@ class recycling_gmres_solver {
 
   /// Steps 30–34: P = harmonic Ritz coordinates, Ḡ P = Q R, U = V̂ P R⁻¹,
   /// C = Ŵ Q; then Ũ = U D (unit columns) with A Ũ = C D.
-  void choose_recycled_subspace(int kept, int columns, int n) {
+  /// Returns false when no usable vector was found (the previous subspace kept).
+  bool choose_recycled_subspace(int kept, int columns, int n) {
     // Ŵᵀ V̂ with Ŵ = [C V_0..V_columns], V̂ = [Ũ V_0..V_{columns−1}]: the
     // identity on the V block, Cᵀ V = 0 by construction, two dense blocks with Ũ.
     m_cross.topLeftCorner(n + 1, n).setZero();
@@ -464,8 +467,8 @@ class recycling_gmres_solver {
       dot_many(m_space, m_basis.data(), columns + 1, u, m_cross.col(j).data() + kept);
     }
     const int wanted = m_settings.recycle_dimension;
-    const int found = m_ritz.compute(m_extended, m_cross, n, wanted);
-    if (found == 0) return;  // keep the previous subspace
+    const int found = m_ritz.compute(m_extended, m_triangular, m_cross, n, wanted);
+    if (found == 0) return false;  // keep the previous subspace
     const Eigen::MatrixXd& p = m_ritz.vectors();
     // Ḡ P, then modified Gram–Schmidt twice: Ḡ P = Q R (step 32).
     for (int c = 0; c < found; ++c) {
@@ -477,7 +480,7 @@ class recycling_gmres_solver {
     }
     m_kept_factor.setZero();
     // Ḡ P rank deficient: keep the previous subspace.
-    if (detail::dense_gram_schmidt_qr(m_kept_images, m_kept_factor, n + 1, found) < found) return;
+    if (detail::dense_gram_schmidt_qr(m_kept_images, m_kept_factor, n + 1, found) < found) return false;
     // Coordinates of U = V̂ P R⁻¹ (step 34): solve Φ R = P row by row.
     for (int r = 0; r < n; ++r) {
       for (int c = 0; c < found; ++c) {
@@ -510,6 +513,7 @@ class recycling_gmres_solver {
       m_scaling(c) = 1 / norm;  // D (step 23)
     }
     m_recycled_count = found;
+    return true;
   }
 
   /// Steps 3–5 for a changed operator: C = A M⁻¹ Ũ, QR by modified Gram–Schmidt
