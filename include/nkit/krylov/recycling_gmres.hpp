@@ -467,7 +467,7 @@ class recycling_gmres_solver {
       dot_many(m_space, m_basis.data(), columns + 1, u, m_cross.col(j).data() + kept);
     }
     const int wanted = m_settings.recycle_dimension;
-    const int found = m_ritz.compute(m_extended, m_triangular, m_cross, n, wanted);
+    int found = m_ritz.compute(m_extended, m_triangular, m_cross, n, wanted);
     if (found == 0) return false;  // keep the previous subspace
     const Eigen::MatrixXd& p = m_ritz.vectors();
     // Ḡ P, then modified Gram–Schmidt twice: Ḡ P = Q R (step 32).
@@ -479,8 +479,9 @@ class recycling_gmres_solver {
       }
     }
     m_kept_factor.setZero();
-    // Ḡ P rank deficient: keep the previous subspace.
-    if (detail::dense_gram_schmidt_qr(m_kept_images, m_kept_factor, n + 1, found) < found) return false;
+    // Ḡ P numerically rank deficient: keep its leading independent columns.
+    found = detail::dense_gram_schmidt_qr(m_kept_images, m_kept_factor, n + 1, found);
+    if (found == 0) return false;  // keep the previous subspace
     // Coordinates of U = V̂ P R⁻¹ (step 34): solve Φ R = P row by row.
     for (int r = 0; r < n; ++r) {
       for (int c = 0; c < found; ++c) {
