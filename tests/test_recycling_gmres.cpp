@@ -477,6 +477,43 @@ TEST_CASE("a changed matrix needs the refresh of C = A U that recycling GMRES do
   CHECK(result.final_residual_norm <= tolerance * b.norm());
 }
 
+TEST_CASE("a zero right-hand side for a new matrix leaves C marked for refresh", "[recycling_gmres]") {
+  // A solve with b = 0 returns x = 0 before C = A Ũ is refreshed for its
+  // matrix. A following solve declared to use "the same operator" must still
+  // refresh C (Parks et al. 2006, Algorithm 2.1 steps 3–5). Reference: a
+  // solver that saw the new matrix with a real b and no declaration does the
+  // same arithmetic, so iterations and operator applications agree exactly
+  // (without the stale mark, the declared run would rely on the
+  // estimate/true-residual check and spend more products).
+  const int n = 500;
+  const sparse first_matrix = diagonal_with_small_outliers(n, 4);
+  sparse second_matrix = first_matrix;
+  for (int i = 0; i < n; ++i) second_matrix.coeffRef(i, i) += 0.05;  // our own perturbation
+  const Eigen::VectorXd b = random_vector(n, 41u);
+  const Eigen::VectorXd zero = Eigen::VectorXd::Zero(n);
+  const double tolerance = 1e-8;
+  nkit::identity_preconditioner none;
+  nkit::recycling_gmres_settings settings;
+  settings.restart_length = 20;
+  settings.recycle_dimension = 5;
+  settings.maximum_iterations = 2000;
+  nkit::matrix_operator<sparse> first_operator(first_matrix);
+  nkit::matrix_operator<sparse> second_operator(second_matrix);
+  nkit::recycling_gmres_solver<> with_zero(settings);
+  nkit::recycling_gmres_solver<> reference(settings);
+  Eigen::VectorXd x(n), x_reference(n);
+  REQUIRE(with_zero.solve(first_operator, none, b, x, tolerance, nkit::initial_guess::zero).converged());
+  REQUIRE(reference.solve(first_operator, none, b, x_reference, tolerance, nkit::initial_guess::zero).converged());
+  REQUIRE(with_zero.solve(second_operator, none, zero, x, tolerance, nkit::initial_guess::zero).converged());
+  with_zero.next_solve_uses_same_operator();  // true for the zero solve's matrix
+  const auto result = with_zero.solve(second_operator, none, b, x, tolerance, nkit::initial_guess::zero);
+  const auto expected = reference.solve(second_operator, none, b, x_reference, tolerance, nkit::initial_guess::zero);
+  REQUIRE(result.converged());
+  CHECK(result.iterations == expected.iterations);
+  CHECK(result.operator_applications == expected.operator_applications);
+  CHECK((b - second_matrix * x).norm() <= 1.01 * tolerance * b.norm());
+}
+
 TEST_CASE("recycling GMRES through the block space matches the Eigen space", "[recycling_gmres][space]") {
   // The solver touches vectors only through the space (core/vector_space.hpp);
   // the block space sums its reductions in another order, so the two runs

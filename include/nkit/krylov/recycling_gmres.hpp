@@ -26,11 +26,10 @@
 ///
 /// Right preconditioning as in gmres.hpp: the method runs on A M⁻¹, Ũ and V
 /// live in that space, x = x0 + M⁻¹ (Ũ y_U + V y_V) (one M⁻¹ per cycle), and the
-/// residual minimised is b − A x. Convergence is declared only on the true
-/// residual: when the Givens estimate meets the target, b − A x is formed (one
-/// operator application); if it misses, C is recomputed as for a changed
-/// operator and the solve continues. Each cycle starts
-/// from the true residual (one operator application, as gmres.hpp restarts);
+/// residual minimised is b − A x. Convergence is declared on the true residual:
+/// when the Givens estimate meets the target, b − A x is formed (one product);
+/// if it misses, C is recomputed as for a changed operator and the solve goes
+/// on. Each cycle starts from the true residual (one product, as gmres.hpp);
 /// its component in range(C) enters the least-squares right-hand side Ŵᵀ r
 /// (step 27) instead of a separate projection step (steps 6–7; same iterate in
 /// exact arithmetic). The preconditioner must not change between
@@ -202,6 +201,8 @@ class recycling_gmres_solver {
     linear_solve_result result;
     const double b_norm = m_space.norm(b);
     result.right_hand_side_norm = b_norm;
+    // An early return skips the refresh of C: the next solve must refresh it.
+    if (!same_operator && (!std::isfinite(b_norm) || b_norm == 0.0)) m_images_stale = true;
     if (!std::isfinite(b_norm)) {
       result.status = linear_solve_status::non_finite;
       result.initial_residual_norm = result.final_residual_norm = b_norm;
@@ -212,9 +213,10 @@ class recycling_gmres_solver {
       return result;
     }
     const double target = relative_tolerance * b_norm;
-    if (m_recycled_count > 0 && !same_operator) {
+    if (m_recycled_count > 0 && (!same_operator || m_images_stale)) {
       if (!refresh_images(op, preconditioner, result)) m_recycled_count = 0;
     }
+    m_images_stale = false;
 
     vector_type& residual = m_update;  // the cycle's starting residual lives here until the update
     double beta = b_norm;
@@ -590,6 +592,7 @@ class recycling_gmres_solver {
   detail::harmonic_ritz_vectors m_ritz;
   int m_recycled_count = 0;
   bool m_same_operator = false;
+  bool m_images_stale = false;  ///< C = A M⁻¹ Ũ not refreshed for the last operator (early return)
 };
 
 }  // namespace nkit
