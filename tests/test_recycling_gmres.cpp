@@ -8,12 +8,15 @@
 #include <Eigen/Dense>
 #include <Eigen/SparseCore>
 #include <Eigen/SparseLU>
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <complex>
 #include <limits>
 #include <nkit/core/block_vector_space.hpp>
 #include <nkit/core/preconditioner.hpp>
 #include <nkit/krylov/gmres.hpp>
+#include <nkit/krylov/harmonic_ritz_vectors.hpp>
 #include <nkit/krylov/recycling_gmres.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <random>
@@ -123,7 +126,10 @@ TEST_CASE("recycling GMRES solves a first system to the tolerance and matches Ei
 TEST_CASE("recycling GMRES with recycle_dimension 0 takes GMRES(m)'s iterations", "[recycling_gmres]") {
   // With k = 0 every cycle is a GMRES(m) cycle from the true residual: the same
   // Krylov spaces as krylov/gmres.hpp in exact arithmetic (Parks et al. 2006,
-  // §2: GCRO-DR(m, 0) is GMRES(m)); rounding may move the last step by one.
+  // §2: GCRO-DR(m, 0) is GMRES(m)). The counts may still differ by one: the
+  // last step's estimate sits near the target, so rounding can move the
+  // crossing by a step, and this solver also checks the true residual there
+  // (common practice for comparing two rounding paths; not from a source).
   const int n = 400;
   const unsigned seed = GENERATE(3u, 4u);
   const sparse a = random_sparse(n, 5, 2.5, seed);
@@ -198,8 +204,9 @@ TEST_CASE("a recycled subspace deflates small outlying eigenvalues for a second 
   // m − k steps reduces the residual by at least 2ρ^(m−k), ρ = (√κ − 1)/(√κ + 1)
   // (the Chebyshev bound for GMRES on a symmetric positive definite matrix, Y.
   // Saad, "Iterative Methods for Sparse Linear Systems", 2nd ed. 2003, §6.11.4,
-  // from memory). We allow one cycle more than that count for the recycled
-  // vectors being approximate eigenvectors.
+  // from memory). The one extra cycle is our own margin (not from theory) for
+  // the recycled vectors being only approximate eigenvectors, so C Cᵀ deflates
+  // the small eigenvalues incompletely.
   const double rho = (std::sqrt(10.0) - 1) / (std::sqrt(10.0) + 1);
   const double per_cycle = 2 * std::pow(rho, m - k);
   const int cycles = static_cast<int>(std::ceil(std::log(tolerance) / std::log(per_cycle)));
@@ -313,11 +320,14 @@ TEST_CASE("recycling cuts the linear work over the implicit time steps of the mo
   // bound for symmetric positive definite matrices (Saad 2003 §6.11.4, from
   // memory) predicts about √(41/94) ≈ 0.66 of the iterations. Measured when
   // written: 503/816 = 0.62 iterations and 709/837 = 0.85 operator applications
-  // without preconditioner; 447/705 = 0.63 and 654/725 = 0.90 with ILU(0). We
-  // assert the iteration ratio below 0.8 (the estimate plus room for restarts
-  // and approximate Ritz vectors) and fewer operator applications in total
-  // (those include the 10 products per step that refresh C = A U, steps 3–5 of
-  // Algorithm 2.1, which eat about half the iterations saved).
+  // without preconditioner; 447/705 = 0.63 and 654/725 = 0.90 with ILU(0)
+  // (before convergence was checked on the true residual, which adds one
+  // product per solve). The thresholds are not from theory: the iteration
+  // ratio below 0.8 is our own estimate (0.66) plus a measured margin, and
+  // fewer operator applications in total (ratio < 1) is the measured 0.85 and
+  // 0.90 plus margin. Those counts include the 10 products per step that
+  // refresh C = A U (steps 3–5 of Algorithm 2.1); that this refresh eats about
+  // half the iterations saved is our expectation from the counts, not timed.
   const int steps = 20;
   const double tolerance = 1e-8;
   const bool ilu = GENERATE(false, true);
@@ -433,8 +443,11 @@ TEST_CASE("a huge but valid restart_length allocates only what a cycle can use",
   nkit::linear_solve_result result;
   REQUIRE_NOTHROW(result = solver.solve(op, none, b, x, 1e-12, nkit::initial_guess::zero));
   // Ten distinct eigenvalues: GMRES terminates in at most 10 steps (Saad & Schultz 1986).
+  // Convergence is declared on the true residual ‖b − A x‖ <= 1e-12 ‖b‖ as the
+  // solver computed it; Eigen's product sums in another order, a difference of
+  // order ε ‖A‖ ‖x‖ ≈ 2·10⁻¹⁶ ‖b‖ here, inside the factor 1.01 (common practice).
   CHECK(result.converged());
-  CHECK((b - a * x).norm() <= 1e-11 * b.norm());
+  CHECK((b - a * x).norm() <= 1.01e-12 * b.norm());
 }
 
 TEST_CASE("a changed matrix needs the refresh of C = A U that recycling GMRES does by default", "[recycling_gmres]") {
@@ -512,6 +525,126 @@ TEST_CASE("a zero right-hand side for a new matrix leaves C marked for refresh",
   CHECK(result.iterations == expected.iterations);
   CHECK(result.operator_applications == expected.operator_applications);
   CHECK((b - second_matrix * x).norm() <= 1.01 * tolerance * b.norm());
+}
+
+TEST_CASE("recycling GMRES from a nonzero initial guess", "[recycling_gmres]") {
+  // initial_guess::given: the first cycle starts from b − A x0 and the update
+  // is added to x0 (Parks et al. 2006, Algorithm 2.1 step 1, r0 = b − A x0).
+  // Checked: the reported initial residual is ‖b − A x0‖ (one product, to
+  // rounding: relative 1e-12, common practice) and the true residual meets the
+  // tolerance (factor 1.01, as above), on a first solve and on a recycled one.
+  const int n = 400;
+  const sparse a = diagonal_with_small_outliers(n, 4);
+  const double tolerance = 1e-9;
+  nkit::matrix_operator<sparse> op(a);
+  nkit::identity_preconditioner none;
+  nkit::recycling_gmres_settings settings;
+  settings.restart_length = 20;
+  settings.recycle_dimension = 5;
+  settings.maximum_iterations = 3000;
+  nkit::recycling_gmres_solver<> solver(settings);
+  for (unsigned solve = 0; solve < 2; ++solve) {
+    const Eigen::VectorXd b = random_vector(n, 51u + solve);
+    Eigen::VectorXd x = random_vector(n, 61u + solve);  // invented initial guess
+    const double initial = (b - a * x).norm();
+    const auto result = solver.solve(op, none, b, x, tolerance, nkit::initial_guess::given);
+    INFO("solve " << solve << ": iterations " << result.iterations);
+    REQUIRE(result.converged());
+    CHECK_THAT(result.initial_residual_norm, Catch::Matchers::WithinRel(initial, 1e-12));
+    CHECK((b - a * x).norm() <= 1.01 * tolerance * b.norm());
+  }
+  CHECK(solver.recycled_dimension() == settings.recycle_dimension);
+}
+
+TEST_CASE("a first solve shorter than k steps keeps fewer vectors and the next solve still works",
+          "[recycling_gmres]") {
+  // A has three distinct eigenvalues, so GMRES reaches the exact solution in
+  // at most three steps (its minimal polynomial has degree 3; Y. Saad & M.H.
+  // Schultz, "GMRES", SIAM J. Sci. Stat. Comput. 7 (1986) 856–869, from
+  // memory). With k = 5 the first solve has at most three columns to choose
+  // harmonic Ritz vectors from, so fewer than k are kept; the second solve
+  // must still meet the tolerance (factor 1.01, as above).
+  const int n = 60;
+  sparse a(n, n);
+  for (int i = 0; i < n; ++i) a.insert(i, i) = 1.0 + i % 3;  // our own matrix: eigenvalues 1, 2, 3
+  a.makeCompressed();
+  const double tolerance = 1e-10;
+  nkit::matrix_operator<sparse> op(a);
+  nkit::identity_preconditioner none;
+  nkit::recycling_gmres_settings settings;
+  settings.restart_length = 10;
+  settings.recycle_dimension = 5;
+  settings.maximum_iterations = 100;
+  nkit::recycling_gmres_solver<> solver(settings);
+  const Eigen::VectorXd first_b = random_vector(n, 71u);
+  const Eigen::VectorXd second_b = random_vector(n, 72u);
+  Eigen::VectorXd x(n);
+  const auto first = solver.solve(op, none, first_b, x, tolerance, nkit::initial_guess::zero);
+  REQUIRE(first.converged());
+  CHECK(first.iterations <= 3);
+  CHECK(solver.recycled_dimension() >= 1);
+  CHECK(solver.recycled_dimension() < settings.recycle_dimension);
+  const auto second = solver.solve(op, none, second_b, x, tolerance, nkit::initial_guess::zero);
+  REQUIRE(second.converged());
+  CHECK((second_b - a * x).norm() <= 1.01 * tolerance * second_b.norm());
+}
+
+TEST_CASE("harmonic Ritz vectors match the generalized eigenproblem solved by Eigen", "[recycling_gmres][ritz]") {
+  // The harmonic Ritz pairs of a cycle solve Ḡᵀ Ḡ z = θ Ḡᵀ (Ŵᵀ V̂) z (Parks et
+  // al. 2006 §2.4; Morgan 2002 for the plain cycle, Ŵᵀ V̂ = [I; 0]). Here Ḡ
+  // comes from 8 Arnoldi steps on a symmetric matrix (our own: diagonal
+  // 1..40), whose harmonic Ritz values are real. Reference: the same pencil
+  // by Eigen::GeneralizedEigenSolver. The k = 3 of smallest |θ| must span the
+  // returned coordinates: ‖z − W Wᵀ z‖ <= 1e-8 ‖z‖ (rounding amplified by the
+  // pencil's conditioning; our own margin, common practice).
+  const int size = 40;
+  const int n = 8;
+  const int k = 3;
+  const Eigen::VectorXd diagonal = Eigen::VectorXd::LinSpaced(size, 1.0, 40.0);
+  Eigen::MatrixXd basis = Eigen::MatrixXd::Zero(size, n + 1);
+  Eigen::MatrixXd extended = Eigen::MatrixXd::Zero(n + 1, n);
+  basis.col(0) = random_vector(size, 81u).normalized();
+  for (int j = 0; j < n; ++j) {
+    Eigen::VectorXd w = diagonal.cwiseProduct(basis.col(j));
+    for (int pass = 0; pass < 2; ++pass) {
+      for (int i = 0; i <= j; ++i) {
+        const double h = basis.col(i).dot(w);
+        extended(i, j) += h;
+        w -= h * basis.col(i);
+      }
+    }
+    extended(j + 1, j) = w.norm();
+    basis.col(j + 1) = w / w.norm();
+  }
+  Eigen::MatrixXd cross = Eigen::MatrixXd::Zero(n + 1, n);
+  cross.topRows(n).setIdentity();
+  const Eigen::HouseholderQR<Eigen::MatrixXd> qr(extended);
+  const Eigen::MatrixXd triangular = qr.matrixQR().topRows(n).triangularView<Eigen::Upper>();
+
+  nkit::detail::harmonic_ritz_vectors ritz;
+  ritz.allocate(n, k);
+  const int found = ritz.compute(extended, triangular, cross, n, k);
+  REQUIRE(found == k);
+  const Eigen::MatrixXd kept = ritz.vectors().leftCols(k);
+
+  const Eigen::MatrixXd left = extended.transpose() * extended;
+  const Eigen::MatrixXd right = extended.transpose() * cross;
+  Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> reference(left, right);
+  REQUIRE(reference.info() == Eigen::Success);
+  const Eigen::VectorXcd theta = reference.eigenvalues();
+  std::vector<int> order(n);
+  for (int i = 0; i < n; ++i) order[static_cast<std::size_t>(i)] = i;
+  std::sort(order.begin(), order.end(), [&](int p, int q) { return std::abs(theta(p)) < std::abs(theta(q)); });
+  for (int c = 0; c < k; ++c) {
+    const int index = order[static_cast<std::size_t>(c)];
+    INFO("theta " << theta(index));
+    CHECK(std::abs(theta(index).imag()) <= 1e-10 * std::abs(theta(index)));
+    const Eigen::VectorXcd z = reference.eigenvectors().col(index);
+    const Eigen::MatrixXcd w = kept.cast<std::complex<double>>();
+    const Eigen::VectorXcd outside = z - w * (w.adjoint() * z);
+    REQUIRE(z.norm() > 0.0);
+    CHECK(outside.norm() <= 1e-8 * z.norm());
+  }
 }
 
 TEST_CASE("recycling GMRES through the block space matches the Eigen space", "[recycling_gmres][space]") {
