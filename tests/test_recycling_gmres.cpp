@@ -419,6 +419,10 @@ TEST_CASE("recycling GMRES settings are validated with the field named", "[recyc
   Eigen::VectorXd x(4);
   CHECK_THROWS_WITH(solver.solve(op, none, b, x, -1.0),
                     "nkit: recycling_gmres_solver::solve relative_tolerance must be >= 0 (got -1)");
+  // The test sequence names the bad time step it was given.
+  CHECK_THROWS_WITH(
+      nkit_problems::model_problem_system_sequence(8, nkit_problems::model_problem_sequence_kind::time_steps, -0.5),
+      "model_problem_system_sequence: time_step must be > 0 (got -0.5)");
   // A preconditioner that changes between applications needs a flexible
   // variant, which this solver does not have.
   declared_changing varying;

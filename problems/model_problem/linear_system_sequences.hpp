@@ -14,6 +14,7 @@
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
+#include <sstream>
 #include <stdexcept>
 
 #include "problems/model_problem/model_problem.hpp"
@@ -28,7 +29,9 @@ class model_problem_system_sequence {
   model_problem_system_sequence(int cells_per_side, model_problem_sequence_kind kind, double time_step = 0.0)
       : m_problem(cells_per_side), m_kind(kind), m_time_step(time_step) {
     if (kind == model_problem_sequence_kind::time_steps && !(time_step > 0.0)) {
-      throw std::invalid_argument("model_problem_system_sequence: time_step must be > 0");
+      std::ostringstream text;
+      text << "model_problem_system_sequence: time_step must be > 0 (got " << time_step << ")";
+      throw std::invalid_argument(text.str());
     }
     m_state = Eigen::VectorXd::Zero(m_problem.unknowns());
     m_residual.resize(m_problem.unknowns());
