@@ -23,6 +23,7 @@ std::atomic<long> eigen_heap_requests{0};
 
 #include <catch2/catch.hpp>
 #include <nkit/fields/field_layout.hpp>
+#include <nkit/krylov/recycling_gmres.hpp>
 #include <nkit/nkit.hpp>
 #include <nkit/preconditioners/field_split.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
@@ -104,6 +105,42 @@ TEST_CASE("GMRES allocates nothing after the first solve of a size", "[allocatio
     CHECK(region.operator_new_calls() == 0);
     CHECK(region.eigen_heap_requests() == 0);
   }
+}
+
+TEST_CASE("recycling GMRES allocates nothing after the first solve of a size", "[allocation]") {
+  // Second and third solves: recycled cycles, harmonic Ritz extraction each
+  // cycle, and the refresh of C = A Ũ for an operator not declared unchanged.
+  const int n = 500;
+  Eigen::SparseMatrix<double> a(n, n);
+  for (int i = 0; i < n; ++i) {
+    a.insert(i, i) = i < 3 ? 0.01 * (i + 1) : 4.0;
+    if (i > 0) a.insert(i, i - 1) = -1.0;
+    if (i + 1 < n) a.insert(i, i + 1) = -1.5;
+  }
+  a.makeCompressed();
+  nkit::matrix_operator<Eigen::SparseMatrix<double>> op(a);
+  const Eigen::VectorXd b = Eigen::VectorXd::Ones(n);
+  Eigen::VectorXd x(n);
+  nkit::recycling_gmres_settings settings;
+  settings.restart_length = 12;  // forces restarts
+  settings.recycle_dimension = 4;
+  settings.maximum_iterations = 2000;
+  nkit::recycling_gmres_solver<> solver(settings);
+  Eigen::VectorXd inverse_diagonal = a.diagonal().cwiseInverse();
+  auto jacobi = nkit::make_preconditioner(
+      [&](const Eigen::VectorXd& r, Eigen::VectorXd& z) { z = r.cwiseProduct(inverse_diagonal); });
+  solver.solve(op, jacobi, b, x, 1e-10, nkit::initial_guess::zero);  // first solve sizes the workspace
+  counted_region region;
+  const auto refreshed = solver.solve(op, jacobi, b, x, 1e-10, nkit::initial_guess::zero);
+  solver.next_solve_uses_same_operator();
+  const auto same = solver.solve(op, jacobi, b, x, 1e-10, nkit::initial_guess::zero);
+  region.stop();
+  CHECK(refreshed.converged());
+  CHECK(same.converged());
+  CHECK(refreshed.restarts + same.restarts > 0);
+  CHECK(solver.recycled_dimension() > 0);
+  CHECK(region.operator_new_calls() == 0);
+  CHECK(region.eigen_heap_requests() == 0);
 }
 
 TEST_CASE("a repeated Newton solve of the same size allocates nothing", "[allocation]") {

@@ -64,10 +64,15 @@ struct linear_solve_result {
   int restarts = 0;                ///< completed restart cycles after the first
   long operator_applications = 0;  ///< includes the residual recomputed at each restart
   long preconditioner_applications = 0;
-  double right_hand_side_norm = 0.0;       ///< ‖b‖
-  double initial_residual_norm = 0.0;      ///< ‖b − A x0‖
-  double final_residual_norm = 0.0;        ///< ‖b − A x‖ as tracked by the Givens recurrence
+  double right_hand_side_norm = 0.0;   ///< ‖b‖
+  double initial_residual_norm = 0.0;  ///< ‖b − A x0‖
+  double final_residual_norm =
+      0.0;  ///< ‖b − A x‖: the Givens recurrence's estimate (recycling GMRES: the true residual when converged)
   double orthogonalization_seconds = 0.0;  ///< wall time spent in Gram–Schmidt
+  /// Recycling GMRES only: cycles whose harmonic Ritz step found no usable
+  /// vectors (Ḡ numerically rank deficient, the eigenvalue iteration failed, or
+  /// Ḡ P rank deficient), so the previous recycled subspace was kept.
+  int recycle_updates_skipped = 0;
   bool converged() const { return status == linear_solve_status::converged; }
   /// final_residual_norm / ‖b‖ (0 when b = 0).
   double relative_residual() const {

@@ -1,0 +1,143 @@
+// Krylov subspace recycling (krylov/recycling_gmres.hpp, GCRO-DR) against
+// plain restarted GMRES (krylov/gmres.hpp) over two sequences of linear systems
+// from the benchmark model problem (problems/model_problem/linear_system_sequences.hpp):
+//   newton/<n>   the Newton steps J(T_i) δ = −R(T_i) from T = 0 until ‖R‖ <= 1e-8 ‖R(0)‖
+//                (at most 12 systems);
+//   time/<n>     20 linearly implicit Euler steps, Δt = 0.01, (h²/Δt I + J(T_i)) δ = −R(T_i).
+// Each linear system is solved from x = 0 to ‖b − A x‖ <= 1e-8 ‖b‖ with ILU(0)
+// right preconditioning (include/nkit/preconditioners/ilu_zero.hpp), rebuilt
+// for every matrix; both solvers use restart_length 30, recycling keeps
+// recycle_dimension 10 vectors and refreshes C = A M⁻¹ Ũ for each new matrix.
+//
+//   bench_krylov_recycling --benchmark_out=recycling.json --benchmark_out_format=json
+//
+// Counters: systems, linear_iterations (Arnoldi steps), operator_applications
+// (all products with A, including restart residuals and the refresh of C),
+// preconditioner_applications, and for the recycling cases
+// iterations_vs_gmres / operator_applications_vs_gmres (ratios to the plain
+// case of the same sequence and size, measured earlier in the same run; the
+// registration order runs the plain case first). Wall time covers the whole
+// sequence (assembly, ILU(0) setups, solves); compare it between the two cases
+// of one run.
+#include <benchmark/benchmark.h>
+
+#include <map>
+#include <nkit/krylov/gmres.hpp>
+#include <nkit/krylov/recycling_gmres.hpp>
+#include <nkit/preconditioners/ilu_zero.hpp>
+#include <stdexcept>
+#include <string>
+#include <utility>
+
+#include "problems/model_problem/linear_system_sequences.hpp"
+
+namespace {
+
+using sequence_kind = nkit_problems::model_problem_sequence_kind;
+
+constexpr double linear_tolerance = 1e-8;
+constexpr int restart_length = 30;
+constexpr int recycle_dimension = 10;
+constexpr int time_steps = 20;
+constexpr double time_step = 0.01;
+constexpr int maximum_newton_systems = 12;
+
+struct sequence_totals {
+  long iterations = 0;
+  long operator_applications = 0;
+  long preconditioner_applications = 0;
+  int systems = 0;
+};
+
+/// Runs the whole sequence with `solve(matrix, preconditioner, b, x)`.
+template <class Solve>
+sequence_totals run_sequence(sequence_kind kind, int cells, Solve&& solve) {
+  nkit_problems::model_problem_system_sequence sequence(cells, kind, time_step);
+  nkit::sparse_matrix matrix;
+  Eigen::VectorXd right_hand_side;
+  Eigen::VectorXd increment;
+  nkit::ilu_zero_preconditioner factorization;
+  sequence_totals totals;
+  const double initial_residual = sequence.residual_norm();
+  const int systems = kind == sequence_kind::time_steps ? time_steps : maximum_newton_systems;
+  for (int i = 0; i < systems; ++i) {
+    if (kind == sequence_kind::newton_steps && sequence.residual_norm() <= 1e-8 * initial_residual) break;
+    sequence.assemble(matrix, right_hand_side);
+    if (factorization.build(matrix) == nkit::setup_status::failed) throw std::runtime_error("ILU(0) failed");
+    increment.setZero(right_hand_side.size());
+    nkit::matrix_operator<nkit::sparse_matrix> op(matrix);
+    const nkit::linear_solve_result result = solve(op, factorization, right_hand_side, increment);
+    if (!result.converged()) throw std::runtime_error("a linear solve did not converge");
+    totals.iterations += result.iterations;
+    totals.operator_applications += result.operator_applications;
+    totals.preconditioner_applications += result.preconditioner_applications;
+    ++totals.systems;
+    sequence.advance(increment);
+  }
+  return totals;
+}
+
+std::map<std::pair<int, int>, sequence_totals>& plain_results() {
+  static std::map<std::pair<int, int>, sequence_totals> results;
+  return results;
+}
+
+void report(benchmark::State& state, const sequence_totals& totals) {
+  state.counters["systems"] = totals.systems;
+  state.counters["linear_iterations"] = static_cast<double>(totals.iterations);
+  state.counters["operator_applications"] = static_cast<double>(totals.operator_applications);
+  state.counters["preconditioner_applications"] = static_cast<double>(totals.preconditioner_applications);
+}
+
+void plain_gmres(benchmark::State& state, sequence_kind kind) {
+  const int cells = static_cast<int>(state.range(0));
+  nkit::gmres_settings settings;
+  settings.restart_length = restart_length;
+  settings.maximum_iterations = 10000;
+  nkit::gmres_solver<> solver(settings);
+  sequence_totals totals;
+  for (auto _ : state) {
+    totals = run_sequence(kind, cells, [&](auto& op, auto& preconditioner, const auto& b, auto& x) {
+      return solver.solve(op, preconditioner, b, x, linear_tolerance, nkit::initial_guess::zero);
+    });
+  }
+  report(state, totals);
+  plain_results()[{static_cast<int>(kind), cells}] = totals;
+}
+
+void recycling_gmres(benchmark::State& state, sequence_kind kind) {
+  const int cells = static_cast<int>(state.range(0));
+  nkit::recycling_gmres_settings settings;
+  settings.restart_length = restart_length;
+  settings.recycle_dimension = recycle_dimension;
+  settings.maximum_iterations = 10000;
+  sequence_totals totals;
+  for (auto _ : state) {
+    nkit::recycling_gmres_solver<> solver(settings);  // a fresh recycled subspace per run of the sequence
+    totals = run_sequence(kind, cells, [&](auto& op, auto& preconditioner, const auto& b, auto& x) {
+      return solver.solve(op, preconditioner, b, x, linear_tolerance, nkit::initial_guess::zero);
+    });
+  }
+  report(state, totals);
+  const auto plain = plain_results().find({static_cast<int>(kind), cells});
+  if (plain != plain_results().end()) {
+    state.counters["iterations_vs_gmres"] =
+        static_cast<double>(totals.iterations) / static_cast<double>(plain->second.iterations);
+    state.counters["operator_applications_vs_gmres"] =
+        static_cast<double>(totals.operator_applications) / static_cast<double>(plain->second.operator_applications);
+  }
+}
+
+void newton_plain(benchmark::State& state) { plain_gmres(state, sequence_kind::newton_steps); }
+void newton_recycling(benchmark::State& state) { recycling_gmres(state, sequence_kind::newton_steps); }
+void time_plain(benchmark::State& state) { plain_gmres(state, sequence_kind::time_steps); }
+void time_recycling(benchmark::State& state) { recycling_gmres(state, sequence_kind::time_steps); }
+
+}  // namespace
+
+BENCHMARK(newton_plain)->Name("newton/gmres")->Arg(64)->Arg(128)->Iterations(1)->Unit(benchmark::kMillisecond);
+BENCHMARK(newton_recycling)->Name("newton/recycling")->Arg(64)->Arg(128)->Iterations(1)->Unit(benchmark::kMillisecond);
+BENCHMARK(time_plain)->Name("time/gmres")->Arg(64)->Arg(128)->Iterations(1)->Unit(benchmark::kMillisecond);
+BENCHMARK(time_recycling)->Name("time/recycling")->Arg(64)->Arg(128)->Iterations(1)->Unit(benchmark::kMillisecond);
+
+BENCHMARK_MAIN();
