@@ -66,8 +66,8 @@ struct linear_solve_result {
   long preconditioner_applications = 0;
   double right_hand_side_norm = 0.0;   ///< ‖b‖
   double initial_residual_norm = 0.0;  ///< ‖b − A x0‖
-  double final_residual_norm =
-      0.0;  ///< ‖b − A x‖: the Givens recurrence's estimate (recycling GMRES: the true residual when converged)
+  /// ‖b − A x‖: the Givens recurrence's estimate (recycling GMRES: the true residual when converged).
+  double final_residual_norm = 0.0;
   double orthogonalization_seconds = 0.0;  ///< wall time spent in Gram–Schmidt
   /// Recycling GMRES only: cycles whose harmonic Ritz step found no usable
   /// vectors (Ḡ numerically rank deficient, the eigenvalue iteration failed, or
