@@ -18,7 +18,9 @@
 //     Gauss–Seidel) with BoomerAMG per field (hypre's defaults, one V-cycle),
 //     on the Jacobian nkit assembles by colored differences; the preconditioner
 //     is rebuilt by the stepper's schedule (time_preconditioner_rebuild_settings:
-//     with a fixed step it is kept until Newton contracts slowly or a stage fails);
+//     with a fixed step it is kept until Newton contracts slowly, a stage fails,
+//     or a stage needs 3× the GMRES iterations per Newton step of the first
+//     stage after the last setup);
 //   * coupled_block_diagonal_rebuilt_every_step /
 //     coupled_block_gauss_seidel_rebuilt_every_step: the same, with the
 //     preconditioner rebuilt at every accepted step.
@@ -111,7 +113,7 @@ run_result coupled_run(const gray_radiation_diffusion_2d& problem, int steps, nk
   // contraction there, instead of rejecting the (fixed) step.
   settings.stage.newton.newton_step_budget = 30;
   settings.stage.divergence_contraction = 0.99;
-  // 0: the stepper's schedule (kept until Newton contracts slowly or a stage fails).
+  // 0: the stepper's schedule (time_preconditioner_rebuild_settings defaults).
   settings.preconditioner_rebuild.every_accepted_steps = rebuild_every_steps;
   nkit::field_split_settings split;
   split.form = form;
