@@ -24,26 +24,13 @@
 
 #include "problems/model_problem/linear_system_sequences.hpp"
 #include "support/matchers.hpp"
+#include "support/random_sparse_matrix.hpp"
 
 namespace {
 
 using sparse = Eigen::SparseMatrix<double>;
 
-/// Random nonsymmetric sparse matrix: diagonal `diagonal` plus `per_row`
-/// off-diagonal entries uniform in [-1, 1] per row (invented test data, as in test_gmres.cpp).
-sparse random_sparse(int n, int per_row, double diagonal, unsigned seed) {
-  std::mt19937 engine(seed);
-  std::uniform_real_distribution<double> value(-1.0, 1.0);
-  std::uniform_int_distribution<int> column(0, n - 1);
-  std::vector<Eigen::Triplet<double>> entries;
-  for (int i = 0; i < n; ++i) {
-    entries.emplace_back(i, i, diagonal);
-    for (int k = 0; k < per_row; ++k) entries.emplace_back(i, column(engine), value(engine));
-  }
-  sparse a(n, n);
-  a.setFromTriplets(entries.begin(), entries.end());
-  return a;
-}
+using nkit_test::random_sparse;  // support/random_sparse_matrix.hpp (invented test data)
 
 Eigen::VectorXd random_vector(int n, unsigned seed) {
   std::mt19937 engine(seed);
