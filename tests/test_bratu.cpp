@@ -5,13 +5,14 @@
 // Solution of Boundary Value Problems for ODEs", SIAM 1995,
 // and Boyd, Appl. Math. Comput. 217 (2011) 5553–5565, both from memory)
 //   u(x) = −2 ln[cosh((x − ½)θ/2) / cosh(θ/4)],  θ = √(2λ) cosh(θ/4),
-// with θ found here by bisection (independent of nkit).
+// with θ found by bisection (tests/support/bratu_closed_form.hpp, independent of nkit).
 #include <Eigen/Eigenvalues>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nkit/jacobian/automatic_differentiation.hpp>
 #include <nkit/newton/newton_krylov_solver.hpp>
 
+#include "support/bratu_closed_form.hpp"
 #include "support/matchers.hpp"
 #include "support/tridiagonal_preconditioner.hpp"
 
@@ -38,42 +39,9 @@ struct bratu_residual {
   }
 };
 
-/// Bisection for a sign change of g on [low, high]; runs until the interval
-/// cannot shrink in double precision.
-template <class Function>
-double bisect(Function&& g, double low, double high) {
-  double g_low = g(low);
-  REQUIRE(g_low * g(high) < 0.0);
-  while (true) {
-    const double middle = 0.5 * (low + high);
-    if (middle <= low || middle >= high) return middle;
-    const double g_middle = g(middle);
-    if ((g_middle < 0.0) == (g_low < 0.0)) {
-      low = middle;
-      g_low = g_middle;
-    } else {
-      high = middle;
-    }
-  }
-}
-
-/// α with coth α = α, i.e. α tanh α = 1: the fold, where θ = √(2λ) cosh(θ/4)
-/// is tangent, (θ/4) tanh(θ/4) = 1, so θc = 4α and λc = 8(α² − 1) (same sources).
-double fold_alpha() {
-  return bisect([](double a) { return a * std::tanh(a) - 1.0; }, 1.0, 2.0);
-}
-
-/// Lower-branch θ for 0 < λ < λc. g(θ) = θ − √(2λ) cosh(θ/4) has g(0) < 0
-/// and g(θc) > 0 for λ < λc (θc = 4α is where g touches zero at λ = λc), and g
-/// is increasing on [0, θc], so the root in (0, θc) is unique: the lower branch.
-double lower_theta(double lambda) {
-  const double theta_fold = 4.0 * fold_alpha();
-  return bisect([lambda](double t) { return t - std::sqrt(2.0 * lambda) * std::cosh(t / 4.0); }, 0.0, theta_fold);
-}
-
-double exact_solution(double x, double theta) {
-  return -2.0 * std::log(std::cosh((x - 0.5) * theta / 2.0) / std::cosh(theta / 4.0));
-}
+using nkit_test::bratu_1d_exact;
+using nkit_test::bratu_fold_alpha;
+using nkit_test::bratu_lower_theta;
 
 struct grid_result {
   double max_error;       // max_i |u_i − u(x_i)|: discretisation error (plus solver error)
@@ -120,7 +88,7 @@ grid_result solve_on_grid(double lambda, Eigen::Index intervals, double theta) {
   grid_result result{0.0, inverse_norm * r.norm(), u(intervals / 2 - 1)};
   for (Eigen::Index i = 0; i < n; ++i) {
     const double x = static_cast<double>(i + 1) * h;
-    result.max_error = std::max(result.max_error, std::abs(u(i) - exact_solution(x, theta)));
+    result.max_error = std::max(result.max_error, std::abs(u(i) - bratu_1d_exact(x, theta)));
   }
   return result;
 }
@@ -134,26 +102,28 @@ TEST_CASE("Bratu: theta and the peak value match the computed table", "[bratu][r
   // bisection brackets θ to the last bit; the error left is rounding in
   // g(θ) and in the formula u(½) = 2 ln cosh(θ/4), a few ulp, so relative
   // 1e-14 leaves a margin of about 20 ulp.
-  CHECK_THAT(lower_theta(1.0), Catch::Matchers::WithinRel(1.5171645990507544, 1e-14));
-  CHECK_THAT(2.0 * std::log(std::cosh(lower_theta(1.0) / 4.0)), Catch::Matchers::WithinRel(0.14053921440047180, 1e-14));
-  CHECK_THAT(lower_theta(2.0), Catch::Matchers::WithinRel(2.3575510538774020, 1e-14));
-  CHECK_THAT(2.0 * std::log(std::cosh(lower_theta(2.0) / 4.0)), Catch::Matchers::WithinRel(0.32895242134111357, 1e-14));
-  CHECK_THAT(lower_theta(3.0), Catch::Matchers::WithinRel(3.3735077642858915, 1e-14));
+  CHECK_THAT(bratu_lower_theta(1.0), Catch::Matchers::WithinRel(1.5171645990507544, 1e-14));
+  CHECK_THAT(2.0 * std::log(std::cosh(bratu_lower_theta(1.0) / 4.0)),
+             Catch::Matchers::WithinRel(0.14053921440047180, 1e-14));
+  CHECK_THAT(bratu_lower_theta(2.0), Catch::Matchers::WithinRel(2.3575510538774020, 1e-14));
+  CHECK_THAT(2.0 * std::log(std::cosh(bratu_lower_theta(2.0) / 4.0)),
+             Catch::Matchers::WithinRel(0.32895242134111357, 1e-14));
+  CHECK_THAT(bratu_lower_theta(3.0), Catch::Matchers::WithinRel(3.3735077642858915, 1e-14));
   // The fold: λc = 8(α² − 1) with coth α = α (VERIFIED formula; COMPUTED digits).
-  const double alpha = fold_alpha();
+  const double alpha = bratu_fold_alpha();
   CHECK_THAT(alpha, Catch::Matchers::WithinRel(1.19967864025773383, 1e-14));
   CHECK_THAT(8.0 * (alpha * alpha - 1.0), Catch::Matchers::WithinRel(3.51383071912516121, 1e-14));
   // The formula solves the ODE: the central second difference of u at x = 0.3
   // with step δ = 1e-4 has truncation error |u''''| δ²/12 < 1e-8 (|u''''| < 10
   // here) and rounding error ~ 4u|u|/δ² ~ 3e-8 (common practice).
-  const double theta = lower_theta(2.0);
+  const double theta = bratu_lower_theta(2.0);
   const double x = 0.3, step = 1e-4;
   const double second_derivative =
-      (exact_solution(x - step, theta) - 2.0 * exact_solution(x, theta) + exact_solution(x + step, theta)) /
+      (bratu_1d_exact(x - step, theta) - 2.0 * bratu_1d_exact(x, theta) + bratu_1d_exact(x + step, theta)) /
       (step * step);
-  CHECK_THAT(second_derivative + 2.0 * std::exp(exact_solution(x, theta)), Catch::Matchers::WithinAbs(0.0, 1e-6));
-  CHECK(exact_solution(0.0, theta) == 0.0);
-  CHECK_THAT(exact_solution(1.0, theta), Catch::Matchers::WithinAbs(0.0, 1e-15));
+  CHECK_THAT(second_derivative + 2.0 * std::exp(bratu_1d_exact(x, theta)), Catch::Matchers::WithinAbs(0.0, 1e-6));
+  CHECK(bratu_1d_exact(0.0, theta) == 0.0);
+  CHECK_THAT(bratu_1d_exact(1.0, theta), Catch::Matchers::WithinAbs(0.0, 1e-15));
 }
 
 TEST_CASE("Bratu: the discrete solution converges to the exact one at second order", "[bratu][newton]") {
@@ -165,7 +135,7 @@ TEST_CASE("Bratu: the discrete solution converges to the exact one at second ord
   // [1.9, 2.1] allows for that term (measured: p − 2 <= 4e-3 for λ <= 2,
   // 0.042 and 0.010 for λ = 3.5, where pre-asymptotic effects are larger).
   const double lambda = GENERATE(1.0, 2.0, 3.5);
-  const double theta = lower_theta(lambda);
+  const double theta = bratu_lower_theta(lambda);
   INFO("λ = " << lambda << ", θ = " << theta);
   const Eigen::Index grids[] = {32, 64, 128};
   grid_result results[3];

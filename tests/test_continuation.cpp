@@ -22,7 +22,6 @@
 #include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <functional>
 #include <limits>
 #include <nkit/continuation/continuation.hpp>
 #include <nkit/core/block_vector_space.hpp>
@@ -32,6 +31,7 @@
 #include <vector>
 
 #include "problems/reaction_diffusion/bratu.hpp"
+#include "support/bratu_closed_form.hpp"
 #include "support/matchers.hpp"
 
 using Catch::Matchers::WithinAbs;
@@ -45,41 +45,9 @@ constexpr double bratu_2d_fold = 6.80812442259;            // Bolstad & Keller 1
 constexpr double upper_theta_at_one = 10.938702772122107;  // θ = √2 cosh(θ/4), upper root, computed (mpmath)
 constexpr double upper_peak_at_one = 4.0914672461892603;   // u(½) = 2 ln cosh(θ/4) there, computed (mpmath)
 
-/// Root of f on [a, b] (f(a), f(b) of opposite signs) by bisection to rounding.
-double bisect(const std::function<double(double)>& f, double a, double b) {
-  double fa = f(a);
-  for (int k = 0; k < 200 && b - a > 4 * std::numeric_limits<double>::epsilon() * std::abs(b); ++k) {
-    const double m = 0.5 * (a + b);
-    const double fm = f(m);
-    if ((fm > 0) == (fa > 0)) {
-      a = m;
-      fa = fm;
-    } else {
-      b = m;
-    }
-  }
-  return 0.5 * (a + b);
-}
-
-/// α with coth α = α, i.e. α tanh α = 1, on [1, 2].
-double coth_fixed_point() {
-  return bisect([](double a) { return a * std::tanh(a) - 1.0; }, 1.0, 2.0);
-}
-
-/// The lower (θ < θc = 4α) and upper (θ > θc) roots of θ = √(2λ) cosh(θ/4), 0 < λ < λc.
-double lower_theta(double lambda) {
-  const double theta_fold = 4.0 * coth_fixed_point();
-  return bisect([lambda](double t) { return t - std::sqrt(2.0 * lambda) * std::cosh(t / 4.0); }, 0.0, theta_fold);
-}
-double upper_theta(double lambda) {
-  const double theta_fold = 4.0 * coth_fixed_point();
-  return bisect([lambda](double t) { return t - std::sqrt(2.0 * lambda) * std::cosh(t / 4.0); }, theta_fold, 60.0);
-}
-
-/// Exact 1D Bratu solution for a root θ.
-double bratu_1d_exact(double x, double theta) {
-  return -2.0 * std::log(std::cosh((x - 0.5) * theta / 2.0) / std::cosh(theta / 4.0));
-}
+using nkit_test::bratu_1d_exact;
+using nkit_test::bratu_lower_theta;
+using nkit_test::bratu_upper_theta;
 
 /// Continuation settings shared by the Bratu runs.
 nkit::continuation_settings bratu_settings() {
@@ -396,16 +364,16 @@ TEST_CASE("step control: no growth right after a rejected step", "[continuation]
 
 TEST_CASE("the tabulated 1D Bratu roots are reproduced by our own bisection", "[continuation][bratu]") {
   // Cross-check of the reference digits the tests below use.
-  const double alpha = coth_fixed_point();
+  const double alpha = nkit_test::bratu_fold_alpha();
   CHECK_THAT(8.0 * (alpha * alpha - 1.0), WithinRel(bratu_1d_fold, 1e-14));
-  CHECK_THAT(upper_theta(1.0), WithinRel(upper_theta_at_one, 1e-13));
-  CHECK_THAT(lower_theta(1.0), WithinRel(1.5171645990507544, 1e-13));  // lower root, computed (mpmath)
-  CHECK_THAT(bratu_1d_exact(0.5, upper_theta(1.0)), WithinRel(upper_peak_at_one, 1e-13));
+  CHECK_THAT(bratu_upper_theta(1.0), WithinRel(upper_theta_at_one, 1e-13));
+  CHECK_THAT(bratu_lower_theta(1.0), WithinRel(1.5171645990507544, 1e-13));  // lower root, computed (mpmath)
+  CHECK_THAT(bratu_1d_exact(0.5, bratu_upper_theta(1.0)), WithinRel(upper_peak_at_one, 1e-13));
 }
 
 TEST_CASE("1D Bratu: the discrete fold converges to λc at second order", "[continuation][bratu]") {
   // Grids h = 1/32 … 1/256; exact LU of R_u as the state preconditioner.
-  const double alpha = coth_fixed_point();
+  const double alpha = nkit_test::bratu_fold_alpha();
   const double exact_fold = 8.0 * (alpha * alpha - 1.0);
   std::vector<double> errors;
   for (int intervals : {32, 64, 128, 256}) {
@@ -435,7 +403,7 @@ TEST_CASE("1D Bratu: going around the fold reaches the upper branch at λ = 1", 
   // Start on the lower branch at λ = 1, continue with λ increasing, pass the
   // fold, and stop on the bound λ = 1 again. The end point must be the
   // second solution: θ = upper root, u(½) = 4.0914672461892603.
-  const double theta = upper_theta(1.0);
+  const double theta = bratu_upper_theta(1.0);
   std::vector<double> peak_errors, lower_errors;
   for (int intervals : {64, 128}) {
     const int n = intervals - 1;
@@ -464,7 +432,7 @@ TEST_CASE("1D Bratu: going around the fold reaches the upper branch at λ = 1", 
     const double h2 = 1.0 / (double(intervals) * intervals);
     CHECK_THAT(u, is_close_to(exact, 1.0 * h2 * exact.lpNorm<Eigen::Infinity>()));
     peak_errors.push_back(u(n / 2) - upper_peak_at_one);
-    lower_errors.push_back(lower_peak - bratu_1d_exact(0.5, lower_theta(1.0)));
+    lower_errors.push_back(lower_peak - bratu_1d_exact(0.5, bratu_lower_theta(1.0)));
   }
   // Second order for both peaks (order 2 ± 0.05; see the fold test for the band).
   for (const auto& errors : {peak_errors, lower_errors}) {
