@@ -31,8 +31,6 @@ namespace {
 using nkit_problems::gray_radiation_diffusion_1d;
 using context_type = nkit::preconditioner_context<nkit::eigen_vector_space<double>>;
 
-constexpr double machine_epsilon = std::numeric_limits<double>::epsilon();
-
 /// A smooth state of the Marshak-wave kind (hot at the left, cold at the right,
 /// not in equilibrium), for operators linearised away from the initial state.
 Eigen::VectorXd sample_state(const gray_radiation_diffusion_1d& problem) {
@@ -159,7 +157,8 @@ TEST_CASE("operator split pass: exact sub-solves reproduce forward block Gauss-S
     Eigen::VectorXd z0, z1;
     layout.gather(0, z_split, z0);
     layout.gather(1, z_split, z1);
-    const double bound = 10.0 * n * machine_epsilon * (kappa_a * z0.norm() * (1.0 + gain) + kappa_d * z1.norm());
+    const double bound =
+        10.0 * n * std::numeric_limits<double>::epsilon() * (kappa_a * z0.norm() * (1.0 + gain) + kappa_d * z1.norm());
     INFO("kappa(A) " << kappa_a << ", kappa(D) " << kappa_d << ", |D^-1 C| " << gain << ", bound " << bound);
     CHECK((z_pass - z_split).norm() <= bound);
     CHECK(z_split.norm() > 0.0);
