@@ -1,33 +1,47 @@
 // The benchmark model problem: steady nonlinear heat conduction
-//   −∇·(k(T)∇T) = q on the unit square, k(T) = 1 + T², q = 10, T = 0 on the walls,
-// cell-centred finite volume on an n×n grid (h = 1/n, unknown p = i + n·j).
+//   −∇·(k(T)∇T) = q on the unit square (2-D) or the unit cube (3-D),
+//   k(T) = 1 + T², q = 10, T = 0 on the walls,
+// cell-centred finite volume on n^d cells (h = 1/n, unknown p = i + n·j + n²·k).
 // Definition (common practice; our own benchmark problem, defined here once so
 // that every benchmark measures the same work; problems/README.md):
 //   interior face P|Q:  k_f = ½(k(T_P) + k(T_Q)),  flux = k_f (T_P − T_Q)
 //   wall face:          flux = 2·½(k(T_P) + k(0))·T_P = (k(T_P) + 1) T_P
-//   R_P = Σ_faces flux − q h²   (not divided by h², so ‖R(0)‖₂ = q/n)
+//   R_P = Σ_faces flux − q h²
+// (the cell balance divided by h^(d−2): not divided by h², so in 2-D
+// ‖R(0)‖₂ = q/n; 5-point stencil in 2-D, 7-point in 3-D).
 // Benchmarks start from T0 = 0 and count a solve as converged when
-// ‖R‖₂ <= 1e-8 ‖R(T0)‖₂. The solution's maximum is about 0.6466 (0.64659 at
+// ‖R‖₂ <= 1e-8 ‖R(T0)‖₂. The 2-D solution's maximum is about 0.6466 (0.64659 at
 // n = 256, 0.64660 at n = 1024; computed, a sanity check only).
 #ifndef NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP
 #define NKIT_PROBLEMS_MODEL_PROBLEM_MODEL_PROBLEM_HPP
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
+#include <array>
 #include <stdexcept>
+#include <string>
 #include <vector>
 
 namespace nkit_problems {
 
 class heat_conduction_model_problem {
  public:
-  explicit heat_conduction_model_problem(int cells_per_side, double source = 10.0)
-      : m_n(cells_per_side), m_source(source) {
+  /// n^dimensions cells (dimensions 2: the unit square, 3: the unit cube).
+  explicit heat_conduction_model_problem(int cells_per_side, double source = 10.0, int dimensions = 2)
+      : m_n(cells_per_side), m_source(source), m_dimensions(dimensions) {
     if (cells_per_side < 1) throw std::invalid_argument("heat_conduction_model_problem: cells_per_side must be >= 1");
+    if (dimensions != 2 && dimensions != 3) {
+      throw std::invalid_argument("heat_conduction_model_problem: dimensions must be 2 or 3, got " +
+                                  std::to_string(dimensions));
+    }
   }
 
   int cells_per_side() const { return m_n; }
-  Eigen::Index unknowns() const { return static_cast<Eigen::Index>(m_n) * m_n; }
+  int dimensions() const { return m_dimensions; }
+  Eigen::Index unknowns() const {
+    const auto n = static_cast<Eigen::Index>(m_n);
+    return m_dimensions == 3 ? n * n * n : n * n;
+  }
   double cell_size() const { return 1.0 / m_n; }
   double source() const { return m_source; }
 
@@ -40,33 +54,10 @@ class heat_conduction_model_problem {
   template <class Scalar>
   void operator()(const Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& t,
                   Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& r) const {
-    const int n = m_n;
-    const double h = 1.0 / n;
-    const double load = m_source * h * h;
-    for (Eigen::Index p = 0; p < unknowns(); ++p) r(p) = Scalar(-load);
-    for (int j = 0; j < n; ++j) {
-      for (int i = 0; i < n; ++i) {
-        const Eigen::Index p = i + static_cast<Eigen::Index>(n) * j;
-        const Scalar k_p = conductivity(t(p));
-        // East face (interior or wall).
-        if (i + 1 < n) {
-          const Scalar flux = 0.5 * (k_p + conductivity(t(p + 1))) * (t(p) - t(p + 1));
-          r(p) += flux;
-          r(p + 1) -= flux;
-        } else {
-          r(p) += (k_p + 1.0) * t(p);
-        }
-        // North face.
-        if (j + 1 < n) {
-          const Scalar flux = 0.5 * (k_p + conductivity(t(p + n))) * (t(p) - t(p + n));
-          r(p) += flux;
-          r(p + n) -= flux;
-        } else {
-          r(p) += (k_p + 1.0) * t(p);
-        }
-        if (i == 0) r(p) += (k_p + 1.0) * t(p);  // west wall
-        if (j == 0) r(p) += (k_p + 1.0) * t(p);  // south wall
-      }
+    if (m_dimensions == 3) {
+      residual<3>(t, r);
+    } else {
+      residual<2>(t, r);
     }
   }
 
@@ -74,39 +65,23 @@ class heat_conduction_model_problem {
   /// plus k_P + 1 + 2 T_P² per wall face; ∂R_P/∂T_Q = −k_f + T_Q (T_P − T_Q).
   template <class SparseMatrix>
   void assemble_jacobian(const Eigen::VectorXd& t, SparseMatrix& jacobian) const {
-    const int n = m_n;
     std::vector<Eigen::Triplet<double, typename SparseMatrix::StorageIndex>> entries;
-    entries.reserve(static_cast<std::size_t>(5 * unknowns()));
-    for (int j = 0; j < n; ++j) {
-      for (int i = 0; i < n; ++i) {
-        const Eigen::Index p = i + static_cast<Eigen::Index>(n) * j;
-        const double k_p = conductivity(t(p));
-        double diagonal = 0.0;
-        const auto neighbour = [&](Eigen::Index q) {
-          const double k_f = 0.5 * (k_p + conductivity(t(q)));
-          diagonal += k_f + t(p) * (t(p) - t(q));
-          entries.emplace_back(p, q, -k_f + t(q) * (t(p) - t(q)));
-        };
-        const double wall = k_p + 1.0 + 2.0 * t(p) * t(p);
-        if (i > 0)
-          neighbour(p - 1);
-        else
+    entries.reserve(static_cast<std::size_t>((2 * m_dimensions + 1) * unknowns()));
+    for_each_cell([&](Eigen::Index p, const auto& neighbours) {
+      const double k_p = conductivity(t(p));
+      double diagonal = 0.0;
+      const double wall = k_p + 1.0 + 2.0 * t(p) * t(p);
+      for (const Eigen::Index q : neighbours) {
+        if (q < 0) {
           diagonal += wall;
-        if (i + 1 < n)
-          neighbour(p + 1);
-        else
-          diagonal += wall;
-        if (j > 0)
-          neighbour(p - n);
-        else
-          diagonal += wall;
-        if (j + 1 < n)
-          neighbour(p + n);
-        else
-          diagonal += wall;
-        entries.emplace_back(p, p, diagonal);
+          continue;
+        }
+        const double k_f = 0.5 * (k_p + conductivity(t(q)));
+        diagonal += k_f + t(p) * (t(p) - t(q));
+        entries.emplace_back(p, q, -k_f + t(q) * (t(p) - t(q)));
       }
-    }
+      entries.emplace_back(p, p, diagonal);
+    });
     jacobian.resize(unknowns(), unknowns());
     jacobian.setFromTriplets(entries.begin(), entries.end());
   }
@@ -119,45 +94,107 @@ class heat_conduction_model_problem {
   void assemble_frozen_conduction(
       const Eigen::VectorXd& t, SparseMatrix& a,
       std::vector<Eigen::Triplet<double, typename SparseMatrix::StorageIndex>>& entries) const {
-    const int n = m_n;
     entries.clear();
-    for (int j = 0; j < n; ++j) {
-      for (int i = 0; i < n; ++i) {
-        const Eigen::Index p = i + static_cast<Eigen::Index>(n) * j;
-        const double k_p = conductivity(t(p));
-        double diagonal = 0.0;
-        const auto face = [&](Eigen::Index q) {
-          const double k_f = 0.5 * (k_p + conductivity(t(q)));
-          diagonal += k_f;
-          entries.emplace_back(p, q, -k_f);
-        };
-        const double wall = k_p + 1.0;
-        if (i > 0)
-          face(p - 1);
-        else
-          diagonal += wall;
-        if (i + 1 < n)
-          face(p + 1);
-        else
-          diagonal += wall;
-        if (j > 0)
-          face(p - n);
-        else
-          diagonal += wall;
-        if (j + 1 < n)
-          face(p + n);
-        else
-          diagonal += wall;
-        entries.emplace_back(p, p, diagonal);
+    for_each_cell([&](Eigen::Index p, const auto& neighbours) {
+      const double k_p = conductivity(t(p));
+      double diagonal = 0.0;
+      for (const Eigen::Index q : neighbours) {
+        if (q < 0) {
+          diagonal += k_p + 1.0;
+          continue;
+        }
+        const double k_f = 0.5 * (k_p + conductivity(t(q)));
+        diagonal += k_f;
+        entries.emplace_back(p, q, -k_f);
       }
-    }
+      entries.emplace_back(p, p, diagonal);
+    });
     a.resize(unknowns(), unknowns());
     a.setFromTriplets(entries.begin(), entries.end());
   }
 
  private:
+  /// The residual on a d-dimensional grid: each interior face once (east,
+  /// north, top), walls where a cell has no neighbour.
+  template <int Dimensions, class Scalar>
+  void residual(const Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& t, Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& r) const {
+    const int n = m_n;
+    const Eigen::Index layer = static_cast<Eigen::Index>(n) * n;
+    const double h = 1.0 / n;
+    const double load = m_source * h * h;
+    for (Eigen::Index p = 0; p < unknowns(); ++p) r(p) = Scalar(-load);
+    const int layers = Dimensions == 3 ? n : 1;
+    for (int k = 0; k < layers; ++k) {
+      for (int j = 0; j < n; ++j) {
+        for (int i = 0; i < n; ++i) {
+          const Eigen::Index p = i + static_cast<Eigen::Index>(n) * j + layer * k;
+          const Scalar k_p = conductivity(t(p));
+          // East face (interior or wall).
+          if (i + 1 < n) {
+            const Scalar flux = 0.5 * (k_p + conductivity(t(p + 1))) * (t(p) - t(p + 1));
+            r(p) += flux;
+            r(p + 1) -= flux;
+          } else {
+            r(p) += (k_p + 1.0) * t(p);
+          }
+          // North face.
+          if (j + 1 < n) {
+            const Scalar flux = 0.5 * (k_p + conductivity(t(p + n))) * (t(p) - t(p + n));
+            r(p) += flux;
+            r(p + n) -= flux;
+          } else {
+            r(p) += (k_p + 1.0) * t(p);
+          }
+          if (i == 0) r(p) += (k_p + 1.0) * t(p);  // west wall
+          if (j == 0) r(p) += (k_p + 1.0) * t(p);  // south wall
+          if constexpr (Dimensions == 3) {
+            // Top face, then the bottom wall.
+            if (k + 1 < n) {
+              const Scalar flux = 0.5 * (k_p + conductivity(t(p + layer))) * (t(p) - t(p + layer));
+              r(p) += flux;
+              r(p + layer) -= flux;
+            } else {
+              r(p) += (k_p + 1.0) * t(p);
+            }
+            if (k == 0) r(p) += (k_p + 1.0) * t(p);
+          }
+        }
+      }
+    }
+  }
+
+  /// Calls visit(p, neighbours) for every cell p, with the 2d neighbour
+  /// indices in the order west, east, south, north (, bottom, top); −1 marks
+  /// a wall.
+  template <class Visit>
+  void for_each_cell(Visit&& visit) const {
+    const int n = m_n;
+    const Eigen::Index layer = static_cast<Eigen::Index>(n) * n;
+    const int layers = m_dimensions == 3 ? n : 1;
+    std::array<Eigen::Index, 6> all{};
+    for (int k = 0; k < layers; ++k) {
+      for (int j = 0; j < n; ++j) {
+        for (int i = 0; i < n; ++i) {
+          const Eigen::Index p = i + static_cast<Eigen::Index>(n) * j + layer * k;
+          all[0] = i > 0 ? p - 1 : -1;
+          all[1] = i + 1 < n ? p + 1 : -1;
+          all[2] = j > 0 ? p - n : -1;
+          all[3] = j + 1 < n ? p + n : -1;
+          all[4] = k > 0 ? p - layer : -1;
+          all[5] = k + 1 < n ? p + layer : -1;
+          if (m_dimensions == 3) {
+            visit(p, all);
+          } else {
+            visit(p, std::array<Eigen::Index, 4>{all[0], all[1], all[2], all[3]});
+          }
+        }
+      }
+    }
+  }
+
   int m_n;
   double m_source;
+  int m_dimensions;
 };
 
 }  // namespace nkit_problems

@@ -1,0 +1,145 @@
+// The heat-conduction model problem on the unit cube (7-point stencil,
+// problems/model_problem/model_problem.hpp): its analytic Jacobian and
+// frozen-coefficient matrix against the residual itself, and the discrete
+// solution against the separation-of-variables series of the linear limit.
+#include <Eigen/Core>
+#include <Eigen/SparseCore>
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <nkit/jacobian/automatic_differentiation.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
+#include <nkit/preconditioners/ilu_zero.hpp>
+#include <stdexcept>
+#include <vector>
+
+#include "problems/model_problem/model_problem.hpp"
+
+using nkit_problems::heat_conduction_model_problem;
+
+namespace {
+
+/// A smooth, non-trivial temperature field on an n³ grid (invented test data:
+/// any state with |T| <= 1 serves).
+Eigen::VectorXd smooth_state_3d(int n) {
+  Eigen::VectorXd t(static_cast<Eigen::Index>(n) * n * n);
+  for (int k = 0; k < n; ++k) {
+    for (int j = 0; j < n; ++j) {
+      for (int i = 0; i < n; ++i) {
+        const double x = (i + 0.5) / n, y = (j + 0.5) / n, z = (k + 0.5) / n;
+        t(i + n * j + n * n * k) = 0.6 * std::sin(3.0 * x) * std::sin(3.0 * y) * std::sin(3.0 * z) +
+                                   0.1 * std::cos(7.0 * x + 3.0 * y - 2.0 * z);
+      }
+    }
+  }
+  return t;
+}
+
+/// Mean over the unit cube of u with −Δu = 1, u = 0 on the boundary, by
+/// separation of variables (common practice: expand 1 = Σ_odd 4/(iπ) sin(iπx)
+/// in each direction, divide by π²(i² + j² + k²), average each sine to
+/// 2/(iπ)):  mean u = Σ_{i,j,k odd} 512 / (π⁸ i² j² k² (i² + j² + k²)).
+/// Summed to 401 in each index, the tail is below 1e-9 absolute: at most
+/// 3 · (π²/8)² · 512/π⁸ · Σ_{i>401, odd} 1/i⁴ ≈ 6e-10 (each term is bounded by
+/// 512/(π⁸ i⁴ j² k²) when i is the largest index, and Σ_odd 1/j² = π²/8), far
+/// below the discretisation errors compared with it.
+double cube_mean_of_poisson_solution() {
+  const double pi = std::acos(-1.0);
+  double sum = 0.0;
+  for (int i = 1; i <= 401; i += 2) {
+    for (int j = 1; j <= 401; j += 2) {
+      for (int k = 1; k <= 401; k += 2) {
+        const double ii = i * i, jj = j * j, kk = k * k;
+        sum += 1.0 / (ii * jj * kk * (ii + jj + kk));
+      }
+    }
+  }
+  return 512.0 / std::pow(pi, 8) * sum;
+}
+
+}  // namespace
+
+TEST_CASE("the 3-D model problem's analytic Jacobian is the derivative of its residual", "[model_problem][3d]") {
+  // Reference: forward-mode automatic differentiation of the same residual
+  // (exact to rounding), column by column; so the assembled Jacobian must
+  // agree to rounding (1e-12 of the largest entry, common practice).
+  const int n = 5;
+  heat_conduction_model_problem problem(n, 10.0, 3);
+  REQUIRE(problem.unknowns() == n * n * n);
+  const Eigen::VectorXd t = smooth_state_3d(n);
+  Eigen::SparseMatrix<double> jacobian;
+  problem.assemble_jacobian(t, jacobian);
+  REQUIRE(jacobian.rows() == problem.unknowns());
+  // 7-point stencil: n³ diagonal entries plus two per interior face in each of three directions.
+  CHECK(jacobian.nonZeros() == n * n * n + 3 * 2 * (n - 1) * n * n);
+  nkit::residual_with_automatic_differentiation<heat_conduction_model_problem> differentiated{problem};
+  const Eigen::MatrixXd assembled(jacobian);
+  const double scale = assembled.cwiseAbs().maxCoeff();
+  Eigen::VectorXd unit = Eigen::VectorXd::Zero(t.size()), column(t.size());
+  double worst = 0.0;
+  for (Eigen::Index j = 0; j < t.size(); ++j) {
+    unit(j) = 1.0;
+    differentiated.jacobian_product(t, unit, column);
+    unit(j) = 0.0;
+    worst = std::max(worst, (column - assembled.col(j)).cwiseAbs().maxCoeff());
+  }
+  CHECK(worst <= 1e-12 * scale);
+}
+
+TEST_CASE("the 3-D frozen-coefficient matrix reproduces the residual: A(T) T − q h² = R(T)", "[model_problem][3d]") {
+  // The identity holds by construction (model_problem.hpp), so to rounding:
+  // 1e-13 of the largest flux term (common practice), and A is symmetric.
+  const int n = 6;
+  heat_conduction_model_problem problem(n, 10.0, 3);
+  const Eigen::VectorXd t = smooth_state_3d(n);
+  Eigen::VectorXd r(t.size());
+  problem(t, r);
+  Eigen::SparseMatrix<double> a;
+  std::vector<Eigen::Triplet<double, int>> entries;
+  problem.assemble_frozen_conduction(t, a, entries);
+  const double h = 1.0 / n;
+  const Eigen::VectorXd reproduced = a * t - Eigen::VectorXd::Constant(t.size(), problem.source() * h * h);
+  const double scale = (a.cwiseAbs() * t.cwiseAbs()).maxCoeff();
+  CHECK((reproduced - r).cwiseAbs().maxCoeff() <= 1e-13 * scale);
+  const Eigen::SparseMatrix<double> transposed = a.transpose();
+  CHECK((Eigen::MatrixXd(a) - Eigen::MatrixXd(transposed)).cwiseAbs().maxCoeff() == 0.0);
+}
+
+TEST_CASE("the 3-D model problem converges at second order to the series solution of its linear limit",
+          "[model_problem][3d]") {
+  // With a small source q the conductivity is 1 + T² = 1 + O(q²), so T/q
+  // solves −Δu = 1 on the unit cube up to O(q²) (here 1e-8 relative); the
+  // cell-centred scheme is second order (h² truncation error of the 7-point
+  // stencil and of the half-cell wall flux, common practice), so the error in
+  // the mean temperature falls by about 4 per halving of h. Reference:
+  // cube_mean_of_poisson_solution() above. Accepted: observed orders within
+  // 0.25 of 2 on 8³ → 16³ → 32³ (the pre-asymptotic spread seen on such
+  // coarse grids; common practice).
+  const double q = 1e-4;
+  const double reference = cube_mean_of_poisson_solution();
+  INFO("series mean " << reference);
+  std::vector<double> errors;
+  for (const int n : {8, 16, 32}) {
+    heat_conduction_model_problem problem(n, q, 3);
+    Eigen::VectorXd t = Eigen::VectorXd::Zero(problem.unknowns());
+    nkit::newton_settings settings;
+    settings.relative_tolerance = 1e-10;  // solver error far below the h² error (1e-3 .. 1e-4 relative)
+    settings.linear.maximum_iterations = 2000;
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
+    const nkit::solve_report report = solver.solve(problem, t);
+    REQUIRE(report.converged());
+    const double mean = t.mean() / q;
+    errors.push_back(std::abs(mean - reference));
+    INFO("n = " << n << ": mean T/q " << mean);
+  }
+  for (std::size_t level = 1; level < errors.size(); ++level) {
+    const double order = std::log2(errors[level - 1] / errors[level]);
+    INFO("observed order " << order);
+    CHECK(std::abs(order - 2.0) <= 0.25);
+  }
+}
+
+TEST_CASE("the model problem names a dimension it does not have", "[model_problem][input]") {
+  CHECK_THROWS_WITH(heat_conduction_model_problem(8, 10.0, 4), Catch::Matchers::Contains("dimensions"));
+  CHECK_THROWS_WITH(heat_conduction_model_problem(8, 10.0, 1), Catch::Matchers::Contains("got 1"));
+  CHECK(heat_conduction_model_problem(8, 10.0, 2).unknowns() == 64);
+}
