@@ -2,7 +2,8 @@
 // model problem (problems/model_problem/model_problem.hpp: −∇·((1 + T²)∇T) = 10 on the unit
 // square, n × n cells, T0 = 0, converged at ‖R‖ <= 1e-8 ‖R(T0)‖):
 //
-//   model_problem/<configuration>/<n>/threads:<t>
+//   model_problem/<configuration>/<n>/threads:<t>     (the unit square, n² cells)
+//   model_problem_3d/<configuration>/<n>/threads:<t>  (the unit cube, n³ cells, 7-point)
 //       nkit Newton–GMRES (matrix-free J·v) with each built-in preconditioner,
 //       exact Newton + SparseLU / UMFPACK, Picard + SparseLU / SimplicialLDLT,
 //       explicit pseudo-time marching with RK4 / Dormand–Prince (Boost.Odeint).
@@ -20,6 +21,7 @@
 //   bench_model_problem --benchmark_out=suite.json --benchmark_out_format=json
 //   options (before Google Benchmark's own):
 //     --nkit_sizes=128,256,512,1024,2048   model-problem sizes n (cells per side)
+//     --nkit_sizes_3d=32,64,128,256        sizes n of the 3-D model problem (default none)
 //     --nkit_time_cap=600                  seconds per model-problem solve
 //     --nkit_memory_limit_gib=22           address-space cap of each child process
 //     --nkit_threads=1,2                   thread counts (OpenMP builds; default 1 without)
@@ -45,6 +47,7 @@ using namespace nkit_bench;
 
 struct suite_options {
   std::vector<int> sizes{128, 256, 512, 1024, 2048};
+  std::vector<int> sizes_3d{};
   double time_cap = 600.0;
   double memory_limit_gib = 22.0;
   std::vector<int> threads{1};
@@ -70,6 +73,7 @@ std::vector<int> parse_list(const char* text) {
 /// What earlier sizes of a configuration showed (at one thread count).
 struct history_entry {
   int n = 0;
+  double unknowns = 0.0;
   bool reached = false;
   double seconds = 0.0;
   double peak_bytes = 0.0;
@@ -79,8 +83,12 @@ std::map<std::string, std::vector<history_entry>>& configuration_history() {
   return value;
 }
 
+/// Unknowns of the model problem with n cells per side.
+double unknowns_of(int n, int dimensions) { return dimensions == 3 ? double(n) * n * n : double(n) * n; }
+
 /// Empty when size n should run; otherwise why not.
-std::string reason_to_skip(const std::vector<history_entry>& earlier, int n) {
+std::string reason_to_skip(const std::vector<history_entry>& earlier, int n, int dimensions) {
+  const double unknowns = unknowns_of(n, dimensions);
   if (earlier.empty()) return {};
   const history_entry& last = earlier.back();
   char text[200];
@@ -93,12 +101,11 @@ std::string reason_to_skip(const std::vector<history_entry>& earlier, int n) {
   double exponent = 1.0;
   if (earlier.size() >= 2) {
     const history_entry& before = earlier[earlier.size() - 2];
-    exponent = std::max(1.0, std::log(last.seconds / before.seconds) /
-                                 std::log(double(last.n) * last.n / (double(before.n) * before.n)));
+    exponent = std::max(1.0, std::log(last.seconds / before.seconds) / std::log(last.unknowns / before.unknowns));
   }
-  const double growth = std::pow(double(n) * n / (double(last.n) * last.n), exponent);
+  const double growth = std::pow(unknowns / last.unknowns, exponent);
   const double projected_seconds = last.seconds * growth;
-  const double projected_bytes = last.peak_bytes * double(n) * n / (double(last.n) * last.n);
+  const double projected_bytes = last.peak_bytes * unknowns / last.unknowns;
   if (projected_seconds > 2.0 * options().time_cap) {
     std::snprintf(text, sizeof text, "not run: projected %.0f s (N^%.2f from n = %d) > 2 x time cap", projected_seconds,
                   exponent, last.n);
@@ -111,8 +118,9 @@ std::string reason_to_skip(const std::vector<history_entry>& earlier, int n) {
   return {};
 }
 
-void model_problem(benchmark::State& state, const configuration* config, int n, int threads) {
-  const std::string key = std::string(config->name) + "/threads:" + std::to_string(threads);
+void model_problem(benchmark::State& state, const configuration* config, int n, int dimensions, int threads) {
+  const std::string key =
+      std::to_string(dimensions) + "d/" + std::string(config->name) + "/threads:" + std::to_string(threads);
   std::vector<history_entry>& earlier = configuration_history()[key];
   if (!config->available) {
     state.SkipWithError(config->unavailable_reason);
@@ -120,7 +128,7 @@ void model_problem(benchmark::State& state, const configuration* config, int n, 
     }
     return;
   }
-  if (const std::string skip = reason_to_skip(earlier, n); !skip.empty()) {
+  if (const std::string skip = reason_to_skip(earlier, n, dimensions); !skip.empty()) {
     state.SkipWithError(skip.c_str());
     for (auto _ : state) {
     }
@@ -128,25 +136,27 @@ void model_problem(benchmark::State& state, const configuration* config, int n, 
   }
   char arguments[256];
   std::snprintf(arguments, sizeof arguments,
-                "--run-configuration=%s --size=%d --time-cap=%.0f --threads=%d --memory-limit-gib=%.1f", config->name,
-                n, options().time_cap, threads, options().memory_limit_gib);
+                "--run-configuration=%s --size=%d --dimensions=%d --time-cap=%.0f --threads=%d --memory-limit-gib=%.1f",
+                config->name, n, dimensions, options().time_cap, threads, options().memory_limit_gib);
   child_output output;
   for (auto _ : state) {
     output = run_fresh_process(own_executable(), arguments, options().time_cap * 1.5 + 120.0);
     state.SetIterationTime(std::max(output.number("solve_seconds"), 1e-9));
   }
   if (!output.ok || output.numbers.count("reached") == 0) {
-    earlier.push_back({n, false, 0.0, 0.0});
+    earlier.push_back({n, unknowns_of(n, dimensions), false, 0.0, 0.0});
     const std::string message = "child process failed (exit status " + std::to_string(output.exit_status) +
                                 "): " + output.text("failure") + output.text("error");
     state.SkipWithError(message.c_str());
     return;
   }
   const bool reached = output.number("reached") > 0.5;
-  earlier.push_back({n, reached, output.number("solve_seconds"), output.number("peak_rss_bytes")});
+  earlier.push_back(
+      {n, unknowns_of(n, dimensions), reached, output.number("solve_seconds"), output.number("peak_rss_bytes")});
   for (const auto& [name, value] : output.numbers) state.counters[name] = value;
   state.counters["n"] = n;
-  state.counters["unknowns"] = double(n) * n;
+  state.counters["dimensions"] = dimensions;
+  state.counters["unknowns"] = unknowns_of(n, dimensions);
   state.counters["threads"] = threads;
   const double residual_seconds = output.number("residual_seconds");
   if (residual_seconds > 0.0) state.counters["work_units"] = output.number("solve_seconds") / residual_seconds;
@@ -160,14 +170,15 @@ void model_problem(benchmark::State& state, const configuration* config, int n, 
   state.SetLabel(label);
 }
 
-void register_model_problem() {
+void register_model_problem(int dimensions, const std::vector<int>& sizes) {
+  const std::string family = dimensions == 3 ? "model_problem_3d/" : "model_problem/";
   for (const configuration& config : configurations()) {
     for (const int threads : options().threads) {
       if (threads > 1 && !config.uses_threads) continue;
-      for (const int n : options().sizes) {
-        const std::string name = "model_problem/" + std::string(config.name) + "/" + std::to_string(n) +
-                                 "/threads:" + std::to_string(threads);
-        benchmark::RegisterBenchmark(name.c_str(), model_problem, &config, n, threads)
+      for (const int n : sizes) {
+        const std::string name =
+            family + std::string(config.name) + "/" + std::to_string(n) + "/threads:" + std::to_string(threads);
+        benchmark::RegisterBenchmark(name.c_str(), model_problem, &config, n, dimensions, threads)
             ->Iterations(1)
             ->UseManualTime()
             ->Unit(benchmark::kSecond);
@@ -189,6 +200,8 @@ int main(int argc, char** argv) {
     const char* argument = argv[k];
     if (std::strncmp(argument, "--nkit_sizes=", 13) == 0) {
       options().sizes = parse_list(argument + 13);
+    } else if (std::strncmp(argument, "--nkit_sizes_3d=", 16) == 0) {
+      options().sizes_3d = parse_list(argument + 16);
     } else if (std::strncmp(argument, "--nkit_time_cap=", 16) == 0) {
       options().time_cap = std::atof(argument + 16);
     } else if (std::strncmp(argument, "--nkit_memory_limit_gib=", 24) == 0) {
@@ -206,7 +219,8 @@ int main(int argc, char** argv) {
   options().threads = {1};
 #endif
   register_kernel_benchmarks(options().sizes, options().threads);
-  register_model_problem();
+  register_model_problem(2, options().sizes);
+  register_model_problem(3, options().sizes_3d);
   benchmark::Initialize(&argc, argv);
   if (benchmark::ReportUnrecognizedArguments(argc, argv)) return 1;
   benchmark::AddCustomContext("nkit_time_cap_seconds", std::to_string(options().time_cap));

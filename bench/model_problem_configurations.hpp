@@ -133,11 +133,16 @@ inline void run_algebraic_multigrid(const model& problem, nkit::newton_settings 
 template <class SolverAtLevel>
 void run_grid_sequencing(const model& problem, const nkit::newton_settings& settings, SolverAtLevel make_solver) {
   const int n = problem.cells_per_side();
+  const int dimensions = problem.dimensions();
   int level_count = 1;
   for (int coarsest = n; coarsest % 2 == 0 && coarsest / 2 >= 32; coarsest /= 2) ++level_count;
-  const nkit::structured_grid_hierarchy hierarchy(nkit::structured_grid({n, n}, 1, {1.0, 1.0}), level_count);
+  const std::vector<int> extents(static_cast<std::size_t>(dimensions), n);
+  const std::vector<double> lengths(static_cast<std::size_t>(dimensions), 1.0);
+  const nkit::structured_grid_hierarchy hierarchy(nkit::structured_grid(extents, 1, lengths), level_count);
   std::vector<model> problems;
-  for (int level = 0; level < level_count; ++level) problems.emplace_back(hierarchy.grid(level).cells(0));
+  for (int level = 0; level < level_count; ++level) {
+    problems.emplace_back(hierarchy.grid(level).cells(0), problem.source(), dimensions);
+  }
   nkit::grid_sequencing_settings sequencing_settings;
   sequencing_settings.newton = settings;
   nkit::grid_sequencing_solver solver(sequencing_settings);
@@ -305,26 +310,27 @@ inline const std::vector<configuration>& configurations() {
   return list;
 }
 
-/// Child side: --run-configuration=<name> --size=<n> --time-cap=<s>
-/// --threads=<t> --memory-limit-gib=<g>. Prints the results and returns 0;
-/// 2 on bad arguments.
+/// Child side: --run-configuration=<name> --size=<n> --dimensions=<2|3>
+/// --time-cap=<s> --threads=<t> --memory-limit-gib=<g>. Prints the results and
+/// returns 0; 2 on bad arguments.
 inline int run_configuration_in_child(int argc, char** argv) {
   const double start_rss = nkit_problems::resident_memory_bytes();
   std::string name;
-  int n = 0, threads = 1;
+  int n = 0, threads = 1, dimensions = 2;
   double cap = 600.0, memory = 22.0;
   for (int k = 1; k < argc; ++k) {
     const char* a = argv[k];
     if (std::strncmp(a, "--run-configuration=", 20) == 0) name = a + 20;
     if (std::strncmp(a, "--size=", 7) == 0) n = std::atoi(a + 7);
+    if (std::strncmp(a, "--dimensions=", 13) == 0) dimensions = std::atoi(a + 13);
     if (std::strncmp(a, "--time-cap=", 11) == 0) cap = std::atof(a + 11);
     if (std::strncmp(a, "--threads=", 10) == 0) threads = std::atoi(a + 10);
     if (std::strncmp(a, "--memory-limit-gib=", 19) == 0) memory = std::atof(a + 19);
   }
   const auto found = std::find_if(configurations().begin(), configurations().end(),
                                   [&](const configuration& c) { return name == c.name; });
-  if (found == configurations().end() || !found->available || n < 2) {
-    emit_text("error", "unknown or unavailable configuration '" + name + "' or bad size");
+  if (found == configurations().end() || !found->available || n < 2 || (dimensions != 2 && dimensions != 3)) {
+    emit_text("error", "unknown or unavailable configuration '" + name + "', or bad size or dimensions");
     return 2;
   }
 #if defined(NKIT_USE_OPENMP)
@@ -333,7 +339,7 @@ inline int run_configuration_in_child(int argc, char** argv) {
   static_cast<void>(threads);
 #endif
   limit_address_space(memory);
-  const model problem(n);
+  const model problem(n, 10.0, dimensions);
   try {
     emit("residual_seconds", residual_seconds(problem));
     found->run(problem, cap);
