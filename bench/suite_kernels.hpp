@@ -13,6 +13,8 @@
 #include <string>
 #include <vector>
 
+#include <sys/resource.h>
+
 #if defined(NKIT_USE_OPENMP)
 #include <omp.h>
 #endif
@@ -196,6 +198,13 @@ struct broyden_tridiagonal {
   }
 };
 
+/// Minor page faults of this process so far (getrusage).
+inline long minor_page_faults() {
+  rusage usage{};
+  getrusage(RUSAGE_SELF, &usage);
+  return usage.ru_minflt;
+}
+
 /// Newton–GMRES (no preconditioner: the Jacobian is diagonally dominant near
 /// the root, so the iteration counts do not grow with N) at N unknowns.
 inline void broyden_tridiagonal_solve(benchmark::State& state) {
@@ -210,11 +219,15 @@ inline void broyden_tridiagonal_solve(benchmark::State& state) {
   // code, which allocate nothing.
   x.setConstant(-1.0);
   solver.solve(broyden_tridiagonal{}, x);
+  const long faults_before = minor_page_faults();
   for (auto _ : state) {
     x.setConstant(-1.0);
     report = solver.solve(broyden_tridiagonal{}, x);
     if (!report.converged()) state.SkipWithError("Broyden tridiagonal did not converge");
   }
+  // Page faults inside the timed solves (0 expected: the workspace is reused).
+  state.counters["page_faults_per_solve"] =
+      static_cast<double>(minor_page_faults() - faults_before) / static_cast<double>(state.iterations());
   state.SetComplexityN(length);
   state.counters["seconds_per_unknown"] = benchmark::Counter(
       static_cast<double>(length), benchmark::Counter::kIsIterationInvariantRate | benchmark::Counter::kInvert);
@@ -304,6 +317,17 @@ inline void register_kernel_benchmarks(const std::vector<int>& sizes, const std:
       ->Arg(2000000)
       ->Arg(4000000)
       ->Complexity(benchmark::oN)
+      ->Unit(benchmark::kMillisecond);
+  // A doubling series across both: how the time per unknown grows as fewer of
+  // the Krylov vectors fit in the L3 (one vector is 8N bytes; docs/performance).
+  benchmark::RegisterBenchmark("broyden_tridiagonal_doubling", broyden_tridiagonal_solve)
+      ->Arg(100000)
+      ->Arg(200000)
+      ->Arg(400000)
+      ->Arg(800000)
+      ->Arg(1600000)
+      ->Arg(3200000)
+      ->Arg(6400000)
       ->Unit(benchmark::kMillisecond);
   benchmark::RegisterBenchmark("trace_overhead", trace_overhead)->MinTime(3.0)->Unit(benchmark::kMillisecond);
 }
