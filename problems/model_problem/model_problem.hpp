@@ -129,34 +129,23 @@ class heat_conduction_model_problem {
         for (int i = 0; i < n; ++i) {
           const Eigen::Index p = i + static_cast<Eigen::Index>(n) * j + layer * k;
           const Scalar k_p = conductivity(t(p));
-          // East face (interior or wall).
-          if (i + 1 < n) {
-            const Scalar flux = 0.5 * (k_p + conductivity(t(p + 1))) * (t(p) - t(p + 1));
-            r(p) += flux;
-            r(p + 1) -= flux;
-          } else {
-            r(p) += (k_p + 1.0) * t(p);
-          }
-          // North face.
-          if (j + 1 < n) {
-            const Scalar flux = 0.5 * (k_p + conductivity(t(p + n))) * (t(p) - t(p + n));
-            r(p) += flux;
-            r(p + n) -= flux;
-          } else {
-            r(p) += (k_p + 1.0) * t(p);
-          }
-          if (i == 0) r(p) += (k_p + 1.0) * t(p);  // west wall
-          if (j == 0) r(p) += (k_p + 1.0) * t(p);  // south wall
-          if constexpr (Dimensions == 3) {
-            // Top face, then the bottom wall.
-            if (k + 1 < n) {
-              const Scalar flux = 0.5 * (k_p + conductivity(t(p + layer))) * (t(p) - t(p + layer));
+          // The face towards the neighbour q = p + stride (interior), or a wall.
+          const auto face_or_wall = [&](bool interior, Eigen::Index stride) {
+            if (interior) {
+              const Scalar flux = 0.5 * (k_p + conductivity(t(p + stride))) * (t(p) - t(p + stride));
               r(p) += flux;
-              r(p + layer) -= flux;
+              r(p + stride) -= flux;
             } else {
               r(p) += (k_p + 1.0) * t(p);
             }
-            if (k == 0) r(p) += (k_p + 1.0) * t(p);
+          };
+          face_or_wall(i + 1 < n, 1);              // east
+          face_or_wall(j + 1 < n, n);              // north
+          if (i == 0) r(p) += (k_p + 1.0) * t(p);  // west wall
+          if (j == 0) r(p) += (k_p + 1.0) * t(p);  // south wall
+          if constexpr (Dimensions == 3) {
+            face_or_wall(k + 1 < n, layer);          // top
+            if (k == 0) r(p) += (k_p + 1.0) * t(p);  // bottom wall
           }
         }
       }
