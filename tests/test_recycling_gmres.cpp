@@ -51,6 +51,28 @@ sparse diagonal_with_small_outliers(int n, int outliers) {
   return a;
 }
 
+/// Two nearby matrices of a sequence: diagonal_with_small_outliers(n, 4) and
+/// the same plus 0.05 I (our own perturbation).
+struct matrix_pair {
+  sparse first;
+  sparse second;
+};
+matrix_pair outliers_and_shifted(int n) {
+  matrix_pair pair{diagonal_with_small_outliers(n, 4), {}};
+  pair.second = pair.first;
+  for (int i = 0; i < n; ++i) pair.second.coeffRef(i, i) += 0.05;
+  return pair;
+}
+
+/// GMRES(20) with 5 recycled vectors, for the sequences of two matrices.
+nkit::recycling_gmres_settings pair_settings() {
+  nkit::recycling_gmres_settings settings;
+  settings.restart_length = 20;
+  settings.recycle_dimension = 5;
+  settings.maximum_iterations = 2000;
+  return settings;
+}
+
 /// A preconditioner that declares it changes between applications.
 struct declared_changing {
   static constexpr bool changes_between_applications = true;
@@ -458,16 +480,13 @@ TEST_CASE("a changed matrix needs the refresh of C = A U that recycling GMRES do
   // it; the factor 1.01 covers Eigen's product summing in another order than
   // the solver's (common practice for a change of summation order).
   const int n = 500;
-  const sparse first_matrix = diagonal_with_small_outliers(n, 4);
-  sparse second_matrix = first_matrix;
-  for (int i = 0; i < n; ++i) second_matrix.coeffRef(i, i) += 0.05;  // our own perturbation
+  const matrix_pair matrices = outliers_and_shifted(n);
+  const sparse& first_matrix = matrices.first;
+  const sparse& second_matrix = matrices.second;
   const Eigen::VectorXd b = random_vector(n, 12u);
   const double tolerance = 1e-8;
   nkit::identity_preconditioner none;
-  nkit::recycling_gmres_settings settings;
-  settings.restart_length = 20;
-  settings.recycle_dimension = 5;
-  settings.maximum_iterations = 2000;
+  const nkit::recycling_gmres_settings settings = pair_settings();
   const bool declare_same_operator = GENERATE(false, true);
   nkit::recycling_gmres_solver<> solver(settings);
   Eigen::VectorXd x(n);
@@ -495,17 +514,14 @@ TEST_CASE("a zero right-hand side for a new matrix leaves C marked for refresh",
   // (without the stale mark, the declared run would rely on the
   // estimate/true-residual check and spend more products).
   const int n = 500;
-  const sparse first_matrix = diagonal_with_small_outliers(n, 4);
-  sparse second_matrix = first_matrix;
-  for (int i = 0; i < n; ++i) second_matrix.coeffRef(i, i) += 0.05;  // our own perturbation
+  const matrix_pair matrices = outliers_and_shifted(n);
+  const sparse& first_matrix = matrices.first;
+  const sparse& second_matrix = matrices.second;
   const Eigen::VectorXd b = random_vector(n, 41u);
   const Eigen::VectorXd zero = Eigen::VectorXd::Zero(n);
   const double tolerance = 1e-8;
   nkit::identity_preconditioner none;
-  nkit::recycling_gmres_settings settings;
-  settings.restart_length = 20;
-  settings.recycle_dimension = 5;
-  settings.maximum_iterations = 2000;
+  const nkit::recycling_gmres_settings settings = pair_settings();
   nkit::matrix_operator<sparse> first_operator(first_matrix);
   nkit::matrix_operator<sparse> second_operator(second_matrix);
   nkit::recycling_gmres_solver<> with_zero(settings);
