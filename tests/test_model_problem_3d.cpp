@@ -107,10 +107,11 @@ TEST_CASE("the 3-D frozen-coefficient matrix reproduces the residual: A(T) T −
 TEST_CASE("the 3-D model problem converges at second order to the series solution of its linear limit",
           "[model_problem][3d]") {
   // With a small source q the conductivity is 1 + T² = 1 + O(q²), so T/q
-  // solves −Δu = 1 on the unit cube up to O(q²) (here 1e-8 relative); the
-  // cell-centred scheme is second order (h² truncation error of the 7-point
-  // stencil and of the half-cell wall flux, common practice), so the error in
-  // the mean temperature falls by about 4 per halving of h. Reference:
+  // solves −Δu = 1 on the unit cube up to O(q²) (here T <= q/8 by comparison
+  // with x(1 − x)/2, the maximum principle, so T² <= 2e-10: far under the h²
+  // error); the cell-centred scheme is second order (h² truncation error of
+  // the 7-point stencil and of the half-cell wall flux, common practice), so
+  // the error in the mean temperature falls by about 4 per halving of h. Reference:
   // cube_mean_of_poisson_solution() above. Accepted: observed orders within
   // 0.25 of 2 on 8³ → 16³ → 32³ (the pre-asymptotic spread seen on such
   // coarse grids; common practice).
