@@ -4,7 +4,15 @@
 //   newton/<n>   the Newton steps J(T_i) δ = −R(T_i) from T = 0 until ‖R‖ <= 1e-8 ‖R(0)‖
 //                (at most 12 systems);
 //   time/<n>     20 linearly implicit Euler steps, Δt = 0.01, (h²/Δt I + J(T_i)) δ = −R(T_i).
-// Each linear system is solved from x = 0 to ‖b − A x‖ <= 1e-8 ‖b‖ with ILU(0)
+// and, through the drivers (newton_settings.recycling, recycle_dimension 10,
+// C refreshed only after a preconditioner setup — the default):
+//   newton_driver/<n>  newton_krylov_solver on the model problem from T = 0 to
+//                      ‖R‖ <= 1e-8 ‖R(0)‖, ILU(0) of the assembled Jacobian on
+//                      the default rebuild schedule, Eisenstat–Walker forcing;
+//   time_stepper/<n>   implicit_time_stepper, adaptive BDF2 at rtol 1e-3 on
+//                      h² dT/dt = −R(T), T(0) = 0, t ∈ [0, 0.05] (the set-up of
+//                      bench_time_integration), ILU(0) lagged.
+// In the standalone sequences each linear system is solved from x = 0 to ‖b − A x‖ <= 1e-8 ‖b‖ with ILU(0)
 // right preconditioning (include/nkit/preconditioners/ilu_zero.hpp), rebuilt
 // for every matrix; both solvers use restart_length 30, recycling keeps
 // recycle_dimension 10 vectors and refreshes C = A M⁻¹ Ũ for each new matrix.
@@ -16,7 +24,11 @@
 // preconditioner_applications, and for the recycling cases
 // iterations_vs_gmres / operator_applications_vs_gmres (ratios to the plain
 // case of the same sequence and size, measured earlier in the same run; the
-// registration order runs the plain case first). Wall time covers the whole
+// registration order runs the plain case first). The driver cases count
+// newton_steps, linear_iterations, residual_evaluations (every J·v is one),
+// preconditioner_setups, the same ratios (residual_evaluations_vs_gmres) and,
+// for the time stepper, steps and field_difference = max|T − T_gmres| / max|T_gmres|
+// at the end. Wall time covers the whole
 // sequence (assembly, ILU(0) setups, solves); compare it between the two cases
 // of one run.
 #include <benchmark/benchmark.h>
@@ -24,7 +36,9 @@
 #include <map>
 #include <nkit/krylov/gmres.hpp>
 #include <nkit/krylov/recycling_gmres.hpp>
+#include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
+#include <nkit/time/implicit_time_stepper.hpp>
 #include <stdexcept>
 #include <string>
 #include <utility>
@@ -128,6 +142,90 @@ void recycling_gmres(benchmark::State& state, sequence_kind kind) {
   }
 }
 
+/// Totals of one driver run, for the side-by-side ratios.
+struct driver_totals {
+  long newton_steps = 0;
+  long iterations = 0;
+  long residual_evaluations = 0;
+  Eigen::VectorXd field;
+};
+
+std::map<std::pair<int, int>, driver_totals>& plain_driver_results() {
+  static std::map<std::pair<int, int>, driver_totals> results;
+  return results;
+}
+
+void report_driver(benchmark::State& state, int kind, int cells, const driver_totals& totals, int recycled) {
+  state.counters["newton_steps"] = static_cast<double>(totals.newton_steps);
+  state.counters["linear_iterations"] = static_cast<double>(totals.iterations);
+  state.counters["residual_evaluations"] = static_cast<double>(totals.residual_evaluations);
+  if (recycled == 0) {
+    plain_driver_results()[{kind, cells}] = totals;
+    return;
+  }
+  const auto plain = plain_driver_results().find({kind, cells});
+  if (plain == plain_driver_results().end()) return;
+  state.counters["iterations_vs_gmres"] =
+      static_cast<double>(totals.iterations) / static_cast<double>(plain->second.iterations);
+  state.counters["residual_evaluations_vs_gmres"] =
+      static_cast<double>(totals.residual_evaluations) / static_cast<double>(plain->second.residual_evaluations);
+  state.counters["field_difference"] =
+      (totals.field - plain->second.field).lpNorm<Eigen::Infinity>() / plain->second.field.lpNorm<Eigen::Infinity>();
+}
+
+/// The Newton driver on the model problem with ILU(0), recycling `recycled` vectors (0: GMRES).
+void newton_driver(benchmark::State& state, int recycled) {
+  const int cells = static_cast<int>(state.range(0));
+  const nkit_problems::heat_conduction_model_problem problem(cells);
+  nkit::newton_settings settings;
+  settings.relative_tolerance = 1e-8;
+  settings.linear.restart_length = restart_length;
+  settings.linear.maximum_iterations = 10000;
+  settings.recycling.recycle_dimension = recycled;
+  driver_totals totals;
+  for (auto _ : state) {
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
+    totals.field = Eigen::VectorXd::Zero(problem.unknowns());
+    const nkit::solve_report report = solver.solve(problem, totals.field);
+    if (!report.converged()) throw std::runtime_error("the Newton solve did not converge");
+    totals.newton_steps = report.newton_steps;
+    totals.iterations = report.linear_iterations;
+    totals.residual_evaluations = report.residual_evaluations;
+    state.counters["preconditioner_setups"] = static_cast<double>(report.preconditioner_setups);
+  }
+  report_driver(state, 0, cells, totals, recycled);
+}
+
+/// The implicit time stepper (adaptive BDF2, ILU(0) lagged) on h² dT/dt = −R(T).
+void time_stepper(benchmark::State& state, int recycled) {
+  const int cells = static_cast<int>(state.range(0));
+  const nkit_problems::heat_conduction_model_problem problem(cells);
+  nkit::time_stepper_settings settings;
+  settings.method = nkit::time_method::bdf;
+  settings.relative_tolerance = 1e-3;
+  settings.absolute_tolerance = 1e-6;
+  settings.step_control.initial_step = 1e-5;
+  settings.stage.newton.linear.restart_length = restart_length;
+  settings.stage.newton.recycling.recycle_dimension = recycled;
+  const double h = problem.cell_size();
+  driver_totals totals;
+  for (auto _ : state) {
+    auto form = nkit::make_residual_form(
+        problem, nkit::no_source{},
+        nkit::mass_matrix<Eigen::VectorXd>::diagonal(Eigen::VectorXd::Constant(problem.unknowns(), h * h)));
+    nkit::implicit_time_stepper<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> stepper(settings);
+    totals.field = Eigen::VectorXd::Zero(problem.unknowns());
+    const nkit::integration_report& report = stepper.integrate(form, totals.field, 0.0, 0.05);
+    if (!report.reached_end()) throw std::runtime_error("the integration stopped early");
+    totals.newton_steps = report.newton_steps;
+    totals.iterations = report.linear_iterations;
+    totals.residual_evaluations = report.rate_evaluations;
+    state.counters["steps"] = static_cast<double>(report.accepted_steps);
+    state.counters["preconditioner_setups"] = static_cast<double>(report.preconditioner_setups);
+  }
+  report_driver(state, 1, cells, totals, recycled);
+}
+
 void newton_plain(benchmark::State& state) { plain_gmres(state, sequence_kind::newton_steps); }
 void newton_recycling(benchmark::State& state) { recycling_gmres(state, sequence_kind::newton_steps); }
 void time_plain(benchmark::State& state) { plain_gmres(state, sequence_kind::time_steps); }
@@ -139,5 +237,20 @@ BENCHMARK(newton_plain)->Name("newton/gmres")->Arg(64)->Arg(128)->Iterations(1)-
 BENCHMARK(newton_recycling)->Name("newton/recycling")->Arg(64)->Arg(128)->Iterations(1)->Unit(benchmark::kMillisecond);
 BENCHMARK(time_plain)->Name("time/gmres")->Arg(64)->Arg(128)->Iterations(1)->Unit(benchmark::kMillisecond);
 BENCHMARK(time_recycling)->Name("time/recycling")->Arg(64)->Arg(128)->Iterations(1)->Unit(benchmark::kMillisecond);
+
+BENCHMARK_CAPTURE(newton_driver, gmres, 0)->Arg(64)->Arg(128)->Arg(256)->Iterations(1)->Unit(benchmark::kMillisecond);
+BENCHMARK_CAPTURE(newton_driver, recycling, recycle_dimension)
+    ->Arg(64)
+    ->Arg(128)
+    ->Arg(256)
+    ->Iterations(1)
+    ->Unit(benchmark::kMillisecond);
+BENCHMARK_CAPTURE(time_stepper, gmres, 0)->Arg(64)->Arg(128)->Arg(256)->Iterations(1)->Unit(benchmark::kMillisecond);
+BENCHMARK_CAPTURE(time_stepper, recycling, recycle_dimension)
+    ->Arg(64)
+    ->Arg(128)
+    ->Arg(256)
+    ->Iterations(1)
+    ->Unit(benchmark::kMillisecond);
 
 BENCHMARK_MAIN();

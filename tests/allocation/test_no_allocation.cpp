@@ -9,6 +9,7 @@
 #include <cstdlib>
 #include <memory>
 #include <new>
+#include <utility>
 #include <vector>
 
 namespace allocation_counters {
@@ -399,10 +400,15 @@ TEST_CASE("a repeated implicit time integration of the same size allocates nothi
   // A nonlinear rod with a lagged ILU(0) of the stage Jacobian: the second
   // integration (same stepper, same size) must not touch the heap at all,
   // steps, stages, preconditioner rebuilds and the report included.
+  // Also with Krylov recycling in the stage solves (newton_settings.recycling;
+  // restart length 30 <= 48, see krylov/recycling_gmres.hpp).
   nonlinear_rod system;
-  for (auto method : {nkit::time_method::bdf, nkit::time_method::esdirk}) {
+  for (auto [method, recycled] : {std::pair{nkit::time_method::bdf, 0}, std::pair{nkit::time_method::esdirk, 0},
+                                  std::pair{nkit::time_method::bdf, 6}, std::pair{nkit::time_method::esdirk, 6}}) {
+    INFO("recycle_dimension " << recycled);
     nkit::time_stepper_settings settings;
     settings.method = method;
+    settings.stage.newton.recycling.recycle_dimension = recycled;
     settings.relative_tolerance = 1e-4;
     settings.absolute_tolerance = 1e-7;
     settings.history_capacity = 1000;

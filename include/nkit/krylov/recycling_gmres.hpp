@@ -98,6 +98,17 @@ class recycling_gmres_solver {
   int recycled_dimension() const { return m_recycled_count; }
   /// Forgets the recycled subspace (keeps the memory).
   void discard_recycled_subspace() { m_recycled_count = 0; }
+  /// Bytes of vector and dense workspace currently held (the dense
+  /// eigenproblem's own workspace, O(m²), is not counted).
+  std::size_t workspace_bytes() const {
+    const std::size_t vector_count =
+        m_basis.size() + m_recycled.size() + m_images.size() + m_new_recycled.size() + m_new_images.size() + 2;
+    const std::size_t length = m_basis.empty() ? 0 : static_cast<std::size_t>(m_basis.front().size());
+    const std::size_t dense = static_cast<std::size_t>(
+        m_extended.size() + m_triangular.size() + m_cross.size() + m_right_hand_side.size() + m_coefficients.size() +
+        m_scaling.size() + m_kept_images.size() + m_kept_factor.size() + m_kept_coordinates.size());
+    return sizeof(scalar_type) * (vector_count * length + dense + 2 * m_rotations.size());
+  }
   /// Declares that the next solve uses the same operator and preconditioner
   /// (the same A M⁻¹) as the previous one, so C = A M⁻¹ Ũ still holds and
   /// is not recomputed. Applies to the next solve only.

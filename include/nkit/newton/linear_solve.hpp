@@ -5,7 +5,9 @@
 /// The linear solve of one Newton step, R'(u) x = R(u): the preconditioner's
 /// life cycle (rebuilt when the preconditioner_schedule says so, set up from
 /// the state and, on demand, the assembled Jacobian; every application timed)
-/// and right-preconditioned GMRES on the problem's J·v operator. The Newton
+/// and right-preconditioned GMRES on the problem's J·v operator (or recycling
+/// GMRES, krylov/recycling_gmres.hpp, when newton_settings.recycling asks for
+/// it; its recycled subspace outlives the solve). The Newton
 /// driver owns one and asks it for a direction once per step. After a
 /// converged solve it also solves with the transposed assembled Jacobian,
 /// preconditioned by the preconditioner's apply_transpose (adjoint
@@ -26,6 +28,7 @@
 #include "../core/preconditioner.hpp"
 #include "../jacobian/sparse_jacobian.hpp"
 #include "../krylov/gmres.hpp"
+#include "../krylov/recycling_gmres.hpp"
 #include "../report/phase_ledger.hpp"
 #include "../report/report.hpp"
 #include "newton_settings.hpp"
@@ -45,22 +48,42 @@ class preconditioned_linear_solve {
       : m_space(space),
         m_preconditioner(std::move(preconditioner)),
         m_gmres(settings.linear, space),
+        m_recycling(recycling_settings(settings), space),
+        m_recycles(settings.recycling.recycle_dimension > 0),
+        m_refresh_every_solve(settings.recycling.refresh_for_each_jacobian),
         m_schedule(settings.preconditioner_rebuild) {}
 
   void configure(const newton_settings& settings) {
     m_gmres.configure(settings.linear);
+    m_recycling.configure(recycling_settings(settings));
+    m_recycles = settings.recycling.recycle_dimension > 0;
+    m_refresh_every_solve = settings.recycling.refresh_for_each_jacobian;
     m_schedule.configure(settings.preconditioner_rebuild);
   }
   Preconditioner& preconditioner() { return m_preconditioner; }
   const Preconditioner& preconditioner() const { return m_preconditioner; }
   gmres_solver<Space>& gmres() { return m_gmres; }
+  /// Used for the Newton steps when newton_settings.recycling.recycle_dimension > 0.
+  recycling_gmres_solver<Space>& recycling_gmres() { return m_recycling; }
+  int recycled_dimension() const { return m_recycling.recycled_dimension(); }
   preconditioner_schedule& schedule() { return m_schedule; }
 
   void record_trace(trace_recorder* recorder) { m_gmres.record_trace(recorder); }
 
   /// Sizes the GMRES workspace and starts the rebuild schedule for a new solve.
+  /// With recycling, the recycled subspace of earlier solves is kept when the
+  /// size is the same.
   void start_solve(const vector_type& prototype) {
-    m_gmres.allocate_like(prototype, changes_between_applications(target()));
+    if (m_recycles) {
+      if (changes_between_applications(target())) {
+        throw std::invalid_argument(
+            "nkit: newton_settings.recycling.recycle_dimension > 0 needs a preconditioner that stays the same "
+            "between applications (this one declares changes_between_applications); set recycle_dimension = 0");
+      }
+      m_recycling.allocate_like(prototype);
+    } else {
+      m_gmres.allocate_like(prototype, changes_between_applications(target()));
+    }
     m_schedule.start_solve(prototype.size());
   }
 
@@ -89,6 +112,7 @@ class preconditioned_linear_solve {
       ++report.preconditioner_setups;
       if (status == setup_status::ready_with_fallback) ++report.preconditioner_fallbacks;
       m_schedule.record_setup(k, state.size(), status != setup_status::failed);
+      m_preconditioner_changed = true;
       failed = status == setup_status::failed;
       return true;
     } else {
@@ -114,17 +138,27 @@ class preconditioned_linear_solve {
     // The GMRES call's own time (basis updates, rotations, restarts) is the
     // krylov_update phase; Gram–Schmidt time is booked to orthogonalization.
     phase_scope scope(ledger, trace_phase::linear_solve, report.newton_steps + 1);
+    const auto run = [&](auto& preconditioner) {
+      if (m_recycles) {
+        if (!m_refresh_every_solve && !m_preconditioner_changed) m_recycling.next_solve_uses_same_operator();
+        m_preconditioner_changed = false;
+        return m_recycling.solve(op, preconditioner, rhs, x, eta, initial_guess::zero, monitor);
+      }
+      return m_gmres.solve(op, preconditioner, rhs, x, eta, initial_guess::zero, monitor);
+    };
     try {
       if constexpr (std::is_same_v<target_type, identity_preconditioner>) {
-        result = m_gmres.solve(op, target(), rhs, x, eta, initial_guess::zero, monitor);
+        result = run(target());
       } else {
         timed_preconditioner preconditioner{this, &ledger, &access};
-        result = m_gmres.solve(op, preconditioner, rhs, x, eta, initial_guess::zero, monitor);
+        result = run(preconditioner);
       }
     } catch (const stop_signal&) {
       // A budget, limit or cancellation inside a J·v or preconditioner
-      // apply: GMRES's result is lost, its Gram–Schmidt time is not.
-      ledger.add(trace_phase::orthogonalization, m_gmres.orthogonalization_seconds_of_last_solve());
+      // apply: GMRES's result is lost, its Gram–Schmidt time is not (plain
+      // GMRES keeps it; recycling GMRES does not, and a stopped solve also
+      // leaves its C = J M⁻¹ U stale, so the next solve recomputes it anyway).
+      if (!m_recycles) ledger.add(trace_phase::orthogonalization, m_gmres.orthogonalization_seconds_of_last_solve());
       throw;
     }
     ledger.add(trace_phase::orthogonalization, result.orthogonalization_seconds);
@@ -197,7 +231,9 @@ class preconditioned_linear_solve {
     return m_space.all_finite(z);
   }
 
-  std::size_t workspace_bytes() const { return m_gmres.workspace_bytes() + preconditioner_memory_bytes(target()); }
+  std::size_t workspace_bytes() const {
+    return m_gmres.workspace_bytes() + m_recycling.workspace_bytes() + preconditioner_memory_bytes(target());
+  }
 
  private:
   /// Times each application of the user's preconditioner and checks its
@@ -222,12 +258,26 @@ class preconditioned_linear_solve {
     bool changes_between_applications() const { return nkit::changes_between_applications(owner->target()); }
   };
 
+  static recycling_gmres_settings recycling_settings(const newton_settings& settings) {
+    recycling_gmres_settings out;
+    out.restart_length = settings.linear.restart_length;
+    out.recycle_dimension = settings.recycling.recycle_dimension;
+    out.maximum_iterations = settings.linear.maximum_iterations;
+    out.reorthogonalization = settings.linear.reorthogonalization;
+    out.keep_recycled_subspace = true;
+    return out;
+  }
+
   target_type& target() { return preconditioner_target<Preconditioner>::get(m_preconditioner); }
   const target_type& target() const { return preconditioner_target<Preconditioner>::get(m_preconditioner); }
 
   Space m_space;
   Preconditioner m_preconditioner;
   gmres_solver<Space> m_gmres;
+  recycling_gmres_solver<Space> m_recycling;
+  bool m_recycles = false;
+  bool m_refresh_every_solve = false;
+  bool m_preconditioner_changed = true;  ///< set up since the last solve (or never solved): C must be recomputed
   preconditioner_schedule m_schedule;
 };
 

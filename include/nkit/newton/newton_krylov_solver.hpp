@@ -121,6 +121,14 @@ class newton_krylov_solver {
   /// The next Newton step rebuilds the preconditioner whatever the reuse policy says.
   void request_preconditioner_rebuild() { m_linear.schedule().request_rebuild(); }
 
+  /// With newton_settings.recycling.recycle_dimension > 0: forgets the Krylov
+  /// subspace kept from earlier linear solves (e.g. after the problem changed
+  /// beyond recognition at the same size); the memory stays. A solve of a new
+  /// size forgets it by itself.
+  void discard_recycled_krylov_subspace() { m_linear.recycling_gmres().discard_recycled_subspace(); }
+  /// Vectors of the recycled Krylov subspace held now (0 without recycling).
+  int recycled_krylov_dimension() const { return m_linear.recycled_dimension(); }
+
   /// Declares lower <= u <= upper (physical units; ±infinity where a side is
   /// unbounded). Every state at which the residual is evaluated respects them
   /// (settings.bounds says how steps are shortened). Throws
@@ -482,7 +490,9 @@ class newton_krylov_solver {
     m_achieved_eta = linear.relative_residual();
     m_linear_residual_norm = linear.final_residual_norm;
     record.relative_linear_residual = m_achieved_eta;
-    if (linear.iterations == 0 || !(m_achieved_eta < 1.0)) return no_direction_cause();
+    // Recycling GMRES may converge on the recycled subspace alone, with no
+    // Arnoldi step: that direction is as good as any.
+    if ((linear.iterations == 0 && !linear.converged()) || !(m_achieved_eta < 1.0)) return no_direction_cause();
     m_forcing.record(eta, m_norm, linear.final_residual_norm);
     return std::nullopt;
   }
