@@ -111,3 +111,37 @@ TEST_CASE("dot_many falls back to separate dots", "[space]") {
   CHECK(out[0] == 8.0);   // 4 · (1·2)
   CHECK(out[1] == 12.0);  // 2·(0+1+2+3)
 }
+
+namespace {
+/// A space without linear_combinations: the free function must fall back to fill + add_scaled.
+struct space_without_combinations : nkit::eigen_vector_space<double> {
+  void linear_combinations() const = delete;  // hides the inherited member from detection
+};
+}  // namespace
+
+TEMPLATE_TEST_CASE("linear_combinations equals the definition, in one pass or by the fallback", "[space]",
+                   nkit::eigen_vector_space<double>, nkit::block_vector_space, space_without_combinations) {
+  // targets[c] = Σ_i A(i, c) sources[i] with A column-major, leading dimension 5 (one unused row).
+  // Lengths around the block length (256) exercise partial and several blocks; the
+  // reference is the same sum over i in the same order, written out, so the results
+  // must agree to the last bit.
+  const TestType space{};
+  for (const Eigen::Index length : {Eigen::Index(0), Eigen::Index(1), Eigen::Index(255), Eigen::Index(256),
+                                    Eigen::Index(257), Eigen::Index(1000)}) {
+    std::vector<Eigen::VectorXd> sources;
+    for (int i = 0; i < 4; ++i) sources.push_back(Eigen::VectorXd::LinSpaced(length, i, 3.0 * i + 1.0).array().sin());
+    const Eigen::MatrixXd a = Eigen::MatrixXd::Random(5, 3);
+    std::vector<Eigen::VectorXd> targets(3, Eigen::VectorXd::Constant(length, 7.0));  // overwritten, not added to
+    const Eigen::VectorXd* source_pointers[4] = {&sources[0], &sources[1], &sources[2], &sources[3]};
+    Eigen::VectorXd* target_pointers[3] = {&targets[0], &targets[1], &targets[2]};
+    nkit::linear_combinations(space, source_pointers, 4, a.data(), 5, target_pointers, 3);
+    for (int c = 0; c < 3; ++c) {
+      Eigen::VectorXd expected = a(0, c) * sources[0];
+      for (int i = 1; i < 4; ++i) expected += a(i, c) * sources[i];
+      CHECK(targets[static_cast<std::size_t>(c)] == expected);
+    }
+    nkit::linear_combinations(space, source_pointers, 0, a.data(), 5, target_pointers, 2);  // empty sum: zero
+    CHECK((targets[0].array() == 0.0).all());
+    CHECK((targets[1].array() == 0.0).all());
+  }
+}

@@ -7,7 +7,8 @@
 /// quotients — written once, with the OpenMP path, and shared by every space
 /// whose vectors are plain local Eigen vectors: eigen_vector_space,
 /// block_vector_space and mpi_vector_space inherit them and differ only in
-/// their reductions. Also the local pieces those reductions are built from:
+/// their reductions. Also linear_combinations(), several y = Σ a_i x_i in one
+/// pass over memory, and the local pieces those reductions are built from:
 /// the bounds ratio test and an overflow-safe Euclidean norm.
 ///
 /// With NKIT_USE_OPENMP defined (CMake target nkit::openmp), members on
@@ -18,7 +19,9 @@
 /// Nothing here allocates except allocate_like() when the size differs.
 
 #include <Eigen/Core>
+#include <algorithm>
 #include <cmath>
+#include <cstddef>
 #include <limits>
 
 #include "../detail/parallel_loops.hpp"
@@ -111,7 +114,47 @@ class local_vector_operations {
       y.segment(b, c).array() += weights.segment(b, c).array() * x.segment(b, c).array();
     });
   }
+#endif
+
+  /// targets[c] = Σ_{i < count} coefficients[i + c·stride] · sources[i] for
+  /// c < target_count (a tall-skinny matrix product [x_0 … x_{count−1}] A with
+  /// A column-major, leading dimension `stride`), in one pass over memory:
+  /// entry blocks of combination_block_length, so the target blocks stay in
+  /// cache while each source block is read from memory once. fill(0, y) and
+  /// add_scaled over i would read and write every target `count` times. Each
+  /// entry is summed over i in order (with count = 0 the targets are zeroed).
+  /// No target may be one of the sources. Allocates nothing.
+  void linear_combinations(const vector_type* const* sources, int count, const Scalar* coefficients, int stride,
+                           vector_type* const* targets, int target_count) const {
+    if (target_count <= 0) return;
+    const auto body = [&](Eigen::Index begin, Eigen::Index length) {
+      const Eigen::Index end = begin + length;
+      for (Eigen::Index block = begin; block < end; block += combination_block_length) {
+        const Eigen::Index size = std::min(combination_block_length, end - block);
+        for (int c = 0; c < target_count; ++c) {
+          auto out = targets[c]->segment(block, size);
+          const Scalar* a = coefficients + static_cast<std::ptrdiff_t>(c) * stride;
+          if (count == 0) {
+            out.setZero();
+            continue;
+          }
+          out.noalias() = a[0] * sources[0]->segment(block, size);
+          for (int i = 1; i < count; ++i) out.noalias() += a[i] * sources[i]->segment(block, size);
+        }
+      }
+    };
+#if defined(NKIT_USE_OPENMP)
+    chunked(targets[0]->size(), body);
 #else
+    body(Eigen::Index(0), targets[0]->size());
+#endif
+  }
+  /// Entries per block of linear_combinations: 256 doubles = 2 KiB per vector,
+  /// so a dozen target blocks and the current source block fit a 32 KiB L1
+  /// cache (common practice for cache blocking; not tuned).
+  static constexpr Eigen::Index combination_block_length = 256;
+
+#if !defined(NKIT_USE_OPENMP)
   void add_scaled(Scalar alpha, const_view x, state_view y) const { y.noalias() += alpha * x; }
   void combine(Scalar a, const_view x, Scalar b, const_view y, state_view out) const { out.noalias() = a * x + b * y; }
   void scale(Scalar alpha, state_view x) const { x *= alpha; }

@@ -44,6 +44,12 @@
 ///     void dot_many(const vector_type* basis, int count, const_view w,
 ///                   scalar_type* out) const       out[i] = dot(basis[i], w), one reduction
 ///                                                 (fallback: a loop over dot)
+///     void linear_combinations(const vector_type* const* sources, int count,
+///                              const scalar_type* coefficients, int stride,
+///                              vector_type* const* targets, int target_count) const
+///                                                 targets[c] = Σ_i coefficients[i + c·stride] sources[i],
+///                                                 local, in one pass over memory (fallback:
+///                                                 fill and add_scaled per target)
 ///     magnitude_range<scalar_type> magnitudes(const_view x) const
 ///                                                 smallest nonzero and largest |x_i|
 ///                                                 (collective; used for the scale-spread
@@ -134,6 +140,16 @@ struct has_dot_many<
     : std::true_type {};
 
 template <class Space, class = void>
+struct has_linear_combinations : std::false_type {};
+
+template <class Space>
+struct has_linear_combinations<Space, std::void_t<decltype(std::declval<const Space&>().linear_combinations(
+                                          std::declval<const typename Space::vector_type* const*>(), 0,
+                                          std::declval<const typename Space::scalar_type*>(), 0,
+                                          std::declval<typename Space::vector_type* const*>(), 0))>> : std::true_type {
+};
+
+template <class Space, class = void>
 struct has_any_of : std::false_type {};
 
 template <class Space>
@@ -174,6 +190,23 @@ void dot_many(const Space& space, const typename Space::vector_type* basis, int 
     space.dot_many(basis, count, w, out);
   } else {
     for (int i = 0; i < count; ++i) out[i] = space.dot(basis[i], w);
+  }
+}
+
+/// targets[c] = Σ_{i < count} coefficients[i + c·stride] · sources[i] for
+/// c < target_count: the space's one-pass version when it has one, otherwise
+/// a fill and `count` add_scaled per target. No target may be a source.
+template <class Space>
+void linear_combinations(const Space& space, const typename Space::vector_type* const* sources, int count,
+                         const typename Space::scalar_type* coefficients, int stride,
+                         typename Space::vector_type* const* targets, int target_count) {
+  if constexpr (detail::has_linear_combinations<Space>::value) {
+    space.linear_combinations(sources, count, coefficients, stride, targets, target_count);
+  } else {
+    for (int c = 0; c < target_count; ++c) {
+      space.fill(0, *targets[c]);
+      for (int i = 0; i < count; ++i) space.add_scaled(coefficients[i + c * stride], *sources[i], *targets[c]);
+    }
   }
 }
 

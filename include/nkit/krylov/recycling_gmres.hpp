@@ -127,6 +127,8 @@ class recycling_gmres_solver {
     resize_set(m_new_images, k, prototype);
     m_space.allocate_like(m_work, prototype);
     m_space.allocate_like(m_update, prototype);
+    if (m_sources.size() != static_cast<std::size_t>(m + 1 + k)) m_sources.resize(static_cast<std::size_t>(m + 1 + k));
+    if (m_targets.size() != static_cast<std::size_t>(k)) m_targets.resize(static_cast<std::size_t>(k));  // k may be 0
     const Eigen::Index rows = Eigen::Index{m} + 1;
     if (m_extended.rows() != rows || m_scaling.size() != k) {
       m_extended.resize(rows, m);
@@ -448,12 +450,12 @@ class recycling_gmres_solver {
       for (int l = i + 1; l < n; ++l) sum -= m_triangular(i, l) * m_coefficients(l);
       m_coefficients(i) = sum / m_triangular(i, i);
     }
-    m_space.fill(0, m_update);
-    for (int i = 0; i < kept; ++i)
-      m_space.add_scaled(m_coefficients(i), m_recycled[static_cast<std::size_t>(i)], m_update);
+    for (int i = 0; i < kept; ++i) m_sources[static_cast<std::size_t>(i)] = &m_recycled[static_cast<std::size_t>(i)];
     for (int i = 0; i < columns; ++i) {
-      m_space.add_scaled(m_coefficients(kept + i), m_basis[static_cast<std::size_t>(i)], m_update);
+      m_sources[static_cast<std::size_t>(kept + i)] = &m_basis[static_cast<std::size_t>(i)];
     }
+    vector_type* update = &m_update;
+    linear_combinations(m_space, m_sources.data(), n, m_coefficients.data(), n, &update, 1);
     if constexpr (std::is_same_v<std::decay_t<Preconditioner>, identity_preconditioner>) {
       m_space.add_scaled(1, m_update, x);
     } else {
@@ -503,22 +505,19 @@ class recycling_gmres_solver {
         m_kept_coordinates(r, c) = value / m_kept_factor(c, c);
       }
     }
-    for (int c = 0; c < found; ++c) {
-      vector_type& u = m_new_recycled[static_cast<std::size_t>(c)];
-      vector_type& image = m_new_images[static_cast<std::size_t>(c)];
-      m_space.fill(0, u);
-      m_space.fill(0, image);
-      for (int i = 0; i < kept; ++i) {
-        m_space.add_scaled(m_kept_coordinates(i, c), m_recycled[static_cast<std::size_t>(i)], u);
-        m_space.add_scaled(m_kept_images(i, c), m_images[static_cast<std::size_t>(i)], image);
-      }
-      for (int i = 0; i < columns; ++i) {
-        m_space.add_scaled(m_kept_coordinates(kept + i, c), m_basis[static_cast<std::size_t>(i)], u);
-      }
-      for (int i = 0; i <= columns; ++i) {  // step 33: C = Ŵ Q
-        m_space.add_scaled(m_kept_images(kept + i, c), m_basis[static_cast<std::size_t>(i)], image);
-      }
+    // U = [Ũ V] Φ and C = [C V] Q (steps 33–34), each in one pass over memory.
+    for (int i = 0; i < kept; ++i) m_sources[static_cast<std::size_t>(i)] = &m_recycled[static_cast<std::size_t>(i)];
+    for (int i = 0; i <= columns; ++i) {
+      m_sources[static_cast<std::size_t>(kept + i)] = &m_basis[static_cast<std::size_t>(i)];
     }
+    for (int c = 0; c < found; ++c)
+      m_targets[static_cast<std::size_t>(c)] = &m_new_recycled[static_cast<std::size_t>(c)];
+    linear_combinations(m_space, m_sources.data(), kept + columns, m_kept_coordinates.data(),
+                        static_cast<int>(m_kept_coordinates.rows()), m_targets.data(), found);
+    for (int i = 0; i < kept; ++i) m_sources[static_cast<std::size_t>(i)] = &m_images[static_cast<std::size_t>(i)];
+    for (int c = 0; c < found; ++c) m_targets[static_cast<std::size_t>(c)] = &m_new_images[static_cast<std::size_t>(c)];
+    linear_combinations(m_space, m_sources.data(), kept + columns + 1, m_kept_images.data(),
+                        static_cast<int>(m_kept_images.rows()), m_targets.data(), found);
     for (int c = 0; c < found; ++c) {
       std::swap(m_recycled[static_cast<std::size_t>(c)], m_new_recycled[static_cast<std::size_t>(c)]);
       std::swap(m_images[static_cast<std::size_t>(c)], m_new_images[static_cast<std::size_t>(c)]);
@@ -560,19 +559,24 @@ class recycling_gmres_solver {
       m_kept_factor(kept, kept) = norm;
       ++kept;
     }
-    // U = Ũ R⁻¹ in place: column c needs old columns 0..c, so go from the last.
-    for (int c = kept - 1; c >= 0; --c) {
-      // Solve for the coefficients of column c of R⁻¹ by back substitution.
+    // U = Ũ R⁻¹ in one pass over memory: R⁻¹ (upper triangular) by back
+    // substitution, column by column, into the scratch m_kept_coordinates.
+    m_kept_coordinates.topLeftCorner(kept, kept).setZero();
+    for (int c = 0; c < kept; ++c) {
       for (int r = c; r >= 0; --r) {
         double value = r == c ? 1.0 : 0.0;
-        for (int l = r + 1; l <= c; ++l) value -= m_kept_factor(r, l) * m_coefficients(l);
-        m_coefficients(r) = value / m_kept_factor(r, r);
+        for (int l = r + 1; l <= c; ++l) value -= m_kept_factor(r, l) * m_kept_coordinates(l, c);
+        m_kept_coordinates(r, c) = value / m_kept_factor(r, r);
       }
-      vector_type& u = m_recycled[static_cast<std::size_t>(c)];
-      m_space.scale(m_coefficients(c), u);
-      for (int r = 0; r < c; ++r) m_space.add_scaled(m_coefficients(r), m_recycled[static_cast<std::size_t>(r)], u);
     }
+    for (int i = 0; i < kept; ++i) {
+      m_sources[static_cast<std::size_t>(i)] = &m_recycled[static_cast<std::size_t>(i)];
+      m_targets[static_cast<std::size_t>(i)] = &m_new_recycled[static_cast<std::size_t>(i)];
+    }
+    linear_combinations(m_space, m_sources.data(), kept, m_kept_coordinates.data(),
+                        static_cast<int>(m_kept_coordinates.rows()), m_targets.data(), kept);
     for (int c = 0; c < kept; ++c) {
+      std::swap(m_recycled[static_cast<std::size_t>(c)], m_new_recycled[static_cast<std::size_t>(c)]);
       const double norm = m_space.norm(m_recycled[static_cast<std::size_t>(c)]);
       m_space.scale(1 / norm, m_recycled[static_cast<std::size_t>(c)]);
       m_scaling(c) = 1 / norm;
@@ -600,6 +604,8 @@ class recycling_gmres_solver {
   Eigen::MatrixXd m_kept_factor;       ///< R
   Eigen::MatrixXd m_kept_coordinates;  ///< P R⁻¹
   std::vector<detail::givens_rotation> m_rotations;
+  std::vector<const vector_type*> m_sources;  ///< inputs of one linear_combinations call
+  std::vector<vector_type*> m_targets;        ///< its outputs
   detail::harmonic_ritz_vectors m_ritz;
   int m_recycled_count = 0;
   bool m_same_operator = false;

@@ -78,8 +78,8 @@ struct linear_recycling_settings {
   /// treatment of a changed matrix). Either way a solve stops only when the
   /// true residual ‖R + J s‖ meets the forcing term, so the Newton direction
   /// meets the same test. Measured on tests/test_newton_recycling.cpp (20
-  /// time steps, k = 8): 465 GMRES iterations and 729 evaluations of f with
-  /// false, 459 and 1,164 with true, 848 and 949 without recycling.
+  /// time steps, k = 8): 456 GMRES iterations and 727 evaluations of f with
+  /// false, 458 and 1,163 with true, 848 and 949 without recycling.
   bool refresh_for_each_jacobian = false;
 };
 
