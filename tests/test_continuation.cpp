@@ -501,7 +501,7 @@ struct bratu_with_pattern_only {
 }  // namespace
 
 TEST_CASE("continuation preconditions with R_u from colored differences of the pattern",
-          "[continuation][bratu][preconditioner]") {
+          "[continuation][bratu][preconditioner][slow_unoptimized]") {
   // 2D Bratu, h = 1/32: the same discrete fold with ILU(0) of the colored
   // difference R_u as with sparse LU of the assembled R_u, to the accuracy of
   // fold location and corrector (far below the 1.5e-3 discretisation error).
@@ -593,7 +593,7 @@ TEST_CASE("the start tangent is (du/dλ, 1) normalised in the arclength metric",
   CHECK_THAT(reversed.points.front().tangent_parameter, WithinRel(-expected, 1e-6));
 }
 
-TEST_CASE("natural-parameter continuation stops honestly at the fold", "[continuation][bratu]") {
+TEST_CASE("natural-parameter continuation stops honestly at the fold", "[continuation][bratu][slow_unoptimized]") {
   // λ held fixed in each solve: beyond the discrete fold λc(h) there is no
   // solution, and at it R_u is singular, so steps are cut until the minimum
   // step and the run ends short of the fold, saying why. Pseudo-arclength on
@@ -673,7 +673,8 @@ double bratu_2d_discrete_fold(int nodes_per_side) {
 }
 }  // namespace
 
-TEST_CASE("2D Bratu: the 5-point discrete fold converges to 6.808 at second order", "[continuation][bratu]") {
+TEST_CASE("2D Bratu: the 5-point discrete fold converges to 6.808 at second order",
+          "[continuation][bratu][slow_unoptimized]") {
   // Grids h = 1/16, 1/32, 1/64. Measured: the discrete fold of this scheme
   // (interior nodes, h = 1/(n+1)) lies BELOW the continuum value and rises
   // towards it like h²; an independent check (the monotone iteration

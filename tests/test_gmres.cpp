@@ -40,7 +40,7 @@ Eigen::VectorXd sparse_lu_solution(const sparse& a, const Eigen::VectorXd& b) {
 
 }  // namespace
 
-TEST_CASE("restarted GMRES matches Eigen's SparseLU on random nonsymmetric systems", "[gmres]") {
+TEST_CASE("restarted GMRES matches Eigen's SparseLU on random nonsymmetric systems", "[gmres][slow_unoptimized]") {
   const int n = GENERATE(50, 400, 2000);
   const unsigned seed = GENERATE(1u, 2u);
   const auto variant = GENERATE(nkit::gmres_variant::standard, nkit::gmres_variant::flexible);

@@ -37,7 +37,7 @@ nkit::newton_settings model_problem_settings() {
 }  // namespace
 
 TEST_CASE("Grid sequencing 32² to 256² on the model problem: the finest level needs at most 2 Newton steps",
-          "[grid_sequencing]") {
+          "[grid_sequencing][slow_unoptimized]") {
   // Mesh independence (Allgower, Böhmer, Potra & Rheinboldt, SIAM J. Numer.
   // Anal. 23 (1986) 160–169, from memory) with nested iteration (Brandt 1977,
   // Math. Comp. 31, 333–390, from memory): from the interpolated coarse

@@ -124,7 +124,7 @@ TEST_CASE("The Barenblatt-Pattle closed form satisfies u_t = (u u_x)_x and relea
 }
 
 TEST_CASE("Nonlinear heat wave: front and profile converge to Barenblatt-Pattle, heat conserved",
-          "[time][barenblatt]") {
+          "[time][barenblatt][slow_unoptimized]") {
   // Expected rates: the scheme is second order where the profile is smooth;
   // at the front the profile has a kink (u ∝ x_f − |x|), which spoils the
   // local accuracy only in O(1) cells of width Δx, so the L1 profile error and
