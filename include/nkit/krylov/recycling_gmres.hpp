@@ -65,6 +65,7 @@
 #include "../report/monitor.hpp"
 #include "gmres.hpp"
 #include "harmonic_ritz_vectors.hpp"
+#include "recycled_subspace_refresh.hpp"
 #include "recycling_gmres_settings.hpp"
 
 namespace nkit {
@@ -529,60 +530,17 @@ class recycling_gmres_solver {
     return true;
   }
 
-  /// Steps 3–5 for a changed operator: C = A M⁻¹ Ũ, QR by modified Gram–Schmidt
-  /// twice (dropping numerically dependent columns), U = Ũ R⁻¹, then unit
-  /// columns again. Returns false when nothing usable remains.
+  /// Steps 3–5 for a changed operator (krylov/recycled_subspace_refresh.hpp).
+  /// Returns false when nothing usable remains.
   template <class Operator, class Preconditioner>
   bool refresh_images(Operator& op, Preconditioner& preconditioner, linear_solve_result& result) {
-    const int count = m_recycled_count;
-    int kept = 0;
-    m_kept_factor.setZero();
-    for (int c = 0; c < count; ++c) {
-      vector_type& image = m_images[static_cast<std::size_t>(kept)];
-      if (kept != c) std::swap(m_recycled[static_cast<std::size_t>(kept)], m_recycled[static_cast<std::size_t>(c)]);
-      apply_preconditioned(op, preconditioner, m_recycled[static_cast<std::size_t>(kept)], image, result);
-      const double original = m_space.norm(image);
-      if (!std::isfinite(original)) return false;
-      for (int pass = 0; pass < 2; ++pass) {
-        for (int q = 0; q < kept; ++q) {
-          const double projection = m_space.dot(m_images[static_cast<std::size_t>(q)], image);
-          m_kept_factor(q, kept) += projection;
-          m_space.add_scaled(-projection, m_images[static_cast<std::size_t>(q)], image);
-        }
-      }
-      const double norm = m_space.norm(image);
-      if (!(norm > 1e-10 * original)) {
-        for (int q = 0; q < kept; ++q) m_kept_factor(q, kept) = 0.0;
-        continue;
-      }
-      m_space.scale(1 / norm, image);
-      m_kept_factor(kept, kept) = norm;
-      ++kept;
-    }
-    // U = Ũ R⁻¹ in one pass over memory: R⁻¹ (upper triangular) by back
-    // substitution, column by column, into the scratch m_kept_coordinates.
-    m_kept_coordinates.topLeftCorner(kept, kept).setZero();
-    for (int c = 0; c < kept; ++c) {
-      for (int r = c; r >= 0; --r) {
-        double value = r == c ? 1.0 : 0.0;
-        for (int l = r + 1; l <= c; ++l) value -= m_kept_factor(r, l) * m_kept_coordinates(l, c);
-        m_kept_coordinates(r, c) = value / m_kept_factor(r, r);
-      }
-    }
-    for (int i = 0; i < kept; ++i) {
-      m_sources[static_cast<std::size_t>(i)] = &m_recycled[static_cast<std::size_t>(i)];
-      m_targets[static_cast<std::size_t>(i)] = &m_new_recycled[static_cast<std::size_t>(i)];
-    }
-    linear_combinations(m_space, m_sources.data(), kept, m_kept_coordinates.data(),
-                        static_cast<int>(m_kept_coordinates.rows()), m_targets.data(), kept);
-    for (int c = 0; c < kept; ++c) {
-      std::swap(m_recycled[static_cast<std::size_t>(c)], m_new_recycled[static_cast<std::size_t>(c)]);
-      const double norm = m_space.norm(m_recycled[static_cast<std::size_t>(c)]);
-      m_space.scale(1 / norm, m_recycled[static_cast<std::size_t>(c)]);
-      m_scaling(c) = 1 / norm;
-    }
-    m_recycled_count = kept;
-    return kept > 0;
+    const auto apply = [&](const vector_type& in, vector_type& out) {
+      apply_preconditioned(op, preconditioner, in, out, result);
+    };
+    m_recycled_count =
+        detail::refresh_recycled_subspace(m_space, apply, m_recycled_count, m_recycled, m_images, m_new_recycled,
+                                          m_kept_factor, m_kept_coordinates, m_scaling, m_sources, m_targets);
+    return m_recycled_count > 0;
   }
 
   Space m_space;
