@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <cstdint>
 #include <nkit/jacobian/automatic_differentiation.hpp>
 #include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
@@ -169,4 +170,23 @@ TEST_CASE("the model problem names a dimension it does not have", "[model_proble
   CHECK_THROWS_WITH(heat_conduction_model_problem(8, 10.0, 4), Catch::Matchers::Contains("dimensions"));
   CHECK_THROWS_WITH(heat_conduction_model_problem(8, 10.0, 1), Catch::Matchers::Contains("got 1"));
   CHECK(heat_conduction_model_problem(8, 10.0, 2).unknowns() == 64);
+}
+
+TEST_CASE("the model problem refuses a matrix whose entries its index type cannot count", "[model_problem][input]") {
+  // At most 2d + 1 entries per row: 7 n³ in 3-D passes 2³¹ − 1 = 2 147 483 647, the largest
+  // 32-bit index, from n = 675 on (7 · 675³ = 2.153e9); 700³ cells need 2.401e9. The check
+  // comes before any use of the state, so a one-entry vector suffices here.
+  const heat_conduction_model_problem big(700, 10.0, 3);
+  const Eigen::VectorXd t = Eigen::VectorXd::Zero(1);
+  Eigen::SparseMatrix<double, Eigen::ColMajor, int> narrow;
+  CHECK_THROWS_WITH(big.assemble_jacobian(t, narrow), Catch::Matchers::Contains("cells_per_side 700"));
+  std::vector<Eigen::Triplet<double, int>> entries;
+  CHECK_THROWS_WITH(big.assemble_frozen_conduction(t, narrow, entries),
+                    Catch::Matchers::Contains("32-bit") && Catch::Matchers::Contains("cells_per_side 700"));
+  // The same size fits a 64-bit index: no exception from the check (the state is then too
+  // short, which the check does not see, so it is not called here). In 2-D, 5 n² fits in 32 bits
+  // up to n = 20724: 17000 fits, 21000 does not (2.205e9).
+  CHECK_NOTHROW(heat_conduction_model_problem(17000, 10.0, 2).check_index_range<int>());
+  CHECK_THROWS(heat_conduction_model_problem(21000, 10.0, 2).check_index_range<int>());
+  CHECK_NOTHROW(big.check_index_range<std::int64_t>());
 }
