@@ -5,7 +5,9 @@
 //                (at most 12 systems);
 //   time/<n>     20 linearly implicit Euler steps, Δt = 0.01, (h²/Δt I + J(T_i)) δ = −R(T_i).
 // and, through the drivers (newton_settings.recycling, recycle_dimension 10,
-// C refreshed only after a preconditioner setup — the default):
+// C refreshed only after a preconditioner setup — the default; the
+// recycling_long_cycles cases also set minimum_cycle_steps_for_update = 10, so
+// that a cycle of fewer than 10 Arnoldi steps keeps the subspace as it is):
 //   newton_driver/<n>  newton_krylov_solver on the model problem from T = 0 to
 //                      ‖R‖ <= 1e-8 ‖R(0)‖, ILU(0) of the assembled Jacobian on
 //                      the default rebuild schedule, Eisenstat–Walker forcing;
@@ -174,7 +176,7 @@ void report_driver(benchmark::State& state, int kind, int cells, const driver_to
 }
 
 /// The Newton driver on the model problem with ILU(0), recycling `recycled` vectors (0: GMRES).
-void newton_driver(benchmark::State& state, int recycled) {
+void newton_driver(benchmark::State& state, int recycled, int minimum_cycle_steps = 0) {
   const int cells = static_cast<int>(state.range(0));
   const nkit_problems::heat_conduction_model_problem problem(cells);
   nkit::newton_settings settings;
@@ -182,6 +184,7 @@ void newton_driver(benchmark::State& state, int recycled) {
   settings.linear.restart_length = restart_length;
   settings.linear.maximum_iterations = 10000;
   settings.recycling.recycle_dimension = recycled;
+  settings.recycling.minimum_cycle_steps_for_update = minimum_cycle_steps;
   driver_totals totals;
   for (auto _ : state) {
     nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> solver(settings);
@@ -197,7 +200,7 @@ void newton_driver(benchmark::State& state, int recycled) {
 }
 
 /// The implicit time stepper (adaptive BDF2, ILU(0) lagged) on h² dT/dt = −R(T).
-void time_stepper(benchmark::State& state, int recycled) {
+void time_stepper(benchmark::State& state, int recycled, int minimum_cycle_steps = 0) {
   const int cells = static_cast<int>(state.range(0));
   const nkit_problems::heat_conduction_model_problem problem(cells);
   nkit::time_stepper_settings settings;
@@ -207,6 +210,7 @@ void time_stepper(benchmark::State& state, int recycled) {
   settings.step_control.initial_step = 1e-5;
   settings.stage.newton.linear.restart_length = restart_length;
   settings.stage.newton.recycling.recycle_dimension = recycled;
+  settings.stage.newton.recycling.minimum_cycle_steps_for_update = minimum_cycle_steps;
   const double h = problem.cell_size();
   driver_totals totals;
   for (auto _ : state) {
@@ -245,8 +249,21 @@ BENCHMARK_CAPTURE(newton_driver, recycling, recycle_dimension)
     ->Arg(256)
     ->Iterations(1)
     ->Unit(benchmark::kMillisecond);
+BENCHMARK_CAPTURE(newton_driver, recycling_long_cycles, recycle_dimension, recycle_dimension)
+    ->Arg(64)
+    ->Arg(128)
+    ->Arg(256)
+    ->Iterations(1)
+    ->Unit(benchmark::kMillisecond);
 BENCHMARK_CAPTURE(time_stepper, gmres, 0)->Arg(64)->Arg(128)->Arg(256)->Iterations(1)->Unit(benchmark::kMillisecond);
 BENCHMARK_CAPTURE(time_stepper, recycling, recycle_dimension)
+    ->Arg(64)
+    ->Arg(128)
+    ->Arg(256)
+    ->Iterations(1)
+    ->Unit(benchmark::kMillisecond);
+
+BENCHMARK_CAPTURE(time_stepper, recycling_long_cycles, recycle_dimension, recycle_dimension)
     ->Arg(64)
     ->Arg(128)
     ->Arg(256)

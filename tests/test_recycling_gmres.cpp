@@ -20,6 +20,7 @@
 #include <nkit/krylov/recycling_gmres.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <random>
+#include <utility>
 #include <vector>
 
 #include "problems/model_problem/linear_system_sequences.hpp"
@@ -396,6 +397,49 @@ TEST_CASE("recycling cuts the linear work over the implicit time steps of the mo
   CHECK(product_ratio < 1.0);
 }
 
+TEST_CASE("cycles shorter than minimum_cycle_steps_for_update keep the recycled subspace as it is",
+          "[recycling_gmres]") {
+  // The first solve (no subspace held) builds one from its first cycle. With
+  // minimum_cycle_steps_for_update above any cycle's length no later cycle may
+  // replace it, so two identical solves that follow (same operator, same b,
+  // x = 0) start from the same Ũ and C and must give bitwise the same x and
+  // iteration count. With the default 0 every cycle replaces the subspace, so
+  // the same pair differs (the control: it shows the check can see an update).
+  const int n = 1000;
+  const sparse a = diagonal_with_small_outliers(n, 4);
+  const Eigen::VectorXd first_b = Eigen::VectorXd::Ones(n);
+  const Eigen::VectorXd b = random_vector(n, 11u);
+  nkit::matrix_operator<sparse> op(a);
+  nkit::identity_preconditioner none;
+  const double tolerance = 1e-8;
+  const auto repeated_solves = [&](int minimum_steps) {
+    nkit::recycling_gmres_settings settings = pair_settings();
+    settings.minimum_cycle_steps_for_update = minimum_steps;
+    nkit::recycling_gmres_solver<> solver(settings);
+    Eigen::VectorXd x(n);
+    REQUIRE(solver.solve(op, none, first_b, x, tolerance, nkit::initial_guess::zero).converged());
+    std::vector<Eigen::VectorXd> solutions;
+    std::vector<int> iterations;
+    for (int repeat = 0; repeat < 2; ++repeat) {
+      solver.next_solve_uses_same_operator();
+      const auto result = solver.solve(op, none, b, x, tolerance, nkit::initial_guess::zero);
+      REQUIRE(result.converged());
+      CHECK((b - a * x).norm() <= 1.01 * tolerance * b.norm());  // the true-residual stop still holds
+      CHECK(solver.recycled_dimension() == settings.recycle_dimension);
+      solutions.push_back(x);
+      iterations.push_back(result.iterations);
+    }
+    return std::make_pair(solutions, iterations);
+  };
+  const auto [kept_solutions, kept_iterations] = repeated_solves(1000);
+  CHECK(kept_iterations[0] == kept_iterations[1]);
+  CHECK((kept_solutions[0].array() == kept_solutions[1].array()).all());
+  const auto [updated_solutions, updated_iterations] = repeated_solves(0);
+  INFO("iterations kept " << kept_iterations[0] << ", " << kept_iterations[1] << "; updated " << updated_iterations[0]
+                          << ", " << updated_iterations[1]);
+  CHECK_FALSE((updated_solutions[0].array() == updated_solutions[1].array()).all());
+}
+
 TEST_CASE("recycling GMRES settings are validated with the field named", "[recycling_gmres][input]") {
   nkit::recycling_gmres_settings settings;
   settings.restart_length = 0;
@@ -421,6 +465,10 @@ TEST_CASE("recycling GMRES settings are validated with the field named", "[recyc
   CHECK_THROWS_WITH(nkit::recycling_gmres_solver<>(settings),
                     "nkit: recycling_gmres_settings.relative_tolerance must be finite and >= 0 (got nan)");
   settings.relative_tolerance = 1e-8;
+  settings.minimum_cycle_steps_for_update = -1;
+  CHECK_THROWS_WITH(nkit::recycling_gmres_solver<>(settings),
+                    "nkit: recycling_gmres_settings.minimum_cycle_steps_for_update must be >= 0 (got -1)");
+  settings.minimum_cycle_steps_for_update = 0;
   settings.reorthogonalization = static_cast<nkit::reorthogonalization_policy>(3);
   CHECK_THROWS_WITH(nkit::recycling_gmres_solver<>(settings),
                     "nkit: recycling_gmres_settings.reorthogonalization must be one of never, when_needed, always "

@@ -341,7 +341,9 @@ class recycling_gmres_solver {
         result.final_residual_norm = beta;
         break;
       }
-      if (m_settings.recycle_dimension > 0 && columns > 0 && !choose_recycled_subspace(kept, columns, n)) {
+      const bool short_cycle = kept > 0 && columns < m_settings.minimum_cycle_steps_for_update;
+      if (m_settings.recycle_dimension > 0 && columns > 0 && !short_cycle &&
+          !choose_recycled_subspace(kept, columns, n)) {
         ++result.recycle_updates_skipped;
       }
       if (n > 0 && estimate <= target) {

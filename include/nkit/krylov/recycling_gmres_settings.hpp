@@ -4,7 +4,7 @@
 /// \file krylov/recycling_gmres_settings.hpp
 /// Settings of the recycling GMRES solver (GCRO-DR(m, k), krylov/recycling_gmres.hpp):
 /// cycle length m, recycle dimension k, iteration cap, tolerance, whether the
-/// recycled subspace is kept between solves.
+/// recycled subspace is kept between solves and which cycles update it.
 
 #include <string>
 #include <string_view>
@@ -30,6 +30,13 @@ struct recycling_gmres_settings {
   /// false: every solve starts from plain GMRES cycles (recycling then acts
   /// only across the restarts of one solve, i.e. deflated restarting).
   bool keep_recycled_subspace = true;
+  /// A cycle of fewer Arnoldi steps than this leaves a held recycled subspace
+  /// as it is instead of replacing it by the cycle's harmonic Ritz vectors
+  /// (the replacement costs about 2k(k + steps) vector passes, more than the
+  /// cycle itself when it is short, and a short cycle adds little to the
+  /// subspace). 0 (default): every cycle updates the subspace, as Parks et
+  /// al. (2006) do. A cycle with no subspace held always updates.
+  int minimum_cycle_steps_for_update = 0;
   /// Re-orthogonalisation of the modified Gram–Schmidt passes (as gmres_settings).
   reorthogonalization_policy reorthogonalization = reorthogonalization_policy::when_needed;
 
@@ -43,6 +50,7 @@ struct recycling_gmres_settings {
     }
     detail::require_at_least(p + ".maximum_iterations", maximum_iterations, 1);
     detail::require_non_negative(p + ".relative_tolerance", relative_tolerance);
+    detail::require_at_least(p + ".minimum_cycle_steps_for_update", minimum_cycle_steps_for_update, 0);
     detail::require_enumerator(p + ".reorthogonalization", reorthogonalization, reorthogonalization_policy::always,
                                "never, when_needed, always");
   }

@@ -265,6 +265,7 @@ class preconditioned_linear_solve {
     out.maximum_iterations = settings.linear.maximum_iterations;
     out.reorthogonalization = settings.linear.reorthogonalization;
     out.keep_recycled_subspace = true;
+    out.minimum_cycle_steps_for_update = settings.recycling.minimum_cycle_steps_for_update;
     return out;
   }
 

@@ -81,6 +81,10 @@ struct linear_recycling_settings {
   /// time steps, k = 8): 456 GMRES iterations and 727 evaluations of f with
   /// false, 458 and 1,163 with true, 848 and 949 without recycling.
   bool refresh_for_each_jacobian = false;
+  /// A GMRES cycle of fewer Arnoldi steps than this keeps the recycled
+  /// subspace as it is (recycling_gmres_settings::minimum_cycle_steps_for_update);
+  /// 0 (default): every cycle updates it.
+  int minimum_cycle_steps_for_update = 0;
 };
 
 /// A component-wise convergence test on the Newton step, alongside the
@@ -202,6 +206,8 @@ struct newton_settings {
     bounds.validate(p + ".bounds");
     linear.validate(p + ".linear");
     detail::require_at_least(p + ".recycling.recycle_dimension", recycling.recycle_dimension, 0);
+    detail::require_at_least(p + ".recycling.minimum_cycle_steps_for_update", recycling.minimum_cycle_steps_for_update,
+                             0);
     if (recycling.recycle_dimension > 0) {
       if (recycling.recycle_dimension >= linear.restart_length) {
         detail::throw_invalid_setting(p + ".recycling.recycle_dimension",
