@@ -18,13 +18,14 @@
 
 #include "problems/test_sets/more_garbow_hillstrom.hpp"
 #include "support/matchers.hpp"
+#include "support/unit_roundoff.hpp"
 
 namespace mgh = nkit_problems::more_garbow_hillstrom;
 
 namespace {
 
 constexpr Eigen::Index problem_size = 1000;
-constexpr double unit_roundoff = std::numeric_limits<double>::epsilon() / 2;
+using nkit_test::unit_roundoff;  // support/unit_roundoff.hpp
 
 nkit::newton_settings test_settings() {
   nkit::newton_settings settings;

@@ -20,12 +20,13 @@
 #include "problems/test_sets/more_garbow_hillstrom.hpp"
 #include "support/matchers.hpp"
 #include "support/tridiagonal_preconditioner.hpp"
+#include "support/unit_roundoff.hpp"
 
 namespace mgh = nkit_problems::more_garbow_hillstrom;
 
 namespace {
 
-constexpr double unit_roundoff = std::numeric_limits<double>::epsilon() / 2;
+using nkit_test::unit_roundoff;  // support/unit_roundoff.hpp
 
 /// Dense F'(x), column by column from the exact (AD) Jacobian-vector product.
 Eigen::MatrixXd dense_jacobian(const mgh::problem_entry& entry, const Eigen::VectorXd& x) {

@@ -7,10 +7,11 @@
 #include <nkit/newton/newton_krylov_solver.hpp>
 
 #include "support/matchers.hpp"
+#include "support/unit_roundoff.hpp"
 
 namespace {
 
-constexpr double unit_roundoff = std::numeric_limits<double>::epsilon() / 2;
+using nkit_test::unit_roundoff;  // support/unit_roundoff.hpp
 
 /// cos x − x = 0. Its only real root is the fixed point of cos, the "Dottie
 /// number" 0.739085133215160641655312087673873404... (OEIS A003957; digits

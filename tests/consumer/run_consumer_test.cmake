@@ -1,7 +1,7 @@
 # Builds and runs tests/consumer against nkit: either installed into a
 # temporary prefix (MODE=find_package) or embedded (MODE=add_subdirectory).
-# WITH_MPI=ON also builds and runs the MPI consumer (nkit::mpi); WITH_INTERFACES=ON
-# a C and a Fortran consumer (nkit::c, nkit::fortran).
+# WITH_MPI=ON builds and runs the MPI consumer (nkit::mpi) instead of the plain one;
+# WITH_INTERFACES=ON a C and a Fortran consumer (nkit::c, nkit::fortran).
 file(REMOVE_RECURSE ${WORK_DIR})
 file(MAKE_DIRECTORY ${WORK_DIR})
 
@@ -31,7 +31,9 @@ if(MODE STREQUAL "find_package")
 endif()
 run(${CMAKE_COMMAND} ${configure_args})
 run(${CMAKE_COMMAND} --build ${WORK_DIR}/build)
-run(${WORK_DIR}/build/consumer)
+if(NOT WITH_MPI AND NOT WITH_INTERFACES)
+  run(${WORK_DIR}/build/consumer)
+endif()
 if(WITH_MPI)
   run(${WORK_DIR}/build/consumer_mpi)
 endif()
