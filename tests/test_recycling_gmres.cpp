@@ -403,8 +403,10 @@ TEST_CASE("cycles shorter than minimum_cycle_steps_for_update keep the recycled 
   // minimum_cycle_steps_for_update above any cycle's length no later cycle may
   // replace it, so two identical solves that follow (same operator, same b,
   // x = 0) start from the same Ũ and C and must give bitwise the same x and
-  // iteration count. With the default 0 every cycle replaces the subspace, so
-  // the same pair differs (the control: it shows the check can see an update).
+  // iteration count (a failed true-residual check would recompute C, but the
+  // same arithmetic then happens in both solves: the code is deterministic).
+  // With the default 0 every cycle replaces the subspace, so the same pair
+  // differs (the control: it shows the check can see an update).
   const int n = 1000;
   const sparse a = diagonal_with_small_outliers(n, 4);
   const Eigen::VectorXd first_b = Eigen::VectorXd::Ones(n);

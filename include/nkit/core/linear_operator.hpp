@@ -71,7 +71,8 @@ struct linear_solve_result {
   double orthogonalization_seconds = 0.0;  ///< wall time spent in Gram–Schmidt
   /// Recycling GMRES only: cycles whose harmonic Ritz step found no usable
   /// vectors (Ḡ numerically rank deficient, the eigenvalue iteration failed, or
-  /// Ḡ P rank deficient), so the previous recycled subspace was kept.
+  /// Ḡ P rank deficient), so the previous recycled subspace was kept (cycles
+  /// left out by minimum_cycle_steps_for_update are not counted).
   int recycle_updates_skipped = 0;
   bool converged() const { return status == linear_solve_status::converged; }
   /// final_residual_norm / ‖b‖ (0 when b = 0).

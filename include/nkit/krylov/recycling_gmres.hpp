@@ -14,7 +14,9 @@
 /// steps with (I − C Cᵀ) A (step 22), minimises over [Ũ V] with the
 /// upper-Hessenberg matrix Ḡ = [D B; 0 H̄] (steps 23–29), then keeps the k
 /// harmonic Ritz vectors of smallest magnitude of that cycle (steps 30–34,
-/// krylov/harmonic_ritz_vectors.hpp). The first cycle with no recycled space
+/// krylov/harmonic_ritz_vectors.hpp) — unless the cycle ran fewer Arnoldi
+/// steps than minimum_cycle_steps_for_update and a subspace is held, which is
+/// then kept as it is (our variant; default 0, every cycle updates). The first cycle with no recycled space
 /// is a plain GMRES(m) cycle (steps 9–18); with recycle_dimension = 0 the
 /// solver is GMRES(m) (same Krylov spaces as krylov/gmres.hpp).
 ///

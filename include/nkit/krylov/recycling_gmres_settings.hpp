@@ -32,10 +32,13 @@ struct recycling_gmres_settings {
   bool keep_recycled_subspace = true;
   /// A cycle of fewer Arnoldi steps than this leaves a held recycled subspace
   /// as it is instead of replacing it by the cycle's harmonic Ritz vectors
-  /// (the replacement costs about 2k(k + steps) vector passes, more than the
-  /// cycle itself when it is short, and a short cycle adds little to the
-  /// subspace). 0 (default): every cycle updates the subspace, as Parks et
-  /// al. (2006) do. A cycle with no subspace held always updates.
+  /// (the replacement costs about 3k(k + steps) vector operations, dot
+  /// products and multiply-adds, more than the cycle itself when it is short,
+  /// and a short cycle adds little to the subspace). 0 (default): every cycle
+  /// updates the subspace, as Parks et al. (2006) do. A cycle with no subspace
+  /// held always updates, so a value above restart_length − recycle_dimension
+  /// freezes the subspace of the first cycle for the rest of the sequence.
+  /// Skipped updates are not counted in linear_solve_result::recycle_updates_skipped.
   int minimum_cycle_steps_for_update = 0;
   /// Re-orthogonalisation of the modified Gram–Schmidt passes (as gmres_settings).
   reorthogonalization_policy reorthogonalization = reorthogonalization_policy::when_needed;
