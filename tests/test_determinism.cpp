@@ -13,13 +13,14 @@
 
 #include "problems/test_sets/more_garbow_hillstrom.hpp"
 #include "support/reliability_problems.hpp"
+#include "support/same_bits.hpp"
 
 namespace mgh = nkit_problems::more_garbow_hillstrom;
 using nkit_test::all_globalizations;
 
 namespace {
 
-bool same_bits(double a, double b) { return std::memcmp(&a, &b, sizeof a) == 0; }
+using nkit_test::same_bits;  // support/same_bits.hpp
 
 /// Every iterate of one solve (u0 first) and its report.
 struct trajectory {

@@ -12,10 +12,11 @@
 #include <nkit/core/eigen_vector_space.hpp>
 
 #include "support/matchers.hpp"
+#include "support/same_bits.hpp"
 
 namespace {
 /// Bitwise equality (WithinULP(…, 0) would treat +0 and −0 as equal).
-bool same_bits(double a, double b) { return std::memcmp(&a, &b, sizeof a) == 0; }
+using nkit_test::same_bits;  // support/same_bits.hpp
 
 /// Restores the OpenMP thread count on scope exit.
 struct thread_count_guard {
