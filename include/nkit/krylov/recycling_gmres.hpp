@@ -16,9 +16,10 @@
 /// harmonic Ritz vectors of smallest magnitude of that cycle (steps 30–34,
 /// krylov/harmonic_ritz_vectors.hpp) — unless the cycle ran fewer Arnoldi
 /// steps than minimum_cycle_steps_for_update and a subspace is held, which is
-/// then kept as it is (our variant; default 0, every cycle updates). The first cycle with no recycled space
-/// is a plain GMRES(m) cycle (steps 9–18); with recycle_dimension = 0 the
-/// solver is GMRES(m) (same Krylov spaces as krylov/gmres.hpp).
+/// then kept as it is (our variant; default 0, every cycle updates). The
+/// first cycle with no recycled space is a plain GMRES(m) cycle (steps
+/// 9–18); with recycle_dimension = 0 the solver is GMRES(m) (same Krylov
+/// spaces as krylov/gmres.hpp).
 ///
 /// A new system: the kept Ũ is carried over (step 36, Ỹ = U); unless the
 /// caller declared the operator unchanged (next_solve_uses_same_operator()),
