@@ -35,10 +35,17 @@ NAMES = {
     "newton_gmres_algebraic_multigrid_lagged": "nkit Newton-GMRES + algebraic multigrid (BoomerAMG), lagged",
     "newton_gmres_algebraic_multigrid_lagged_aggressive":
         "nkit Newton-GMRES + algebraic multigrid (BoomerAMG), lagged, aggressive coarsening",
+    "newton_gmres_structured_multigrid_lagged":
+        "nkit Newton-GMRES + structured multigrid (hypre PFMG), lagged",
+    "newton_gmres_structured_multigrid_red_black_lagged":
+        "nkit Newton-GMRES + structured multigrid (hypre PFMG), red/black Gauss-Seidel, non-Galerkin, lagged",
     "newton_gmres_grid_sequencing_modified_ilu_zero":
         "nkit grid sequencing, Newton-GMRES + modified ILU(0) per level, lagged",
     "newton_gmres_grid_sequencing_algebraic_multigrid_lagged_aggressive":
         "nkit grid sequencing, Newton-GMRES + algebraic multigrid (BoomerAMG) per level, lagged, aggressive coarsening",
+    "newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged":
+        "nkit grid sequencing, Newton-GMRES + structured multigrid (hypre PFMG) per level, red/black, non-Galerkin, "
+        "lagged",
     "exact_newton_sparse_lu": "exact Newton + Eigen SparseLU",
     "exact_newton_umfpack": "exact Newton + UMFPACK",
     "picard_sparse_lu": "Picard (frozen k) + Eigen SparseLU",

@@ -29,6 +29,7 @@
 #include <mpi.h>
 
 #include <nkit/preconditioners/hypre_algebraic_multigrid.hpp>
+#include <nkit/preconditioners/hypre_structured_multigrid.hpp>
 #endif
 
 #include "fresh_process.hpp"
@@ -122,7 +123,34 @@ inline void run_algebraic_multigrid(const model& problem, nkit::newton_settings 
   run_nkit(problem, settings, nkit::algebraic_multigrid_preconditioner(MPI_COMM_SELF, multigrid));
   MPI_Finalize();
 }
+
+/// The model problem's grid (n² or n³ cells, one unknown per cell).
+inline nkit::structured_grid model_grid(int cells_per_side, int dimensions) {
+  return nkit::structured_grid(std::vector<int>(static_cast<std::size_t>(dimensions), cells_per_side));
+}
+
+/// nkit with hypre's structured (semicoarsening) multigrid on MPI_COMM_SELF,
+/// GMRES(10) as for BoomerAMG.
+inline void run_structured_multigrid(const model& problem, nkit::newton_settings settings,
+                                     const nkit::structured_multigrid_settings& multigrid = {}) {
+  settings.linear.restart_length = 10;
+  int initialised = 0;
+  MPI_Initialized(&initialised);
+  if (!initialised) MPI_Init(nullptr, nullptr);
+  run_nkit(problem, settings,
+           nkit::structured_multigrid_preconditioner(
+               MPI_COMM_SELF, model_grid(problem.cells_per_side(), problem.dimensions()), multigrid));
+  MPI_Finalize();
+}
 #endif
+
+/// Levels of the suite's grid sequencing: from 32 cells per side (or n
+/// itself when smaller or odd) to n, halving.
+inline int sequencing_level_count(int n) {
+  int level_count = 1;
+  for (int coarsest = n; coarsest % 2 == 0 && coarsest / 2 >= 32; coarsest /= 2) ++level_count;
+  return level_count;
+}
 
 /// Grid sequencing (multilevel/grid_sequencing_solver.hpp) of the model
 /// problem: levels from 32² (or n itself when smaller or odd) to n², each a
@@ -134,8 +162,7 @@ template <class SolverAtLevel>
 void run_grid_sequencing(const model& problem, const nkit::newton_settings& settings, SolverAtLevel make_solver) {
   const int n = problem.cells_per_side();
   const int dimensions = problem.dimensions();
-  int level_count = 1;
-  for (int coarsest = n; coarsest % 2 == 0 && coarsest / 2 >= 32; coarsest /= 2) ++level_count;
+  const int level_count = sequencing_level_count(n);
   const std::vector<int> extents(static_cast<std::size_t>(dimensions), n);
   const std::vector<double> lengths(static_cast<std::size_t>(dimensions), 1.0);
   const nkit::structured_grid_hierarchy hierarchy(nkit::structured_grid(extents, 1, lengths), level_count);
@@ -274,6 +301,41 @@ inline const std::vector<configuration>& configurations() {
        });
        MPI_Finalize();
      }},
+    // hypre's semicoarsening multigrid on the analytic Jacobian's stencil
+    // (hypre_structured_multigrid.hpp), lagged, GMRES(10): hypre's defaults
+    // (weighted Jacobi, Galerkin coarse operators), and red/black
+    // Gauss–Seidel with non-Galerkin coarse operators.
+    {"newton_gmres_structured_multigrid_lagged", true, "", true,
+     [](const model& problem, double cap) { run_structured_multigrid(problem, lagged(suite_newton_settings(cap))); }},
+    {"newton_gmres_structured_multigrid_red_black_lagged", true, "", true,
+     [](const model& problem, double cap) {
+       nkit::structured_multigrid_settings multigrid;
+       multigrid.smoother = nkit::structured_multigrid_smoother::red_black_gauss_seidel_symmetric;
+       multigrid.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
+       run_structured_multigrid(problem, lagged(suite_newton_settings(cap)), multigrid);
+     }},
+    // Grid sequencing with the structured multigrid per level (red/black, non-Galerkin, lagged, GMRES(10)).
+    {"newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged", true, "", true,
+     [](const model& problem, double cap) {
+       int initialised = 0;
+       MPI_Initialized(&initialised);
+       if (!initialised) MPI_Init(nullptr, nullptr);
+       nkit::newton_settings settings = lagged(suite_newton_settings(cap));
+       settings.linear.restart_length = 10;
+       const int finest = sequencing_level_count(problem.cells_per_side()) - 1;
+       using solver_type =
+           nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::structured_multigrid_preconditioner>;
+       run_grid_sequencing(problem, settings, [&](int level, const nkit::newton_settings& level_settings) {
+         const nkit::structured_grid grid =
+             model_grid(problem.cells_per_side() >> (finest - level), problem.dimensions());
+         nkit::structured_multigrid_settings multigrid;
+         multigrid.smoother = nkit::structured_multigrid_smoother::red_black_gauss_seidel_symmetric;
+         multigrid.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
+         return solver_type(level_settings, {},
+                            nkit::structured_multigrid_preconditioner(MPI_COMM_SELF, grid, multigrid));
+       });
+       MPI_Finalize();
+     }},
 #else
     {"newton_gmres_algebraic_multigrid", false, "not built: MPI and hypre (nkit::hypre) not found", true, nullptr},
     {"newton_gmres_algebraic_multigrid_lagged", false, "not built: MPI and hypre (nkit::hypre) not found", true,
@@ -281,6 +343,12 @@ inline const std::vector<configuration>& configurations() {
     {"newton_gmres_algebraic_multigrid_lagged_aggressive", false, "not built: MPI and hypre (nkit::hypre) not found",
      true, nullptr},
     {"newton_gmres_grid_sequencing_algebraic_multigrid_lagged_aggressive", false,
+     "not built: MPI and hypre (nkit::hypre) not found", true, nullptr},
+    {"newton_gmres_structured_multigrid_lagged", false, "not built: MPI and hypre (nkit::hypre) not found", true,
+     nullptr},
+    {"newton_gmres_structured_multigrid_red_black_lagged", false, "not built: MPI and hypre (nkit::hypre) not found",
+     true, nullptr},
+    {"newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged", false,
      "not built: MPI and hypre (nkit::hypre) not found", true, nullptr},
 #endif
     {"exact_newton_sparse_lu", true, "", false,

@@ -6,7 +6,7 @@
 //   mpirun -np 2 distributed_heat_demo [--cells_per_side=128] [--preconditioner=amg]
 //                                      [--rebuild_every_newton_steps=1] [--help]
 //
-// --preconditioner: schwarz_ilut, schwarz_direct, amg or none.
+// --preconditioner: schwarz_ilut, schwarz_direct, amg, structured_multigrid or none.
 #include <mpi.h>
 
 #include <exception>
@@ -28,7 +28,7 @@ int main(int argc, char** argv) {
   nkit_examples::command_line options("distributed_heat_demo",
                                       "the model problem on MPI ranks (run it with mpirun -np P)");
   options.option("cells_per_side", "128", "n: the grid has n x n cells, split into strips of rows");
-  options.option("preconditioner", "amg", "schwarz_ilut, schwarz_direct, amg or none");
+  options.option("preconditioner", "amg", "schwarz_ilut, schwarz_direct, amg, structured_multigrid or none");
   options.option("rebuild_every_newton_steps", "1", "rebuild the preconditioner at least every this many Newton steps");
   int cells_per_side = 0;
   nkit_problems::strip_preconditioner choice{};

@@ -6,7 +6,8 @@
 /// layer order (DEVELOPERS.md, "Layout"). Optional parts with extra
 /// dependencies are included separately: time/odeint_stepper.hpp (Boost),
 /// distributed/mpi_vector_space.hpp
-/// (MPI), preconditioners/hypre_algebraic_multigrid.hpp (hypre),
+/// (MPI), preconditioners/hypre_algebraic_multigrid.hpp and
+/// preconditioners/hypre_structured_multigrid.hpp (hypre),
 /// preconditioners/suitesparse_direct.hpp (SuiteSparse), report/report_json.hpp
 /// (nlohmann-json).
 
@@ -55,6 +56,7 @@
 #include "preconditioners/jacobi.hpp"
 #include "preconditioners/operator_split_pass.hpp"
 #include "preconditioners/sparse_direct.hpp"
+#include "preconditioners/structured_multigrid_settings.hpp"
 // globalization: per-step strategies
 #include "globalization/bounds.hpp"
 #include "globalization/forcing_term.hpp"

@@ -12,6 +12,7 @@
 #include <nkit/newton/newton_krylov_solver.hpp>
 #include <nkit/preconditioners/additive_schwarz.hpp>
 #include <nkit/preconditioners/hypre_algebraic_multigrid.hpp>
+#include <nkit/preconditioners/hypre_structured_multigrid.hpp>
 #include <stdexcept>
 #include <string>
 #include <string_view>
@@ -20,15 +21,22 @@
 
 namespace nkit_problems {
 
-enum class strip_preconditioner { schwarz_incomplete_lut, schwarz_direct, algebraic_multigrid, none };
+enum class strip_preconditioner {
+  schwarz_incomplete_lut,
+  schwarz_direct,
+  algebraic_multigrid,
+  structured_multigrid,
+  none
+};
 
 inline strip_preconditioner strip_preconditioner_from_name(std::string_view text) {
   if (text == "schwarz_ilut") return strip_preconditioner::schwarz_incomplete_lut;
   if (text == "schwarz_direct") return strip_preconditioner::schwarz_direct;
   if (text == "amg") return strip_preconditioner::algebraic_multigrid;
+  if (text == "structured_multigrid") return strip_preconditioner::structured_multigrid;
   if (text == "none") return strip_preconditioner::none;
   throw std::invalid_argument("unknown preconditioner '" + std::string(text) +
-                              "' (schwarz_ilut, schwarz_direct, amg or none)");
+                              "' (schwarz_ilut, schwarz_direct, amg, structured_multigrid or none)");
 }
 
 /// Settings used for the distributed model problem unless the caller overrides them.
@@ -66,6 +74,10 @@ inline strip_solve_result solve_strip_problem(MPI_Comm communicator, int cells_p
       break;
     case strip_preconditioner::algebraic_multigrid:
       preconditioner = nkit::algebraic_multigrid_preconditioner(communicator, multigrid);
+      break;
+    case strip_preconditioner::structured_multigrid:  // each rank's strip is one box of the n × n grid
+      preconditioner = nkit::structured_multigrid_preconditioner(
+          communicator, nkit::structured_grid({cells_per_side, cells_per_side}));
       break;
     case strip_preconditioner::none:
       break;

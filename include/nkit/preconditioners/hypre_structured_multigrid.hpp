@@ -1,0 +1,479 @@
+#ifndef NKIT_PRECONDITIONERS_HYPRE_STRUCTURED_MULTIGRID_HPP
+#define NKIT_PRECONDITIONERS_HYPRE_STRUCTURED_MULTIGRID_HPP
+
+/// \file preconditioners/hypre_structured_multigrid.hpp
+/// Geometric multigrid preconditioner on a logically rectangular grid: one
+/// (or a few) cycles of hypre's semicoarsening multigrid for stencil matrices
+/// (PFMG, through hypre's structured-grid interface, documented public API
+/// only) per application, with the stencil matrix filled from the assembled
+/// Jacobian.
+///
+/// Method: S.F. Ashby & R.D. Falgout, "A parallel multigrid preconditioned
+/// conjugate gradient algorithm for groundwater flow simulations", Nucl. Sci.
+/// Eng. 124 (1996) 145–159 (semicoarsening in one direction at a time, the
+/// direction of strongest coupling first, with operator-based interpolation
+/// and Galerkin coarse operators); P.N. Brown, R.D. Falgout & J.E. Jones,
+/// "Semicoarsening multigrid on distributed memory machines", SIAM J. Sci.
+/// Comput. 21 (2000) 1823–1834 (the parallel form). Citations not checked
+/// against the papers.
+///
+/// Why beside algebraic_multigrid_preconditioner: on a structured grid the
+/// hierarchy is known from the geometry, so the setup does no coarsening
+/// search and stores stencils instead of general sparse rows; the cycle is a
+/// stencil sweep. Both cost a few fine-grid matrix-vector products per cycle.
+///
+/// The grid: the user declares the global grid as a structured_grid
+/// (grids/structured_grid.hpp: 1, 2 or 3 directions, one unknown per cell,
+/// cell c = i + nx·(j + ny·k)). The Jacobian must couple each cell only with
+/// cells at most one step away in every direction (5/9-point in 2-D, 7- to
+/// 27-point in 3-D); the stencil is the union, over all ranks, of the offsets
+/// found in the Jacobian's pattern, centre always included, widened to the
+/// smallest of the stencils hypre's Galerkin products are written for (5 or
+/// 9 points in 2-D; 7, 19 or 27 in 3-D; a 1-D grid is passed to hypre as
+/// n × 1 with a 5-point stencil). An entry that couples cells further apart
+/// (a periodic wrap, a far coupling) throws std::invalid_argument naming the
+/// row and column. Entries the pattern does not hold are zero in the stencil
+/// matrix. The red/black smoothers need the star stencil (5 or 7 points):
+/// with diagonal couplings, setup() throws std::invalid_argument naming the
+/// setting (hypre's red/black sweep assumes the star and would write out of
+/// bounds).
+///
+/// Distribution: like algebraic_multigrid_preconditioner, in the layout of
+/// distributed/row_partition.hpp (local rows, global columns; the local rows
+/// of the ranks in rank order). Each rank's rows must be whole layers of the
+/// slowest direction (grid rows in 2-D, planes in 3-D): the rank then owns one
+/// box of the grid. Any other split throws std::invalid_argument. One rank
+/// (MPI_COMM_SELF) is a serial structured multigrid.
+///
+/// Cost: setup() fills the stencil values from the Jacobian (one pass over
+/// its entries, no allocation once the sizes are known) and builds the
+/// hierarchy in hypre (interpolation and coarse stencils); apply() copies r
+/// into hypre's vector, runs the cycle(s) and copies the result out, and
+/// allocates nothing in nkit. setup() and apply() are collective. There is
+/// no apply_transpose (hypre's semicoarsening multigrid has no transposed
+/// cycle); adjoint solves need another preconditioner.
+///
+/// Not part of nkit.hpp; link the CMake target nkit::hypre. MPI must be
+/// initialised before the first object is created. Several unknowns per cell
+/// are not supported (the grid's unknowns_per_cell must be 1).
+
+#include <HYPRE.h>
+#include <HYPRE_struct_ls.h>
+#include <HYPRE_struct_mv.h>
+#include <HYPRE_utilities.h>
+#include <mpi.h>
+
+#include <Eigen/Core>
+#include <array>
+#include <cstdint>
+#include <mutex>
+#include <stdexcept>
+#include <string>
+#include <vector>
+
+#include "../core/preconditioner.hpp"
+#include "../distributed/row_partition.hpp"
+#include "../grids/structured_grid.hpp"
+#include "structured_multigrid_settings.hpp"
+
+namespace nkit {
+
+namespace detail {
+
+/// nkit's structured multigrid choices as hypre's documented codes
+/// (HYPRE_struct_ls.h, hypre 2.26: HYPRE_StructPFMGSetRelaxType, SetRAPType).
+inline HYPRE_Int hypre_code(structured_multigrid_smoother value) {
+  switch (value) {
+    case structured_multigrid_smoother::jacobi:
+      return 0;
+    case structured_multigrid_smoother::weighted_jacobi:
+      return 1;
+    case structured_multigrid_smoother::red_black_gauss_seidel_symmetric:
+      return 2;
+    case structured_multigrid_smoother::red_black_gauss_seidel:
+      return 3;
+  }
+  return 2;
+}
+inline HYPRE_Int hypre_code(structured_coarse_operator value) {
+  return value == structured_coarse_operator::non_galerkin ? 1 : 0;
+}
+
+/// The 3^d neighbour offsets as codes 0 … 26: code = (di+1) + 3(dj+1) + 9(dk+1),
+/// so the centre is 13.
+constexpr int stencil_centre_code = 13;
+inline std::array<int, 3> stencil_offset(int code) { return {code % 3 - 1, code / 3 % 3 - 1, code / 9 - 1}; }
+/// Number of directions in which an offset code moves.
+inline int stencil_reach(int code) {
+  const std::array<int, 3> offset = stencil_offset(code);
+  return (offset[0] != 0) + (offset[1] != 0) + (offset[2] != 0);
+}
+/// Codes (as a bit mask) of the offsets moving in at most `directions`
+/// directions, among the offsets of a `dimension`-D grid.
+inline std::uint32_t stencil_mask(int dimension, int directions) {
+  std::uint32_t mask = 0;
+  for (int code = 0; code < 27; ++code) {
+    const bool in_grid = stencil_offset(code)[2] == 0 || dimension == 3;
+    if (in_grid && stencil_reach(code) <= directions) mask |= 1u << code;
+  }
+  return mask;
+}
+/// The star stencil (centre and the 2·dimension axis neighbours).
+inline std::uint32_t star_stencil_mask(int dimension) { return stencil_mask(dimension, 1); }
+/// The smallest stencil hypre's semicoarsening multigrid handles that holds
+/// `mask` (its Galerkin products are written for 5- and 9-point stencils in
+/// 2-D and 7-, 19- and 27-point stencils in 3-D; the extra points are zero).
+inline std::uint32_t supported_stencil_mask(std::uint32_t mask, int dimension) {
+  for (int directions = 1; directions <= dimension; ++directions) {
+    const std::uint32_t candidate = stencil_mask(dimension, directions);
+    if ((mask & ~candidate) == 0) return candidate;
+  }
+  return stencil_mask(dimension, dimension);
+}
+inline bool red_black(structured_multigrid_smoother smoother) {
+  return smoother == structured_multigrid_smoother::red_black_gauss_seidel ||
+         smoother == structured_multigrid_smoother::red_black_gauss_seidel_symmetric;
+}
+
+}  // namespace detail
+
+class structured_multigrid_preconditioner {
+ public:
+  /// All ranks of `communicator` must construct it with the same global grid
+  /// and call setup()/apply() together. Throws std::invalid_argument when the
+  /// grid has more than one unknown per cell or the settings are invalid.
+  structured_multigrid_preconditioner(MPI_Comm communicator, const structured_grid& grid,
+                                      structured_multigrid_settings settings = {})
+      : m_communicator(communicator), m_grid(grid), m_settings(settings) {
+    m_settings.validate();
+    if (grid.unknowns_per_cell() != 1) {
+      throw std::invalid_argument(
+          "nkit: structured_multigrid_preconditioner needs one unknown per cell (the structured_grid has "
+          "unknowns_per_cell = " +
+          std::to_string(grid.unknowns_per_cell()) +
+          "); use algebraic_multigrid_preconditioner, or a field split with this preconditioner per field");
+    }
+    static std::once_flag initialised;
+    std::call_once(initialised, [] { HYPRE_Init(); });
+  }
+  ~structured_multigrid_preconditioner() { release(); }
+  structured_multigrid_preconditioner(const structured_multigrid_preconditioner&) = delete;
+  structured_multigrid_preconditioner& operator=(const structured_multigrid_preconditioner&) = delete;
+  structured_multigrid_preconditioner(structured_multigrid_preconditioner&& other) noexcept : m_grid(other.m_grid) {
+    take(other);
+  }
+  structured_multigrid_preconditioner& operator=(structured_multigrid_preconditioner&& other) noexcept {
+    if (this != &other) {
+      release();
+      take(other);
+    }
+    return *this;
+  }
+
+  const structured_multigrid_settings& settings() const { return m_settings; }
+  /// Takes effect at the next setup().
+  void configure(const structured_multigrid_settings& settings) {
+    settings.validate();
+    m_settings = settings;
+  }
+  const structured_grid& grid() const { return m_grid; }
+  const row_partition& partition() const { return m_partition; }
+  /// Stencil points of the last setup (5 for the 2-D five-point Jacobian).
+  int stencil_size() const { return static_cast<int>(m_stencil_codes.size()); }
+  /// This rank's box: lower and upper cell indices per direction (inclusive).
+  const std::array<HYPRE_Int, 3>& box_lower() const { return m_lower; }
+  const std::array<HYPRE_Int, 3>& box_upper() const { return m_upper; }
+
+  /// Fills the stencil matrix from the assembled Jacobian and builds the
+  /// hierarchy. Collective.
+  template <class Space>
+  setup_status setup(const preconditioner_context<Space>& context) {
+    const sparse_matrix& jacobian = context.assembled_jacobian();
+    set_partition(static_cast<std::int64_t>(context.state.size()));
+    const bool wrong_shape = jacobian.rows() != m_partition.local_rows || jacobian.cols() != m_partition.global_rows ||
+                             !jacobian.isCompressed();
+    if (collective_or(wrong_shape)) {
+      throw std::invalid_argument(
+          "nkit: structured_multigrid_preconditioner needs the Jacobian's local rows with global columns in "
+          "compressed storage (row_partition.hpp); on this rank it is " +
+          std::to_string(jacobian.rows()) + " x " + std::to_string(jacobian.cols()) + ", expected " +
+          std::to_string(m_partition.local_rows) + " x " + std::to_string(m_partition.global_rows));
+    }
+    fill_stencil_values(jacobian);
+    return build();
+  }
+
+  /// z = one application of the multigrid cycle(s) to r. Collective.
+  void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) {
+    if (m_solver == nullptr) {
+      throw std::logic_error("nkit: structured_multigrid_preconditioner::apply called before a successful setup");
+    }
+    if (m_partition.local_rows > 0) {
+      // hypre's interface takes a non-const pointer but only reads the values.
+      HYPRE_StructVectorSetBoxValues(m_right_hand_side, m_lower.data(), m_upper.data(), const_cast<double*>(r.data()));
+    }
+    HYPRE_StructVectorSetConstantValues(m_solution, 0.0);
+    HYPRE_StructPFMGSolve(m_solver, m_matrix, m_right_hand_side, m_solution);
+    if (z.size() != r.size()) z.resize(r.size());
+    if (m_partition.local_rows > 0) {
+      HYPRE_StructVectorGetBoxValues(m_solution, m_lower.data(), m_upper.data(), z.data());
+    }
+  }
+
+ private:
+  /// The grid's dimension in hypre: a 1-D grid is passed as n × 1 (hypre's
+  /// semicoarsening multigrid has no 1-D Galerkin product).
+  int hypre_dimension() const { return m_grid.dimension() < 2 ? 2 : m_grid.dimension(); }
+
+  /// Cells in one layer of the slowest direction.
+  std::int64_t layer_cells() const {
+    std::int64_t cells = 1;
+    for (int a = 0; a + 1 < m_grid.dimension(); ++a) cells *= m_grid.cells(a);
+    return cells;
+  }
+
+  void set_partition(std::int64_t local_rows) {
+    row_partition partition;
+    partition.local_rows = local_rows;
+    MPI_Allreduce(&local_rows, &partition.global_rows, 1, MPI_INT64_T, MPI_SUM, m_communicator);
+    std::int64_t offset = 0;
+    MPI_Exscan(&local_rows, &offset, 1, MPI_INT64_T, MPI_SUM, m_communicator);
+    int rank = 0;
+    MPI_Comm_rank(m_communicator, &rank);
+    partition.first_row = rank == 0 ? 0 : offset;
+    if (partition.global_rows != static_cast<std::int64_t>(m_grid.cell_count())) {
+      throw std::invalid_argument("nkit: structured_multigrid_preconditioner: the ranks hold " +
+                                  std::to_string(partition.global_rows) + " unknowns in all, the grid " +
+                                  m_grid.description() + " has " + std::to_string(m_grid.cell_count()));
+    }
+    const std::int64_t layer = layer_cells();
+    const bool not_whole_layers = partition.first_row % layer != 0 || partition.local_rows % layer != 0;
+    if (collective_or(not_whole_layers)) {
+      throw std::invalid_argument(
+          "nkit: structured_multigrid_preconditioner needs each rank's rows to be whole layers of the slowest grid "
+          "direction (multiples of " +
+          std::to_string(layer) + " cells); on this rank they are rows " + std::to_string(partition.first_row) +
+          " to " + std::to_string(partition.end_row() - 1));
+    }
+    const bool changed = partition.first_row != m_partition.first_row ||
+                         partition.local_rows != m_partition.local_rows || m_grid_handle == nullptr;
+    m_partition = partition;
+    if (changed) create_grid_and_vectors();
+  }
+
+  bool collective_or(bool local) const {
+    int flag = local ? 1 : 0;
+    int result = 0;
+    MPI_Allreduce(&flag, &result, 1, MPI_INT, MPI_LOR, m_communicator);
+    return result != 0;
+  }
+
+  void create_grid_and_vectors() {
+    destroy_matrix_and_solver();
+    destroy_grid_and_vectors();
+    const int dimension = m_grid.dimension();
+    const std::int64_t layer = layer_cells();
+    for (int a = 0; a < 3; ++a) {
+      m_lower[static_cast<std::size_t>(a)] = 0;
+      m_upper[static_cast<std::size_t>(a)] = a < dimension ? m_grid.cells(a) - 1 : 0;
+    }
+    const auto slowest = static_cast<std::size_t>(dimension - 1);
+    m_lower[slowest] = static_cast<HYPRE_Int>(m_partition.first_row / layer);
+    m_upper[slowest] = static_cast<HYPRE_Int>(m_partition.end_row() / layer - 1);
+    HYPRE_StructGridCreate(m_communicator, hypre_dimension(), &m_grid_handle);
+    if (m_partition.local_rows > 0) HYPRE_StructGridSetExtents(m_grid_handle, m_lower.data(), m_upper.data());
+    HYPRE_StructGridAssemble(m_grid_handle);
+    for (HYPRE_StructVector* vector : {&m_right_hand_side, &m_solution}) {
+      HYPRE_StructVectorCreate(m_communicator, m_grid_handle, vector);
+      HYPRE_StructVectorInitialize(*vector);
+      HYPRE_StructVectorAssemble(*vector);
+    }
+    m_stencil_codes.clear();
+  }
+
+  /// Stencil offsets from the pattern (union over ranks) and the values in
+  /// hypre's box order: for each local cell, one value per stencil point.
+  void fill_stencil_values(const sparse_matrix& jacobian) {
+    const int dimension = m_grid.dimension();
+    const std::array<std::int64_t, 3> extent = {m_grid.cells(0), m_grid.cells(1), m_grid.cells(2)};
+    const std::int64_t plane = extent[0] * extent[1];
+    const int* offsets = jacobian.outerIndexPtr();
+    const int* columns = jacobian.innerIndexPtr();
+    const double* values = jacobian.valuePtr();
+    const auto rows = static_cast<std::int64_t>(jacobian.rows());
+    // Pass 1: the code of every entry (reused in pass 2), the local mask, the first bad entry.
+    m_entry_codes.resize(static_cast<std::size_t>(jacobian.nonZeros()));
+    std::uint32_t mask = 1u << detail::stencil_centre_code;
+    std::int64_t bad_row = -1, bad_column = -1;
+    for (std::int64_t row = 0; row < rows && bad_row < 0; ++row) {
+      const std::int64_t cell = m_partition.first_row + row;
+      const std::array<std::int64_t, 3> at = {cell % extent[0], cell / extent[0] % extent[1], cell / plane};
+      for (int k = offsets[row]; k < offsets[row + 1]; ++k) {
+        const std::int64_t column = columns[k];
+        const std::array<std::int64_t, 3> to = {column % extent[0], column / extent[0] % extent[1], column / plane};
+        int code = 0, scale = 1;
+        bool near = true;
+        for (int a = 0; a < 3; ++a) {
+          const std::int64_t step = to[static_cast<std::size_t>(a)] - at[static_cast<std::size_t>(a)];
+          near = near && step >= -1 && step <= 1 && (a < dimension || step == 0);
+          code += scale * static_cast<int>(step + 1);
+          scale *= 3;
+        }
+        if (!near) {
+          bad_row = cell;
+          bad_column = column;
+          break;
+        }
+        m_entry_codes[static_cast<std::size_t>(k)] = static_cast<unsigned char>(code);
+        mask |= 1u << code;
+      }
+    }
+    if (collective_or(bad_row >= 0)) {
+      throw std::invalid_argument(
+          bad_row >= 0
+              ? "nkit: structured_multigrid_preconditioner: the Jacobian couples cell " + std::to_string(bad_row) +
+                    " with cell " + std::to_string(bad_column) + ", which is not a neighbour on the grid " +
+                    m_grid.description() + " (only offsets of at most one cell per direction fit the stencil)"
+              : std::string("nkit: structured_multigrid_preconditioner: another rank's Jacobian couples "
+                            "cells that are not grid neighbours"));
+    }
+    std::uint32_t global_mask = 0;
+    MPI_Allreduce(&mask, &global_mask, 1, MPI_UINT32_T, MPI_BOR, m_communicator);
+    global_mask = detail::supported_stencil_mask(global_mask, hypre_dimension());
+    if (detail::red_black(m_settings.smoother) && global_mask != detail::star_stencil_mask(hypre_dimension())) {
+      throw std::invalid_argument(
+          "nkit: structured_multigrid_settings.smoother = red_black_gauss_seidel(_symmetric) needs a star stencil "
+          "(each cell coupled only with its neighbours along the grid directions: 5 points in 2-D, 7 in 3-D); "
+          "this Jacobian also couples diagonal neighbours: choose weighted_jacobi or jacobi");
+    }
+    // The stencil: codes in increasing order; slot_of_code maps each code to its place.
+    std::vector<int> codes;
+    for (int code = 0; code < 27; ++code) {
+      if (global_mask & (1u << code)) codes.push_back(code);
+    }
+    if (codes != m_stencil_codes) create_stencil(codes);
+    const auto stencil = static_cast<std::size_t>(m_stencil_codes.size());
+    m_values.assign(static_cast<std::size_t>(rows) * stencil, 0.0);
+    for (std::int64_t row = 0; row < rows; ++row) {
+      double* cell_values = m_values.data() + static_cast<std::size_t>(row) * stencil;
+      for (int k = offsets[row]; k < offsets[row + 1]; ++k) {
+        cell_values[m_slot_of_code[m_entry_codes[static_cast<std::size_t>(k)]]] += values[k];
+      }
+    }
+  }
+
+  void create_stencil(const std::vector<int>& codes) {
+    destroy_matrix_and_solver();
+    if (m_stencil != nullptr) HYPRE_StructStencilDestroy(m_stencil);
+    m_stencil_codes = codes;
+    m_slot_of_code.fill(0);
+    m_entries.resize(codes.size());
+    HYPRE_StructStencilCreate(hypre_dimension(), static_cast<HYPRE_Int>(codes.size()), &m_stencil);
+    for (std::size_t slot = 0; slot < codes.size(); ++slot) {
+      const std::array<int, 3> offset = detail::stencil_offset(codes[slot]);
+      std::array<HYPRE_Int, 3> element = {offset[0], offset[1], offset[2]};
+      HYPRE_StructStencilSetElement(m_stencil, static_cast<HYPRE_Int>(slot), element.data());
+      m_slot_of_code[static_cast<std::size_t>(codes[slot])] = static_cast<int>(slot);
+      m_entries[slot] = static_cast<HYPRE_Int>(slot);
+    }
+  }
+
+  setup_status build() {
+    destroy_matrix_and_solver();
+    HYPRE_ClearAllErrors();
+    HYPRE_StructMatrixCreate(m_communicator, m_grid_handle, m_stencil, &m_matrix);
+    HYPRE_StructMatrixInitialize(m_matrix);
+    if (m_partition.local_rows > 0) {
+      HYPRE_StructMatrixSetBoxValues(m_matrix, m_lower.data(), m_upper.data(), static_cast<HYPRE_Int>(m_entries.size()),
+                                     m_entries.data(), m_values.data());
+    }
+    HYPRE_StructMatrixAssemble(m_matrix);
+
+    HYPRE_StructPFMGCreate(m_communicator, &m_solver);
+    HYPRE_StructPFMGSetPrintLevel(m_solver, 0);
+    HYPRE_StructPFMGSetLogging(m_solver, 0);
+    HYPRE_StructPFMGSetTol(m_solver, 0.0);  // a fixed number of cycles, no convergence test
+    HYPRE_StructPFMGSetMaxIter(m_solver, m_settings.cycles_per_application);
+    HYPRE_StructPFMGSetZeroGuess(m_solver);
+    HYPRE_StructPFMGSetRelaxType(m_solver, detail::hypre_code(m_settings.smoother));
+    HYPRE_StructPFMGSetRAPType(m_solver, detail::hypre_code(m_settings.coarse_operator));
+    HYPRE_StructPFMGSetNumPreRelax(m_solver, m_settings.smoothing_sweeps_before);
+    HYPRE_StructPFMGSetNumPostRelax(m_solver, m_settings.smoothing_sweeps_after);
+    HYPRE_StructPFMGSetSkipRelax(m_solver, m_settings.skip_relaxation_where_isotropic ? 1 : 0);
+    if (m_settings.maximum_levels > 0) HYPRE_StructPFMGSetMaxLevels(m_solver, m_settings.maximum_levels);
+    const HYPRE_Int code = HYPRE_StructPFMGSetup(m_solver, m_matrix, m_right_hand_side, m_solution);
+    if (collective_or(code != 0 && !HYPRE_CheckError(code, HYPRE_ERROR_CONV))) {
+      destroy_matrix_and_solver();
+      HYPRE_ClearAllErrors();
+      return setup_status::failed;
+    }
+    HYPRE_ClearAllErrors();
+    return setup_status::ready;
+  }
+
+  void destroy_matrix_and_solver() {
+    if (m_solver != nullptr) HYPRE_StructPFMGDestroy(m_solver);
+    if (m_matrix != nullptr) HYPRE_StructMatrixDestroy(m_matrix);
+    m_solver = nullptr;
+    m_matrix = nullptr;
+  }
+  void destroy_grid_and_vectors() {
+    if (m_right_hand_side != nullptr) HYPRE_StructVectorDestroy(m_right_hand_side);
+    if (m_solution != nullptr) HYPRE_StructVectorDestroy(m_solution);
+    if (m_stencil != nullptr) HYPRE_StructStencilDestroy(m_stencil);
+    if (m_grid_handle != nullptr) HYPRE_StructGridDestroy(m_grid_handle);
+    m_right_hand_side = m_solution = nullptr;
+    m_stencil = nullptr;
+    m_grid_handle = nullptr;
+  }
+  void release() {
+    destroy_matrix_and_solver();
+    destroy_grid_and_vectors();
+  }
+  void take(structured_multigrid_preconditioner& other) {
+    m_communicator = other.m_communicator;
+    m_grid = other.m_grid;
+    m_settings = other.m_settings;
+    m_partition = other.m_partition;
+    m_lower = other.m_lower;
+    m_upper = other.m_upper;
+    m_grid_handle = other.m_grid_handle;
+    m_stencil = other.m_stencil;
+    m_matrix = other.m_matrix;
+    m_right_hand_side = other.m_right_hand_side;
+    m_solution = other.m_solution;
+    m_solver = other.m_solver;
+    m_stencil_codes = std::move(other.m_stencil_codes);
+    m_slot_of_code = other.m_slot_of_code;
+    m_entries = std::move(other.m_entries);
+    m_entry_codes = std::move(other.m_entry_codes);
+    m_values = std::move(other.m_values);
+    other.m_grid_handle = nullptr;
+    other.m_stencil = nullptr;
+    other.m_matrix = nullptr;
+    other.m_right_hand_side = other.m_solution = nullptr;
+    other.m_solver = nullptr;
+  }
+
+  MPI_Comm m_communicator = MPI_COMM_NULL;
+  structured_grid m_grid;
+  structured_multigrid_settings m_settings;
+  row_partition m_partition;
+  std::array<HYPRE_Int, 3> m_lower{};
+  std::array<HYPRE_Int, 3> m_upper{};
+  HYPRE_StructGrid m_grid_handle = nullptr;
+  HYPRE_StructStencil m_stencil = nullptr;
+  HYPRE_StructMatrix m_matrix = nullptr;
+  HYPRE_StructVector m_right_hand_side = nullptr;
+  HYPRE_StructVector m_solution = nullptr;
+  HYPRE_StructSolver m_solver = nullptr;
+  std::vector<int> m_stencil_codes;          ///< neighbour codes of the stencil points, increasing
+  std::array<int, 27> m_slot_of_code{};      ///< stencil point of each code
+  std::vector<HYPRE_Int> m_entries;          ///< 0 … stencil size − 1, for SetBoxValues
+  std::vector<unsigned char> m_entry_codes;  ///< code of each Jacobian entry (setup workspace)
+  std::vector<double> m_values;              ///< stencil values in hypre's box order
+};
+
+}  // namespace nkit
+
+#endif  // NKIT_PRECONDITIONERS_HYPRE_STRUCTURED_MULTIGRID_HPP
