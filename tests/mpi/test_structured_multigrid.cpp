@@ -190,6 +190,13 @@ TEST_CASE("structured multigrid settings reach hypre and repeated applications a
   CHECK(standard.box_lower()[1] == first);
   CHECK(standard.box_upper()[1] == end - 1);
   CHECK((once - again).norm() == 0.0);
+  // The same matrix handed over directly (the way to precondition with a frozen operator).
+  nkit::sparse_matrix local = global.middleRows(first * 32, (end - first) * 32);
+  local.makeCompressed();
+  REQUIRE(standard.setup_from_matrix(local) == nkit::setup_status::ready);
+  Eigen::VectorXd direct(local.rows());
+  standard.apply(r.segment(first * 32, local.rows()), direct);
+  CHECK((direct - once).norm() == 0.0);
   // Each other setting changes one application (a setting hypre ignored would not).
   const auto changed = [&](nkit::structured_multigrid_settings settings) {
     nkit::structured_multigrid_preconditioner other(MPI_COMM_WORLD, grid, settings);

@@ -6,7 +6,8 @@
 /// (or a few) cycles of hypre's semicoarsening multigrid for stencil matrices
 /// (PFMG, through hypre's structured-grid interface, documented public API
 /// only) per application, with the stencil matrix filled from the assembled
-/// Jacobian.
+/// Jacobian (or, through setup_from_matrix(), from an operator the user
+/// supplies: frozen coefficients, a simplified physics).
 ///
 /// Method: S.F. Ashby & R.D. Falgout, "A parallel multigrid preconditioned
 /// conjugate gradient algorithm for groundwater flow simulations", Nucl. Sci.
@@ -188,19 +189,15 @@ class structured_multigrid_preconditioner {
   /// hierarchy. Collective.
   template <class Space>
   setup_status setup(const preconditioner_context<Space>& context) {
-    const sparse_matrix& jacobian = context.assembled_jacobian();
-    set_partition(static_cast<std::int64_t>(context.state.size()));
-    const bool wrong_shape = jacobian.rows() != m_partition.local_rows || jacobian.cols() != m_partition.global_rows ||
-                             !jacobian.isCompressed();
-    if (collective_or(wrong_shape)) {
-      throw std::invalid_argument(
-          "nkit: structured_multigrid_preconditioner needs the Jacobian's local rows with global columns in "
-          "compressed storage (row_partition.hpp); on this rank it is " +
-          std::to_string(jacobian.rows()) + " x " + std::to_string(jacobian.cols()) + ", expected " +
-          std::to_string(m_partition.local_rows) + " x " + std::to_string(m_partition.global_rows));
-    }
-    fill_stencil_values(jacobian);
-    return build();
+    return build_from(context.assembled_jacobian(), static_cast<std::int64_t>(context.state.size()));
+  }
+
+  /// The same from a matrix you supply instead of the Jacobian (a frozen or
+  /// simplified operator with the same layout: this rank's rows, global
+  /// columns, compressed). Use it from the setup of your own preconditioner
+  /// object or of make_preconditioner. Collective.
+  setup_status setup_from_matrix(const sparse_matrix& local_rows) {
+    return build_from(local_rows, static_cast<std::int64_t>(local_rows.rows()));
   }
 
   /// z = one application of the multigrid cycle(s) to r. Collective.
@@ -221,6 +218,21 @@ class structured_multigrid_preconditioner {
   }
 
  private:
+  setup_status build_from(const sparse_matrix& jacobian, std::int64_t local_rows) {
+    set_partition(local_rows);
+    const bool wrong_shape = jacobian.rows() != m_partition.local_rows || jacobian.cols() != m_partition.global_rows ||
+                             !jacobian.isCompressed();
+    if (collective_or(wrong_shape)) {
+      throw std::invalid_argument(
+          "nkit: structured_multigrid_preconditioner needs the Jacobian's local rows with global columns in "
+          "compressed storage (row_partition.hpp); on this rank it is " +
+          std::to_string(jacobian.rows()) + " x " + std::to_string(jacobian.cols()) + ", expected " +
+          std::to_string(m_partition.local_rows) + " x " + std::to_string(m_partition.global_rows));
+    }
+    fill_stencil_values(jacobian);
+    return build();
+  }
+
   /// The grid's dimension in hypre: a 1-D grid is passed as n × 1 (hypre's
   /// semicoarsening multigrid has no 1-D Galerkin product).
   int hypre_dimension() const { return m_grid.dimension() < 2 ? 2 : m_grid.dimension(); }
