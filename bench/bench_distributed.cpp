@@ -5,6 +5,11 @@
 //                        n, rebuild_every_newton_steps, restart_length,
 //                        aggressive_coarsening_levels.
 //                        Runs on all ranks of MPI_COMM_WORLD (strips).
+//   nkit_structured_multigrid  the same with hypre's structured-grid multigrid
+//                        (hypre_structured_multigrid.hpp, one box per rank);
+//                        arguments n, rebuild_every_newton_steps,
+//                        restart_length, red_black (1: red/black Gauss–Seidel
+//                        with non-Galerkin coarse operators; 0: hypre's defaults).
 //   exact_newton_sparse_lu  Newton with the analytic Jacobian factored by
 //                        Eigen::SparseLU every step (one rank; the baselines
 //                        of bench/model_problem_baselines.hpp, which the
@@ -62,18 +67,8 @@ double median_residual_seconds(Problem& problem, const Eigen::VectorXd& t) {
   return samples[5];
 }
 
-void nkit_amg(benchmark::State& state) {
-  const int n = static_cast<int>(state.range(0));
-  nkit::newton_settings settings = nkit_problems::strip_default_settings();
-  settings.preconditioner_rebuild.rebuild_every_newton_steps = static_cast<int>(state.range(1));
-  settings.linear.restart_length = static_cast<int>(state.range(2));
-  nkit::algebraic_multigrid_settings multigrid;
-  multigrid.aggressive_coarsening_levels = static_cast<int>(state.range(3));
-  nkit_problems::strip_solve_result result;
-  for (auto _ : state) {
-    result = nkit_problems::solve_strip_problem(
-        MPI_COMM_WORLD, n, nkit_problems::strip_preconditioner::algebraic_multigrid, settings, multigrid);
-  }
+/// Counters of a distributed nkit solve (shared by the multigrid cases).
+void report_distributed_solve(benchmark::State& state, int n, const nkit_problems::strip_solve_result& result) {
   const nkit::solve_report& report = result.report;
   if (!report.converged()) {
     state.SkipWithError(("not converged: " + std::string(nkit::name(report.reason))).c_str());
@@ -86,10 +81,43 @@ void nkit_amg(benchmark::State& state) {
   state.counters["work_units"] = report.work_units();
   state.counters["setups"] = static_cast<double>(report.preconditioner_setups);
   state.counters["seconds_assembly"] = report.time.jacobian_assembly;
-  state.counters["seconds_amg_setup"] = report.time.preconditioner_setup;
-  state.counters["seconds_amg_apply"] = report.time.preconditioner_apply;
+  state.counters["seconds_preconditioner_setup"] = report.time.preconditioner_setup;
+  state.counters["seconds_preconditioner_apply"] = report.time.preconditioner_apply;
   state.counters["seconds_residual_and_jv"] = report.time.residual + report.time.jacobian_vector;
   state.counters["seconds_orthogonalization"] = report.time.orthogonalization;
+}
+
+void nkit_amg(benchmark::State& state) {
+  const int n = static_cast<int>(state.range(0));
+  nkit::newton_settings settings = nkit_problems::strip_default_settings();
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = static_cast<int>(state.range(1));
+  settings.linear.restart_length = static_cast<int>(state.range(2));
+  nkit::algebraic_multigrid_settings multigrid;
+  multigrid.aggressive_coarsening_levels = static_cast<int>(state.range(3));
+  nkit_problems::strip_solve_result result;
+  for (auto _ : state) {
+    result = nkit_problems::solve_strip_problem(
+        MPI_COMM_WORLD, n, nkit_problems::strip_preconditioner::algebraic_multigrid, settings, multigrid);
+  }
+  report_distributed_solve(state, n, result);
+}
+
+void nkit_structured_multigrid(benchmark::State& state) {
+  const int n = static_cast<int>(state.range(0));
+  nkit::newton_settings settings = nkit_problems::strip_default_settings();
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = static_cast<int>(state.range(1));
+  settings.linear.restart_length = static_cast<int>(state.range(2));
+  nkit::structured_multigrid_settings structured;
+  if (state.range(3) != 0) {
+    structured.smoother = nkit::structured_multigrid_smoother::red_black_gauss_seidel_symmetric;
+    structured.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
+  }
+  nkit_problems::strip_solve_result result;
+  for (auto _ : state) {
+    result = nkit_problems::solve_strip_problem(
+        MPI_COMM_WORLD, n, nkit_problems::strip_preconditioner::structured_multigrid, settings, {}, structured);
+  }
+  report_distributed_solve(state, n, result);
 }
 
 /// A serial baseline of bench/model_problem_baselines.hpp (the same code the
@@ -138,6 +166,13 @@ BENCHMARK(nkit_amg)
     ->ArgNames({"n", "rebuild_every", "restart", "aggressive_levels"})
     ->ArgsProduct({{256, 512, 1024, 2048}, {1, 3}, {50}, {0, 1}})
     ->Args({1024, 1, 20, 0})
+    ->Iterations(1)
+    ->UseRealTime()
+    ->Unit(benchmark::kSecond);
+// nkit + structured multigrid: lagged (every 4 steps), GMRES(10), both smoother families.
+BENCHMARK(nkit_structured_multigrid)
+    ->ArgNames({"n", "rebuild_every", "restart", "red_black"})
+    ->ArgsProduct({{256, 512, 1024, 2048}, {4}, {10}, {0, 1}})
     ->Iterations(1)
     ->UseRealTime()
     ->Unit(benchmark::kSecond);

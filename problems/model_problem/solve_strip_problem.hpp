@@ -61,7 +61,8 @@ struct strip_solve_result {
 /// Solves from T0 = 0. Collective over `communicator`.
 inline strip_solve_result solve_strip_problem(MPI_Comm communicator, int cells_per_side, strip_preconditioner choice,
                                               const nkit::newton_settings& settings = strip_default_settings(),
-                                              const nkit::algebraic_multigrid_settings& multigrid = {}) {
+                                              const nkit::algebraic_multigrid_settings& multigrid = {},
+                                              const nkit::structured_multigrid_settings& structured = {}) {
   using space_type = nkit::mpi_vector_space;
   strip_heat_problem problem(communicator, cells_per_side);
   nkit::any_preconditioner<space_type> preconditioner;
@@ -77,7 +78,7 @@ inline strip_solve_result solve_strip_problem(MPI_Comm communicator, int cells_p
       break;
     case strip_preconditioner::structured_multigrid:  // each rank's strip is one box of the n × n grid
       preconditioner = nkit::structured_multigrid_preconditioner(
-          communicator, nkit::structured_grid({cells_per_side, cells_per_side}));
+          communicator, nkit::structured_grid({cells_per_side, cells_per_side}), structured);
       break;
     case strip_preconditioner::none:
       break;
