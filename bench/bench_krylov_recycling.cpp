@@ -195,6 +195,8 @@ void newton_driver(benchmark::State& state, int recycled, int minimum_cycle_step
     totals.iterations = report.linear_iterations;
     totals.residual_evaluations = report.residual_evaluations;
     state.counters["preconditioner_setups"] = static_cast<double>(report.preconditioner_setups);
+    state.counters["recycled_space_refreshes"] = static_cast<double>(report.recycled_space_refreshes);
+    state.counters["true_residual_mismatches"] = static_cast<double>(report.true_residual_mismatches);
   }
   report_driver(state, 0, cells, totals, recycled);
 }
@@ -226,6 +228,8 @@ void time_stepper(benchmark::State& state, int recycled, int minimum_cycle_steps
     totals.residual_evaluations = report.rate_evaluations;
     state.counters["steps"] = static_cast<double>(report.accepted_steps);
     state.counters["preconditioner_setups"] = static_cast<double>(report.preconditioner_setups);
+    state.counters["recycled_space_refreshes"] = static_cast<double>(report.recycled_space_refreshes);
+    state.counters["true_residual_mismatches"] = static_cast<double>(report.true_residual_mismatches);
   }
   report_driver(state, 1, cells, totals, recycled);
 }

@@ -167,7 +167,16 @@ TEST_CASE("Recycling across the Newton steps of one steady solve: same root, few
     // the subspace.
     CHECK(recycled.report.linear_iterations < plain.report.linear_iterations);
     CHECK(recycled.report.residual_evaluations < plain.report.residual_evaluations);
+    // With the refresh for each Jacobian, every Newton step after the first
+    // (which holds no subspace yet) recomputes C = J M⁻¹ Ũ at least once.
+    INFO("refreshes of C " << recycled.report.recycled_space_refreshes << ", true-residual mismatches "
+                           << recycled.report.true_residual_mismatches << ", Newton steps "
+                           << recycled.report.newton_steps);
+    if (refresh) CHECK(recycled.report.recycled_space_refreshes >= recycled.report.newton_steps - 1);
   }
+  // Without recycling there is nothing to refresh.
+  CHECK(plain.report.recycled_space_refreshes == 0);
+  CHECK(plain.report.true_residual_mismatches == 0);
   // The setting reaches the solver: keeping the subspace through cycles shorter
   // than 8 steps changes the GMRES iterations (measured 68 against 57).
   CHECK(solve_steady(recycled_vectors, false, 8).report.linear_iterations !=

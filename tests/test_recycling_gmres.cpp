@@ -216,6 +216,11 @@ TEST_CASE("a recycled subspace deflates small outlying eigenvalues for a second 
   CHECK(second.iterations < first.iterations);
   // Refreshing C = A Ũ for an undeclared operator costs k products (steps 3–5).
   if (!declare_same_operator) CHECK(second.operator_applications >= second.iterations + k);
+  // A declared (and true) same operator needs no refresh; an undeclared one exactly one, up front.
+  // The operator is the same in both cases, so no true-residual mismatch can arise.
+  CHECK(first.recycled_space_refreshes == 0);  // nothing was held
+  CHECK(second.recycled_space_refreshes == (declare_same_operator ? 0 : 1));
+  CHECK(second.true_residual_mismatches == 0);
   // Bound from theory: on the deflated spectrum [1, 10] (κ = 10) one cycle of
   // m − k steps reduces the residual by at least 2ρ^(m−k), ρ = (√κ − 1)/(√κ + 1)
   // (the Chebyshev bound for GMRES on a symmetric positive definite matrix, Y.
@@ -554,6 +559,9 @@ TEST_CASE("a changed matrix needs the refresh of C = A U that recycling GMRES do
   // estimate/true-residual mismatch (the false declaration), which this checks happened.
   CHECK(result.operator_applications >= result.iterations + settings.recycle_dimension);
   CHECK(result.final_residual_norm <= tolerance * b.norm());
+  // The counters say which path was taken: one refresh either way; a mismatch only after the false declaration.
+  if (declare_same_operator) CHECK(result.true_residual_mismatches >= 1);
+  CHECK(result.recycled_space_refreshes == (declare_same_operator ? 0 : 1) + result.true_residual_mismatches);
 }
 
 TEST_CASE("a zero right-hand side for a new matrix leaves C marked for refresh", "[recycling_gmres]") {

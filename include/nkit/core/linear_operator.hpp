@@ -74,6 +74,13 @@ struct linear_solve_result {
   /// Ḡ P rank deficient), so the previous recycled subspace was kept (cycles
   /// left out by minimum_cycle_steps_for_update are not counted).
   int recycle_updates_skipped = 0;
+  /// Recycling GMRES only: recomputations of C = A M⁻¹ Ũ in this solve (k
+  /// operator and preconditioner applications each): at the start for a
+  /// changed operator, and after each true-residual mismatch.
+  int recycled_space_refreshes = 0;
+  /// Recycling GMRES only: times the Givens estimate met the target but the
+  /// true residual b − A x did not.
+  int true_residual_mismatches = 0;
   bool converged() const { return status == linear_solve_status::converged; }
   /// final_residual_norm / ‖b‖ (0 when b = 0).
   double relative_residual() const {

@@ -363,6 +363,7 @@ class recycling_gmres_solver {
           result.status = linear_solve_status::converged;
           break;
         }
+        ++result.true_residual_mismatches;
         if (total == total_at_last_mismatch || total >= m_settings.maximum_iterations) {
           result.status = total == total_at_last_mismatch ? linear_solve_status::stagnated
                                                           : linear_solve_status::maximum_iterations_reached;
@@ -542,6 +543,7 @@ class recycling_gmres_solver {
     const auto apply = [&](const vector_type& in, vector_type& out) {
       apply_preconditioned(op, preconditioner, in, out, result);
     };
+    ++result.recycled_space_refreshes;
     m_recycled_count =
         detail::refresh_recycled_subspace(m_space, apply, m_recycled_count, m_recycled, m_images, m_new_recycled,
                                           m_kept_factor, m_kept_coordinates, m_scaling, m_sources, m_targets);

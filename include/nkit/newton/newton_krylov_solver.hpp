@@ -487,6 +487,8 @@ class newton_krylov_solver {
     if (m_monitor_stopped) return stop_reason::monitor_requested_stop;
     record.linear_iterations = linear.iterations;
     record.linear_status = linear.status;
+    m_report.recycled_space_refreshes += linear.recycled_space_refreshes;
+    m_report.true_residual_mismatches += linear.true_residual_mismatches;
     m_achieved_eta = linear.relative_residual();
     m_linear_residual_norm = linear.final_residual_norm;
     record.relative_linear_residual = m_achieved_eta;

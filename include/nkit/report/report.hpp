@@ -157,6 +157,12 @@ struct solve_report {
   int newton_steps = 0;
   std::int64_t linear_iterations = 0;
   std::int64_t residual_evaluations = 0;  ///< every call of the user's residual, J·v ones included
+  /// With newton_settings.recycling: recomputations of the recycled space's
+  /// images C = J M⁻¹ Ũ (k J·v products and preconditioner applications
+  /// each), and the linear solves' true-residual mismatches that forced one
+  /// (linear_solve_result has both per solve).
+  std::int64_t recycled_space_refreshes = 0;
+  std::int64_t true_residual_mismatches = 0;
   std::int64_t jacobian_vector_products = 0;
   std::int64_t preconditioner_setups = 0;
   std::int64_t preconditioner_applications = 0;

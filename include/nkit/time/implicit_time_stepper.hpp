@@ -278,6 +278,8 @@ class implicit_time_stepper {
     m_report.newton_steps += record.newton_steps;
     m_report.linear_iterations += record.linear_iterations;
     m_report.preconditioner_setups += record.preconditioner_setups;
+    m_report.recycled_space_refreshes += record.recycled_space_refreshes;
+    m_report.true_residual_mismatches += record.true_residual_mismatches;
     m_report.stage_solves += record.stage_solves;
     m_report.rate_evaluations = m_workspace.rate_evaluations;
     m_report.median_rate_seconds = m_workspace.rate_seconds.median();

@@ -124,6 +124,8 @@ class stage_solver {
     record.newton_steps += inner.newton_steps;
     record.linear_iterations += inner.linear_iterations;
     record.preconditioner_setups += inner.preconditioner_setups;
+    record.recycled_space_refreshes += inner.recycled_space_refreshes;
+    record.true_residual_mismatches += inner.true_residual_mismatches;
     if (inner.newton_steps > 0) {
       m_last_iterations_per_newton_step =
           static_cast<double>(inner.linear_iterations) / static_cast<double>(inner.newton_steps);

@@ -140,6 +140,8 @@ struct time_step_record {
   std::int64_t linear_iterations = 0;
   std::int64_t rate_evaluations = 0;  ///< calls of the user's f(t, u), J·v differences included
   std::int64_t preconditioner_setups = 0;
+  std::int64_t recycled_space_refreshes = 0;  ///< with recycling GMRES (solve_report has the definition)
+  std::int64_t true_residual_mismatches = 0;
   double largest_contraction = 0.0;  ///< largest Newton contraction rate θ among the stages
   double next_step_size = 0.0;       ///< the Δt proposed for the next attempt
   double elapsed_seconds = 0.0;      ///< since the integration began
@@ -161,6 +163,8 @@ struct integration_report {
   std::int64_t linear_iterations = 0;
   std::int64_t rate_evaluations = 0;
   std::int64_t preconditioner_setups = 0;
+  std::int64_t recycled_space_refreshes = 0;  ///< with recycling GMRES (solve_report has the definition)
+  std::int64_t true_residual_mismatches = 0;
   double smallest_accepted_step = std::numeric_limits<double>::infinity();
   double largest_accepted_step = 0.0;
   double wall_seconds = 0.0;
