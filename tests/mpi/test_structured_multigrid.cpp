@@ -50,10 +50,14 @@ Eigen::VectorXd apply_to_rows(nkit::structured_multigrid_preconditioner& multigr
 /// Runs `cycles` cycles per application on the rows of this rank and checks
 /// the gathered result against the sparse-LU solution of the whole system.
 /// Reference: Eigen's SparseLU. Tolerance: 40 V-cycles contract the error by
-/// far more than 10⁻¹⁰ at any cycle convergence factor below 0.5 (multigrid
-/// factors are bounded away from 1 independently of h; Brandt 1977, Math.
-/// Comp. 31, 333–390), so what is left is the rounding of both solves, about
-/// ε times the condition number (≤ 10⁴ here).
+/// far more than 10⁻¹⁰ at any cycle convergence factor below 0.5; multigrid
+/// factors for these diffusion operators are bounded away from 1
+/// independently of h (Brandt 1977, Math. Comp. 31, 333–390, for the
+/// symmetric case; common practice for the mildly nonsymmetric Jacobian and
+/// the non-Galerkin coarse operators). What is left is the rounding of both
+/// solves, about ε times the condition number: of order n² for a
+/// second-difference operator on n cells per side (common practice), at most
+/// 64² ≈ 4·10³ here.
 void check_converges_to_direct_solution(const nkit::structured_grid& grid, const nkit::sparse_matrix& global,
                                         nkit::structured_multigrid_settings settings = {},
                                         bool all_on_first_rank = false) {
@@ -197,6 +201,16 @@ TEST_CASE("structured multigrid settings reach hypre and repeated applications a
   Eigen::VectorXd direct(local.rows());
   standard.apply(r.segment(first * 32, local.rows()), direct);
   CHECK((direct - once).norm() == 0.0);
+  // Moving hands the hierarchy over: the new owner applies the same operator, the old one has none.
+  nkit::structured_multigrid_preconditioner moved(std::move(standard));
+  Eigen::VectorXd after_move(local.rows());
+  moved.apply(r.segment(first * 32, local.rows()), after_move);
+  CHECK((after_move - once).norm() == 0.0);
+  CHECK_THROWS_AS(standard.apply(r.segment(first * 32, local.rows()), after_move), std::logic_error);
+  nkit::structured_multigrid_preconditioner assigned(MPI_COMM_WORLD, grid);
+  assigned = std::move(moved);
+  assigned.apply(r.segment(first * 32, local.rows()), after_move);
+  CHECK((after_move - once).norm() == 0.0);
   // Each other setting changes one application (a setting hypre ignored would not).
   const auto changed = [&](nkit::structured_multigrid_settings settings) {
     nkit::structured_multigrid_preconditioner other(MPI_COMM_WORLD, grid, settings);
@@ -209,8 +223,17 @@ TEST_CASE("structured multigrid settings reach hypre and repeated applications a
   settings = {};
   settings.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
   CHECK(changed(settings));
-  settings.smoother = nkit::structured_multigrid_smoother::red_black_gauss_seidel_symmetric;
-  CHECK(changed(settings));
+  // The two red/black orders against each other (both need non-Galerkin coarse operators).
+  const auto red_black = [&](nkit::structured_multigrid_smoother smoother) {
+    nkit::structured_multigrid_settings choice;
+    choice.smoother = smoother;
+    choice.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
+    nkit::structured_multigrid_preconditioner other(MPI_COMM_WORLD, grid, choice);
+    return nkit_test::gather_all(MPI_COMM_WORLD, apply_to_rows(other, global, first * 32, end * 32, r));
+  };
+  const Eigen::VectorXd symmetric = red_black(nkit::structured_multigrid_smoother::red_black_gauss_seidel_symmetric);
+  const Eigen::VectorXd forward = red_black(nkit::structured_multigrid_smoother::red_black_gauss_seidel);
+  CHECK((symmetric - forward).norm() > 1e-12 * symmetric.norm());
   settings = {};
   settings.skip_relaxation_where_isotropic = false;
   CHECK(changed(settings));
@@ -219,6 +242,9 @@ TEST_CASE("structured multigrid settings reach hypre and repeated applications a
   CHECK(changed(settings));
   settings = {};
   settings.smoothing_sweeps_after = 2;
+  CHECK(changed(settings));
+  settings = {};
+  settings.smoothing_sweeps_before = 2;
   CHECK(changed(settings));
   settings = {};
   settings.maximum_levels = 2;
@@ -292,18 +318,31 @@ TEST_CASE("structured multigrid rejects bad input with the offending value named
       CHECK_THROWS_AS(apply_to_rows(multigrid, periodic, first, end, Eigen::VectorXd::Ones(8)), std::invalid_argument);
     }
   }
-  SECTION("a red/black smoother with a 9-point stencil") {
-    nkit::structured_multigrid_settings red_black;
-    red_black.smoother = nkit::structured_multigrid_smoother::red_black_gauss_seidel;
-    red_black.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
-    nkit::structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD, nkit::structured_grid({8, 8}), red_black);
-    const auto [first, end] = layer_range(8);
-    CHECK_THROWS_WITH(apply_to_rows(multigrid, nine_point_laplacian(8), first * 8, end * 8, Eigen::VectorXd::Ones(64)),
-                      Contains("structured_multigrid_settings.smoother = red_black_gauss_seidel(_symmetric) needs a "
-                               "star stencil"));
+  SECTION("non-Galerkin coarse operators (alone or for a red/black smoother) with a 9-point stencil") {
+    for (const auto smoother : {nkit::structured_multigrid_smoother::weighted_jacobi,
+                                nkit::structured_multigrid_smoother::red_black_gauss_seidel}) {
+      nkit::structured_multigrid_settings non_galerkin;
+      non_galerkin.smoother = smoother;
+      non_galerkin.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
+      nkit::structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD, nkit::structured_grid({8, 8}), non_galerkin);
+      const auto [first, end] = layer_range(8);
+      CHECK_THROWS_WITH(
+          apply_to_rows(multigrid, nine_point_laplacian(8), first * 8, end * 8, Eigen::VectorXd::Ones(64)),
+          Contains("structured_multigrid_settings.coarse_operator = non_galerkin") && Contains("needs a star stencil"));
+      Eigen::VectorXd z;  // the failed setup left nothing to apply
+      CHECK_THROWS_AS(multigrid.apply(Eigen::VectorXd::Ones((end - first) * 8), z), std::logic_error);
+    }
   }
-  SECTION("ranks whose rows are not whole grid rows") {
-    if (nkit_test::world_size() > 1) {
+  SECTION("a vector of another length than this rank's rows") {
+    nkit::structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD, nkit::structured_grid({8, 8}));
+    const auto [first, end] = layer_range(8);
+    apply_to_rows(multigrid, model_jacobian(8, 2), first * 8, end * 8, Eigen::VectorXd::Ones(64));
+    Eigen::VectorXd z;
+    CHECK_THROWS_WITH(multigrid.apply(Eigen::VectorXd::Ones((end - first) * 8 + 1), z),
+                      Contains("apply got a vector of " + std::to_string((end - first) * 8 + 1) + " entries"));
+  }
+  if (nkit_test::world_size() > 1) {
+    SECTION("ranks whose rows are not whole grid rows") {
       // Rank 0 takes one cell more than its grid rows: every rank must throw.
       nkit::structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD, nkit::structured_grid({8, 8}));
       const auto [first, end] = layer_range(8);

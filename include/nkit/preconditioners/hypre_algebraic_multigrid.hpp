@@ -61,7 +61,6 @@
 #include <Eigen/Core>
 #include <cstdint>
 #include <limits>
-#include <mutex>
 #include <stdexcept>
 #include <string>
 #include <vector>
@@ -69,6 +68,7 @@
 #include "../core/preconditioner.hpp"
 #include "../distributed/row_partition.hpp"
 #include "algebraic_multigrid_settings.hpp"
+#include "hypre_library.hpp"
 
 namespace nkit {
 
@@ -183,8 +183,7 @@ class algebraic_multigrid_preconditioner {
   explicit algebraic_multigrid_preconditioner(MPI_Comm communicator, algebraic_multigrid_settings settings = {})
       : m_communicator(communicator), m_settings(settings) {
     m_settings.validate();
-    static std::once_flag initialised;
-    std::call_once(initialised, [] { HYPRE_Init(); });
+    detail::initialise_hypre_once();
   }
   ~algebraic_multigrid_preconditioner() { release(); }
   algebraic_multigrid_preconditioner(const algebraic_multigrid_preconditioner&) = delete;

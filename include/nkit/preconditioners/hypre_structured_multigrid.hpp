@@ -15,8 +15,8 @@
 /// direction of strongest coupling first, with operator-based interpolation
 /// and Galerkin coarse operators); P.N. Brown, R.D. Falgout & J.E. Jones,
 /// "Semicoarsening multigrid on distributed memory machines", SIAM J. Sci.
-/// Comput. 21 (2000) 1823–1834 (the parallel form). Citations not checked
-/// against the papers.
+/// Comput. 21 (2000) 1823–1834 (the parallel form). Both citations from
+/// memory (not checked against the papers).
 ///
 /// Why beside algebraic_multigrid_preconditioner: on a structured grid the
 /// hierarchy is known from the geometry, so the setup does no coarsening
@@ -34,10 +34,11 @@
 /// n × 1 with a 5-point stencil). An entry that couples cells further apart
 /// (a periodic wrap, a far coupling) throws std::invalid_argument naming the
 /// row and column. Entries the pattern does not hold are zero in the stencil
-/// matrix. The red/black smoothers need the star stencil (5 or 7 points):
-/// with diagonal couplings, setup() throws std::invalid_argument naming the
-/// setting (hypre's red/black sweep assumes the star and would write out of
-/// bounds).
+/// matrix. Non-Galerkin coarse operators (and with them the red/black
+/// smoothers, structured_multigrid_settings.hpp) need the star stencil (5 or 7
+/// points): with diagonal couplings, setup() throws std::invalid_argument
+/// naming the setting (hypre forms them for the star only, and its red/black
+/// sweep reads only the star's coefficients).
 ///
 /// Distribution: like algebraic_multigrid_preconditioner, in the layout of
 /// distributed/row_partition.hpp (local rows, global columns; the local rows
@@ -46,9 +47,10 @@
 /// box of the grid. Any other split throws std::invalid_argument. One rank
 /// (MPI_COMM_SELF) is a serial structured multigrid.
 ///
-/// Cost: setup() fills the stencil values from the Jacobian (one pass over
-/// its entries, no allocation once the sizes are known) and builds the
-/// hierarchy in hypre (interpolation and coarse stencils); apply() copies r
+/// Cost: setup() fills the stencil values from the Jacobian (two passes over
+/// its entries; nkit's own buffers are reused once the sizes are known) and
+/// rebuilds the stencil matrix and the hierarchy in hypre (interpolation and
+/// coarse stencils, allocated by hypre at every setup); apply() copies r
 /// into hypre's vector, runs the cycle(s) and copies the result out, and
 /// allocates nothing in nkit. setup() and apply() are collective. There is
 /// no apply_transpose (hypre's semicoarsening multigrid has no transposed
@@ -67,7 +69,6 @@
 #include <Eigen/Core>
 #include <array>
 #include <cstdint>
-#include <mutex>
 #include <stdexcept>
 #include <string>
 #include <vector>
@@ -75,6 +76,7 @@
 #include "../core/preconditioner.hpp"
 #include "../distributed/row_partition.hpp"
 #include "../grids/structured_grid.hpp"
+#include "hypre_library.hpp"
 #include "structured_multigrid_settings.hpp"
 
 namespace nkit {
@@ -154,8 +156,7 @@ class structured_multigrid_preconditioner {
           std::to_string(grid.unknowns_per_cell()) +
           "); use algebraic_multigrid_preconditioner, or a field split with this preconditioner per field");
     }
-    static std::once_flag initialised;
-    std::call_once(initialised, [] { HYPRE_Init(); });
+    detail::initialise_hypre_once();
   }
   ~structured_multigrid_preconditioner() { release(); }
   structured_multigrid_preconditioner(const structured_multigrid_preconditioner&) = delete;
@@ -205,6 +206,11 @@ class structured_multigrid_preconditioner {
     if (m_solver == nullptr) {
       throw std::logic_error("nkit: structured_multigrid_preconditioner::apply called before a successful setup");
     }
+    if (r.size() != m_partition.local_rows) {
+      throw std::invalid_argument("nkit: structured_multigrid_preconditioner::apply got a vector of " +
+                                  std::to_string(r.size()) +
+                                  " entries; this rank's rows at setup: " + std::to_string(m_partition.local_rows));
+    }
     if (m_partition.local_rows > 0) {
       // hypre's interface takes a non-const pointer but only reads the values.
       HYPRE_StructVectorSetBoxValues(m_right_hand_side, m_lower.data(), m_upper.data(), const_cast<double*>(r.data()));
@@ -219,6 +225,7 @@ class structured_multigrid_preconditioner {
 
  private:
   setup_status build_from(const sparse_matrix& jacobian, std::int64_t local_rows) {
+    destroy_matrix_and_solver();  // a setup that throws leaves no stale hierarchy behind
     set_partition(local_rows);
     const bool wrong_shape = jacobian.rows() != m_partition.local_rows || jacobian.cols() != m_partition.global_rows ||
                              !jacobian.isCompressed();
@@ -267,8 +274,9 @@ class structured_multigrid_preconditioner {
           std::to_string(layer) + " cells); on this rank they are rows " + std::to_string(partition.first_row) +
           " to " + std::to_string(partition.end_row() - 1));
     }
-    const bool changed = partition.first_row != m_partition.first_row ||
-                         partition.local_rows != m_partition.local_rows || m_grid_handle == nullptr;
+    // Collective: hypre's grid assembly must be called by every rank together.
+    const bool changed = collective_or(partition.first_row != m_partition.first_row ||
+                                       partition.local_rows != m_partition.local_rows || m_grid_handle == nullptr);
     m_partition = partition;
     if (changed) create_grid_and_vectors();
   }
@@ -300,7 +308,7 @@ class structured_multigrid_preconditioner {
       HYPRE_StructVectorInitialize(*vector);
       HYPRE_StructVectorAssemble(*vector);
     }
-    m_stencil_codes.clear();
+    m_stencil_mask = 0;  // the stencil went with the grid
   }
 
   /// Stencil offsets from the pattern (union over ranks) and the values in
@@ -352,18 +360,15 @@ class structured_multigrid_preconditioner {
     std::uint32_t global_mask = 0;
     MPI_Allreduce(&mask, &global_mask, 1, MPI_UINT32_T, MPI_BOR, m_communicator);
     global_mask = detail::supported_stencil_mask(global_mask, hypre_dimension());
-    if (detail::red_black(m_settings.smoother) && global_mask != detail::star_stencil_mask(hypre_dimension())) {
+    if (m_settings.coarse_operator == structured_coarse_operator::non_galerkin &&
+        global_mask != detail::star_stencil_mask(hypre_dimension())) {
       throw std::invalid_argument(
-          "nkit: structured_multigrid_settings.smoother = red_black_gauss_seidel(_symmetric) needs a star stencil "
-          "(each cell coupled only with its neighbours along the grid directions: 5 points in 2-D, 7 in 3-D); "
-          "this Jacobian also couples diagonal neighbours: choose weighted_jacobi or jacobi");
+          "nkit: structured_multigrid_settings.coarse_operator = non_galerkin (which the red/black smoothers also "
+          "need) needs a star stencil (each cell coupled only with its neighbours along the grid directions: 5 "
+          "points in 2-D, 7 in 3-D); this Jacobian also couples diagonal neighbours: choose galerkin with "
+          "weighted_jacobi or jacobi");
     }
-    // The stencil: codes in increasing order; slot_of_code maps each code to its place.
-    std::vector<int> codes;
-    for (int code = 0; code < 27; ++code) {
-      if (global_mask & (1u << code)) codes.push_back(code);
-    }
-    if (codes != m_stencil_codes) create_stencil(codes);
+    if (global_mask != m_stencil_mask) create_stencil(global_mask);
     const auto stencil = static_cast<std::size_t>(m_stencil_codes.size());
     m_values.assign(static_cast<std::size_t>(rows) * stencil, 0.0);
     for (std::int64_t row = 0; row < rows; ++row) {
@@ -374,10 +379,16 @@ class structured_multigrid_preconditioner {
     }
   }
 
-  void create_stencil(const std::vector<int>& codes) {
+  /// The stencil of `mask`: codes in increasing order; m_slot_of_code maps each code to its place.
+  void create_stencil(std::uint32_t mask) {
     destroy_matrix_and_solver();
     if (m_stencil != nullptr) HYPRE_StructStencilDestroy(m_stencil);
-    m_stencil_codes = codes;
+    m_stencil_mask = mask;
+    m_stencil_codes.clear();
+    for (int code = 0; code < 27; ++code) {
+      if (mask & (1u << code)) m_stencil_codes.push_back(code);
+    }
+    const std::vector<int>& codes = m_stencil_codes;
     m_slot_of_code.fill(0);
     m_entries.resize(codes.size());
     HYPRE_StructStencilCreate(hypre_dimension(), static_cast<HYPRE_Int>(codes.size()), &m_stencil);
@@ -456,6 +467,7 @@ class structured_multigrid_preconditioner {
     m_solution = other.m_solution;
     m_solver = other.m_solver;
     m_stencil_codes = std::move(other.m_stencil_codes);
+    m_stencil_mask = other.m_stencil_mask;
     m_slot_of_code = other.m_slot_of_code;
     m_entries = std::move(other.m_entries);
     m_entry_codes = std::move(other.m_entry_codes);
@@ -479,6 +491,7 @@ class structured_multigrid_preconditioner {
   HYPRE_StructVector m_right_hand_side = nullptr;
   HYPRE_StructVector m_solution = nullptr;
   HYPRE_StructSolver m_solver = nullptr;
+  std::uint32_t m_stencil_mask = 0;          ///< codes of the stencil points as bits (0: none yet)
   std::vector<int> m_stencil_codes;          ///< neighbour codes of the stencil points, increasing
   std::array<int, 27> m_slot_of_code{};      ///< stencil point of each code
   std::vector<HYPRE_Int> m_entries;          ///< 0 … stencil size − 1, for SetBoxValues
