@@ -7,7 +7,9 @@
 // and, through the drivers (newton_settings.recycling, recycle_dimension 10,
 // C refreshed only after a preconditioner setup — the default; the
 // recycling_long_cycles cases also set minimum_cycle_steps_for_update = 10, so
-// that a cycle of fewer than 10 Arnoldi steps keeps the subspace as it is):
+// that a cycle of fewer than 10 Arnoldi steps keeps the subspace as it is; the
+// time stepper's recycling_refresh_each_jacobian case sets
+// refresh_for_each_jacobian = true):
 //   newton_driver/<n>  newton_krylov_solver on the model problem from T = 0 to
 //                      ‖R‖ <= 1e-8 ‖R(0)‖, ILU(0) of the assembled Jacobian on
 //                      the default rebuild schedule, Eisenstat–Walker forcing;
@@ -28,7 +30,8 @@
 // case of the same sequence and size, measured earlier in the same run; the
 // registration order runs the plain case first). The driver cases count
 // newton_steps, linear_iterations, residual_evaluations (every J·v is one),
-// preconditioner_setups, the same ratios (residual_evaluations_vs_gmres) and,
+// preconditioner_setups, recycled_space_refreshes and true_residual_mismatches
+// (solve_report), the same ratios (residual_evaluations_vs_gmres) and,
 // for the time stepper, steps and field_difference = max|T − T_gmres| / max|T_gmres|
 // at the end. Wall time covers the whole
 // sequence (assembly, ILU(0) setups, solves); compare it between the two cases
@@ -202,7 +205,8 @@ void newton_driver(benchmark::State& state, int recycled, int minimum_cycle_step
 }
 
 /// The implicit time stepper (adaptive BDF2, ILU(0) lagged) on h² dT/dt = −R(T).
-void time_stepper(benchmark::State& state, int recycled, int minimum_cycle_steps = 0) {
+void time_stepper(benchmark::State& state, int recycled, int minimum_cycle_steps = 0,
+                  bool refresh_for_each_jacobian = false) {
   const int cells = static_cast<int>(state.range(0));
   const nkit_problems::heat_conduction_model_problem problem(cells);
   nkit::time_stepper_settings settings;
@@ -213,6 +217,7 @@ void time_stepper(benchmark::State& state, int recycled, int minimum_cycle_steps
   settings.stage.newton.linear.restart_length = restart_length;
   settings.stage.newton.recycling.recycle_dimension = recycled;
   settings.stage.newton.recycling.minimum_cycle_steps_for_update = minimum_cycle_steps;
+  settings.stage.newton.recycling.refresh_for_each_jacobian = refresh_for_each_jacobian;
   const double h = problem.cell_size();
   driver_totals totals;
   for (auto _ : state) {
@@ -268,6 +273,14 @@ BENCHMARK_CAPTURE(time_stepper, recycling, recycle_dimension)
     ->Unit(benchmark::kMillisecond);
 
 BENCHMARK_CAPTURE(time_stepper, recycling_long_cycles, recycle_dimension, recycle_dimension)
+    ->Arg(64)
+    ->Arg(128)
+    ->Arg(256)
+    ->Iterations(1)
+    ->Unit(benchmark::kMillisecond);
+// C recomputed before every linear solve: no true-residual mismatches (the
+// Jacobian's shift changes with every step while ILU(0) is lagged).
+BENCHMARK_CAPTURE(time_stepper, recycling_refresh_each_jacobian, recycle_dimension, 0, true)
     ->Arg(64)
     ->Arg(128)
     ->Arg(256)
