@@ -23,6 +23,8 @@ const char* label(strip_preconditioner choice) {
       return "additive Schwarz, local direct";
     case strip_preconditioner::algebraic_multigrid:
       return "BoomerAMG";
+    case strip_preconditioner::structured_multigrid:
+      return "structured multigrid";
     case strip_preconditioner::none:
       return "none";
   }
@@ -62,7 +64,7 @@ TEST_CASE("the strip residual and Jacobian equal the serial model problem's", "[
 TEST_CASE("distributed solves equal the one-rank solve and every rank takes the same branches", "[mpi][distributed]") {
   const strip_preconditioner choice =
       GENERATE(strip_preconditioner::schwarz_incomplete_lut, strip_preconditioner::schwarz_direct,
-               strip_preconditioner::algebraic_multigrid);
+               strip_preconditioner::algebraic_multigrid, strip_preconditioner::structured_multigrid);
   INFO("preconditioner: " << label(choice));
   const int n = 40;
   // Tight Newton tolerance so both solutions are within 1e-10 of the exact

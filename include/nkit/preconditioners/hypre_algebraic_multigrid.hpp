@@ -66,6 +66,7 @@
 #include <vector>
 
 #include "../core/preconditioner.hpp"
+#include "../distributed/mpi_agreement.hpp"
 #include "../distributed/row_partition.hpp"
 #include "algebraic_multigrid_settings.hpp"
 #include "hypre_library.hpp"
@@ -260,30 +261,19 @@ class algebraic_multigrid_preconditioner {
 
  private:
   void set_partition(std::int64_t local_rows) {
-    row_partition partition;
-    partition.local_rows = local_rows;
-    MPI_Allreduce(&local_rows, &partition.global_rows, 1, MPI_INT64_T, MPI_SUM, m_communicator);
-    std::int64_t offset = 0;
-    MPI_Exscan(&local_rows, &offset, 1, MPI_INT64_T, MPI_SUM, m_communicator);
-    int rank = 0;
-    MPI_Comm_rank(m_communicator, &rank);
-    partition.first_row = rank == 0 ? 0 : offset;
+    const row_partition partition = detail::row_partition_over(m_communicator, local_rows);
     if (partition.global_rows > static_cast<std::int64_t>(std::numeric_limits<HYPRE_BigInt>::max())) {
       throw std::invalid_argument("nkit: the problem has more global rows than hypre's HYPRE_BigInt can index");
     }
-    const bool changed = partition.first_row != m_partition.first_row ||
-                         partition.local_rows != m_partition.local_rows ||
-                         partition.global_rows != m_partition.global_rows;
+    // Collective: creating hypre's vectors must be done by every rank together.
+    const bool changed =
+        collective_or(partition.first_row != m_partition.first_row || partition.local_rows != m_partition.local_rows ||
+                      partition.global_rows != m_partition.global_rows || m_right_hand_side == nullptr);
     m_partition = partition;
-    if (changed || m_right_hand_side == nullptr) create_vectors();
+    if (changed) create_vectors();
   }
 
-  bool collective_or(bool local) const {
-    int flag = local ? 1 : 0;
-    int result = 0;
-    MPI_Allreduce(&flag, &result, 1, MPI_INT, MPI_LOR, m_communicator);
-    return result != 0;
-  }
+  bool collective_or(bool local) const { return detail::true_on_any_rank(m_communicator, local); }
 
   void create_vectors() {
     destroy_vectors();

@@ -74,6 +74,7 @@
 #include <vector>
 
 #include "../core/preconditioner.hpp"
+#include "../distributed/mpi_agreement.hpp"
 #include "../distributed/row_partition.hpp"
 #include "../grids/structured_grid.hpp"
 #include "hypre_library.hpp"
@@ -252,14 +253,7 @@ class structured_multigrid_preconditioner {
   }
 
   void set_partition(std::int64_t local_rows) {
-    row_partition partition;
-    partition.local_rows = local_rows;
-    MPI_Allreduce(&local_rows, &partition.global_rows, 1, MPI_INT64_T, MPI_SUM, m_communicator);
-    std::int64_t offset = 0;
-    MPI_Exscan(&local_rows, &offset, 1, MPI_INT64_T, MPI_SUM, m_communicator);
-    int rank = 0;
-    MPI_Comm_rank(m_communicator, &rank);
-    partition.first_row = rank == 0 ? 0 : offset;
+    const row_partition partition = detail::row_partition_over(m_communicator, local_rows);
     if (partition.global_rows != static_cast<std::int64_t>(m_grid.cell_count())) {
       throw std::invalid_argument("nkit: structured_multigrid_preconditioner: the ranks hold " +
                                   std::to_string(partition.global_rows) + " unknowns in all, the grid " +
@@ -281,12 +275,7 @@ class structured_multigrid_preconditioner {
     if (changed) create_grid_and_vectors();
   }
 
-  bool collective_or(bool local) const {
-    int flag = local ? 1 : 0;
-    int result = 0;
-    MPI_Allreduce(&flag, &result, 1, MPI_INT, MPI_LOR, m_communicator);
-    return result != 0;
-  }
+  bool collective_or(bool local) const { return detail::true_on_any_rank(m_communicator, local); }
 
   void create_grid_and_vectors() {
     destroy_matrix_and_solver();
