@@ -110,6 +110,24 @@ inline nkit::newton_settings lagged(nkit::newton_settings settings) {
 }
 
 #if NKIT_BENCH_HAS_HYPRE
+/// hypre needs MPI even for one process: each child process that runs a hypre
+/// configuration starts it once (and finalises it when the solve is done).
+inline void start_mpi_once() {
+  int initialised = 0;
+  MPI_Initialized(&initialised);
+  if (!initialised) MPI_Init(nullptr, nullptr);
+}
+
+/// Red/black Gauss–Seidel (symmetric order) with the non-Galerkin coarse
+/// operators it needs: the structured-multigrid choice measured fastest on
+/// the model problem.
+inline nkit::structured_multigrid_settings red_black_structured_multigrid() {
+  nkit::structured_multigrid_settings multigrid;
+  multigrid.smoother = nkit::structured_multigrid_smoother::red_black_gauss_seidel_symmetric;
+  multigrid.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
+  return multigrid;
+}
+
 /// nkit with BoomerAMG on MPI_COMM_SELF: a serial AMG in a serial code.
 /// GMRES(10): multigrid-preconditioned GMRES needs a few iterations per
 /// Newton step here (about 3), so a 10-vector basis never restarts and holds
@@ -117,9 +135,7 @@ inline nkit::newton_settings lagged(nkit::newton_settings settings) {
 inline void run_algebraic_multigrid(const model& problem, nkit::newton_settings settings,
                                     const nkit::algebraic_multigrid_settings& multigrid = {}) {
   settings.linear.restart_length = 10;
-  int initialised = 0;
-  MPI_Initialized(&initialised);
-  if (!initialised) MPI_Init(nullptr, nullptr);
+  start_mpi_once();
   run_nkit(problem, settings, nkit::algebraic_multigrid_preconditioner(MPI_COMM_SELF, multigrid));
   MPI_Finalize();
 }
@@ -134,9 +150,7 @@ inline nkit::structured_grid model_grid(int cells_per_side, int dimensions) {
 inline void run_structured_multigrid(const model& problem, nkit::newton_settings settings,
                                      const nkit::structured_multigrid_settings& multigrid = {}) {
   settings.linear.restart_length = 10;
-  int initialised = 0;
-  MPI_Initialized(&initialised);
-  if (!initialised) MPI_Init(nullptr, nullptr);
+  start_mpi_once();
   run_nkit(problem, settings,
            nkit::structured_multigrid_preconditioner(
                MPI_COMM_SELF, model_grid(problem.cells_per_side(), problem.dimensions()), multigrid));
@@ -287,9 +301,7 @@ inline const std::vector<configuration>& configurations() {
     // Grid sequencing with BoomerAMG per level (lagged, aggressive coarsening, GMRES(10)).
     {"newton_gmres_grid_sequencing_algebraic_multigrid_lagged_aggressive", true, "", true,
      [](const model& problem, double cap) {
-       int initialised = 0;
-       MPI_Initialized(&initialised);
-       if (!initialised) MPI_Init(nullptr, nullptr);
+       start_mpi_once();
        nkit::newton_settings settings = lagged(suite_newton_settings(cap));
        settings.linear.restart_length = 10;
        nkit::algebraic_multigrid_settings multigrid;
@@ -309,17 +321,12 @@ inline const std::vector<configuration>& configurations() {
      [](const model& problem, double cap) { run_structured_multigrid(problem, lagged(suite_newton_settings(cap))); }},
     {"newton_gmres_structured_multigrid_red_black_lagged", true, "", true,
      [](const model& problem, double cap) {
-       nkit::structured_multigrid_settings multigrid;
-       multigrid.smoother = nkit::structured_multigrid_smoother::red_black_gauss_seidel_symmetric;
-       multigrid.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
-       run_structured_multigrid(problem, lagged(suite_newton_settings(cap)), multigrid);
+       run_structured_multigrid(problem, lagged(suite_newton_settings(cap)), red_black_structured_multigrid());
      }},
     // Grid sequencing with the structured multigrid per level (red/black, non-Galerkin, lagged, GMRES(10)).
     {"newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged", true, "", true,
      [](const model& problem, double cap) {
-       int initialised = 0;
-       MPI_Initialized(&initialised);
-       if (!initialised) MPI_Init(nullptr, nullptr);
+       start_mpi_once();
        nkit::newton_settings settings = lagged(suite_newton_settings(cap));
        settings.linear.restart_length = 10;
        const int finest = sequencing_level_count(problem.cells_per_side()) - 1;
@@ -328,11 +335,9 @@ inline const std::vector<configuration>& configurations() {
        run_grid_sequencing(problem, settings, [&](int level, const nkit::newton_settings& level_settings) {
          const nkit::structured_grid grid =
              model_grid(problem.cells_per_side() >> (finest - level), problem.dimensions());
-         nkit::structured_multigrid_settings multigrid;
-         multigrid.smoother = nkit::structured_multigrid_smoother::red_black_gauss_seidel_symmetric;
-         multigrid.coarse_operator = nkit::structured_coarse_operator::non_galerkin;
-         return solver_type(level_settings, {},
-                            nkit::structured_multigrid_preconditioner(MPI_COMM_SELF, grid, multigrid));
+         return solver_type(
+             level_settings, {},
+             nkit::structured_multigrid_preconditioner(MPI_COMM_SELF, grid, red_black_structured_multigrid()));
        });
        MPI_Finalize();
      }},
