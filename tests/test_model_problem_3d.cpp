@@ -190,3 +190,55 @@ TEST_CASE("the model problem refuses a matrix whose entries its index type canno
   CHECK_THROWS(heat_conduction_model_problem(21000, 10.0, 2).check_index_range<int>());
   CHECK_NOTHROW(big.check_index_range<std::int64_t>());
 }
+
+namespace {
+
+/// Assembles at t1, then again into the same matrix at t2, and compares with a
+/// fresh assembly at t2: equal to the last bit (the same sums in the same order),
+/// and the second assembly wrote into the first one's storage.
+template <class Matrix>
+void check_reassembly_in_place(int n, int dimensions) {
+  const heat_conduction_model_problem problem(n, 10.0, dimensions);
+  const Eigen::VectorXd t1 = Eigen::VectorXd::LinSpaced(problem.unknowns(), 0.0, 0.7);
+  const Eigen::VectorXd t2 = Eigen::VectorXd::LinSpaced(problem.unknowns(), 0.9, -0.2);
+  Matrix reused, fresh;
+  problem.assemble_jacobian(t1, reused);
+  const double* storage = reused.valuePtr();
+  problem.assemble_jacobian(t2, reused);
+  problem.assemble_jacobian(t2, fresh);
+  CHECK(reused.valuePtr() == storage);
+  REQUIRE(reused.nonZeros() == fresh.nonZeros());
+  CHECK(Eigen::MatrixXd(reused) == Eigen::MatrixXd(fresh));
+}
+
+}  // namespace
+
+TEST_CASE("re-assembling the model problem's Jacobian writes the values in place", "[model_problem][3d]") {
+  // Reference: a fresh assembly (triplets summed by Eigen) at the same state.
+  check_reassembly_in_place<Eigen::SparseMatrix<double, Eigen::RowMajor, int>>(5, 2);
+  check_reassembly_in_place<Eigen::SparseMatrix<double, Eigen::ColMajor, int>>(5, 2);
+  check_reassembly_in_place<Eigen::SparseMatrix<double, Eigen::RowMajor, int>>(4, 3);
+  check_reassembly_in_place<Eigen::SparseMatrix<double, Eigen::ColMajor, std::int64_t>>(4, 3);
+  check_reassembly_in_place<Eigen::SparseMatrix<double, Eigen::RowMajor, int>>(1, 2);  // one cell, no neighbours
+}
+
+TEST_CASE("a matrix with another pattern is assembled anew, not written into", "[model_problem][3d]") {
+  // The same size and entry count as the 4 × 4 problem's Jacobian (16 + 2·2·3·4 = 64
+  // entries), but a band instead of the 5-point pattern: the in-place path must
+  // notice and rebuild. Reference: a fresh assembly.
+  const heat_conduction_model_problem problem(4, 10.0, 2);
+  const Eigen::VectorXd t = Eigen::VectorXd::LinSpaced(16, 0.1, 0.5);
+  Eigen::SparseMatrix<double, Eigen::RowMajor, int> other(16, 16), fresh;
+  std::vector<Eigen::Triplet<double, int>> band;
+  for (int row = 0; row < 16; ++row) {
+    for (int column = std::max(0, row - 2); column <= std::min(15, row + 2) && band.size() < 64; ++column) {
+      band.emplace_back(row, column, 1.0);
+    }
+  }
+  other.setFromTriplets(band.begin(), band.end());
+  problem.assemble_jacobian(t, fresh);
+  REQUIRE(fresh.nonZeros() == 64);
+  REQUIRE(other.nonZeros() == 64);
+  problem.assemble_jacobian(t, other);
+  CHECK(Eigen::MatrixXd(other) == Eigen::MatrixXd(fresh));
+}

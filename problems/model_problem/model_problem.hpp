@@ -17,10 +17,12 @@
 
 #include <Eigen/Core>
 #include <Eigen/SparseCore>
+#include <algorithm>
 #include <array>
 #include <limits>
 #include <stdexcept>
 #include <string>
+#include <type_traits>
 #include <vector>
 
 namespace nkit_problems {
@@ -80,11 +82,85 @@ class heat_conduction_model_problem {
 
   /// Analytic Jacobian (derivatives of the fluxes above): ∂R_P/∂T_P = Σ_faces [k_f + T_P (T_P − T_Q)]
   /// plus k_P + 1 + 2 T_P² per wall face; ∂R_P/∂T_Q = −k_f + T_Q (T_P − T_Q).
+  /// The matrix is built in compressed storage directly (no triplets); one
+  /// that already holds this pattern (the previous assembly's) keeps its
+  /// storage and gets its values overwritten: no allocation, no sort.
   template <class SparseMatrix>
   void assemble_jacobian(const Eigen::VectorXd& t, SparseMatrix& jacobian) const {
     check_index_range<typename SparseMatrix::StorageIndex>();
-    std::vector<Eigen::Triplet<double, typename SparseMatrix::StorageIndex>> entries;
-    entries.reserve(static_cast<std::size_t>((2 * m_dimensions + 1) * unknowns()));
+    if (overwrite_jacobian_values(t, jacobian)) return;
+    build_jacobian_pattern(jacobian);
+    overwrite_jacobian_values(t, jacobian);
+  }
+
+  /// The Jacobian's pattern in compressed storage, entries sorted within each
+  /// row (column): cell p and its neighbours. The pattern is symmetric, so
+  /// the same lists serve row- and column-major storage. Values are zero.
+  template <class SparseMatrix>
+  void build_jacobian_pattern(SparseMatrix& jacobian) const {
+    using index_type = typename SparseMatrix::StorageIndex;
+    jacobian.resize(unknowns(), unknowns());
+    jacobian.resizeNonZeros(jacobian_entries());
+    index_type* outer = jacobian.outerIndexPtr();
+    index_type* inner = jacobian.innerIndexPtr();
+    index_type entry = 0;
+    for_each_cell([&](Eigen::Index p, const auto& neighbours) {
+      // In increasing index: −z, −y, −x, p, +x, +y, +z (neighbours are −x, +x, −y, +y[, −z, +z]).
+      Eigen::Index below = -1, above = -1;
+      if constexpr (std::tuple_size<std::decay_t<decltype(neighbours)>>::value == 6) {
+        below = neighbours[4];
+        above = neighbours[5];
+      }
+      const std::array<Eigen::Index, 7> sorted = {below,         neighbours[2], neighbours[0], p,
+                                                  neighbours[1], neighbours[3], above};
+      outer[p] = entry;
+      for (const Eigen::Index q : sorted) {
+        if (q >= 0) inner[entry++] = static_cast<index_type>(q);
+      }
+    });
+    outer[unknowns()] = entry;
+    std::fill(jacobian.valuePtr(), jacobian.valuePtr() + entry, 0.0);
+  }
+
+  /// Entries of the Jacobian: one per cell and two per interior face.
+  Eigen::Index jacobian_entries() const {
+    const auto n = static_cast<Eigen::Index>(m_n);
+    return unknowns() + 2 * m_dimensions * (n - 1) * (m_dimensions == 3 ? n * n : n);
+  }
+
+  /// Writes the analytic Jacobian's values into `jacobian` when it is compressed
+  /// with this problem's entry count and holds every entry (p, q) the stencil
+  /// needs: then each of its entries is written once. Returns false otherwise
+  /// (values possibly part-written), and the caller builds the pattern.
+  template <class SparseMatrix>
+  bool overwrite_jacobian_values(const Eigen::VectorXd& t, SparseMatrix& jacobian) const {
+    using index_type = typename SparseMatrix::StorageIndex;
+    if (jacobian.rows() != unknowns() || jacobian.cols() != unknowns() || !jacobian.isCompressed() ||
+        jacobian.nonZeros() != jacobian_entries()) {
+      return false;
+    }
+    const index_type* outer = jacobian.outerIndexPtr();
+    const index_type* inner = jacobian.innerIndexPtr();
+    double* values = jacobian.valuePtr();
+    bool complete = true;
+    const auto write = [&](Eigen::Index p, Eigen::Index q, double value) {
+      const Eigen::Index major = SparseMatrix::IsRowMajor ? p : q;
+      const auto minor = static_cast<index_type>(SparseMatrix::IsRowMajor ? q : p);
+      for (index_type k = outer[major]; k < outer[major + 1]; ++k) {
+        if (inner[k] == minor) {
+          values[k] = value;
+          return;
+        }
+      }
+      complete = false;
+    };
+    for_each_jacobian_entry(t, write);
+    return complete;
+  }
+
+  /// Calls emit(p, q, ∂R_p/∂T_q) for every entry of the analytic Jacobian, row by row.
+  template <class Emit>
+  void for_each_jacobian_entry(const Eigen::VectorXd& t, Emit&& emit) const {
     for_each_cell([&](Eigen::Index p, const auto& neighbours) {
       const double k_p = conductivity(t(p));
       double diagonal = 0.0;
@@ -96,12 +172,10 @@ class heat_conduction_model_problem {
         }
         const double k_f = 0.5 * (k_p + conductivity(t(q)));
         diagonal += k_f + t(p) * (t(p) - t(q));
-        entries.emplace_back(p, q, -k_f + t(q) * (t(p) - t(q)));
+        emit(p, q, -k_f + t(q) * (t(p) - t(q)));
       }
-      entries.emplace_back(p, p, diagonal);
+      emit(p, p, diagonal);
     });
-    jacobian.resize(unknowns(), unknowns());
-    jacobian.setFromTriplets(entries.begin(), entries.end());
   }
 
   /// The frozen-coefficient (Picard) matrix A(T): every face conductance
