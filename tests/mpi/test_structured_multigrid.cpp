@@ -318,6 +318,31 @@ TEST_CASE("structured multigrid rejects bad input with the offending value named
       CHECK_THROWS_AS(apply_to_rows(multigrid, periodic, first, end, Eigen::VectorXd::Ones(8)), std::invalid_argument);
     }
   }
+  SECTION("a coupling across the end of a grid row or column, one index step away") {
+    // Cell 7 = (7, 0) and cell 8 = (0, 1) on 8 × 8; cell 56 = (0, 7, 0) and cell 64 = (0, 0, 1)
+    // on 8³: adjacent indices, not neighbours (each step lands off the grid).
+    for (const int dimensions : {2, 3}) {
+      const int from = dimensions == 2 ? 7 : 56, to = dimensions == 2 ? 8 : 64;
+      nkit::sparse_matrix wrapped = model_jacobian(8, dimensions);
+      wrapped.coeffRef(from, to) = -1.0;
+      wrapped.coeffRef(to, from) = -1.0;
+      wrapped.makeCompressed();
+      const int layer = dimensions == 2 ? 8 : 64;
+      const auto cells = static_cast<int>(wrapped.rows());
+      nkit::structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD,
+                                                          nkit::structured_grid(std::vector<int>(dimensions, 8)));
+      const auto [first, end] = layer_range(8);
+      INFO(dimensions << "-D");
+      if (first == 0) {
+        CHECK_THROWS_WITH(apply_to_rows(multigrid, wrapped, first * layer, end * layer, Eigen::VectorXd::Ones(cells)),
+                          Contains("couples cell " + std::to_string(from) + " with cell " + std::to_string(to) +
+                                   ", which is not a neighbour"));
+      } else {
+        CHECK_THROWS_AS(apply_to_rows(multigrid, wrapped, first * layer, end * layer, Eigen::VectorXd::Ones(cells)),
+                        std::invalid_argument);
+      }
+    }
+  }
   SECTION("non-Galerkin coarse operators (alone or for a red/black smoother) with a 9-point stencil") {
     for (const auto smoother : {nkit::structured_multigrid_smoother::weighted_jacobi,
                                 nkit::structured_multigrid_smoother::red_black_gauss_seidel}) {

@@ -48,7 +48,9 @@
 /// (MPI_COMM_SELF) is a serial structured multigrid.
 ///
 /// Cost: setup() fills the stencil values from the Jacobian (two passes over
-/// its entries; nkit's own buffers are reused once the sizes are known) and
+/// its entries, the second a slab of about 65,536 cells at a time, so nkit's
+/// buffers hold one byte per Jacobian entry plus one slab; reused once the
+/// sizes are known) and
 /// rebuilds the stencil matrix and the hierarchy in hypre (interpolation and
 /// coarse stencils, allocated by hypre at every setup); apply() copies r
 /// into hypre's vector, runs the cycle(s) and copies the result out, and
@@ -237,8 +239,8 @@ class structured_multigrid_preconditioner {
           std::to_string(jacobian.rows()) + " x " + std::to_string(jacobian.cols()) + ", expected " +
           std::to_string(m_partition.local_rows) + " x " + std::to_string(m_partition.global_rows));
     }
-    fill_stencil_values(jacobian);
-    return build();
+    classify_entries(jacobian);
+    return build(jacobian);
   }
 
   /// The grid's dimension in hypre: a 1-D grid is passed as n × 1 (hypre's
@@ -300,32 +302,48 @@ class structured_multigrid_preconditioner {
     m_stencil_mask = 0;  // the stencil went with the grid
   }
 
-  /// Stencil offsets from the pattern (union over ranks) and the values in
-  /// hypre's box order: for each local cell, one value per stencil point.
-  void fill_stencil_values(const sparse_matrix& jacobian) {
+  /// The stencil point of every Jacobian entry (m_entry_codes), and the
+  /// stencil itself from the pattern (union over ranks).
+  void classify_entries(const sparse_matrix& jacobian) {
     const int dimension = m_grid.dimension();
     const std::array<std::int64_t, 3> extent = {m_grid.cells(0), m_grid.cells(1), m_grid.cells(2)};
     const std::int64_t plane = extent[0] * extent[1];
     const int* offsets = jacobian.outerIndexPtr();
     const int* columns = jacobian.innerIndexPtr();
-    const double* values = jacobian.valuePtr();
     const auto rows = static_cast<std::int64_t>(jacobian.rows());
     // Pass 1: the code of every entry (reused in pass 2), the local mask, the first bad entry.
     m_entry_codes.resize(static_cast<std::size_t>(jacobian.nonZeros()));
     std::uint32_t mask = 1u << detail::stencil_centre_code;
     std::int64_t bad_row = -1, bad_column = -1;
+    // The steps (dx, dy, dz) of an entry follow from d = column − cell = dx + nx·dy + plane·dz by
+    // comparisons alone when that has one solution with |dx|, |dy|, |dz| <= 1: when nx >= 3 and,
+    // in 3-D, ny >= 3 (then |dx + nx·dy| <= nx + 1 < plane/2 and |dx| <= 1 < nx/2). Narrower
+    // grids take the coordinates of the column by division.
+    const bool steps_by_comparison = (dimension < 2 || extent[0] >= 3) && (dimension < 3 || extent[1] >= 3);
     for (std::int64_t row = 0; row < rows && bad_row < 0; ++row) {
       const std::int64_t cell = m_partition.first_row + row;
       const std::array<std::int64_t, 3> at = {cell % extent[0], cell / extent[0] % extent[1], cell / plane};
       for (int k = offsets[row]; k < offsets[row + 1]; ++k) {
         const std::int64_t column = columns[k];
-        const std::array<std::int64_t, 3> to = {column % extent[0], column / extent[0] % extent[1], column / plane};
+        std::array<std::int64_t, 3> step{};
+        if (steps_by_comparison) {
+          std::int64_t d = column - cell;
+          step[2] = dimension < 3 ? 0 : 2 * d > plane ? 1 : 2 * d < -plane ? -1 : 0;
+          d -= step[2] * plane;
+          step[1] = dimension < 2 ? 0 : 2 * d > extent[0] ? 1 : 2 * d < -extent[0] ? -1 : 0;
+          step[0] = d - step[1] * extent[0];
+        } else {
+          step = {column % extent[0] - at[0], column / extent[0] % extent[1] - at[1], column / plane - at[2]};
+        }
+        // Near when every step is −1, 0 or 1 (0 beyond the grid's dimension) and lands on the grid:
+        // then column is the cell at + step, whichever way the steps were found.
         int code = 0, scale = 1;
         bool near = true;
-        for (int a = 0; a < 3; ++a) {
-          const std::int64_t step = to[static_cast<std::size_t>(a)] - at[static_cast<std::size_t>(a)];
-          near = near && step >= -1 && step <= 1 && (a < dimension || step == 0);
-          code += scale * static_cast<int>(step + 1);
+        for (std::size_t a = 0; a < 3; ++a) {
+          const std::int64_t to = at[a] + step[a];
+          near = near && step[a] >= -1 && step[a] <= 1 && (static_cast<int>(a) < dimension || step[a] == 0) &&
+                 to >= 0 && to < extent[a];
+          code += scale * static_cast<int>(step[a] + 1);
           scale *= 3;
         }
         if (!near) {
@@ -358,13 +376,38 @@ class structured_multigrid_preconditioner {
           "weighted_jacobi or jacobi");
     }
     if (global_mask != m_stencil_mask) create_stencil(global_mask);
+  }
+
+  /// Copies the Jacobian's values into hypre's stencil matrix, a slab of
+  /// whole layers of the slowest direction at a time (hypre's box order: for
+  /// each cell, one value per stencil point), so that the staging buffer
+  /// holds at most about staging_cells cells, not the whole box.
+  void copy_values_into_matrix(const sparse_matrix& jacobian) {
+    if (m_partition.local_rows == 0) return;
+    constexpr std::int64_t staging_cells = std::int64_t{1} << 16;
+    const int* offsets = jacobian.outerIndexPtr();
+    const double* values = jacobian.valuePtr();
     const auto stencil = static_cast<std::size_t>(m_stencil_codes.size());
-    m_values.assign(static_cast<std::size_t>(rows) * stencil, 0.0);
-    for (std::int64_t row = 0; row < rows; ++row) {
-      double* cell_values = m_values.data() + static_cast<std::size_t>(row) * stencil;
-      for (int k = offsets[row]; k < offsets[row + 1]; ++k) {
-        cell_values[m_slot_of_code[m_entry_codes[static_cast<std::size_t>(k)]]] += values[k];
+    const std::int64_t layer = layer_cells();
+    const std::int64_t layers_per_slab = std::max<std::int64_t>(1, staging_cells / layer);
+    const auto slowest = static_cast<std::size_t>(m_grid.dimension() - 1);
+    std::array<HYPRE_Int, 3> lower = m_lower, upper = m_upper;
+    for (std::int64_t first_layer = m_lower[slowest]; first_layer <= m_upper[slowest]; first_layer += layers_per_slab) {
+      const std::int64_t last_layer = std::min<std::int64_t>(first_layer + layers_per_slab - 1, m_upper[slowest]);
+      const std::int64_t first_row = (first_layer - m_lower[slowest]) * layer;
+      const std::int64_t slab_rows = (last_layer - first_layer + 1) * layer;
+      m_values.assign(static_cast<std::size_t>(slab_rows) * stencil, 0.0);
+      for (std::int64_t cell = 0; cell < slab_rows; ++cell) {
+        double* cell_values = m_values.data() + static_cast<std::size_t>(cell) * stencil;
+        const std::int64_t row = first_row + cell;
+        for (int k = offsets[row]; k < offsets[row + 1]; ++k) {
+          cell_values[m_slot_of_code[m_entry_codes[static_cast<std::size_t>(k)]]] += values[k];
+        }
       }
+      lower[slowest] = static_cast<HYPRE_Int>(first_layer);
+      upper[slowest] = static_cast<HYPRE_Int>(last_layer);
+      HYPRE_StructMatrixSetBoxValues(m_matrix, lower.data(), upper.data(), static_cast<HYPRE_Int>(m_entries.size()),
+                                     m_entries.data(), m_values.data());
     }
   }
 
@@ -390,15 +433,12 @@ class structured_multigrid_preconditioner {
     }
   }
 
-  setup_status build() {
+  setup_status build(const sparse_matrix& jacobian) {
     destroy_matrix_and_solver();
     HYPRE_ClearAllErrors();
     HYPRE_StructMatrixCreate(m_communicator, m_grid_handle, m_stencil, &m_matrix);
     HYPRE_StructMatrixInitialize(m_matrix);
-    if (m_partition.local_rows > 0) {
-      HYPRE_StructMatrixSetBoxValues(m_matrix, m_lower.data(), m_upper.data(), static_cast<HYPRE_Int>(m_entries.size()),
-                                     m_entries.data(), m_values.data());
-    }
+    copy_values_into_matrix(jacobian);
     HYPRE_StructMatrixAssemble(m_matrix);
 
     HYPRE_StructPFMGCreate(m_communicator, &m_solver);
@@ -485,7 +525,7 @@ class structured_multigrid_preconditioner {
   std::array<int, 27> m_slot_of_code{};      ///< stencil point of each code
   std::vector<HYPRE_Int> m_entries;          ///< 0 … stencil size − 1, for SetBoxValues
   std::vector<unsigned char> m_entry_codes;  ///< code of each Jacobian entry (setup workspace)
-  std::vector<double> m_values;              ///< stencil values in hypre's box order
+  std::vector<double> m_values;              ///< one slab's stencil values in hypre's box order
 };
 
 }  // namespace nkit
