@@ -89,8 +89,16 @@ double unknowns_of(int n, int dimensions) { return dimensions == 3 ? double(n) *
 /// Empty when size n should run; otherwise why not.
 std::string reason_to_skip(const std::vector<history_entry>& earlier, int n, int dimensions) {
   const double unknowns = unknowns_of(n, dimensions);
-  if (earlier.empty()) return {};
-  const history_entry& last = earlier.back();
+  // Only smaller sizes count: with --benchmark_repetitions the same size
+  // comes again and must neither project from itself nor be skipped.
+  std::vector<history_entry> smaller;
+  for (const history_entry& entry : earlier) {
+    if (entry.unknowns >= unknowns) continue;
+    if (!smaller.empty() && smaller.back().unknowns == entry.unknowns) smaller.pop_back();  // keep its latest run
+    smaller.push_back(entry);
+  }
+  if (smaller.empty()) return {};
+  const history_entry& last = smaller.back();
   char text[200];
   if (!last.reached) {
     std::snprintf(text, sizeof text, "not run: did not reach the criterion at n = %d", last.n);
@@ -99,8 +107,8 @@ std::string reason_to_skip(const std::vector<history_entry>& earlier, int n, int
   // Growth exponent in N from the last two sizes (at least 1: no solver is
   // cheaper than linear), projected to this size.
   double exponent = 1.0;
-  if (earlier.size() >= 2) {
-    const history_entry& before = earlier[earlier.size() - 2];
+  if (smaller.size() >= 2) {
+    const history_entry& before = smaller[smaller.size() - 2];
     exponent = std::max(1.0, std::log(last.seconds / before.seconds) / std::log(last.unknowns / before.unknowns));
   }
   const double growth = std::pow(unknowns / last.unknowns, exponent);
