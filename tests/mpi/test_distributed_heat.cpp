@@ -4,6 +4,7 @@
 // (problems/model_problem/model_problem.hpp).
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <cstdlib>
 #include <nkit/core/eigen_vector_space.hpp>
 
 #include "mpi/mpi_support.hpp"
@@ -82,7 +83,19 @@ TEST_CASE("distributed solves equal the one-rank solve and every rank takes the 
   const Eigen::VectorXd solution = gather_all(MPI_COMM_WORLD, distributed.local_temperature);
   const Eigen::VectorXd& reference = one_rank.local_temperature;
   CHECK((solution - reference).norm() <= 1e-10 * reference.norm());
-  CHECK(distributed.report.newton_steps == one_rank.report.newton_steps);
+  // Additive Schwarz is a different preconditioner for each number of ranks
+  // (one subdomain per rank), so its GMRES solves stop at other points within
+  // the forcing term and the Newton step count may differ by one near the
+  // stopping test (seen with 3 ranks: 6 against 5). The multigrid cycles change
+  // little with the split (BoomerAMG's parallel coarsening does depend on it),
+  // and their counts matched the one-rank solve on 1, 2 and 3 ranks.
+  const bool split_dependent =
+      choice == strip_preconditioner::schwarz_incomplete_lut || choice == strip_preconditioner::schwarz_direct;
+  if (split_dependent) {
+    CHECK(std::abs(distributed.report.newton_steps - one_rank.report.newton_steps) <= 1);
+  } else {
+    CHECK(distributed.report.newton_steps == one_rank.report.newton_steps);
+  }
 
   // Every rank made the same decisions: identical outcome, counts, norms,
   // forcing terms and step lengths, bit for bit.
