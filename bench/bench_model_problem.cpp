@@ -11,7 +11,10 @@
 //       units, iterations, peak resident memory (VmHWM). A configuration that
 //       did not reach the criterion within the time cap is reported with the
 //       residual it reached, and its larger sizes are skipped.
-//   residual_evaluation/<n>       one evaluation of R: the work unit
+//   residual_evaluation/<n>       one evaluation of R: the work unit, its flop rate
+//                                 and least memory traffic as fractions of the
+//                                 arithmetic peak and of the triad
+//   arithmetic_peak               independent multiply–add chains: one core's flop rate as built
 //   unwritten_entry_check/<n>     marker fill + scan of r, in work units
 //   stream_triad/<N>              a = b + s c, the memory-bandwidth limit
 //   orthogonalization/<n>         GMRES(30) Gram–Schmidt on a 2D 5-point operator

@@ -210,8 +210,18 @@ def kernel_lines(kernels):
     for entry in kernels:
         name = entry["name"]
         if name.startswith("residual_evaluation/"):
-            lines.append("- one residual evaluation at n = %s: %.3g ms (the work unit)" %
-                         (name.split("/")[1], entry["real_time"] if entry.get("time_unit") == "ms" else float("nan")))
+            line = "- one residual evaluation at n = %s: %.3g ms (the work unit)" % (
+                name.split("/")[1], entry["real_time"] if entry.get("time_unit") == "ms" else float("nan"))
+            if "fraction_of_arithmetic_peak" in entry:
+                line += "; %.1f flops per cell, %.0f %% of the arithmetic peak" % (
+                    entry["flops_per_cell"], 100.0 * entry["fraction_of_arithmetic_peak"])
+            if "least_fraction_of_triad" in entry:
+                line += "; least traffic (16 bytes per cell) %.0f %% of the triad" % (
+                    100.0 * entry["least_fraction_of_triad"])
+            lines.append(line)
+        elif name == "arithmetic_peak" and "flops_per_second" in entry:
+            lines.append("- arithmetic peak as built (one core, independent multiply-add chains): %.1f GFLOP/s" %
+                         (entry["flops_per_second"] / 1e9))
         elif name.startswith("orthogonalization/"):
             fields = dict(part.split(":") for part in name.split("/")[1:] if ":" in part)
             lines.append("- GMRES(30) orthogonalisation, %s² unknowns, %s thread(s), reorthogonalisation %s: "

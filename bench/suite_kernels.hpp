@@ -1,6 +1,7 @@
-// In-process kernels of the performance suite: the work unit, the cost of
-// the unwritten-entry check, the bandwidth limit, GMRES orthogonalisation bandwidth, Newton–GMRES time per
-// unknown on Broyden's tridiagonal system, and the cost of tracing.
+// In-process kernels of the performance suite: the work unit (with its
+// fractions of the arithmetic peak and of the triad), the cost of
+// the unwritten-entry check, the bandwidth limit, the arithmetic peak, GMRES orthogonalisation bandwidth, Newton–GMRES
+// time per unknown on Broyden's tridiagonal system, and the cost of tracing.
 #ifndef NKIT_BENCH_SUITE_KERNELS_HPP
 #define NKIT_BENCH_SUITE_KERNELS_HPP
 
@@ -39,16 +40,69 @@ inline std::map<int, double>& triad_bandwidth() {
 }
 inline constexpr Eigen::Index dram_triad_length = Eigen::Index(1) << 24;  // 3 arrays of 128 MiB: 12× the L3
 
-/// One residual evaluation of the model problem at n × n (the work unit).
+/// Floating-point operations per second one core reaches on independent
+/// multiply–add chains as this build compiles them (filled by
+/// arithmetic_peak; read by residual_evaluation).
+inline double& arithmetic_peak_flops() {
+  static double value = 0.0;
+  return value;
+}
+
+/// The arithmetic peak as built: 32 independent chains a ← a·m + c (a multiply
+/// and an add, 2 flops each) over registers, so neither memory nor latency
+/// limits it; the compiler vectorises them with whatever instruction set the
+/// build targets (no -march by default: SSE2, two doubles per instruction, no
+/// fused multiply–add). One core.
+inline void arithmetic_peak(benchmark::State& state) {
+  constexpr int chains = 32;
+  constexpr long long rounds = 1 << 20;
+  alignas(64) double a[chains];
+  for (int k = 0; k < chains; ++k) a[k] = 1.0 + 1e-3 * k;
+  double m = 0.999999, c = 1e-7;
+  benchmark::DoNotOptimize(m);
+  benchmark::DoNotOptimize(c);
+  double seconds = 0.0;
+  for (auto _ : state) {
+    const auto start = std::chrono::steady_clock::now();
+    for (long long round = 0; round < rounds; ++round) {
+      for (int k = 0; k < chains; ++k) a[k] = a[k] * m + c;
+    }
+    benchmark::DoNotOptimize(a);
+    seconds += std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  }
+  const double flops = 2.0 * chains * static_cast<double>(rounds) * static_cast<double>(state.iterations());
+  arithmetic_peak_flops() = flops / seconds;
+  state.counters["flops_per_second"] = flops / seconds;
+}
+
+/// One residual evaluation of the model problem at n × n (the work unit), with
+/// its arithmetic rate (heat_conduction_model_problem::residual_flops) as a
+/// fraction of the arithmetic peak, and its least memory traffic (t read and r
+/// written once: 16 bytes per cell, counted as the triad counts) as a fraction
+/// of the one-thread triad from memory, when those ran earlier in the same run.
 inline void residual_evaluation(benchmark::State& state) {
   const int n = static_cast<int>(state.range(0));
   const nkit_problems::heat_conduction_model_problem problem(n);
   Eigen::VectorXd t = Eigen::VectorXd::Constant(problem.unknowns(), 0.3), r(problem.unknowns());
+  double seconds = 0.0;
   for (auto _ : state) {
+    const auto start = std::chrono::steady_clock::now();
     problem(t, r);
     benchmark::DoNotOptimize(r.data());
+    seconds += std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   }
-  state.counters["unknowns"] = static_cast<double>(problem.unknowns());
+  const auto cells = static_cast<double>(problem.unknowns());
+  const double per_evaluation = seconds / static_cast<double>(state.iterations());
+  const double flop_rate = problem.residual_flops() / per_evaluation;
+  const double byte_rate = 16.0 * cells / per_evaluation;
+  state.counters["unknowns"] = cells;
+  state.counters["nanoseconds_per_cell"] = 1e9 * per_evaluation / cells;
+  state.counters["flops_per_cell"] = problem.residual_flops() / cells;
+  state.counters["flops_per_second"] = flop_rate;
+  state.counters["least_bytes_per_second"] = byte_rate;
+  if (arithmetic_peak_flops() > 0.0)
+    state.counters["fraction_of_arithmetic_peak"] = flop_rate / arithmetic_peak_flops();
+  if (triad_bandwidth().count(1) != 0) state.counters["least_fraction_of_triad"] = byte_rate / triad_bandwidth()[1];
 }
 
 /// The cost of the unwritten-entry check (newton_settings::
@@ -276,10 +330,7 @@ inline void trace_overhead(benchmark::State& state) {
 }
 
 inline void register_kernel_benchmarks(const std::vector<int>& sizes, const std::vector<int>& threads) {
-  for (const int n : sizes) {
-    benchmark::RegisterBenchmark("residual_evaluation", residual_evaluation)->Arg(n)->Unit(benchmark::kMillisecond);
-    benchmark::RegisterBenchmark("unwritten_entry_check", unwritten_entry_check)->Arg(n)->Unit(benchmark::kMillisecond);
-  }
+  // The triad and the arithmetic peak first: the residual evaluation reports fractions of both.
   for (const int t : threads) {
     for (const Eigen::Index length :
          {Eigen::Index(256 * 256), Eigen::Index(512 * 512), Eigen::Index(1024 * 1024), dram_triad_length}) {
@@ -289,6 +340,11 @@ inline void register_kernel_benchmarks(const std::vector<int>& sizes, const std:
           ->UseRealTime()
           ->Unit(benchmark::kMicrosecond);
     }
+  }
+  benchmark::RegisterBenchmark("arithmetic_peak", arithmetic_peak)->Unit(benchmark::kMillisecond);
+  for (const int n : sizes) {
+    benchmark::RegisterBenchmark("residual_evaluation", residual_evaluation)->Arg(n)->Unit(benchmark::kMillisecond);
+    benchmark::RegisterBenchmark("unwritten_entry_check", unwritten_entry_check)->Arg(n)->Unit(benchmark::kMillisecond);
   }
   for (const int t : threads) {
     for (const int n : {256, 512, 1024, 2048}) {  // 2048: w (32 MiB) no longer fits in the L3

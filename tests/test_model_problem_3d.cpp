@@ -242,3 +242,61 @@ TEST_CASE("a matrix with another pattern is assembled anew, not written into", "
   problem.assemble_jacobian(t, other);
   CHECK(Eigen::MatrixXd(other) == Eigen::MatrixXd(fresh));
 }
+
+namespace {
+
+/// A double that counts its arithmetic operations (+, −, × and the compound
+/// forms; one each), to check the model problem's stated flop count.
+struct counted_double {
+  double value = 0.0;
+  static inline long long operations = 0;
+  counted_double() = default;
+  counted_double(double v) : value(v) {}  // NOLINT: implicit, as for a scalar
+  friend counted_double operator+(counted_double a, counted_double b) {
+    ++operations;
+    return a.value + b.value;
+  }
+  friend counted_double operator-(counted_double a, counted_double b) {
+    ++operations;
+    return a.value - b.value;
+  }
+  friend counted_double operator*(counted_double a, counted_double b) {
+    ++operations;
+    return a.value * b.value;
+  }
+  counted_double& operator+=(counted_double b) {
+    ++operations;
+    value += b.value;
+    return *this;
+  }
+  counted_double& operator-=(counted_double b) {
+    ++operations;
+    value -= b.value;
+    return *this;
+  }
+};
+
+}  // namespace
+
+namespace Eigen {
+template <>
+struct NumTraits<counted_double> : GenericNumTraits<double> {
+  using Real = counted_double;
+  using NonInteger = counted_double;
+  using Nested = counted_double;
+  using Literal = counted_double;
+};
+}  // namespace Eigen
+
+TEST_CASE("the model problem's stated flop count is what its residual does", "[model_problem][3d]") {
+  // Reference: the residual evaluated on a scalar type that counts every +, − and ×.
+  for (const auto& [n, dimensions] : {std::pair<int, int>{1, 2}, {7, 2}, {64, 2}, {1, 3}, {5, 3}}) {
+    const heat_conduction_model_problem problem(n, 10.0, dimensions);
+    Eigen::Matrix<counted_double, Eigen::Dynamic, 1> t(problem.unknowns()), r(problem.unknowns());
+    for (Eigen::Index p = 0; p < t.size(); ++p) t(p) = 0.01 * static_cast<double>(p);
+    counted_double::operations = 0;
+    problem(t, r);
+    INFO(dimensions << "-D, n = " << n);
+    CHECK(static_cast<double>(counted_double::operations) == problem.residual_flops());
+  }
+}
