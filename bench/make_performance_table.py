@@ -65,10 +65,18 @@ def load(path):
         data = json.load(handle)
     runs = {}  # (configuration, n, threads) -> entry
     kernels = []
+    # With --benchmark_repetitions each name comes several times: keep the repetition with
+    # the median time (the lower middle one for an even count), and skip Google
+    # Benchmark's aggregate rows (mean, median, stddev, cv), whose counters are not figures.
+    repeated = {}
+    for entry in data.get("benchmarks", []):
+        if entry.get("run_type") != "aggregate":
+            repeated.setdefault(entry.get("name", ""), []).append(entry)
+    chosen = {name: sorted(entries, key=lambda e: e.get("real_time", 0.0))[(len(entries) - 1) // 2]
+              for name, entries in repeated.items()}
     for entry in data.get("benchmarks", []):
         name = entry.get("name", "")
-        if entry.get("run_type") == "aggregate":
-            kernels.append(entry)
+        if entry.get("run_type") == "aggregate" or chosen.get(name) is not entry:
             continue
         if name.startswith("model_problem/"):
             parts = name.split("/")

@@ -214,7 +214,10 @@ void check_reassembly_in_place(int n, int dimensions) {
 }  // namespace
 
 TEST_CASE("re-assembling the model problem's Jacobian writes the values in place", "[model_problem][3d]") {
-  // Reference: a fresh assembly (triplets summed by Eigen) at the same state.
+  // Reference: a fresh assembly into an empty matrix at the same state (the pattern
+  // built first, then the values). This checks the in-place path against the fresh
+  // one; the values themselves are checked against automatic differentiation above
+  // (column-major) and in test_sparse_jacobian.cpp (row-major).
   check_reassembly_in_place<Eigen::SparseMatrix<double, Eigen::RowMajor, int>>(5, 2);
   check_reassembly_in_place<Eigen::SparseMatrix<double, Eigen::ColMajor, int>>(5, 2);
   check_reassembly_in_place<Eigen::SparseMatrix<double, Eigen::RowMajor, int>>(4, 3);

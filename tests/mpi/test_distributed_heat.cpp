@@ -85,10 +85,12 @@ TEST_CASE("distributed solves equal the one-rank solve and every rank takes the 
   CHECK((solution - reference).norm() <= 1e-10 * reference.norm());
   // Additive Schwarz is a different preconditioner for each number of ranks
   // (one subdomain per rank), so its GMRES solves stop at other points within
-  // the forcing term and the Newton step count may differ by one near the
-  // stopping test (seen with 3 ranks: 6 against 5). The multigrid cycles change
-  // little with the split (BoomerAMG's parallel coarsening does depend on it),
-  // and their counts matched the one-rank solve on 1, 2 and 3 ranks.
+  // the forcing term and the Newton step count need not match the one-rank
+  // solve. The bound of one step is measured, not derived: equal on 2 ranks,
+  // 6 against 5 on 3 ranks (run by hand). BoomerAMG's parallel coarsening also
+  // depends on the split, but its counts matched on 1, 2 and 3 ranks, so the
+  // multigrid cases keep the exact check as a guard against rank-dependent
+  // decisions in the driver.
   const bool split_dependent =
       choice == strip_preconditioner::schwarz_incomplete_lut || choice == strip_preconditioner::schwarz_direct;
   if (split_dependent) {

@@ -48,9 +48,9 @@
 /// (MPI_COMM_SELF) is a serial structured multigrid.
 ///
 /// Cost: setup() fills the stencil values from the Jacobian (two passes over
-/// its entries, the second a slab of about 65,536 cells at a time, so nkit's
-/// buffers hold one byte per Jacobian entry plus one slab; reused once the
-/// sizes are known) and
+/// its entries, the second a slab of whole layers at a time: 65,536 cells or
+/// fewer, or one layer where a layer is larger; nkit's buffers hold one byte
+/// per Jacobian entry plus one slab, reused once the sizes are known) and
 /// rebuilds the stencil matrix and the hierarchy in hypre (interpolation and
 /// coarse stencils, allocated by hypre at every setup); apply() copies r
 /// into hypre's vector, runs the cycle(s) and copies the result out, and
@@ -69,6 +69,7 @@
 #include <mpi.h>
 
 #include <Eigen/Core>
+#include <algorithm>
 #include <array>
 #include <cstdint>
 #include <stdexcept>
@@ -381,7 +382,8 @@ class structured_multigrid_preconditioner {
   /// Copies the Jacobian's values into hypre's stencil matrix, a slab of
   /// whole layers of the slowest direction at a time (hypre's box order: for
   /// each cell, one value per stencil point), so that the staging buffer
-  /// holds at most about staging_cells cells, not the whole box.
+  /// holds at most staging_cells cells, or one layer where a layer is
+  /// larger, not the whole box.
   void copy_values_into_matrix(const sparse_matrix& jacobian) {
     if (m_partition.local_rows == 0) return;
     constexpr std::int64_t staging_cells = std::int64_t{1} << 16;
