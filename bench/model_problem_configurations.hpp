@@ -206,6 +206,24 @@ void run_grid_sequencing(const model& problem, const nkit::newton_settings& sett
   if (!report.converged()) emit_text("failure", std::string(nkit::name(report.reason)));
 }
 
+#if NKIT_BENCH_HAS_HYPRE
+/// Grid sequencing with the structured multigrid per level, lagged, GMRES(10).
+inline void run_grid_sequencing_structured_multigrid(const model& problem, double cap,
+                                                     const nkit::structured_multigrid_settings& multigrid) {
+  start_mpi_once();
+  nkit::newton_settings settings = lagged(suite_newton_settings(cap));
+  settings.linear.restart_length = 10;
+  const int finest = sequencing_level_count(problem.cells_per_side()) - 1;
+  using solver_type =
+      nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::structured_multigrid_preconditioner>;
+  run_grid_sequencing(problem, settings, [&](int level, const nkit::newton_settings& level_settings) {
+    const nkit::structured_grid grid = model_grid(problem.cells_per_side() >> (finest - level), problem.dimensions());
+    return solver_type(level_settings, {}, nkit::structured_multigrid_preconditioner(MPI_COMM_SELF, grid, multigrid));
+  });
+  MPI_Finalize();
+}
+#endif
+
 /// Prints a baseline's figures.
 inline void emit_baseline(const baseline_result& result, double seconds) {
   emit("reached", result.reached ? 1 : 0);
@@ -326,20 +344,15 @@ inline const std::vector<configuration>& configurations() {
     // Grid sequencing with the structured multigrid per level (red/black, non-Galerkin, lagged, GMRES(10)).
     {"newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged", true, "", true,
      [](const model& problem, double cap) {
-       start_mpi_once();
-       nkit::newton_settings settings = lagged(suite_newton_settings(cap));
-       settings.linear.restart_length = 10;
-       const int finest = sequencing_level_count(problem.cells_per_side()) - 1;
-       using solver_type =
-           nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::structured_multigrid_preconditioner>;
-       run_grid_sequencing(problem, settings, [&](int level, const nkit::newton_settings& level_settings) {
-         const nkit::structured_grid grid =
-             model_grid(problem.cells_per_side() >> (finest - level), problem.dimensions());
-         return solver_type(
-             level_settings, {},
-             nkit::structured_multigrid_preconditioner(MPI_COMM_SELF, grid, red_black_structured_multigrid()));
-       });
-       MPI_Finalize();
+       run_grid_sequencing_structured_multigrid(problem, cap, red_black_structured_multigrid());
+     }},
+    // The same, with the driver's assembled Jacobian freed once each setup has
+    // copied it into hypre (structured_multigrid_settings::release_assembled_jacobian_after_copy).
+    {"newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged_releasing_jacobian", true, "", true,
+     [](const model& problem, double cap) {
+       nkit::structured_multigrid_settings multigrid = red_black_structured_multigrid();
+       multigrid.release_assembled_jacobian_after_copy = true;
+       run_grid_sequencing_structured_multigrid(problem, cap, multigrid);
      }},
 #else
     {"newton_gmres_algebraic_multigrid", false, "not built: MPI and hypre (nkit::hypre) not found", true, nullptr},
@@ -354,6 +367,8 @@ inline const std::vector<configuration>& configurations() {
     {"newton_gmres_structured_multigrid_red_black_lagged", false, "not built: MPI and hypre (nkit::hypre) not found",
      true, nullptr},
     {"newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged", false,
+     "not built: MPI and hypre (nkit::hypre) not found", true, nullptr},
+    {"newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged_releasing_jacobian", false,
      "not built: MPI and hypre (nkit::hypre) not found", true, nullptr},
 #endif
     {"exact_newton_sparse_lu", true, "", false,

@@ -348,3 +348,94 @@ TEST_CASE("a preconditioner that cannot move is used through std::ref or std::un
   CHECK(owning.preconditioner()->setups == owned_report.newton_steps);
   CHECK(v == u);  // the same arithmetic either way
 }
+
+namespace {
+
+/// ILU(0) that lets the driver free its assembled Jacobian once the factor
+/// holds the values (preconditioner_context::release_assembled_jacobian).
+/// With `assemble_again_after_release`, it then asks for the Jacobian once
+/// more, which must be assembled afresh, equal to the first.
+struct releasing_ilu_zero {
+  nkit::ilu_zero_preconditioner ilu;
+  bool assemble_again_after_release = false;
+  int matrices_equal_after_release = 0;
+  template <class Space>
+  nkit::setup_status setup(const nkit::preconditioner_context<Space>& context) {
+    const nkit::setup_status status = ilu.build(context.assembled_jacobian());
+    const nkit::sparse_matrix first =
+        assemble_again_after_release ? context.assembled_jacobian() : nkit::sparse_matrix();
+    context.release_assembled_jacobian();
+    if (assemble_again_after_release) {
+      const nkit::sparse_matrix& again = context.assembled_jacobian();
+      matrices_equal_after_release += again.rows() == first.rows() && again.nonZeros() == first.nonZeros() &&
+                                      Eigen::MatrixXd(again) == Eigen::MatrixXd(first);
+    }
+    return status;
+  }
+  void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) const { ilu.apply(r, z); }
+};
+
+}  // namespace
+
+TEST_CASE("a preconditioner may let the driver free the assembled Jacobian after copying it", "[newton][memory]") {
+  nkit::newton_settings settings = tight_settings();
+  settings.relative_tolerance = 1e-10;
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = 2;  // lagged: steps without a setup in between
+  const Eigen::VectorXd start = Eigen::VectorXd::Zero(cells * cells);
+
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::ilu_zero_preconditioner> keeping(settings);
+  Eigen::VectorXd kept = start;
+  exact_model model;
+  const nkit::solve_report kept_report = keeping.solve(model, kept);
+  REQUIRE(kept_report.converged());
+  REQUIRE(kept_report.newton_steps >= 3);  // at least two setups, one after a release
+  REQUIRE(keeping.assembled_jacobian_bytes() > 0);
+
+  SECTION("the solve is the same arithmetic, and the matrix's storage is freed") {
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, releasing_ilu_zero> releasing(settings);
+    Eigen::VectorXd released = start;
+    const nkit::solve_report report = releasing.solve(model, released);
+    REQUIRE(report.converged());
+    // The Jacobian is assembled afresh at every setup into new storage: the
+    // same values, so the same factor, directions and iterates, bit for bit.
+    CHECK(released == kept);
+    CHECK(report.newton_steps == kept_report.newton_steps);
+    CHECK(report.linear_iterations == kept_report.linear_iterations);
+    CHECK(report.preconditioner_setups == kept_report.preconditioner_setups);
+    CHECK(report.jacobian_assemblies == report.preconditioner_setups);
+    // Freed after the last setup: what is left (the unused coloring
+    // workspace's few bytes) is less than the matrix's values alone, and the
+    // saving is at least the matrix's values, indices and row offsets.
+    nkit::sparse_matrix reference;
+    model.assemble_jacobian(released, reference);
+    const auto matrix_bytes = static_cast<std::size_t>(reference.nonZeros()) * (sizeof(double) + sizeof(int)) +
+                              static_cast<std::size_t>(reference.rows() + 1) * sizeof(int);
+    CHECK(releasing.assembled_jacobian_bytes() < static_cast<std::size_t>(reference.nonZeros()));
+    CHECK(keeping.assembled_jacobian_bytes() - releasing.assembled_jacobian_bytes() >= matrix_bytes);
+
+    // The converged linearisation assembles the Jacobian at u* again: Jᵀw
+    // against the model's own matrix there (both exact; the same arithmetic
+    // row by row, so equal to rounding of the transposed product's sums).
+    const Eigen::VectorXd w = Eigen::VectorXd::LinSpaced(cells * cells, -1.0, 2.0);
+    Eigen::VectorXd transposed;
+    releasing.linearized_transpose_product(model, w, transposed);
+    const Eigen::VectorXd expected = reference.transpose() * w;
+    const double bound = 8 * std::numeric_limits<double>::epsilon() *
+                         (Eigen::MatrixXd(reference).cwiseAbs().transpose() * w.cwiseAbs()).maxCoeff();
+    CHECK((transposed - expected).lpNorm<Eigen::Infinity>() <= bound);
+    CHECK(releasing.assembled_jacobian_bytes() >= matrix_bytes);
+  }
+
+  SECTION("after a release, asking again assembles the same matrix afresh") {
+    releasing_ilu_zero asking_twice;
+    asking_twice.assemble_again_after_release = true;
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, releasing_ilu_zero> releasing(settings, {},
+                                                                                               asking_twice);
+    Eigen::VectorXd released = start;
+    const nkit::solve_report report = releasing.solve(model, released);
+    REQUIRE(report.converged());
+    CHECK(released == kept);
+    CHECK(releasing.preconditioner().matrices_equal_after_release == report.preconditioner_setups);
+    CHECK(report.jacobian_assemblies == 2 * report.preconditioner_setups);
+  }
+}

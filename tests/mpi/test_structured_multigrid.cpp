@@ -30,9 +30,10 @@ std::pair<int, int> layer_range(int layers, bool all_on_first_rank = false) {
 }
 
 /// Sets the preconditioner up with this rank's rows [first, end) of the
-/// global matrix and returns its application to those rows of `r`.
+/// global matrix and returns its application to those rows of `r`;
+/// `releases`, when given, receives how often the setup released the matrix.
 Eigen::VectorXd apply_to_rows(nkit::structured_multigrid_preconditioner& multigrid, const nkit::sparse_matrix& global,
-                              Eigen::Index first, Eigen::Index end, const Eigen::VectorXd& r) {
+                              Eigen::Index first, Eigen::Index end, const Eigen::VectorXd& r, int* releases = nullptr) {
   const Eigen::Index count = end - first;
   nkit::sparse_matrix local = global.middleRows(first, count);
   local.makeCompressed();
@@ -42,6 +43,7 @@ Eigen::VectorXd apply_to_rows(nkit::structured_multigrid_preconditioner& multigr
   const nkit::preconditioner_context<nkit::mpi_vector_space> context{space, state, residual, 0, nullptr, &source};
   const nkit::setup_status status = multigrid.setup(context);  // throws on bad input, outside REQUIRE
   REQUIRE(status == nkit::setup_status::ready);
+  if (releases != nullptr) *releases = source.releases();
   Eigen::VectorXd z(count);
   multigrid.apply(r.segment(first, count), z);
   return z;
@@ -259,6 +261,17 @@ TEST_CASE("structured multigrid settings reach hypre and repeated applications a
   CHECK(standard.box_lower()[1] == first);
   CHECK(standard.box_upper()[1] == end - 1);
   CHECK((once - again).norm() == 0.0);
+  // Releasing the Jacobian once its values are in hypre leaves the operator
+  // unchanged; the source is told once per setup, and only when asked to.
+  int releases = -1;
+  static_cast<void>(apply_to_rows(standard, global, first * 32, end * 32, r, &releases));
+  CHECK(releases == 0);
+  nkit::structured_multigrid_settings releasing_settings;
+  releasing_settings.release_assembled_jacobian_after_copy = true;
+  nkit::structured_multigrid_preconditioner releasing(MPI_COMM_WORLD, grid, releasing_settings);
+  const Eigen::VectorXd released = apply_to_rows(releasing, global, first * 32, end * 32, r, &releases);
+  CHECK(releases == 1);
+  CHECK((released - once).norm() == 0.0);
   // The same matrix handed over directly (the way to precondition with a frozen operator).
   nkit::sparse_matrix local = global.middleRows(first * 32, (end - first) * 32);
   local.makeCompressed();

@@ -56,6 +56,11 @@ class jacobian_source {
   virtual ~jacobian_source() = default;
   /// R'(u) at the context's state, plus the pseudo-time diagonal when one is active.
   virtual const sparse_matrix& assembled_jacobian() = 0;
+  /// Frees the storage of the matrix assembled_jacobian() returned, when the
+  /// caller has copied all it needs: references to it become invalid, and a
+  /// later assembled_jacobian() assembles again into new storage. Sources
+  /// that do not own their matrix ignore it.
+  virtual void release_assembled_jacobian() {}
 };
 
 /// What the driver knows when it asks a preconditioner to set up.
@@ -82,6 +87,13 @@ struct preconditioner_context {
           "assemble_jacobian() nor a sparsity pattern for colored finite differences");
     }
     return jacobian->assembled_jacobian();
+  }
+  /// Lets the driver free its assembled Jacobian (jacobian_source::
+  /// release_assembled_jacobian) once this preconditioner has copied what it
+  /// needs. Saves the matrix's memory between setups; the price is a fresh
+  /// allocation at the next assembly. No effect without a Jacobian source.
+  void release_assembled_jacobian() const {
+    if (jacobian != nullptr) jacobian->release_assembled_jacobian();
   }
 };
 

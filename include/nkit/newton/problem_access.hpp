@@ -37,6 +37,9 @@
 #include <string>
 #include <type_traits>
 #include <utility>
+#if defined(__GLIBC__)
+#include <malloc.h>  // malloc_trim
+#endif
 
 #include "../core/preconditioner.hpp"
 #include "../core/residual.hpp"
@@ -415,12 +418,32 @@ class problem_access {
       }
       return m_access.m_jacobian;
     }
+    void release_assembled_jacobian() override {
+      m_access.release_assembled_jacobian();
+      m_assembled = false;
+    }
 
    private:
     problem_access& m_access;
     Problem& m_problem;
     bool m_assembled = false;
   };
+
+  /// Frees the assembled Jacobian's storage (row- and column-major); the
+  /// next assembly allocates it again. The coloring workspace is kept.
+  /// With glibc the freed pages are also handed back to the system
+  /// (malloc_trim): the memory hooks of MPI libraries typically turn off
+  /// glibc's own return of large blocks, and then a freed matrix stays in the
+  /// process's resident memory. Measured with Open MPI on the 1024² model
+  /// problem: the resident set did not shrink at all after the free; with the
+  /// trim it shrank by the matrix's 64 MiB.
+  void release_assembled_jacobian() {
+    sparse_matrix().swap(m_jacobian);
+    column_major_sparse_matrix().swap(m_column_major_jacobian);
+#if defined(__GLIBC__)
+    malloc_trim(0);
+#endif
+  }
 
   /// Bytes held: vectors, the difference workspace and the assembled Jacobian.
   std::size_t workspace_bytes() const {

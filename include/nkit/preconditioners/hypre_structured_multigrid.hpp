@@ -54,7 +54,10 @@
 /// rebuilds the stencil matrix and the hierarchy in hypre (interpolation and
 /// coarse stencils, allocated by hypre at every setup); apply() copies r
 /// into hypre's vector, runs the cycle(s) and copies the result out, and
-/// allocates nothing in nkit. setup() and apply() are collective. There is
+/// allocates nothing in nkit. With release_assembled_jacobian_after_copy the
+/// driver frees its Jacobian once the values are in hypre, before the
+/// hierarchy is built (less peak memory, a new allocation at each assembly;
+/// structured_multigrid_settings.hpp). setup() and apply() are collective. There is
 /// no apply_transpose (hypre's semicoarsening multigrid has no transposed
 /// cycle); adjoint solves need another preconditioner.
 ///
@@ -194,7 +197,9 @@ class structured_multigrid_preconditioner {
   /// hierarchy. Collective.
   template <class Space>
   setup_status setup(const preconditioner_context<Space>& context) {
-    return build_from(context.assembled_jacobian(), static_cast<std::int64_t>(context.state.size()));
+    fill_matrix_from(context.assembled_jacobian(), static_cast<std::int64_t>(context.state.size()));
+    if (m_settings.release_assembled_jacobian_after_copy) context.release_assembled_jacobian();
+    return build_hierarchy();
   }
 
   /// The same from a matrix you supply instead of the Jacobian (a frozen or
@@ -202,7 +207,8 @@ class structured_multigrid_preconditioner {
   /// columns, compressed). Use it from the setup of your own preconditioner
   /// object or of make_preconditioner. Collective.
   setup_status setup_from_matrix(const sparse_matrix& local_rows) {
-    return build_from(local_rows, static_cast<std::int64_t>(local_rows.rows()));
+    fill_matrix_from(local_rows, static_cast<std::int64_t>(local_rows.rows()));
+    return build_hierarchy();
   }
 
   /// z = one application of the multigrid cycle(s) to r. Collective.
@@ -228,7 +234,9 @@ class structured_multigrid_preconditioner {
   }
 
  private:
-  setup_status build_from(const sparse_matrix& jacobian, std::int64_t local_rows) {
+  /// Checks the layout, classifies the entries and fills hypre's stencil
+  /// matrix; after it the Jacobian is no longer needed.
+  void fill_matrix_from(const sparse_matrix& jacobian, std::int64_t local_rows) {
     destroy_matrix_and_solver();  // a setup that throws leaves no stale hierarchy behind
     set_partition(local_rows);
     const bool wrong_shape = jacobian.rows() != m_partition.local_rows || jacobian.cols() != m_partition.global_rows ||
@@ -241,7 +249,11 @@ class structured_multigrid_preconditioner {
           std::to_string(m_partition.local_rows) + " x " + std::to_string(m_partition.global_rows));
     }
     classify_entries(jacobian);
-    return build(jacobian);
+    HYPRE_ClearAllErrors();
+    HYPRE_StructMatrixCreate(m_communicator, m_grid_handle, m_stencil, &m_matrix);
+    HYPRE_StructMatrixInitialize(m_matrix);
+    copy_values_into_matrix(jacobian);
+    HYPRE_StructMatrixAssemble(m_matrix);
   }
 
   /// The grid's dimension in hypre: a 1-D grid is passed as n × 1 (hypre's
@@ -435,14 +447,8 @@ class structured_multigrid_preconditioner {
     }
   }
 
-  setup_status build(const sparse_matrix& jacobian) {
-    destroy_matrix_and_solver();
-    HYPRE_ClearAllErrors();
-    HYPRE_StructMatrixCreate(m_communicator, m_grid_handle, m_stencil, &m_matrix);
-    HYPRE_StructMatrixInitialize(m_matrix);
-    copy_values_into_matrix(jacobian);
-    HYPRE_StructMatrixAssemble(m_matrix);
-
+  /// The multigrid hierarchy of the filled stencil matrix.
+  setup_status build_hierarchy() {
     HYPRE_StructPFMGCreate(m_communicator, &m_solver);
     HYPRE_StructPFMGSetPrintLevel(m_solver, 0);
     HYPRE_StructPFMGSetLogging(m_solver, 0);

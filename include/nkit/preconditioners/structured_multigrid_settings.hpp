@@ -58,6 +58,15 @@ struct structured_multigrid_settings {
   /// semicoarsening makes it redundant (hypre's default); turn off for
   /// strongly anisotropic problems if the iteration counts grow.
   bool skip_relaxation_where_isotropic = true;
+  /// Once the stencil values are in hypre's matrix, let the Newton driver
+  /// free its assembled Jacobian (preconditioner_context::
+  /// release_assembled_jacobian) instead of keeping it until the next setup.
+  /// Saves that matrix's memory (about 60 MiB for the 5-point Jacobian at
+  /// 1024² cells) for the rest of the solve; the price is that every setup
+  /// assembles into new storage (an allocation, and for assemblers that
+  /// rewrite values in place, a fresh pattern). Off by default, so that
+  /// setups after the first allocate nothing in nkit.
+  bool release_assembled_jacobian_after_copy = false;
 
   void validate(std::string_view prefix = "structured_multigrid_settings") const {
     const std::string p(prefix);
