@@ -20,7 +20,8 @@
 // the median time of one residual evaluation) and the residual reduction; on a
 // surface with supersonic flow, where the captured shock stands (the most
 // downstream point where c_p rises through the critical pressure coefficient
-// c_p*, the sonic value, by linear interpolation between wall faces).
+// c_p*, the sonic value, by linear interpolation between wall faces;
+// problems/flow/airfoil_surface_quantities.hpp).
 // Written in --output: surface_pressure.csv (x/c, c_p, surface), residual_history.csv
 // (Newton step, wall seconds, work units, relative residual, GMRES iterations,
 // CFL), mach_field.dat (node-averaged Mach number near the airfoil, gnuplot
@@ -42,33 +43,13 @@
 #include "common/command_line.hpp"
 #include "common/run_output.hpp"
 #include "common/vtk_legacy.hpp"
+#include "problems/flow/airfoil_surface_quantities.hpp"
 #include "problems/flow/euler_airfoil_solve.hpp"
 
 namespace {
 
 using nkit_problems::euler_airfoil_flow;
 using nkit_problems::point2;
-
-/// c_p at sonic speed for free-stream Mach M (isentropic flow):
-/// c_p* = 2/(γM²) [((2 + (γ−1)M²)/(γ+1))^(γ/(γ−1)) − 1]; NACA Report 1135
-/// (Ames Research Staff, 1953), isentropic relations.
-double critical_pressure_coefficient(double mach) {
-  const double g = nkit_problems::euler_gamma;
-  return 2.0 / (g * mach * mach) * (std::pow((2.0 + (g - 1.0) * mach * mach) / (g + 1.0), g / (g - 1.0)) - 1.0);
-}
-
-/// x/c of the most downstream upward crossing of c_p* along one surface
-/// (x increasing); negative when the surface has no supersonic pocket.
-double shock_position(const std::vector<double>& x, const std::vector<double>& cp, double cp_critical) {
-  double position = -1.0;
-  for (std::size_t k = 0; k + 1 < x.size(); ++k) {
-    if (cp[k] < cp_critical && cp[k + 1] >= cp_critical) {
-      const double t = (cp_critical - cp[k]) / (cp[k + 1] - cp[k]);
-      position = x[k] + t * (x[k + 1] - x[k]);
-    }
-  }
-  return position;
-}
 
 int run(int argc, char** argv) {
   nkit_examples::command_line options(
@@ -139,38 +120,36 @@ int run(int argc, char** argv) {
   std::printf("lift coefficient c_l = %.4f, drag coefficient c_d = %.5f (pressure forces of this discretisation)\n",
               forces.lift_coefficient, forces.drag_coefficient);
 
-  // Surfaces by increasing x: wall faces 0..n/2−1 run along the lower surface
-  // from the trailing edge to the leading edge, n/2..n−1 back along the upper.
-  std::vector<double> lower_x, lower_cp, upper_x, upper_cp;
-  for (int i = n / 2 - 1; i >= 0; --i) {
-    lower_x.push_back(forces.wall_face_centre[static_cast<std::size_t>(i)].x);
-    lower_cp.push_back(forces.pressure_coefficient[static_cast<std::size_t>(i)]);
-  }
-  for (int i = n / 2; i < n; ++i) {
-    upper_x.push_back(forces.wall_face_centre[static_cast<std::size_t>(i)].x);
-    upper_cp.push_back(forces.pressure_coefficient[static_cast<std::size_t>(i)]);
-  }
-  const double cp_critical = critical_pressure_coefficient(flow_settings.mach_number);
-  const double minimum_cp = std::min(*std::min_element(lower_cp.begin(), lower_cp.end()),
-                                     *std::min_element(upper_cp.begin(), upper_cp.end()));
+  // Surfaces by increasing x/c, the sonic c_p* and the shock positions (airfoil_surface_quantities.hpp).
+  const nkit_problems::airfoil_surface_pressures surfaces = nkit_problems::surface_pressure_distributions(forces);
+  const auto& lower = surfaces.lower;
+  const auto& upper = surfaces.upper;
+  const double cp_critical = nkit_problems::critical_pressure_coefficient(flow_settings.mach_number);
+  const double minimum_cp =
+      std::min(*std::min_element(lower.pressure_coefficient.begin(), lower.pressure_coefficient.end()),
+               *std::min_element(upper.pressure_coefficient.begin(), upper.pressure_coefficient.end()));
   std::printf("lowest c_p %.4f; sonic c_p* = %.4f:", minimum_cp, cp_critical);
   if (minimum_cp >= cp_critical) {
     std::printf(" the flow stays subsonic along the surface\n");
   } else {
-    const double upper = shock_position(upper_x, upper_cp, cp_critical);
-    const double lower = shock_position(lower_x, lower_cp, cp_critical);
+    const double upper_shock = nkit_problems::shock_position(upper, cp_critical);
+    const double lower_shock = nkit_problems::shock_position(lower, cp_critical);
     const auto describe = [](double x) { return x < 0.0 ? std::string("none") : std::to_string(x).substr(0, 6); };
     std::printf(" supersonic pockets; shock (c_p rising through c_p*) at x/c = %s upper, %s lower\n",
-                describe(upper).c_str(), describe(lower).c_str());
+                describe(upper_shock).c_str(), describe(lower_shock).c_str());
   }
 
   // surface_pressure.csv
   {
     std::ofstream csv(folder / "surface_pressure.csv");
     csv << "x_over_chord,pressure_coefficient,surface\n";
-    for (std::size_t k = 0; k < lower_x.size(); ++k) csv << lower_x[k] << ',' << lower_cp[k] << ",lower\n";
+    for (std::size_t k = 0; k < lower.x_over_chord.size(); ++k) {
+      csv << lower.x_over_chord[k] << ',' << lower.pressure_coefficient[k] << ",lower\n";
+    }
     csv << "\n\n";  // a gnuplot data block per surface
-    for (std::size_t k = 0; k < upper_x.size(); ++k) csv << upper_x[k] << ',' << upper_cp[k] << ",upper\n";
+    for (std::size_t k = 0; k < upper.x_over_chord.size(); ++k) {
+      csv << upper.x_over_chord[k] << ',' << upper.pressure_coefficient[k] << ",upper\n";
+    }
   }
   // residual_history.csv
   {

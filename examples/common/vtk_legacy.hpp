@@ -62,7 +62,8 @@ class vtk_cell_fields {
   };
   void check(const std::string& name, Eigen::Index size) const {
     if (name.empty() || name.find(' ') != std::string::npos) {
-      throw std::invalid_argument(std::string(m_owner) + ": field names must be non-empty and without spaces");
+      throw std::invalid_argument(std::string(m_owner) + ": field names must be non-empty and without spaces (got \"" +
+                                  name + "\")");
     }
     if (size != m_cells) {
       throw std::invalid_argument(std::string(m_owner) + ": field " + name + " has " + std::to_string(size) +
@@ -88,11 +89,18 @@ class vtk_rectilinear_file : public vtk_cell_fields {
                             : static_cast<Eigen::Index>((x_nodes.size() - 1) * (y_nodes.size() - 1))),
         m_x(std::move(x_nodes)),
         m_y(std::move(y_nodes)) {
-    if (m_x.size() < 2 || m_y.size() < 1) throw std::invalid_argument("vtk_rectilinear_file: need at least one cell");
+    if (m_x.size() < 2 || m_y.size() < 2) {
+      throw std::invalid_argument("vtk_rectilinear_file: need at least 2 x nodes and 2 y nodes (got " +
+                                  std::to_string(m_x.size()) + " x and " + std::to_string(m_y.size()) + " y)");
+    }
   }
 
   /// Uniform grid of nx × ny cells on [x0, x1] × [y0, y1] (ny = 1 for a line).
   static vtk_rectilinear_file uniform(int nx, int ny, double x0, double x1, double y0, double y1) {
+    if (nx < 1 || ny < 1) {
+      throw std::invalid_argument("vtk_rectilinear_file::uniform: need nx >= 1 and ny >= 1 cells (got nx = " +
+                                  std::to_string(nx) + ", ny = " + std::to_string(ny) + ")");
+    }
     std::vector<double> x(static_cast<std::size_t>(nx) + 1), y(static_cast<std::size_t>(ny) + 1);
     for (int i = 0; i <= nx; ++i) x[static_cast<std::size_t>(i)] = x0 + (x1 - x0) * i / nx;
     for (int j = 0; j <= ny; ++j) y[static_cast<std::size_t>(j)] = y0 + (y1 - y0) * j / ny;
@@ -138,7 +146,10 @@ class vtk_structured_grid_file : public vtk_cell_fields {
         m_ny(ny),
         m_x(std::move(nodes_x)),
         m_y(std::move(nodes_y)) {
-    if (nx < 1 || ny < 1) throw std::invalid_argument("vtk_structured_grid_file: need at least one cell");
+    if (nx < 1 || ny < 1) {
+      throw std::invalid_argument("vtk_structured_grid_file: need nx >= 1 and ny >= 1 cells (got nx = " +
+                                  std::to_string(nx) + ", ny = " + std::to_string(ny) + ")");
+    }
     const std::size_t nodes = static_cast<std::size_t>(nx + 1) * static_cast<std::size_t>(ny + 1);
     if (m_x.size() != nodes || m_y.size() != nodes) {
       throw std::invalid_argument("vtk_structured_grid_file: need " + std::to_string(nodes) +
