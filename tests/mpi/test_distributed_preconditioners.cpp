@@ -186,4 +186,22 @@ TEST_CASE("the BoomerAMG adapter works in a serial code with the plain Eigen spa
   CHECK((temperature - strip.local_temperature).norm() <= 1e-10 * strip.local_temperature.norm());
   CHECK(report.newton_steps == strip.report.newton_steps);
   CHECK(report.preconditioner_setups == report.newton_steps);
+
+  // Freeing the driver's Jacobian once hypre holds the matrix changes no
+  // arithmetic (each setup assembles the same values afresh) and saves at
+  // least the matrix's values, indices and row offsets.
+  nkit::algebraic_multigrid_settings releasing;
+  releasing.release_assembled_jacobian_after_copy = true;
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::algebraic_multigrid_preconditioner>
+      releasing_solver(settings, {}, nkit::algebraic_multigrid_preconditioner(MPI_COMM_SELF, releasing));
+  Eigen::VectorXd released = Eigen::VectorXd::Zero(problem.unknowns());
+  const nkit::solve_report released_report = releasing_solver.solve(problem, released);
+  REQUIRE(released_report.converged());
+  CHECK(released == temperature);
+  CHECK(released_report.jacobian_assemblies == report.jacobian_assemblies);
+  nkit::sparse_matrix matrix;
+  problem.assemble_jacobian(temperature, matrix);
+  const auto matrix_bytes = static_cast<std::size_t>(matrix.nonZeros()) * (sizeof(double) + sizeof(int)) +
+                            static_cast<std::size_t>(matrix.rows() + 1) * sizeof(int);
+  CHECK(releasing_solver.assembled_jacobian_bytes() + matrix_bytes <= solver.assembled_jacobian_bytes());
 }

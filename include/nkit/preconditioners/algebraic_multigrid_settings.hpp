@@ -63,6 +63,12 @@ struct algebraic_multigrid_settings {
   int maximum_interpolation_entries_per_row = 4;
   /// Levels coarsened aggressively (fewer coarse points, cheaper setup).
   int aggressive_coarsening_levels = 0;
+  /// Once the matrix is in hypre, let the Newton driver free its assembled
+  /// Jacobian (preconditioner_context::release_assembled_jacobian) instead of
+  /// keeping it until the next setup: less memory for the rest of the solve,
+  /// at the price of an allocation at every assembly. Off by default, so
+  /// that setups after the first allocate nothing in nkit.
+  bool release_assembled_jacobian_after_copy = false;
 
   void validate(std::string_view prefix = "algebraic_multigrid_settings") const {
     const std::string p(prefix);

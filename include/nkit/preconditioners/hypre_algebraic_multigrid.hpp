@@ -30,6 +30,8 @@
 /// steps (request_preconditioner_rebuild() forces a new one). apply()
 /// copies r into hypre's vector, runs the cycle(s) and copies the result out;
 /// it allocates nothing in nkit (hypre's cycle uses its own workspace).
+/// With release_assembled_jacobian_after_copy the driver frees its Jacobian
+/// once hypre holds the matrix, before the hierarchy is built.
 /// setup() and apply() are collective on the communicator.
 ///
 /// apply_transpose (z = M⁻ᵀ r, adjoint solves) runs hypre's transposed cycle
@@ -220,7 +222,9 @@ class algebraic_multigrid_preconditioner {
           std::to_string(jacobian.rows()) + " x " + std::to_string(jacobian.cols()) + ", expected " +
           std::to_string(m_partition.local_rows) + " x " + std::to_string(m_partition.global_rows));
     }
-    return build(jacobian);
+    copy_into_hypre(jacobian);
+    if (m_settings.release_assembled_jacobian_after_copy) context.release_assembled_jacobian();
+    return build_hierarchy();
   }
 
   /// z = one application of the multigrid cycle(s) to r. Collective.
@@ -294,7 +298,8 @@ class algebraic_multigrid_preconditioner {
     for (std::size_t i = 0; i < m_row_indices.size(); ++i) m_row_indices[i] = lower + static_cast<HYPRE_BigInt>(i);
   }
 
-  setup_status build(const sparse_matrix& jacobian) {
+  /// hypre's parallel matrix from this rank's rows; after it the Jacobian is no longer needed.
+  void copy_into_hypre(const sparse_matrix& jacobian) {
     destroy_matrix_and_solver();
     const auto lower = static_cast<HYPRE_BigInt>(m_partition.first_row);
     const auto upper = static_cast<HYPRE_BigInt>(m_partition.end_row() - 1);
@@ -324,7 +329,10 @@ class algebraic_multigrid_preconditioner {
     void* object = nullptr;
     HYPRE_IJMatrixGetObject(m_matrix, &object);
     m_parallel_matrix = static_cast<HYPRE_ParCSRMatrix>(object);
+  }
 
+  /// The AMG hierarchy of the matrix copied into hypre.
+  setup_status build_hierarchy() {
     HYPRE_BoomerAMGCreate(&m_solver);
     detail::apply_settings(m_solver, m_settings);
     const HYPRE_Int code =
