@@ -384,7 +384,8 @@ TEST_CASE("subsonic NACA 0012 on a coarse grid: symmetry, thin-airfoil lift and 
   finer.cells_outward = 48;
   finer.stretching_ratio = std::pow(1.2, 2.0 / 3.0);
   const airfoil_run refined = solve_naca0012(0.5, 2.0, true, finer);
-  for (const airfoil_run* run : {&level, &lifting, &slower, &second_order_preconditioned, &refined}) {
+  const airfoil_run level_refined = solve_naca0012(0.5, 0.0, true, finer);
+  for (const airfoil_run* run : {&level, &lifting, &slower, &second_order_preconditioned, &refined, &level_refined}) {
     CAPTURE(run->report.newton_steps, run->report.linear_iterations, run->report.final_residual_norm,
             run->report.initial_residual_norm, run->report.wall_seconds);
     REQUIRE(run->report.converged());
@@ -466,6 +467,20 @@ TEST_CASE("subsonic NACA 0012 on a coarse grid: symmetry, thin-airfoil lift and 
   // leading edge, measured 0.028 → 0.017); asked only that it falls.
   CAPTURE(refined.largest_entropy_error);
   CHECK(refined.largest_entropy_error < lifting.largest_entropy_error);
+  // Without lift the spurious drag falls at the scheme's second order: the
+  // same refinement by 3/2 must shrink it by (3/2)^1.5 = 1.84 at least
+  // (order ≥ 1.5; second order gives 2.25). Measured: c_d = 0.00510 → 0.00175,
+  // ratio 2.91 (order 2.6, not yet asymptotic); with the example on 64, 128,
+  // 256 cells around: 0.00510, 0.00079, 0.00025 (orders 2.7, 1.7). With lift
+  // (α = 2°) the same grids gave 0.00675, 0.00229, 0.00118 (orders 1.6, 1.0):
+  // the part that does not fall comes with the circulation. The suspect is
+  // the far field at 20 chords imposing free-stream Riemann invariants without
+  // a point-vortex correction, an error that does not shrink with the cells
+  // (common practice; not yet separated by a run with the correction).
+  const double level_drag = level.forces.drag_coefficient, level_refined_drag = level_refined.forces.drag_coefficient;
+  CAPTURE(level_drag, level_refined_drag);
+  CHECK(level_refined_drag > 0.0);
+  CHECK(level_refined_drag < level_drag / std::pow(1.5, 1.5));
 }
 
 TEST_CASE("airfoil flow settings: bad values are refused with std::invalid_argument", "[euler][settings]") {
