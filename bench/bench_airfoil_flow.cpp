@@ -3,7 +3,9 @@
 // three O-grids, converged from the uniform free stream two ways:
 //  * nkit: pseudo-transient Newton–GMRES from CFL 50, ILU(0) of the
 //    first-order operator's Jacobian (euler_airfoil_solve.hpp,
-//    euler_airfoil_first_order_jacobian.hpp), to ‖R‖ <= 1e-10 ‖R(U0)‖;
+//    euler_airfoil_first_order_jacobian.hpp), to ‖R‖ <= 1e-10 ‖R(U0)‖
+//    (airfoil_newton_krylov); the same with block ILU(0) of the same matrix,
+//    4 × 4 blocks, one per cell (airfoil_newton_krylov_block_ilu, same settings);
 //  * explicit pseudo-time marching, the way many flow codes converge to a
 //    steady state: dU/dτ = −R(U)/Ω with a local time step per cell,
 //    Δτ = CFL·Ω / Σ_faces (|q| + c)|S| (common practice; the same spectral
@@ -21,7 +23,11 @@
 // final_relative_residual (‖R‖/‖R(U0)‖ at the end), work_units (wall time /
 // residual_seconds, the median of 21 timed residual evaluations at the free
 // stream, measured the same way just before each run), wall_seconds,
-// converged (1/0), lift_coefficient (both must agree when both converge).
+// converged (1/0), lift_coefficient (both must agree when both converge);
+// for the nkit runs also preconditioner_setup_seconds,
+// preconditioner_apply_seconds and jacobian_assembly_seconds (the solve
+// report's phase times: the factorisations, the applications inside GMRES,
+// the colored-difference assemblies of the first-order Jacobian).
 // --nkit_history_folder=DIR also writes each run's residual history as CSV
 // (DIR/<method>_<cells around>.csv: wall seconds, work units, relative
 // residual), which bench/plot_airfoil_flow_histories.gp plots.
@@ -117,22 +123,38 @@ void publish(benchmark::State& state, double newton_steps, double gmres_iteratio
   state.counters["lift_coefficient"] = lift;
 }
 
-void airfoil_newton_krylov(benchmark::State& state) {
+/// nkit's solve with the preconditioner `make_preconditioner()` returns; `name` prefixes the history file.
+template <class MakePreconditioner>
+void airfoil_newton_krylov_with(benchmark::State& state, const std::string& name,
+                                MakePreconditioner make_preconditioner) {
   const auto flow = make_flow(static_cast<int>(state.range(0)));
   const nkit_problems::euler_airfoil_with_first_order_jacobian problem(flow);
   for (auto _ : state) {
     Eigen::VectorXd u = flow.initial_guess();
     const double residual_seconds = median_residual_seconds(flow, u);
-    const auto report = nkit_problems::solve_euler_airfoil<nkit::ilu_zero_preconditioner>(
-        problem, u, nkit_problems::euler_airfoil_newton_settings(50.0, target_reduction));
+    const auto report = nkit_problems::solve_euler_airfoil(
+        problem, u, nkit_problems::euler_airfoil_newton_settings(50.0, target_reduction), make_preconditioner());
     state.SetIterationTime(report.wall_seconds);
     std::vector<std::pair<double, double>> history{{0.0, 1.0}};
     for (const auto& h : report.history) history.emplace_back(h.elapsed_seconds, h.relative_residual_norm);
-    write_history("newton_krylov_" + std::to_string(state.range(0)), history, residual_seconds);
+    write_history(name + "_" + std::to_string(state.range(0)), history, residual_seconds);
     publish(state, report.newton_steps, static_cast<double>(report.linear_iterations), 0.0,
             report.final_residual_norm / report.initial_residual_norm, report.wall_seconds, residual_seconds,
             report.converged(), flow.forces(u).lift_coefficient);
+    state.counters["preconditioner_setup_seconds"] = report.time.preconditioner_setup;
+    state.counters["preconditioner_apply_seconds"] = report.time.preconditioner_apply;
+    state.counters["jacobian_assembly_seconds"] = report.time.jacobian_assembly;
   }
+}
+
+/// Point ILU(0) of the first-order Jacobian.
+void airfoil_newton_krylov(benchmark::State& state) {
+  airfoil_newton_krylov_with(state, "newton_krylov", [] { return nkit::ilu_zero_preconditioner{}; });
+}
+
+/// Block ILU(0) of the same matrix, one 4 × 4 block per cell (ρ, ρu, ρv, ρE).
+void airfoil_newton_krylov_block_ilu(benchmark::State& state) {
+  airfoil_newton_krylov_with(state, "newton_krylov_block_ilu", [] { return nkit::block_ilu_zero_preconditioner(4); });
 }
 
 #if defined(NKIT_BENCH_HAS_ODEINT)
@@ -212,6 +234,7 @@ int main(int argc, char** argv) {
     b->Arg(48)->Arg(64)->Arg(96)->UseManualTime()->Unit(benchmark::kSecond)->Iterations(1);
   };
   on_three_grids(benchmark::RegisterBenchmark("airfoil_newton_krylov", airfoil_newton_krylov));
+  on_three_grids(benchmark::RegisterBenchmark("airfoil_newton_krylov_block_ilu", airfoil_newton_krylov_block_ilu));
 #if defined(NKIT_BENCH_HAS_ODEINT)
   on_three_grids(benchmark::RegisterBenchmark("airfoil_explicit_runge_kutta", airfoil_explicit_runge_kutta));
 #endif

@@ -48,6 +48,7 @@
 // preconditioners (dependency-free ones)
 #include "preconditioners/additive_schwarz.hpp"
 #include "preconditioners/algebraic_multigrid_settings.hpp"
+#include "preconditioners/block_ilu_zero.hpp"
 #include "preconditioners/block_jacobi.hpp"
 #include "preconditioners/field_split.hpp"
 #include "preconditioners/ilu_zero.hpp"

@@ -26,6 +26,7 @@ std::atomic<long> eigen_heap_requests{0};
 #include <nkit/fields/field_layout.hpp>
 #include <nkit/krylov/recycling_gmres.hpp>
 #include <nkit/nkit.hpp>
+#include <nkit/preconditioners/block_ilu_zero.hpp>
 #include <nkit/preconditioners/field_split.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
 #include <nkit/time/implicit_time_stepper.hpp>
@@ -350,6 +351,42 @@ TEST_CASE("ILU(0) preconditioned Newton repeats without allocating", "[allocatio
   apply_region.stop();
   CHECK(apply_region.operator_new_calls() == 0);
   CHECK(apply_region.eigen_heap_requests() == 0);
+}
+
+TEST_CASE("block ILU(0): a second setup on the same pattern and its applications allocate nothing",
+          "[allocation][block_ilu_zero]") {
+  // b = 4 (a kernel with a compile-time block size) and b = 7 (block size read
+  // at run time), full blocks on the five-point pattern of 4 × 3 cells; our
+  // own diagonally dominant values.
+  const int b = GENERATE(4, 7);
+  nkit::sparse_matrix matrix = nkit::zero_matrix_with_pattern(nkit::five_point_grid_pattern(4, 3, b));
+  for (int i = 0; i < matrix.outerSize(); ++i) {
+    for (nkit::sparse_matrix::InnerIterator entry(matrix, i); entry; ++entry) {
+      entry.valueRef() = entry.col() == i ? 10.0 * b : 1.0 / (1.0 + static_cast<double>(i + entry.col()));
+    }
+  }
+  nkit::block_ilu_zero_preconditioner blocked(b);
+  counted_region first;
+  const nkit::setup_status first_status = blocked.build(matrix);
+  first.stop();
+  REQUIRE(first_status == nkit::setup_status::ready);
+  CHECK(first.operator_new_calls() > 0);  // the symbolic phase allocates, and the region sees it
+  double* values = matrix.valuePtr();
+  for (Eigen::Index p = 0; p < matrix.nonZeros(); ++p) values[p] *= 1.5;  // new values, same pattern
+  const Eigen::VectorXd r = Eigen::VectorXd::LinSpaced(matrix.rows(), -1.0, 1.0);
+  Eigen::VectorXd z(matrix.rows()), transposed(matrix.rows());
+  counted_region region;
+  const nkit::setup_status second_status = blocked.build(matrix);
+  for (int repeat = 0; repeat < 10; ++repeat) {
+    blocked.apply(r, z);
+    blocked.apply_transpose(r, transposed);
+  }
+  region.stop();
+  CHECK(second_status == nkit::setup_status::ready);
+  CHECK(blocked.symbolic_analyses() == 1);
+  CHECK(z.allFinite());
+  CHECK(region.operator_new_calls() == 0);
+  CHECK(region.eigen_heap_requests() == 0);
 }
 
 namespace {
