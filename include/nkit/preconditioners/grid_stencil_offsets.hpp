@@ -73,8 +73,13 @@ class grid_neighbour_codes {
         // the coordinates of the column by division.
         m_steps_by_comparison((m_dimension < 2 || m_extent[0] >= 3) && (m_dimension < 3 || m_extent[1] >= 3)) {}
 
-  int code(std::int64_t cell, std::int64_t column) const {
-    const std::array<std::int64_t, 3> at = {cell % m_extent[0], cell / m_extent[0] % m_extent[1], cell / m_plane};
+  /// The grid coordinates of `cell`; compute them once per row and pass them to code().
+  std::array<std::int64_t, 3> coordinates(std::int64_t cell) const {
+    return {cell % m_extent[0], cell / m_extent[0] % m_extent[1], cell / m_plane};
+  }
+
+  /// `at` must be coordinates(cell): the divisions stay out of the loop over a row's entries.
+  int code(const std::array<std::int64_t, 3>& at, std::int64_t cell, std::int64_t column) const {
     std::array<std::int64_t, 3> step{};
     if (m_steps_by_comparison) {
       std::int64_t d = column - cell;

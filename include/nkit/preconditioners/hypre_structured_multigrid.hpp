@@ -297,8 +297,9 @@ class structured_multigrid_preconditioner {
     std::int64_t bad_row = -1, bad_column = -1;
     for (std::int64_t row = 0; row < rows && bad_row < 0; ++row) {
       const std::int64_t cell = m_partition.first_row + row;
+      const std::array<std::int64_t, 3> at = neighbours.coordinates(cell);
       for (int k = offsets[row]; k < offsets[row + 1]; ++k) {
-        const int code = neighbours.code(cell, columns[k]);
+        const int code = neighbours.code(at, cell, columns[k]);
         if (code < 0) {
           bad_row = cell;
           bad_column = columns[k];

@@ -302,9 +302,10 @@ class system_structured_multigrid_preconditioner {
     for (std::int64_t row = 0; row < rows && bad_row < 0; ++row) {
       const std::int64_t unknown = m_partition.first_row + row;
       const std::int64_t cell = unknown / b;
+      const std::array<std::int64_t, 3> at = neighbours.coordinates(cell);
       const auto variable = static_cast<std::size_t>(unknown % b);
       for (int k = offsets[row]; k < offsets[row + 1]; ++k) {
-        const int code = neighbours.code(cell, columns[k] / b);
+        const int code = neighbours.code(at, cell, columns[k] / b);
         if (code < 0) {
           bad_row = unknown;
           bad_column = columns[k];
