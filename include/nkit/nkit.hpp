@@ -7,7 +7,8 @@
 /// dependencies are included separately: time/odeint_stepper.hpp (Boost),
 /// distributed/mpi_vector_space.hpp
 /// (MPI), preconditioners/hypre_algebraic_multigrid.hpp and
-/// preconditioners/hypre_structured_multigrid.hpp (hypre),
+/// preconditioners/hypre_structured_multigrid.hpp,
+/// preconditioners/hypre_system_structured_multigrid.hpp (hypre),
 /// preconditioners/suitesparse_direct.hpp (SuiteSparse), report/report_json.hpp
 /// (nlohmann-json).
 

@@ -62,8 +62,10 @@
 /// cycle); adjoint solves need another preconditioner.
 ///
 /// Not part of nkit.hpp; link the CMake target nkit::hypre. MPI must be
-/// initialised before the first object is created. Several unknowns per cell
-/// are not supported (the grid's unknowns_per_cell must be 1).
+/// initialised before the first object is created. The grid's
+/// unknowns_per_cell must be 1; for several unknowns per cell use
+/// system_structured_multigrid_preconditioner
+/// (hypre_system_structured_multigrid.hpp).
 
 #include <HYPRE.h>
 #include <HYPRE_struct_ls.h>
@@ -83,6 +85,7 @@
 #include "../distributed/mpi_agreement.hpp"
 #include "../distributed/row_partition.hpp"
 #include "../grids/structured_grid.hpp"
+#include "grid_stencil_offsets.hpp"
 #include "hypre_library.hpp"
 #include "structured_multigrid_settings.hpp"
 
@@ -109,37 +112,6 @@ inline HYPRE_Int hypre_code(structured_coarse_operator value) {
   return value == structured_coarse_operator::non_galerkin ? 1 : 0;
 }
 
-/// The 3^d neighbour offsets as codes 0 … 26: code = (di+1) + 3(dj+1) + 9(dk+1),
-/// so the centre is 13.
-constexpr int stencil_centre_code = 13;
-inline std::array<int, 3> stencil_offset(int code) { return {code % 3 - 1, code / 3 % 3 - 1, code / 9 - 1}; }
-/// Number of directions in which an offset code moves.
-inline int stencil_reach(int code) {
-  const std::array<int, 3> offset = stencil_offset(code);
-  return (offset[0] != 0) + (offset[1] != 0) + (offset[2] != 0);
-}
-/// Codes (as a bit mask) of the offsets moving in at most `directions`
-/// directions, among the offsets of a `dimension`-D grid.
-inline std::uint32_t stencil_mask(int dimension, int directions) {
-  std::uint32_t mask = 0;
-  for (int code = 0; code < 27; ++code) {
-    const bool in_grid = stencil_offset(code)[2] == 0 || dimension == 3;
-    if (in_grid && stencil_reach(code) <= directions) mask |= 1u << code;
-  }
-  return mask;
-}
-/// The star stencil (centre and the 2·dimension axis neighbours).
-inline std::uint32_t star_stencil_mask(int dimension) { return stencil_mask(dimension, 1); }
-/// The smallest stencil hypre's semicoarsening multigrid handles that holds
-/// `mask` (its Galerkin products are written for 5- and 9-point stencils in
-/// 2-D and 7-, 19- and 27-point stencils in 3-D; the extra points are zero).
-inline std::uint32_t supported_stencil_mask(std::uint32_t mask, int dimension) {
-  for (int directions = 1; directions <= dimension; ++directions) {
-    const std::uint32_t candidate = stencil_mask(dimension, directions);
-    if ((mask & ~candidate) == 0) return candidate;
-  }
-  return stencil_mask(dimension, dimension);
-}
 inline bool red_black(structured_multigrid_smoother smoother) {
   return smoother == structured_multigrid_smoother::red_black_gauss_seidel ||
          smoother == structured_multigrid_smoother::red_black_gauss_seidel_symmetric;
@@ -161,7 +133,8 @@ class structured_multigrid_preconditioner {
           "nkit: structured_multigrid_preconditioner needs one unknown per cell (the structured_grid has "
           "unknowns_per_cell = " +
           std::to_string(grid.unknowns_per_cell()) +
-          "); use algebraic_multigrid_preconditioner, or a field split with this preconditioner per field");
+          "); use system_structured_multigrid_preconditioner (hypre_system_structured_multigrid.hpp) for several "
+          "unknowns per cell");
     }
     detail::initialise_hypre_once();
   }
@@ -261,11 +234,7 @@ class structured_multigrid_preconditioner {
   int hypre_dimension() const { return m_grid.dimension() < 2 ? 2 : m_grid.dimension(); }
 
   /// Cells in one layer of the slowest direction.
-  std::int64_t layer_cells() const {
-    std::int64_t cells = 1;
-    for (int a = 0; a + 1 < m_grid.dimension(); ++a) cells *= m_grid.cells(a);
-    return cells;
-  }
+  std::int64_t layer_cells() const { return detail::layer_cell_count(m_grid); }
 
   void set_partition(std::int64_t local_rows) {
     const row_partition partition = detail::row_partition_over(m_communicator, local_rows);
@@ -318,9 +287,7 @@ class structured_multigrid_preconditioner {
   /// The stencil point of every Jacobian entry (m_entry_codes), and the
   /// stencil itself from the pattern (union over ranks).
   void classify_entries(const sparse_matrix& jacobian) {
-    const int dimension = m_grid.dimension();
-    const std::array<std::int64_t, 3> extent = {m_grid.cells(0), m_grid.cells(1), m_grid.cells(2)};
-    const std::int64_t plane = extent[0] * extent[1];
+    const detail::grid_neighbour_codes neighbours(m_grid);
     const int* offsets = jacobian.outerIndexPtr();
     const int* columns = jacobian.innerIndexPtr();
     const auto rows = static_cast<std::int64_t>(jacobian.rows());
@@ -328,40 +295,14 @@ class structured_multigrid_preconditioner {
     m_entry_codes.resize(static_cast<std::size_t>(jacobian.nonZeros()));
     std::uint32_t mask = 1u << detail::stencil_centre_code;
     std::int64_t bad_row = -1, bad_column = -1;
-    // The steps (dx, dy, dz) of an entry follow from d = column − cell = dx + nx·dy + plane·dz by
-    // comparisons alone when that has one solution with |dx|, |dy|, |dz| <= 1: when nx >= 3 and,
-    // in 3-D, ny >= 3 (then |dx + nx·dy| <= nx + 1 < plane/2 and |dx| <= 1 < nx/2). Narrower
-    // grids take the coordinates of the column by division.
-    const bool steps_by_comparison = (dimension < 2 || extent[0] >= 3) && (dimension < 3 || extent[1] >= 3);
     for (std::int64_t row = 0; row < rows && bad_row < 0; ++row) {
       const std::int64_t cell = m_partition.first_row + row;
-      const std::array<std::int64_t, 3> at = {cell % extent[0], cell / extent[0] % extent[1], cell / plane};
+      const std::array<std::int64_t, 3> at = neighbours.coordinates(cell);
       for (int k = offsets[row]; k < offsets[row + 1]; ++k) {
-        const std::int64_t column = columns[k];
-        std::array<std::int64_t, 3> step{};
-        if (steps_by_comparison) {
-          std::int64_t d = column - cell;
-          step[2] = dimension < 3 ? 0 : 2 * d > plane ? 1 : 2 * d < -plane ? -1 : 0;
-          d -= step[2] * plane;
-          step[1] = dimension < 2 ? 0 : 2 * d > extent[0] ? 1 : 2 * d < -extent[0] ? -1 : 0;
-          step[0] = d - step[1] * extent[0];
-        } else {
-          step = {column % extent[0] - at[0], column / extent[0] % extent[1] - at[1], column / plane - at[2]};
-        }
-        // Near when every step is −1, 0 or 1 (0 beyond the grid's dimension) and lands on the grid:
-        // then column is the cell at + step, whichever way the steps were found.
-        int code = 0, scale = 1;
-        bool near = true;
-        for (std::size_t a = 0; a < 3; ++a) {
-          const std::int64_t to = at[a] + step[a];
-          near = near && step[a] >= -1 && step[a] <= 1 && (static_cast<int>(a) < dimension || step[a] == 0) &&
-                 to >= 0 && to < extent[a];
-          code += scale * static_cast<int>(step[a] + 1);
-          scale *= 3;
-        }
-        if (!near) {
+        const int code = neighbours.code(at, cell, columns[k]);
+        if (code < 0) {
           bad_row = cell;
-          bad_column = column;
+          bad_column = columns[k];
           break;
         }
         m_entry_codes[static_cast<std::size_t>(k)] = static_cast<unsigned char>(code);
