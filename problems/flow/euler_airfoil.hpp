@@ -63,9 +63,21 @@
 //    free stream for subsonic normal flow (both from one side when
 //    supersonic); q_b = ½(R+ + R−), c_b = ¼(γ − 1)(R+ − R−); tangential
 //    velocity and entropy p/ρ^γ from the free stream at inflow (q_b < 0) and
-//    from the interior at outflow. As in Blazek (2001) §8.6 (from memory;
-//    there also the vortex correction, not used here: lift therefore
-//    carries an O(1/R) far-field error).
+//    from the interior at outflow. As in Blazek (2001) §8.6 (from memory).
+//    The "free stream" there is uniform by default, so lift carries an
+//    O(1/R) far-field error. With far_field_vortex_lift_coefficient = c_l it
+//    is the uniform stream plus the far field of a point vortex of
+//    circulation Γ = ½ V∞ c c_l (Kutta–Joukowski, L = ρ∞ V∞ Γ) at the quarter
+//    chord, in the compressible form of the linearised (Prandtl–Glauert)
+//    potential φ = −(Γ/2π) atan(β tan(θ − α)), β = √(1 − M∞²), whose
+//    gradient is
+//      (u, v) = (V∞ cos α, V∞ sin α)
+//               + Γβ / (2πr (1 − M∞² sin²(θ − α))) · (sin θ, −cos θ)
+//    (r, θ about the vortex; W.L. Thomas & M.D. Salas, AIAA J. 24 (1986)
+//    1074–1080, from memory; derived here from φ, and checked in
+//    tests/test_euler_airfoil.cpp against φ's differences and the
+//    circulation −Γ around the boundary); density and pressure from the free
+//    stream's total enthalpy and entropy.
 //    The switch of the tangential velocity and entropy at q_b = 0 makes the
 //    far-field state jump there (by the small difference between the interior
 //    and the free stream at R chords): the one place where the residual is
@@ -109,6 +121,12 @@ struct euler_airfoil_settings {
   bool second_order = true;              ///< MUSCL + van Albada; false: first order
   double entropy_fix_fraction = 0.1;     ///< Harten's δ / c̃, in [0, 1]
   airfoil_body_boundary body_boundary = airfoil_body_boundary::slip_wall;
+  /// c_l of the point vortex whose far field the far-field boundary imposes
+  /// instead of the uniform free stream (file comment: vortex correction);
+  /// 0 = the uniform free stream. Subsonic free streams only. Set it to the
+  /// lift of a converged solve and solve again, until the two agree
+  /// (solve_euler_airfoil_with_far_field_vortex in euler_airfoil_solve.hpp).
+  double far_field_vortex_lift_coefficient = 0.0;
 
   void validate() const {
     const auto fail = [](const std::string& what) { throw std::invalid_argument("euler_airfoil_settings." + what); };
@@ -120,6 +138,14 @@ struct euler_airfoil_settings {
     }
     if (!(entropy_fix_fraction >= 0.0 && entropy_fix_fraction <= 1.0)) {
       fail("entropy_fix_fraction must be in [0, 1] (got " + std::to_string(entropy_fix_fraction) + ")");
+    }
+    if (!std::isfinite(far_field_vortex_lift_coefficient)) {
+      fail("far_field_vortex_lift_coefficient must be finite (got " +
+           std::to_string(far_field_vortex_lift_coefficient) + ")");
+    }
+    if (far_field_vortex_lift_coefficient != 0.0 && !(mach_number < 1.0)) {
+      fail("far_field_vortex_lift_coefficient needs a subsonic free stream (mach_number < 1; got " +
+           std::to_string(mach_number) + ")");
     }
   }
 };
@@ -144,6 +170,32 @@ class euler_airfoil_flow {
     m_free_stream = {1.0, settings.mach_number * std::cos(alpha), settings.mach_number * std::sin(alpha),
                      1.0 / euler_gamma};
     m_pattern = stencil_pattern(settings.second_order ? 2 : 1);
+    const int n = m_grid.cells_around(), m = m_grid.cells_outward();
+    m_far_field_outer.resize(static_cast<std::size_t>(n));
+    for (int i = 0; i < n; ++i) {
+      const point2 a = m_grid.node(i, m), b = m_grid.node(i + 1, m);
+      m_far_field_outer[static_cast<std::size_t>(i)] = vortex_far_field({0.5 * (a.x + b.x), 0.5 * (a.y + b.y)});
+    }
+  }
+
+  /// The primitive state the far-field boundary imposes at point x: the
+  /// uniform free stream plus the velocity of a point vortex of circulation
+  /// Γ = ½ V∞ c c_l at the quarter chord (0.25, 0), in its compressible
+  /// (Prandtl–Glauert) form, with the free stream's total enthalpy and entropy
+  /// (file comment). The free stream itself when far_field_vortex_lift_coefficient = 0.
+  state4<double> vortex_far_field(point2 x) const {
+    const double lift = m_settings.far_field_vortex_lift_coefficient;
+    if (lift == 0.0) return m_free_stream;
+    const double g = euler_gamma, mach = m_settings.mach_number, pi = std::acos(-1.0);
+    const double alpha = m_settings.angle_of_attack_degrees * pi / 180.0, beta = std::sqrt(1.0 - mach * mach);
+    const double circulation = 0.5 * mach * lift;  // V∞ = M (c∞ = 1), chord 1
+    const double dx = x.x - 0.25, dy = x.y, r = std::hypot(dx, dy), theta = std::atan2(dy, dx);
+    const double sine = std::sin(theta - alpha);
+    const double swirl = circulation * beta / (2.0 * pi * r * (1.0 - mach * mach * sine * sine));
+    const double u = m_free_stream[1] + swirl * std::sin(theta), v = m_free_stream[2] - swirl * std::cos(theta);
+    const double c2 = 1.0 + 0.5 * (g - 1.0) * (mach * mach - u * u - v * v);  // same total enthalpy, c∞ = 1
+    const double rho = std::pow(c2, 1.0 / (g - 1.0));                         // same entropy p/ρ^γ = 1/γ
+    return {rho, u, v, rho * c2 / g};
   }
 
   const airfoil_o_grid& grid() const { return m_grid; }
@@ -280,7 +332,7 @@ class euler_airfoil_flow {
     const int m = m_grid.cells_outward();
     const point2 s = m_grid.j_face(i, m);
     const state4<Scalar> inner = cell_primitive(u, i, m - 1);
-    const state4<Scalar> ghost = far_field_state(inner, s);
+    const state4<Scalar> ghost = far_field_state(inner, s, m_far_field_outer[static_cast<std::size_t>(i)]);
     const state4<Scalar> left =
         m_settings.second_order ? reconstruct(cell_primitive(u, i, m - 2), inner, ghost) : inner;
     return roe_flux(left, ghost, s.x, s.y);
@@ -383,12 +435,11 @@ class euler_airfoil_flow {
   /// The far-field boundary state (file comment) from the interior primitive
   /// state and the outward face vector s.
   template <class Scalar>
-  state4<Scalar> far_field_state(const state4<Scalar>& inner, point2 s) const {
+  state4<Scalar> far_field_state(const state4<Scalar>& inner, point2 s, const state4<double>& w) const {
     using std::pow;
     using std::sqrt;
     const double length = std::hypot(s.x, s.y), nx = s.x / length, ny = s.y / length;
     const double g = euler_gamma;
-    const state4<double>& w = m_free_stream;
     const double c_inf = std::sqrt(g * w[3] / w[0]), q_inf = w[1] * nx + w[2] * ny;
     const Scalar c_in = sqrt(g * inner[3] / inner[0]), q_in = inner[1] * nx + inner[2] * ny;
     if (value(q_in) >= value(c_in)) return inner;  // supersonic outflow: everything from inside
@@ -456,12 +507,13 @@ class euler_airfoil_flow {
     const point2 s = m_grid.j_face(i, 0);
     const state4<Scalar> inner = cell_primitive(u, i, 0);
     if (m_settings.body_boundary == airfoil_body_boundary::slip_wall) return mirrored(inner, s);
-    return far_field_state(inner, point2{-s.x, -s.y});  // outward from the domain = into the body
+    return far_field_state(inner, point2{-s.x, -s.y}, m_free_stream);  // outward from the domain = into the body
   }
   template <class Scalar>
   state4<Scalar> far_field_ghost(const Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& u, int i) const {
     const int m = m_grid.cells_outward();
-    return far_field_state(cell_primitive(u, i, m - 1), m_grid.j_face(i, m));
+    return far_field_state(cell_primitive(u, i, m - 1), m_grid.j_face(i, m),
+                           m_far_field_outer[static_cast<std::size_t>(i)]);
   }
 
   nkit::sparsity_pattern stencil_pattern(int reach) const {
@@ -490,6 +542,7 @@ class euler_airfoil_flow {
   airfoil_o_grid m_grid;
   euler_airfoil_settings m_settings;
   state4<double> m_free_stream{};
+  std::vector<state4<double>> m_far_field_outer;  ///< the imposed outer state at each far-field face
   nkit::sparsity_pattern m_pattern;
 };
 
