@@ -86,6 +86,7 @@
 #include "../distributed/row_partition.hpp"
 #include "../grids/structured_grid.hpp"
 #include "grid_stencil_offsets.hpp"
+#include "hypre_grid_layer_box.hpp"
 #include "hypre_library.hpp"
 #include "structured_multigrid_settings.hpp"
 
@@ -237,25 +238,16 @@ class structured_multigrid_preconditioner {
   std::int64_t layer_cells() const { return detail::layer_cell_count(m_grid); }
 
   void set_partition(std::int64_t local_rows) {
-    const row_partition partition = detail::row_partition_over(m_communicator, local_rows);
-    if (partition.global_rows != static_cast<std::int64_t>(m_grid.cell_count())) {
-      throw std::invalid_argument("nkit: structured_multigrid_preconditioner: the ranks hold " +
-                                  std::to_string(partition.global_rows) + " unknowns in all, the grid " +
-                                  m_grid.description() + " has " + std::to_string(m_grid.cell_count()));
-    }
-    const std::int64_t layer = layer_cells();
-    const bool not_whole_layers = partition.first_row % layer != 0 || partition.local_rows % layer != 0;
-    if (collective_or(not_whole_layers)) {
-      throw std::invalid_argument(
-          "nkit: structured_multigrid_preconditioner needs each rank's rows to be whole layers of the slowest grid "
-          "direction (multiples of " +
-          std::to_string(layer) + " cells); on this rank they are rows " + std::to_string(partition.first_row) +
-          " to " + std::to_string(partition.end_row() - 1));
-    }
+    const detail::grid_layer_box box =
+        detail::grid_layer_box_over(m_communicator, m_grid, local_rows, "structured_multigrid_preconditioner");
     // Collective: hypre's grid assembly must be called by every rank together.
-    const bool changed = collective_or(partition.first_row != m_partition.first_row ||
-                                       partition.local_rows != m_partition.local_rows || m_grid_handle == nullptr);
-    m_partition = partition;
+    const bool changed = collective_or(box.partition.first_row != m_partition.first_row ||
+                                       box.partition.local_rows != m_partition.local_rows || m_grid_handle == nullptr);
+    m_partition = box.partition;
+    for (std::size_t a = 0; a < 3; ++a) {
+      m_lower[a] = static_cast<HYPRE_Int>(box.lower[a]);
+      m_upper[a] = static_cast<HYPRE_Int>(box.upper[a]);
+    }
     if (changed) create_grid_and_vectors();
   }
 
@@ -264,15 +256,6 @@ class structured_multigrid_preconditioner {
   void create_grid_and_vectors() {
     destroy_matrix_and_solver();
     destroy_grid_and_vectors();
-    const int dimension = m_grid.dimension();
-    const std::int64_t layer = layer_cells();
-    for (int a = 0; a < 3; ++a) {
-      m_lower[static_cast<std::size_t>(a)] = 0;
-      m_upper[static_cast<std::size_t>(a)] = a < dimension ? m_grid.cells(a) - 1 : 0;
-    }
-    const auto slowest = static_cast<std::size_t>(dimension - 1);
-    m_lower[slowest] = static_cast<HYPRE_Int>(m_partition.first_row / layer);
-    m_upper[slowest] = static_cast<HYPRE_Int>(m_partition.end_row() / layer - 1);
     HYPRE_StructGridCreate(m_communicator, hypre_dimension(), &m_grid_handle);
     if (m_partition.local_rows > 0) HYPRE_StructGridSetExtents(m_grid_handle, m_lower.data(), m_upper.data());
     HYPRE_StructGridAssemble(m_grid_handle);

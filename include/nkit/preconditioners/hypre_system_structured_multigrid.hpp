@@ -74,6 +74,7 @@
 #include "../distributed/row_partition.hpp"
 #include "../grids/structured_grid.hpp"
 #include "grid_stencil_offsets.hpp"
+#include "hypre_grid_layer_box.hpp"
 #include "hypre_library.hpp"
 #include "system_structured_multigrid_settings.hpp"
 
@@ -236,26 +237,16 @@ class system_structured_multigrid_preconditioner {
   int hypre_dimension() const { return m_grid.dimension(); }
 
   void set_partition(std::int64_t local_rows) {
-    const row_partition partition = detail::row_partition_over(m_communicator, local_rows);
-    if (partition.global_rows != static_cast<std::int64_t>(m_grid.unknowns())) {
-      throw std::invalid_argument("nkit: system_structured_multigrid_preconditioner: the ranks hold " +
-                                  std::to_string(partition.global_rows) + " unknowns in all, the grid " +
-                                  m_grid.description() + " has " + std::to_string(m_grid.unknowns()));
-    }
-    const std::int64_t layer = detail::layer_cell_count(m_grid) * unknowns_per_cell();
-    const bool not_whole_layers = partition.first_row % layer != 0 || partition.local_rows % layer != 0;
-    if (collective_or(not_whole_layers)) {
-      throw std::invalid_argument(
-          "nkit: system_structured_multigrid_preconditioner needs each rank's rows to be whole layers of the "
-          "slowest grid direction (multiples of " +
-          std::to_string(layer) + " unknowns: " + std::to_string(unknowns_per_cell()) +
-          " per cell); on this rank they are rows " + std::to_string(partition.first_row) + " to " +
-          std::to_string(partition.end_row() - 1));
-    }
+    const detail::grid_layer_box box =
+        detail::grid_layer_box_over(m_communicator, m_grid, local_rows, "system_structured_multigrid_preconditioner");
     // Collective: hypre's grid assembly must be called by every rank together.
-    const bool changed = collective_or(partition.first_row != m_partition.first_row ||
-                                       partition.local_rows != m_partition.local_rows || m_grid_handle == nullptr);
-    m_partition = partition;
+    const bool changed = collective_or(box.partition.first_row != m_partition.first_row ||
+                                       box.partition.local_rows != m_partition.local_rows || m_grid_handle == nullptr);
+    m_partition = box.partition;
+    for (std::size_t a = 0; a < 3; ++a) {
+      m_lower[a] = static_cast<HYPRE_Int>(box.lower[a]);
+      m_upper[a] = static_cast<HYPRE_Int>(box.upper[a]);
+    }
     if (changed) create_grid_and_vectors();
   }
 
@@ -265,16 +256,7 @@ class system_structured_multigrid_preconditioner {
     destroy_matrix_and_solver();
     destroy_graph_and_stencils();
     destroy_grid_and_vectors();
-    const int dimension = m_grid.dimension();
     const int b = unknowns_per_cell();
-    const std::int64_t layer = detail::layer_cell_count(m_grid) * b;
-    for (int a = 0; a < 3; ++a) {
-      m_lower[static_cast<std::size_t>(a)] = 0;
-      m_upper[static_cast<std::size_t>(a)] = a < dimension ? m_grid.cells(a) - 1 : 0;
-    }
-    const auto slowest = static_cast<std::size_t>(dimension - 1);
-    m_lower[slowest] = static_cast<HYPRE_Int>(m_partition.first_row / layer);
-    m_upper[slowest] = static_cast<HYPRE_Int>(m_partition.end_row() / layer - 1);
     HYPRE_SStructGridCreate(m_communicator, hypre_dimension(), 1, &m_grid_handle);
     if (m_partition.local_rows > 0) HYPRE_SStructGridSetExtents(m_grid_handle, 0, m_lower.data(), m_upper.data());
     std::vector<HYPRE_SStructVariable> types(static_cast<std::size_t>(b), HYPRE_SSTRUCT_VARIABLE_CELL);
