@@ -76,6 +76,7 @@
 #include <vector>
 
 #include "../core/preconditioner.hpp"
+#include "../detail/dense_block_lu.hpp"
 #include "../detail/sparse_helpers.hpp"
 #include "jacobi.hpp"
 
@@ -237,25 +238,7 @@ class block_ilu_zero_preconditioner {
     std::copy(d, d + b * b, a);
     const double tiny =
         std::numeric_limits<double>::epsilon() * static_cast<double>(b) * std::max(infinity_norm(a, b), original_norm);
-    bool singular = !std::isfinite(tiny);
-    for (std::size_t k = 0; k < b && !singular; ++k) {
-      std::size_t best = k;
-      for (std::size_t i = k + 1; i < b; ++i) {
-        if (std::abs(a[i * b + k]) > std::abs(a[best * b + k])) best = i;
-      }
-      pivot[k] = static_cast<int>(best);
-      if (best != k) {
-        for (std::size_t c = 0; c < b; ++c) std::swap(a[k * b + c], a[best * b + c]);
-      }
-      if (!(std::abs(a[k * b + k]) > tiny)) {
-        singular = true;
-        break;
-      }
-      for (std::size_t i = k + 1; i < b; ++i) {
-        a[i * b + k] /= a[k * b + k];
-        for (std::size_t c = k + 1; c < b; ++c) a[i * b + c] -= a[i * b + k] * a[k * b + c];
-      }
-    }
+    const bool singular = !std::isfinite(tiny) || !detail::factor_dense_block(a, pivot, b, tiny);
     if (singular) {
       std::int64_t replaced = 0;
       std::fill(inverse, inverse + b * b, 0.0);

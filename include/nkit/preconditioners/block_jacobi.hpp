@@ -30,6 +30,7 @@
 #include <vector>
 
 #include "../core/preconditioner.hpp"
+#include "../detail/dense_block_lu.hpp"
 #include "../detail/sparse_helpers.hpp"
 #include "jacobi.hpp"
 
@@ -152,26 +153,7 @@ class block_jacobi_preconditioner {
       for (std::size_t k = 0; k < b; ++k) row_max[i] = std::max(row_max[i], std::abs(a[i * b + k]));
     }
     const double tiny = std::numeric_limits<double>::epsilon() * static_cast<double>(b) * norm;
-    bool singular = false;
-    for (std::size_t k = 0; k < b && !singular; ++k) {
-      std::size_t best = k;
-      for (std::size_t i = k + 1; i < b; ++i) {
-        if (std::abs(a[i * b + k]) > std::abs(a[best * b + k])) best = i;
-      }
-      pivot[k] = static_cast<int>(best);
-      if (best != k) {
-        for (std::size_t c = 0; c < b; ++c) std::swap(a[k * b + c], a[best * b + c]);
-      }
-      if (!(std::abs(a[k * b + k]) > tiny)) {
-        singular = true;
-        break;
-      }
-      for (std::size_t i = k + 1; i < b; ++i) {
-        a[i * b + k] /= a[k * b + k];
-        for (std::size_t c = k + 1; c < b; ++c) a[i * b + c] -= a[i * b + k] * a[k * b + c];
-      }
-    }
-    if (!singular) return true;
+    if (detail::factor_dense_block(a, pivot, b, tiny)) return true;
     std::int64_t replaced = 0;
     for (std::size_t i = 0; i < b; ++i) {
       for (std::size_t c = 0; c < b; ++c) a[i * b + c] = 0.0;
