@@ -404,8 +404,8 @@ TEST_CASE("a preconditioner may let the driver free the assembled Jacobian after
     CHECK(report.preconditioner_setups == kept_report.preconditioner_setups);
     CHECK(report.jacobian_assemblies == report.preconditioner_setups);
     // Freed after the last setup: what is left (the unused coloring
-    // workspace's few bytes) is less than the matrix's values alone, and the
-    // saving is at least the matrix's values, indices and row offsets.
+    // workspace's few bytes) is fewer bytes than the matrix has entries, and
+    // the saving is at least the matrix's values, indices and row offsets.
     nkit::sparse_matrix reference;
     model.assemble_jacobian(released, reference);
     const auto matrix_bytes = static_cast<std::size_t>(reference.nonZeros()) * (sizeof(double) + sizeof(int)) +

@@ -125,7 +125,7 @@ struct euler_airfoil_settings {
   /// instead of the uniform free stream (file comment: vortex correction);
   /// 0 = the uniform free stream. Subsonic free streams only. Set it to the
   /// lift of a converged solve and solve again, until the two agree
-  /// (solve_euler_airfoil_with_far_field_vortex in euler_airfoil_solve.hpp).
+  /// (solve_euler_airfoil_with_far_field_vortex in euler_airfoil_far_field_vortex.hpp).
   double far_field_vortex_lift_coefficient = 0.0;
 
   void validate() const {

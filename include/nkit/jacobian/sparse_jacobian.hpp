@@ -9,7 +9,11 @@
 ///       void assemble_jacobian(const vector_type& u, nkit::sparse_matrix& jacobian)
 ///     (compressed rows), or the same with
 ///     Eigen::SparseMatrix<double, Eigen::ColMajor, int>, which the driver
-///     converts to compressed rows after each call;
+///     converts to compressed rows after each call. The matrix handed in is
+///     the one of the previous call (so values can be rewritten in place),
+///     or an empty one: on the first call, and after a preconditioner let
+///     the driver free it (preconditioner_context::release_assembled_jacobian).
+///     Check its size and pattern; never assume it is still allocated;
 ///  2. a sparsity pattern, a member
 ///       const nkit::sparsity_pattern& jacobian_pattern() const
 ///     (with_jacobian_pattern() adds it to any residual): the driver then

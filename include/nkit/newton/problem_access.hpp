@@ -432,11 +432,10 @@ class problem_access {
   /// Frees the assembled Jacobian's storage (row- and column-major); the
   /// next assembly allocates it again. The coloring workspace is kept.
   /// With glibc the freed pages are also handed back to the system
-  /// (malloc_trim): the memory hooks of MPI libraries typically turn off
-  /// glibc's own return of large blocks, and then a freed matrix stays in the
-  /// process's resident memory. Measured with Open MPI on the 1024² model
-  /// problem: the resident set did not shrink at all after the free; with the
-  /// trim it shrank by the matrix's 64 MiB.
+  /// (malloc_trim). Measured with Open MPI on the 1024² model problem: glibc
+  /// kept every block on its heap (no block was mapped separately), and the
+  /// resident set did not shrink at all after the free; with the trim it
+  /// shrank by the matrix's 64 MiB.
   void release_assembled_jacobian() {
     sparse_matrix().swap(m_jacobian);
     column_major_sparse_matrix().swap(m_column_major_jacobian);

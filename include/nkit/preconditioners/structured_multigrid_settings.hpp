@@ -61,11 +61,12 @@ struct structured_multigrid_settings {
   /// Once the stencil values are in hypre's matrix, let the Newton driver
   /// free its assembled Jacobian (preconditioner_context::
   /// release_assembled_jacobian) instead of keeping it until the next setup.
-  /// Saves that matrix's memory (about 60 MiB for the 5-point Jacobian at
-  /// 1024² cells) for the rest of the solve; the price is that every setup
-  /// assembles into new storage (an allocation, and for assemblers that
-  /// rewrite values in place, a fresh pattern). Off by default, so that
-  /// setups after the first allocate nothing in nkit.
+  /// Saves that matrix's memory (64 MiB for the 5-point Jacobian at 1024²
+  /// cells: values, column indices and row offsets) for the rest of the
+  /// solve; the price is that every setup assembles into new storage (an
+  /// allocation; assemble_jacobian then receives an empty matrix, see
+  /// jacobian/sparse_jacobian.hpp). Off by default, so that setups after the
+  /// first allocate nothing in nkit.
   bool release_assembled_jacobian_after_copy = false;
 
   void validate(std::string_view prefix = "structured_multigrid_settings") const {

@@ -46,8 +46,9 @@ struct system_structured_multigrid_settings {
   /// free its assembled Jacobian (preconditioner_context::
   /// release_assembled_jacobian) instead of keeping it until the next setup:
   /// less memory for the rest of the solve, at the price of an allocation at
-  /// every assembly. Off by default, so that setups after the first allocate
-  /// nothing in nkit.
+  /// every assembly (assemble_jacobian then receives an empty matrix, see
+  /// jacobian/sparse_jacobian.hpp). Off by default, so that setups after the
+  /// first allocate nothing in nkit.
   bool release_assembled_jacobian_after_copy = false;
 
   void validate(std::string_view prefix = "system_structured_multigrid_settings") const {
