@@ -21,7 +21,7 @@ using nkit_test::fixed_jacobian;
 /// This rank's share of `layers` layers: balanced in rank order, or all on
 /// rank 0 (`split` = 1), or a quarter on rank 0 and the rest on the others
 /// (`split` = 2).
-std::pair<int, int> layer_range(int layers, int split = 0) {
+std::pair<int, int> system_layer_range(int layers, int split = 0) {
   const int rank = nkit_test::world_rank(), size = nkit_test::world_size();
   if (split == 1) return rank == 0 ? std::pair<int, int>{0, layers} : std::pair<int, int>{layers, layers};
   if (split == 2 && size > 1) {
@@ -47,9 +47,9 @@ Eigen::Index layer_unknowns(const nkit::structured_grid& grid) {
 /// Sets the preconditioner up with this rank's rows [first, end) of the
 /// global matrix and returns its application to those rows of `r`;
 /// `releases`, when given, receives how often the setup released the matrix.
-Eigen::VectorXd apply_to_rows(nkit::system_structured_multigrid_preconditioner& multigrid,
-                              const nkit::sparse_matrix& global, Eigen::Index first, Eigen::Index end,
-                              const Eigen::VectorXd& r, int* releases = nullptr) {
+Eigen::VectorXd apply_system_to_rows(nkit::system_structured_multigrid_preconditioner& multigrid,
+                                     const nkit::sparse_matrix& global, Eigen::Index first, Eigen::Index end,
+                                     const Eigen::VectorXd& r, int* releases = nullptr) {
   const Eigen::Index count = end - first;
   nkit::sparse_matrix local = global.middleRows(first, count);
   local.makeCompressed();
@@ -70,9 +70,9 @@ Eigen::VectorXd apply_on_split(const nkit::structured_grid& grid, const nkit::sp
                                const Eigen::VectorXd& r, nkit::system_structured_multigrid_settings settings,
                                int split) {
   const Eigen::Index layer = layer_unknowns(grid);
-  const auto [first_layer, end_layer] = layer_range(grid.cells(grid.dimension() - 1), split);
+  const auto [first_layer, end_layer] = system_layer_range(grid.cells(grid.dimension() - 1), split);
   nkit::system_structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD, grid, settings);
-  const Eigen::VectorXd z = apply_to_rows(multigrid, global, first_layer * layer, end_layer * layer, r);
+  const Eigen::VectorXd z = apply_system_to_rows(multigrid, global, first_layer * layer, end_layer * layer, r);
   return nkit_test::gather_all(MPI_COMM_WORLD, z);
 }
 
@@ -132,8 +132,9 @@ nkit::sparse_matrix coupled_diffusion(const std::vector<int>& extents, const std
 /// stronger exchange (σ = 1 against k = 0.1) slows the cycle to a factor
 /// near 0.9 (measured; docs/structured_multigrid.md says why), so the
 /// tests keep to the regime the method is meant for.
-void check_converges_to_direct_solution(const nkit::structured_grid& grid, const nkit::sparse_matrix& global,
-                                        nkit::system_structured_multigrid_settings settings = {}, int split = 0) {
+void check_system_converges_to_direct_solution(const nkit::structured_grid& grid, const nkit::sparse_matrix& global,
+                                               nkit::system_structured_multigrid_settings settings = {},
+                                               int split = 0) {
   const Eigen::VectorXd r = Eigen::VectorXd::LinSpaced(global.rows(), -1.0, 2.0).array().sin();
   Eigen::SparseLU<Eigen::SparseMatrix<double>> lu(global);
   REQUIRE(lu.info() == Eigen::Success);
@@ -227,22 +228,22 @@ TEST_CASE("system structured multigrid options map to hypre's documented codes",
 TEST_CASE("system structured multigrid cycles converge to the direct solution of the Jacobian they were given",
           "[mpi][multigrid][structured]") {
   SECTION("2-D, two variables with conductivities 1 and 0.1, exchange 0.01") {
-    check_converges_to_direct_solution(nkit::structured_grid({24, 24}, 2),
-                                       coupled_diffusion({24, 24}, {1.0, 0.1}, 0.01));
+    check_system_converges_to_direct_solution(nkit::structured_grid({24, 24}, 2),
+                                              coupled_diffusion({24, 24}, {1.0, 0.1}, 0.01));
   }
   SECTION("3-D, two variables") {
-    check_converges_to_direct_solution(nkit::structured_grid({8, 8, 8}, 2),
-                                       coupled_diffusion({8, 8, 8}, {1.0, 0.1}, 0.01));
+    check_system_converges_to_direct_solution(nkit::structured_grid({8, 8, 8}, 2),
+                                              coupled_diffusion({8, 8, 8}, {1.0, 0.1}, 0.01));
   }
   SECTION("2-D, three variables") {
-    check_converges_to_direct_solution(nkit::structured_grid({16, 16}, 3),
-                                       coupled_diffusion({16, 16}, {1.0, 0.3, 0.1}, 0.01));
+    check_system_converges_to_direct_solution(nkit::structured_grid({16, 16}, 3),
+                                              coupled_diffusion({16, 16}, {1.0, 0.3, 0.1}, 0.01));
   }
   SECTION("2-D, two variables, all cells on the first rank and an uneven split") {
-    check_converges_to_direct_solution(nkit::structured_grid({16, 16}, 2),
-                                       coupled_diffusion({16, 16}, {1.0, 0.1}, 0.01), {}, 1);
-    check_converges_to_direct_solution(nkit::structured_grid({16, 16}, 2),
-                                       coupled_diffusion({16, 16}, {1.0, 0.1}, 0.01), {}, 2);
+    check_system_converges_to_direct_solution(nkit::structured_grid({16, 16}, 2),
+                                              coupled_diffusion({16, 16}, {1.0, 0.1}, 0.01), {}, 1);
+    check_system_converges_to_direct_solution(nkit::structured_grid({16, 16}, 2),
+                                              coupled_diffusion({16, 16}, {1.0, 0.1}, 0.01), {}, 2);
   }
 }
 
@@ -271,24 +272,24 @@ TEST_CASE("system structured multigrid settings reach hypre, moves hand the hier
           "[mpi][multigrid][structured]") {
   const nkit::structured_grid grid({32, 32}, 2);
   const nkit::sparse_matrix global = coupled_diffusion({32, 32}, {1.0, 0.1}, 0.01);
-  const std::pair<int, int> layers = layer_range(32);
+  const std::pair<int, int> layers = system_layer_range(32);
   const Eigen::Index first = layers.first * 64, end = layers.second * 64;
   const Eigen::VectorXd r = Eigen::VectorXd::LinSpaced(global.rows(), 1.0, 3.0);
   nkit::system_structured_multigrid_preconditioner standard(MPI_COMM_WORLD, grid);
-  const Eigen::VectorXd once = apply_to_rows(standard, global, first, end, r);
-  const Eigen::VectorXd again = apply_to_rows(standard, global, first, end, r);
+  const Eigen::VectorXd once = apply_system_to_rows(standard, global, first, end, r);
+  const Eigen::VectorXd again = apply_system_to_rows(standard, global, first, end, r);
   CHECK(standard.stencil_size(0) == 6);  // five-point diffusion and the exchange with variable 1
   CHECK(standard.stencil_size(1) == 6);
   CHECK(standard.box_lower()[1] == layers.first);
   CHECK(standard.box_upper()[1] == layers.second - 1);
   CHECK((once - again).norm() == 0.0);
   int releases = -1;
-  static_cast<void>(apply_to_rows(standard, global, first, end, r, &releases));
+  static_cast<void>(apply_system_to_rows(standard, global, first, end, r, &releases));
   CHECK(releases == 0);
   nkit::system_structured_multigrid_settings releasing_settings;
   releasing_settings.release_assembled_jacobian_after_copy = true;
   nkit::system_structured_multigrid_preconditioner releasing(MPI_COMM_WORLD, grid, releasing_settings);
-  const Eigen::VectorXd released = apply_to_rows(releasing, global, first, end, r, &releases);
+  const Eigen::VectorXd released = apply_system_to_rows(releasing, global, first, end, r, &releases);
   CHECK(releases == 1);
   CHECK((released - once).norm() == 0.0);
   nkit::sparse_matrix local = global.middleRows(first, end - first);
@@ -310,7 +311,7 @@ TEST_CASE("system structured multigrid settings reach hypre, moves hand the hier
   // Each other setting changes one application (a setting hypre ignored would not).
   const auto changed = [&](nkit::system_structured_multigrid_settings settings) {
     nkit::system_structured_multigrid_preconditioner other(MPI_COMM_WORLD, grid, settings);
-    const Eigen::VectorXd z = apply_to_rows(other, global, first, end, r);
+    const Eigen::VectorXd z = apply_system_to_rows(other, global, first, end, r);
     return nkit_test::gather_all(MPI_COMM_WORLD, z - once).norm() > 1e-12 * once.norm();
   };
   nkit::system_structured_multigrid_settings settings;
@@ -396,9 +397,9 @@ TEST_CASE("system structured multigrid rejects bad input with the offending valu
 
   SECTION("a grid whose unknowns per cell do not match the Jacobian's size") {
     nkit::system_structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD, nkit::structured_grid({8, 8}, 3));
-    const auto [first, end] = layer_range(8);
-    CHECK_THROWS_WITH(apply_to_rows(multigrid, coupled_diffusion({8, 8}, {1.0, 0.1}, 0.01), first * 16, end * 16,
-                                    Eigen::VectorXd::Ones(128)),
+    const auto [first, end] = system_layer_range(8);
+    CHECK_THROWS_WITH(apply_system_to_rows(multigrid, coupled_diffusion({8, 8}, {1.0, 0.1}, 0.01), first * 16, end * 16,
+                                           Eigen::VectorXd::Ones(128)),
                       Contains("the ranks hold 128 unknowns in all") && Contains("has 192"));
   }
   SECTION("a coupling beyond one cell (a periodic wrap), between different variables") {
@@ -409,21 +410,21 @@ TEST_CASE("system structured multigrid rejects bad input with the offending valu
     periodic.coeffRef(14, 1) = -0.5;
     periodic.makeCompressed();
     nkit::system_structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD, nkit::structured_grid({8, 8}, 2));
-    const auto [first, end] = layer_range(8);
+    const auto [first, end] = system_layer_range(8);
     if (first == 0) {
-      CHECK_THROWS_WITH(apply_to_rows(multigrid, periodic, 16 * first, 16 * end, Eigen::VectorXd::Ones(128)),
+      CHECK_THROWS_WITH(apply_system_to_rows(multigrid, periodic, 16 * first, 16 * end, Eigen::VectorXd::Ones(128)),
                         Contains("couples unknown 1 (variable 1 of cell 0) with unknown 14 (cell 7), which is not a "
                                  "neighbour on the grid"));
     } else {
-      CHECK_THROWS_AS(apply_to_rows(multigrid, periodic, 16 * first, 16 * end, Eigen::VectorXd::Ones(128)),
+      CHECK_THROWS_AS(apply_system_to_rows(multigrid, periodic, 16 * first, 16 * end, Eigen::VectorXd::Ones(128)),
                       std::invalid_argument);
     }
   }
   SECTION("a vector of another length than this rank's rows") {
     nkit::system_structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD, nkit::structured_grid({8, 8}, 2));
-    const auto [first, end] = layer_range(8);
-    apply_to_rows(multigrid, coupled_diffusion({8, 8}, {1.0, 0.1}, 0.01), first * 16, end * 16,
-                  Eigen::VectorXd::Ones(128));
+    const auto [first, end] = system_layer_range(8);
+    apply_system_to_rows(multigrid, coupled_diffusion({8, 8}, {1.0, 0.1}, 0.01), first * 16, end * 16,
+                         Eigen::VectorXd::Ones(128));
     Eigen::VectorXd out;
     CHECK_THROWS_WITH(multigrid.apply(Eigen::VectorXd::Ones((end - first) * 16 + 1), out),
                       Contains("apply got a vector of " + std::to_string((end - first) * 16 + 1) + " entries"));
@@ -432,11 +433,11 @@ TEST_CASE("system structured multigrid rejects bad input with the offending valu
     SECTION("ranks whose rows are not whole grid rows of whole cells") {
       // Rank 0 takes one unknown more than its grid rows (half a cell): every rank must throw.
       nkit::system_structured_multigrid_preconditioner multigrid(MPI_COMM_WORLD, nkit::structured_grid({8, 8}, 2));
-      const auto [first, end] = layer_range(8);
+      const auto [first, end] = system_layer_range(8);
       const Eigen::Index shift = nkit_test::world_rank() == 0 ? 0 : 1;
       const Eigen::Index last = end == 8 ? 128 : end * 16 + 1;
-      CHECK_THROWS_WITH(apply_to_rows(multigrid, coupled_diffusion({8, 8}, {1.0, 0.1}, 0.01), first * 16 + shift, last,
-                                      Eigen::VectorXd::Ones(128)),
+      CHECK_THROWS_WITH(apply_system_to_rows(multigrid, coupled_diffusion({8, 8}, {1.0, 0.1}, 0.01), first * 16 + shift,
+                                             last, Eigen::VectorXd::Ones(128)),
                         Contains("whole layers of the slowest grid direction (multiples of 16 unknowns: 2 per cell)"));
     }
   }
