@@ -26,8 +26,8 @@
 // leave the wall orthogonally, where the wall condition and the surface
 // pressure are evaluated, and join the straight lines smoothly at d = D.
 // Measured on NACA 0012, M = 0.5, α = 2°, 64 × 32: the spurious drag falls
-// from 0.0141 (straight lines) to 0.0068 (D = 0.3), on 96 × 48 from 0.0080 to
-// 0.0035. The trailing edge stays a singular point of the O-grid (its normal
+// from 0.0108 (straight lines) to 0.0069 (D = 0.3), on 96 × 48 from 0.0045 to
+// 0.0028. The trailing edge stays a singular point of the O-grid (its normal
 // is the bisector), where cells remain skewed. No elliptic smoothing: plain
 // Laplace sweeps (without the source terms of an elliptic generator) pull
 // the clustered wall nodes apart and undo the stretching, and an elliptic
