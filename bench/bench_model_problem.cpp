@@ -27,7 +27,7 @@
 //     --nkit_sizes_3d=32,64,128,256        sizes n of the 3-D model problem (default none)
 //     --nkit_time_cap=600                  seconds per model-problem solve
 //     --nkit_memory_limit_gib=22           address-space cap of each child process
-//     --nkit_threads=1,2                   thread counts (OpenMP builds; default 1 without)
+//     --nkit_threads=1,2                   thread counts (OpenMP builds: default 1,2; without: 1)
 // bench/make_performance_table.py turns the JSON into the README table and plot.
 #include <benchmark/benchmark.h>
 
@@ -207,6 +207,7 @@ int main(int argc, char** argv) {
   }
   // Our options, removed before Google Benchmark parses the rest.
   int kept = 1;
+  bool threads_given = false;
   for (int k = 1; k < argc; ++k) {
     const char* argument = argv[k];
     if (std::strncmp(argument, "--nkit_sizes=", 13) == 0) {
@@ -219,13 +220,14 @@ int main(int argc, char** argv) {
       options().memory_limit_gib = std::atof(argument + 24);
     } else if (std::strncmp(argument, "--nkit_threads=", 15) == 0) {
       options().threads = parse_list(argument + 15);
+      threads_given = true;
     } else {
       argv[kept++] = argv[k];
     }
   }
   argc = kept;
 #if defined(NKIT_USE_OPENMP)
-  if (options().threads == std::vector<int>{1}) options().threads = {1, 2};
+  if (!threads_given) options().threads = {1, 2};
 #else
   options().threads = {1};
 #endif

@@ -28,6 +28,7 @@ NAMES = {
     "newton_gmres_none": "nkit Newton-GMRES, no preconditioner",
     "newton_gmres_jacobi": "nkit Newton-GMRES + Jacobi",
     "newton_gmres_ilu_zero": "nkit Newton-GMRES + ILU(0), lagged",
+    "newton_gmres_ilu_zero_recycling": "nkit Newton-GMRES + ILU(0), lagged, Krylov recycling (10 vectors)",
     "newton_gmres_modified_ilu_zero": "nkit Newton-GMRES + modified ILU(0), lagged",
     "newton_gmres_ilut": "nkit Newton-GMRES + ILUT, lagged",
     "newton_gmres_sparse_direct": "nkit Newton-GMRES + sparse LU of the exact Jacobian",
@@ -46,6 +47,9 @@ NAMES = {
     "newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged":
         "nkit grid sequencing, Newton-GMRES + structured multigrid (hypre PFMG) per level, red/black, non-Galerkin, "
         "lagged",
+    "newton_gmres_grid_sequencing_structured_multigrid_red_black_lagged_releasing_jacobian":
+        "nkit grid sequencing, Newton-GMRES + structured multigrid (hypre PFMG) per level, red/black, non-Galerkin, "
+        "lagged, Jacobian freed once copied",
     "exact_newton_sparse_lu": "exact Newton + Eigen SparseLU",
     "exact_newton_umfpack": "exact Newton + UMFPACK",
     "picard_sparse_lu": "Picard (frozen k) + Eigen SparseLU",
@@ -63,7 +67,8 @@ def is_nkit(configuration):
 def load(path):
     with open(path) as handle:
         data = json.load(handle)
-    runs = {}  # (configuration, n, threads) -> entry
+    runs = {}  # (configuration, n, threads) -> entry, the unit square
+    runs_3d = {}  # the same for the unit cube
     kernels = []
     # With --benchmark_repetitions each name comes several times: keep the repetition with
     # the median time (the lower middle one for an even count), and skip Google
@@ -78,14 +83,14 @@ def load(path):
         name = entry.get("name", "")
         if entry.get("run_type") == "aggregate" or chosen.get(name) is not entry:
             continue
-        if name.startswith("model_problem/"):
+        if name.startswith("model_problem/") or name.startswith("model_problem_3d/"):
             parts = name.split("/")
             configuration, n = parts[1], int(parts[2])
             threads = int(parts[3].split(":")[1]) if len(parts) > 3 and parts[3].startswith("threads:") else 1
-            runs[(configuration, n, threads)] = entry
+            (runs_3d if name.startswith("model_problem_3d/") else runs)[(configuration, n, threads)] = entry
         else:
             kernels.append(entry)
-    return data, runs, kernels
+    return data, runs, runs_3d, kernels
 
 
 def reached(entry):
@@ -130,7 +135,7 @@ def time_text(value):
     return "%.3g s" % value if value < 100 else "%.0f s" % value
 
 
-def build_tables(runs, kernels, threads=1):
+def build_tables(runs, kernels, threads=1, dimensions=2):
     configurations = []
     for configuration, _, t in sorted(runs):
         if t == threads and configuration not in configurations:
@@ -145,11 +150,14 @@ def build_tables(runs, kernels, threads=1):
         best_alternative[n] = min(times) if times else None
 
     notes = []
-    lines = ["### Time to ||R|| <= 1e-8 ||R(T0)|| on the model problem (%s)" % (
+    problem = "the model problem" if dimensions == 2 else "the 3-D model problem (unit cube, 7-point)"
+    note_prefix = "" if dimensions == 2 else "3-D "
+    lines = ["### Time to ||R|| <= 1e-8 ||R(T0)|| on %s (%s)" % (problem,
         "one core" if threads == 1 else "%d OpenMP threads for nkit's vector operations" % threads), "",
              "Cell: wall time, work units (WU = time / one residual evaluation), speed-up over the best "
              "alternative at that n (exact Newton, Picard or explicit marching, whichever was fastest).", "",
-             "| configuration | " + " | ".join("n = %d (N = %s)" % (n, compact(n * n)) for n in sizes) + " |",
+             "| configuration | " + " | ".join("n = %d (N = %s)" % (n, compact(n ** dimensions)) for n in sizes) +
+             " |",
              "|---|" + "---|" * len(sizes)]
     for c in configurations:
         cells = []
@@ -163,7 +171,7 @@ def build_tables(runs, kernels, threads=1):
                     cells.append("not built")
                 else:
                     notes.append("%s, n = %d: %s" % (NAMES.get(c, c), n, message))
-                    cells.append("not run [%d]" % len(notes))
+                    cells.append("not run [%s%d]" % (note_prefix, len(notes)))
             elif reached(entry):
                 text = "%s, %s WU" % (time_text(seconds(entry)), compact(entry.get("work_units")))
                 if best_alternative.get(n):
@@ -176,7 +184,7 @@ def build_tables(runs, kernels, threads=1):
                     text += " (projected %s)" % time_text(entry["projected_seconds"])
                 cells.append(text)
         lines.append("| %s | %s |" % (NAMES.get(c, c), " | ".join(cells)))
-    lines += ["", "### Peak memory (MiB, peak resident set of the solving process)", "",
+    lines += ["", "### Peak memory on %s (MiB, peak resident set of the solving process)" % problem, "",
               "| configuration | " + " | ".join("n = %d" % n for n in sizes) + " |", "|---|" + "---|" * len(sizes)]
     for c in configurations:
         cells = []
@@ -184,7 +192,8 @@ def build_tables(runs, kernels, threads=1):
             entry = runs.get((c, n, threads))
             cells.append("%.0f" % (entry["peak_rss_bytes"] / MIB) if entry and "peak_rss_bytes" in entry else "")
         lines.append("| %s | %s |" % (NAMES.get(c, c), " | ".join(cells)))
-    lines += ["", "### Iterations (Newton or Picard steps / linear iterations; time steps for explicit marching)", "",
+    lines += ["", "### Iterations on %s (Newton or Picard steps / linear iterations; time steps for explicit "
+              "marching)" % problem, "",
               "| configuration | " + " | ".join("n = %d" % n for n in sizes) + " |", "|---|" + "---|" * len(sizes)]
     for c in configurations:
         cells = []
@@ -198,7 +207,7 @@ def build_tables(runs, kernels, threads=1):
                 cells.append("%d" % entry["steps"])
         lines.append("| %s | %s |" % (NAMES.get(c, c), " | ".join(cells)))
     if notes:
-        lines += [""] + ["[%d] %s" % (k + 1, note) for k, note in enumerate(notes)]
+        lines += [""] + ["[%s%d] %s" % (note_prefix, k + 1, note) for k, note in enumerate(notes)]
     return configurations, sizes, lines
 
 
@@ -253,7 +262,7 @@ def kernel_lines(kernels):
 
 
 def target_lines(runs, kernels, configurations):
-    lines = ["", "### Targets (measured; n = 1024 unless stated)", ""]
+    lines = ["", "### Targets of the first suite (measured; n = 1024 unless stated)", ""]
     nkit_reached = lambda n: [(seconds(runs[(c, n, 1)]), c) for c in configurations
                               if is_nkit(c) and reached(runs.get((c, n, 1)))]
     candidates = nkit_reached(1024)
@@ -327,6 +336,91 @@ def target_lines(runs, kernels, configurations):
     return lines
 
 
+def limit_target_lines(runs, runs_3d):
+    """The targets of the structured-grid work (multigrid, grid sequencing, recycling, 3-D)."""
+    lines = ["", "### Targets toward textbook multigrid efficiency (one core; measured in this run)", ""]
+    candidates = [(seconds(runs[(c, 1024, 1)]), c) for (c, n, t) in runs
+                  if n == 1024 and t == 1 and is_nkit(c) and reached(runs[(c, n, t)])]
+    if not candidates:
+        return lines + ["- no nkit configuration reached the criterion at n = 1024: targets not assessable"]
+    best_seconds, best = min(candidates)
+    lines.append("- fastest nkit configuration at n = 1024: %s" % NAMES.get(best, best))
+    at = {n: runs.get((best, n, 1)) for n in (256, 512, 1024, 2048)}
+    sizes = [n for n in (1024, 2048) if reached(at[n])]
+    if sizes:
+        suite = [at[n].get("work_units", float("nan")) for n in sizes]
+        solver = [at[n].get("solver_work_units", float("nan")) for n in sizes]
+        lines.append("- <= 300 WU at n = 1024 and 2048: %s WU by the suite's residual timing, %s by the solver's own "
+                     "count (%s)%s" % (
+                         " / ".join(compact(w) for w in suite), " / ".join(compact(w) for w in solver),
+                         "met" if max(solver) <= 300 and len(sizes) == 2 else "not met",
+                         "" if len(sizes) == 2 else "; n = 2048 not reached"))
+    exact = runs.get(("exact_newton_sparse_lu", 1024, 1))
+    if reached(exact):
+        ratio = seconds(exact) / best_seconds
+        lines.append("- >= 60× faster than exact Newton + Eigen SparseLU at n = 1024: %.1f× (%.3g s / %.3g s) (%s)" % (
+            ratio, seconds(exact), best_seconds, "met" if ratio >= 60 else "not met"))
+    earlier = runs.get(("newton_gmres_algebraic_multigrid_lagged_aggressive", 2048, 1))
+    if reached(earlier) and reached(at[2048]):
+        share = seconds(at[2048]) / seconds(earlier)
+        lines.append("- n = 2048 in under a quarter of the earlier best configuration's time (%s): %.3g s against "
+                     "%.3g s, %.2f (%s)" % (NAMES["newton_gmres_algebraic_multigrid_lagged_aggressive"],
+                                           seconds(at[2048]), seconds(earlier), share,
+                                           "met" if share < 0.25 else "not met"))
+    grown = [n for n in (256, 512, 1024, 2048) if reached(at[n])]
+    fit = fit_power_law([(n * n, seconds(at[n])) for n in grown])
+    if fit and 2048 in grown and 1024 in grown:
+        top = math.log(seconds(at[2048]) / seconds(at[1024])) / math.log(4.0)
+        lines.append("- time ∝ N^<=1.05 from n = 256 to 2048, including the top step: N^%.2f fitted on n = %s "
+                     "(R² %.3f); top step 1024 -> 2048 N^%.2f (%s)" % (
+                         fit[0], ", ".join(str(n) for n in grown), fit[2], top,
+                         "met" if fit[0] <= 1.05 and top <= 1.05 else "not met"))
+    if reached(exact) and "peak_rss_bytes" in exact:
+        shares = sorted((runs[(c, 1024, 1)]["peak_rss_bytes"] / exact["peak_rss_bytes"], c) for (c, n, t) in runs
+                        if n == 1024 and t == 1 and is_nkit(c) and reached(runs[(c, n, t)]) and
+                        "peak_rss_bytes" in runs[(c, n, t)])
+        if shares:
+            share, smallest = shares[0]
+            lines.append("- peak memory <= 15 %% of exact Newton + SparseLU at n = 1024: %.1f %% with %s (%.0f against "
+                         "%.0f MiB); the fastest configuration %.1f %% (%s)" % (
+                             100 * share, NAMES.get(smallest, smallest),
+                             runs[(smallest, 1024, 1)]["peak_rss_bytes"] / MIB, exact["peak_rss_bytes"] / MIB,
+                             100 * at[1024]["peak_rss_bytes"] / exact["peak_rss_bytes"],
+                             "met" if share <= 0.15 else "not met"))
+    largest = max([n for (c, n, t) in runs_3d if t == 1 and is_nkit(c) and reached(runs_3d[(c, n, t)])], default=None)
+    if largest is not None:
+        time_3d, best_3d = min((seconds(runs_3d[(c, largest, 1)]), c) for (c, n, t) in runs_3d
+                               if n == largest and t == 1 and is_nkit(c) and reached(runs_3d[(c, n, t)]))
+        entry_3d = runs_3d[(best_3d, largest, 1)]
+        text = "- 3-D n = %d (%s unknowns): %s, %.3g s, %.2f GiB peak" % (
+            largest, compact(largest ** 3), NAMES.get(best_3d, best_3d), time_3d,
+            entry_3d.get("peak_rss_bytes", float("nan")) / (1024.0 * MIB))
+        finished_2048 = [seconds(runs[(c, 2048, 1)]) for (c, n, t) in runs
+                         if n == 2048 and t == 1 and is_nkit(c) and reached(runs[(c, n, t)])]
+        if finished_2048:
+            per_unknown_3d = time_3d / largest ** 3
+            per_unknown_2d = min(finished_2048) / 2048.0 ** 2
+            ratio = per_unknown_3d / per_unknown_2d
+            text += "; %.2f µs per unknown against %.2f µs at 2-D n = 2048, %.2f×" % (
+                1e6 * per_unknown_3d, 1e6 * per_unknown_2d, ratio)
+            if largest == 256:
+                text += " (target within 12 GiB and 2×: %s)" % (
+                    "met" if ratio <= 2 and entry_3d.get("peak_rss_bytes", float("inf")) <= 12 * 1024.0 * MIB
+                    else "not met")
+        lines.append(text)
+    for n in sorted({n for (c, n, t) in runs if c == "newton_gmres_ilu_zero_recycling" and t == 1}):
+        plain, recycled = runs.get(("newton_gmres_ilu_zero", n, 1)), runs.get(("newton_gmres_ilu_zero_recycling", n, 1))
+        if reached(plain) and reached(recycled):
+            lines.append("- Krylov recycling on the Newton sequence at n = %d (ILU(0), lagged): %d against %d GMRES "
+                         "iterations (%.0f %% fewer), %.3g s against %.3g s" % (
+                             n, recycled["linear_iterations"], plain["linear_iterations"],
+                             100 * (1 - recycled["linear_iterations"] / plain["linear_iterations"]),
+                             seconds(recycled), seconds(plain)))
+    lines.append("- not measured by this suite: recycling on a time-stepping sequence (bench_krylov_recycling) and "
+                 "two MPI ranks against one (bench_distributed)")
+    return lines
+
+
 def plot(runs, configurations, output_directory):
     if shutil.which("gnuplot") is None:
         return "gnuplot not found: plot column N against seconds of the table on log-log axes by hand."
@@ -362,7 +456,7 @@ def main():
     parser.add_argument("json", help="output of bench_model_problem --benchmark_out=<file> --benchmark_out_format=json")
     parser.add_argument("--output-directory", default=".", help="where to write performance_table.md and the PNG")
     arguments = parser.parse_args()
-    data, runs, kernels = load(arguments.json)
+    data, runs, runs_3d, kernels = load(arguments.json)
     if not runs:
         sys.exit("no model_problem/ results in %s" % arguments.json)
     configurations, _, lines = build_tables(runs, kernels)
@@ -379,11 +473,14 @@ def main():
         header.insert(2, "Kernel figures (residual evaluation, triad, orthogonalisation, Broyden, tracing) come from a "
                       "second run of the same binary at %s, with the --benchmark_filter of the kernels, on an "
                       "otherwise idle machine (merged into this JSON under context.kernel_run)." % context["kernel_run"])
-    lines = header + lines + kernel_lines(kernels) + target_lines(runs, kernels, configurations)
+    lines = (header + lines + kernel_lines(kernels) + target_lines(runs, kernels, configurations) +
+             limit_target_lines(runs, runs_3d))
     threads = sorted({t for (_, _, t) in runs})
     if len(threads) > 1:
         for t in threads[1:]:
             lines += [""] + build_tables(runs, kernels, t)[2]
+    for t in sorted({t for (_, _, t) in runs_3d}):
+        lines += [""] + build_tables(runs_3d, kernels, t, dimensions=3)[2]
     os.makedirs(arguments.output_directory, exist_ok=True)
     table_path = os.path.join(arguments.output_directory, "performance_table.md")
     with open(table_path, "w") as handle:

@@ -275,6 +275,14 @@ inline const std::vector<configuration>& configurations() {
      [](const model& problem, double cap) {
        run_nkit(problem, lagged(suite_newton_settings(cap)), nkit::ilu_zero_preconditioner{});
      }},
+    // The same with Krylov subspace recycling (GCRO-DR, newton_settings::recycling):
+    // 10 harmonic Ritz vectors kept from one Newton step's GMRES(30) to the next.
+    {"newton_gmres_ilu_zero_recycling", true, "", true,
+     [](const model& problem, double cap) {
+       nkit::newton_settings settings = lagged(suite_newton_settings(cap));
+       settings.recycling.recycle_dimension = 10;
+       run_nkit(problem, settings, nkit::ilu_zero_preconditioner{});
+     }},
     {"newton_gmres_modified_ilu_zero", true, "", true,
      [](const model& problem, double cap) {
        nkit::newton_settings settings = lagged(suite_newton_settings(cap));
