@@ -469,6 +469,8 @@ def main():
                   " (a busy machine: timings are rough, and OpenMP rows mostly measure waiting for a core)"
                   if context.get("load_avg") and context["load_avg"][0] > 0.5 * context.get("num_cpus", 1) else ""),
               ""]
+    if context.get("rows_from_second_run"):
+        header.insert(2, "Rows from a second run of the same suite: %s." % context["rows_from_second_run"])
     if context.get("kernel_run"):
         header.insert(2, "Kernel figures (residual evaluation, triad, orthogonalisation, Broyden, tracing) come from a "
                       "second run of the same binary at %s, with the --benchmark_filter of the kernels, on an "
