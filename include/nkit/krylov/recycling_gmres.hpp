@@ -29,15 +29,12 @@
 ///
 /// Right preconditioning as in gmres.hpp: the method runs on A M⁻¹, Ũ and V
 /// live in that space, x = x0 + M⁻¹ (Ũ y_U + V y_V) (one M⁻¹ per cycle), and the
-/// residual minimised is b − A x. While C may be that of an earlier operator
-/// (a solve declared to use the same one), convergence is declared on the true
-/// residual: when the Givens estimate meets the target, b − A x is formed (one
-/// product); if it misses, C is recomputed as for a changed operator and the
-/// solve goes on. Once C is of this operator (or no subspace is kept) the
-/// estimate is GMRES's own and is accepted as gmres.hpp does, even where the
-/// true residual differs (products that are not exactly linear, such as
-/// finite-difference J·v: checking again after each Arnoldi step would only
-/// repeat the miss). Each cycle starts from the true residual (one product, as gmres.hpp);
+/// residual minimised is b − A x. While C may be an earlier operator's (declared
+/// same operator), convergence needs the true residual: when the estimate meets
+/// the target, b − A x is formed; on a miss C is recomputed and the solve goes
+/// on. Once C is of this operator (or none is kept) the estimate is accepted as
+/// in gmres.hpp, even where b − A x differs (finite-difference J·v is not
+/// exactly linear). Each cycle starts from the true residual (one product);
 /// its component in range(C) enters the least-squares right-hand side Ŵᵀ r
 /// (step 27) instead of a separate projection step (steps 6–7; same iterate in
 /// exact arithmetic). The preconditioner must not change between
@@ -45,10 +42,9 @@
 ///
 /// Memory: m + 1 + 4k vectors plus two work vectors, O(m²) doubles and an m × m
 /// dense eigenproblem workspace, all sized on the first solve (or
-/// allocate_like()); later solves of the same size allocate nothing (checked
-/// for m = 12 by tests/allocation; for m > 48 Eigen 3.4's blocked Householder
-/// path inside its eigenvalue solver allocates a small matrix per cycle, read
-/// from its source, not measured).
+/// allocate_like()); later solves of the same size allocate nothing (checked for
+/// m = 12 by tests/allocation; for m > 48 Eigen 3.4's blocked Householder path in
+/// its eigenvalue solver allocates a small matrix per cycle: read, not measured).
 
 #include <Eigen/Core>
 #include <algorithm>
@@ -235,10 +231,7 @@ class recycling_gmres_solver {
       return result;
     }
     const double target = relative_tolerance * b_norm;
-    // False while C = A M⁻¹ Ũ may still be that of an earlier operator (a
-    // solve declared to use the same operator); true once it was computed
-    // with this one (a refresh, or a subspace chosen from a cycle that kept
-    // none), or when no subspace is kept.
+    // False while C = A M⁻¹ Ũ may be an earlier operator's (declared same operator).
     bool images_from_this_operator = m_recycled_count == 0;
     if (m_recycled_count > 0 && (!same_operator || m_images_stale)) {
       if (!refresh_images(op, preconditioner, result)) m_recycled_count = 0;
@@ -358,9 +351,7 @@ class recycling_gmres_solver {
       const bool short_cycle = kept > 0 && columns < m_settings.minimum_cycle_steps_for_update;
       if (m_settings.recycle_dimension > 0 && columns > 0 && !short_cycle) {
         if (choose_recycled_subspace(kept, columns, n)) {
-          // From this cycle's Arnoldi relation: of this operator unless the
-          // cycle itself started from a C that may be stale.
-          if (kept == 0) images_from_this_operator = true;
+          if (kept == 0) images_from_this_operator = true;  // from this operator's Arnoldi relation
         } else {
           ++result.recycle_updates_skipped;
         }
@@ -381,14 +372,11 @@ class recycling_gmres_solver {
         }
         ++result.true_residual_mismatches;
         if (images_from_this_operator) {
-          // C was computed with this very operator (or there is none), so the
-          // estimate is GMRES's own and the miss comes from the products: an
-          // operator that is not linear to the target's accuracy, such as
-          // finite-difference J·v with an ill-conditioned Jacobian (its error
-          // is relative to ‖u‖‖v‖, not to ‖J v‖). Checking again after each
-          // further Arnoldi step would repeat the miss step by step (measured:
-          // thousands of one-step cycles on the 384² model problem); accept
-          // the estimate, as gmres_solver does.
+          // C is of this operator (or none is kept): the miss comes from products
+          // not linear to the target's accuracy (finite-difference J·v on an
+          // ill-conditioned Jacobian). Re-checking after each further Arnoldi step
+          // repeats it (thousands of one-step cycles on the 384² model problem);
+          // accept GMRES's estimate, as gmres_solver does (file comment).
           result.status = linear_solve_status::converged;
           result.final_residual_norm = estimate;
           break;
