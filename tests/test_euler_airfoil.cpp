@@ -160,6 +160,65 @@ TEST_CASE("O-grid: positive areas, closed cells, areas add up to the annulus", "
   CHECK_THROWS_AS(airfoil_o_grid(naca_four_digit_airfoil("0012"), bad), std::invalid_argument);
 }
 
+TEST_CASE("slip-wall ghost cell: continues linear velocity and exponential density and pressure through the wall",
+          "[euler][wall]") {
+  // euler_airfoil.hpp: the ghost cell (i, −1) below wall cell (i, 0). Along
+  // the wall normal, cell centres at distance d = h/2 (wall cell), 3h/2
+  // (next cell) and −h/2 (ghost). Expected values are exact for these
+  // profiles (algebra, no source needed), so the tolerances are round-off:
+  //  * velocity V = (a + b d) t + c d n (tangential part linear, normal part
+  //    linear and zero at the wall): ghost = V(−h/2) exactly;
+  //  * ρ = ρ_w e^{k d}, p = p_w e^{κ d}: ghost = value at −h/2 exactly
+  //    (ρ_0²/ρ_1); for a LINEAR profile the ghost differs from linear
+  //    extrapolation by (ρ_0 − ρ_1)²/ρ_1 = O(h²), a quarter per halving of h.
+  // A ghost that copies ρ and p of the wall cell fails the second point; one
+  // that mirrors the wall cell's velocity fails the first.
+  using flow = euler_airfoil_flow;
+  std::mt19937 generator(20261205);
+  std::uniform_real_distribution<double> angle(0.0, 2.0 * std::acos(-1.0)), coefficient(-1.0, 1.0), length(0.01, 3.0);
+  for (int trial = 0; trial < 20; ++trial) {
+    const double theta = angle(generator), face_length = length(generator);
+    const nkit_problems::point2 s{face_length * std::cos(theta), face_length * std::sin(theta)};
+    const double nx = std::cos(theta), ny = std::sin(theta), tx = -ny, ty = nx;  // unit normal and tangent
+    const double a = coefficient(generator), b = 3.0 * coefficient(generator), c = 3.0 * coefficient(generator);
+    const double rho_wall = 1.0 + 0.3 * coefficient(generator), p_wall = 0.7 + 0.2 * coefficient(generator);
+    const double k = coefficient(generator), kappa = 2.0 * coefficient(generator), h = 0.05 * length(generator);
+    const auto state_at = [&](double d) -> flow::state4<double> {
+      const double tangential = a + b * d, normal = c * d;
+      return {rho_wall * std::exp(k * d), tangential * tx + normal * nx, tangential * ty + normal * ny,
+              p_wall * std::exp(kappa * d)};
+    };
+    const flow::state4<double> ghost = flow::slip_wall_ghost(state_at(0.5 * h), state_at(1.5 * h), s);
+    const flow::state4<double> expected = state_at(-0.5 * h);
+    CAPTURE(trial, theta, face_length, h);
+    for (std::size_t q = 0; q < 4; ++q) {
+      CAPTURE(q, ghost[q], expected[q]);
+      CHECK_THAT(ghost[q], WithinAbs(expected[q], 1e-13 * (1.0 + std::abs(expected[q]))));
+    }
+    // The mean normal velocity at the face is zero for ANY two states: no
+    // mass through the wall from the reconstruction's two sides.
+    const flow::state4<double> w0{1.1, coefficient(generator), coefficient(generator), 0.8},
+        w1{0.9, coefficient(generator), coefficient(generator), 0.75};
+    const flow::state4<double> any_ghost = flow::slip_wall_ghost(w0, w1, s);
+    CHECK_THAT((any_ghost[1] + w0[1]) * nx + (any_ghost[2] + w0[2]) * ny, WithinAbs(0.0, 1e-14));
+    CHECK(any_ghost[0] > 0.0);
+    CHECK(any_ghost[3] > 0.0);
+  }
+  // Linear density ρ = 1 + 0.8 d (not reproduced exactly): the ghost's error
+  // against the linear value at −h/2 is (ρ_0 − ρ_1)²/ρ_1 = (0.8h)²/(1 + 1.2h)
+  // (algebra), second order: the ratio for h = 0.1 and 0.05 is
+  // 4 · 1.06/1.12 = 3.79, tending to 4.
+  const auto linear_error = [](double h) {
+    const nkit_problems::point2 s{0.0, -1.0};
+    const flow::state4<double> w0{1.0 + 0.4 * h, 0.3, 0.0, 1.0}, w1{1.0 + 1.2 * h, 0.3, 0.0, 1.0};
+    return flow::slip_wall_ghost(w0, w1, s)[0] - (1.0 - 0.4 * h);
+  };
+  for (const double h : {0.1, 0.05}) {
+    CAPTURE(h);
+    CHECK_THAT(linear_error(h), WithinRel(0.64 * h * h / (1.0 + 1.2 * h), 1e-9));
+  }
+}
+
 TEST_CASE("Roe flux: consistency with the physical flux, upwinding at supersonic speed", "[euler][flux]") {
   const naca_four_digit_airfoil airfoil("0012");
   const euler_airfoil_flow flow(airfoil_o_grid(airfoil, coarse_grid()), euler_airfoil_settings{});
@@ -497,7 +556,8 @@ TEST_CASE("subsonic NACA 0012 on a coarse grid: symmetry, thin-airfoil lift and 
   CHECK(level_refined_drag < level_drag / std::pow(1.5, 1.5));
 }
 
-TEST_CASE("with the far-field vortex the spurious drag with lift falls at second order", "[euler][vortex][solve]") {
+TEST_CASE("with the far-field vortex the spurious drag with lift and the entropy error fall at second order",
+          "[euler][vortex][solve]") {
   // Inviscid subsonic flow has no drag (d'Alembert; common practice check), so
   // c_d is the discretisation's error and must fall at the scheme's order,
   // 2, once the far field carries the vortex of the lift (without it a drag
@@ -517,7 +577,11 @@ TEST_CASE("with the far-field vortex the spurious drag with lift falls at second
     return nkit_problems::solve_euler_airfoil(nkit_problems::euler_airfoil_with_first_order_jacobian(f), u, newton,
                                               nkit::block_ilu_zero_preconditioner(4));
   };
-  const auto drag = [&](const airfoil_grid_settings& grid_settings) {
+  struct errors {
+    double drag = 0.0;
+    double entropy_l1 = 0.0;  ///< Σ |entropy error| · area / Σ area
+  };
+  const auto solve_on = [&](const airfoil_grid_settings& grid_settings) {
     const airfoil_o_grid grid(naca_four_digit_airfoil("0012"), grid_settings);
     Eigen::VectorXd u = euler_airfoil_flow(grid, settings).initial_guess();
     const auto result = nkit_problems::solve_euler_airfoil_with_far_field_vortex(
@@ -526,16 +590,38 @@ TEST_CASE("with the far-field vortex the spurious drag with lift falls at second
     REQUIRE(result.converged);
     euler_airfoil_settings solved = settings;
     solved.far_field_vortex_lift_coefficient = result.vortex_lift_coefficient;
-    return euler_airfoil_flow(grid, solved).forces(u).drag_coefficient;
+    const euler_airfoil_flow flow(grid, solved);
+    const Eigen::VectorXd entropy = flow.entropy_error(u);
+    errors e;
+    e.drag = flow.forces(u).drag_coefficient;
+    double area = 0.0;
+    for (int j = 0; j < grid.cells_outward(); ++j) {
+      for (int i = 0; i < grid.cells_around(); ++i) {
+        e.entropy_l1 += grid.area(i, j) * std::abs(entropy(static_cast<Eigen::Index>(grid.cell_index(i, j))));
+        area += grid.area(i, j);
+      }
+    }
+    e.entropy_l1 /= area;
+    return e;
   };
   airfoil_grid_settings fine = coarse_grid();
   fine.cells_around = 128;
   fine.cells_outward = 64;
   fine.stretching_ratio = std::sqrt(1.2);
-  const double coarse_drag = drag(coarse_grid()), fine_drag = drag(fine);
-  CAPTURE(coarse_drag, fine_drag);
-  CHECK(fine_drag > 0.0);
-  CHECK(fine_drag < coarse_drag / std::pow(2.0, 1.8));
+  const errors coarse = solve_on(coarse_grid()), refined = solve_on(fine);
+  CAPTURE(coarse.drag, refined.drag);
+  CHECK(refined.drag > 0.0);
+  CHECK(refined.drag < coarse.drag / std::pow(2.0, 1.8));
+  // The entropy error that the drag comes from, in the area-weighted mean
+  // (L1) norm over the domain, falls at the scheme's order too: measured
+  // 1.254e-5 → 2.684e-6 (order 2.22; 7.63e-7 on 256 × 128, order 1.81).
+  // Asked: order ≥ 1.8, as for the drag. Its maximum falls more slowly
+  // (0.0275, 0.0121, 0.0040: orders 1.2, 1.6); it sits in the wall cell at
+  // the stagnation point, where the cell-centred scheme's error is largest
+  // (common practice), and is checked only to fall in the test above.
+  CAPTURE(coarse.entropy_l1, refined.entropy_l1);
+  CHECK(refined.entropy_l1 > 0.0);
+  CHECK(refined.entropy_l1 < coarse.entropy_l1 / std::pow(2.0, 1.8));
 }
 
 TEST_CASE("airfoil flow settings: bad values are refused with std::invalid_argument", "[euler][settings]") {

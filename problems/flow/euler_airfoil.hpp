@@ -427,6 +427,24 @@ class euler_airfoil_flow {
   /// assembled from an euler_airfoil_flow with second_order = false).
   nkit::sparsity_pattern first_order_pattern() const { return stencil_pattern(1); }
 
+  /// The slip wall's ghost cell (file comment), in primitive variables
+  /// (ρ, u, v, p), from the wall cell's state `wall_cell`, the next cell's
+  /// outward `next_cell` and the wall face's vector `s` (any length, normal to
+  /// the wall): ρ and p log-linearly (ρ_0²/ρ_1), the tangential velocity
+  /// linearly (2v_0 − v_1), the normal velocity reversed (−q_0).
+  template <class Scalar>
+  static state4<Scalar> slip_wall_ghost(const state4<Scalar>& wall_cell, const state4<Scalar>& next_cell, point2 s) {
+    const double length_squared = s.x * s.x + s.y * s.y;
+    Scalar u_ghost = 2.0 * wall_cell[1] - next_cell[1], v_ghost = 2.0 * wall_cell[2] - next_cell[2];
+    // Normal part of the extrapolated velocity replaced by −q_0 (both per |s|²).
+    const Scalar correction =
+        (u_ghost * s.x + v_ghost * s.y + wall_cell[1] * s.x + wall_cell[2] * s.y) / length_squared;
+    u_ghost = u_ghost - correction * s.x;
+    v_ghost = v_ghost - correction * s.y;
+    return {wall_cell[0] * (wall_cell[0] / next_cell[0]), u_ghost, v_ghost,
+            wall_cell[3] * (wall_cell[3] / next_cell[3])};
+  }
+
   /// Conserved state of cell c.
   template <class Scalar>
   static state4<Scalar> cell_state(const Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& u, std::size_t c) {
@@ -519,14 +537,7 @@ class euler_airfoil_flow {
     const point2 s = m_grid.j_face(i, 0);
     const state4<Scalar> inner = cell_primitive(u, i, 0);
     if (m_settings.body_boundary == airfoil_body_boundary::slip_wall) {
-      const state4<Scalar> second = cell_primitive(u, i, 1);
-      const double length_squared = s.x * s.x + s.y * s.y;
-      Scalar u_ghost = 2.0 * inner[1] - second[1], v_ghost = 2.0 * inner[2] - second[2];
-      // Normal part of the extrapolated velocity replaced by −q_0 (both per |s|²).
-      const Scalar correction = (u_ghost * s.x + v_ghost * s.y + inner[1] * s.x + inner[2] * s.y) / length_squared;
-      u_ghost = u_ghost - correction * s.x;
-      v_ghost = v_ghost - correction * s.y;
-      return {inner[0] * (inner[0] / second[0]), u_ghost, v_ghost, inner[3] * (inner[3] / second[3])};
+      return slip_wall_ghost(inner, cell_primitive(u, i, 1), s);
     }
     return far_field_state(inner, point2{-s.x, -s.y}, m_free_stream);  // outward from the domain = into the body
   }
