@@ -6,6 +6,11 @@
 //    euler_airfoil_first_order_jacobian.hpp), to ‖R‖ <= 1e-10 ‖R(U0)‖
 //    (airfoil_newton_krylov); the same with block ILU(0) of the same matrix,
 //    4 × 4 blocks, one per cell (airfoil_newton_krylov_block_ilu, same settings);
+//    the choice of preconditioner matrix measured against the exact one, same
+//    settings: block ILU(0) of the second-order residual's own Jacobian (nine
+//    cells per row, colored differences; ..._block_ilu_second_order), and
+//    sparse LU of either Jacobian (..._sparse_lu, ..._sparse_lu_second_order:
+//    what an exact factorisation of each matrix buys);
 //  * explicit pseudo-time marching, the way many flow codes converge to a
 //    steady state: dU/dτ = −R(U)/Ω with a local time step per cell,
 //    Δτ = CFL·Ω / Σ_faces (|q| + c)|S| (common practice; the same spectral
@@ -123,12 +128,11 @@ void publish(benchmark::State& state, double newton_steps, double gmres_iteratio
   state.counters["lift_coefficient"] = lift;
 }
 
-/// nkit's solve with the preconditioner `make_preconditioner()` returns; `name` prefixes the history file.
-template <class MakePreconditioner>
-void airfoil_newton_krylov_with(benchmark::State& state, const std::string& name,
-                                MakePreconditioner make_preconditioner) {
-  const auto flow = make_flow(static_cast<int>(state.range(0)));
-  const nkit_problems::euler_airfoil_with_first_order_jacobian problem(flow);
+/// The solve of airfoil_newton_krylov_with on `problem` (the flow itself or its first-order wrapper).
+template <class Problem, class MakePreconditioner>
+void airfoil_newton_krylov_on(benchmark::State& state, const std::string& name,
+                              const nkit_problems::euler_airfoil_flow& flow, const Problem& problem,
+                              MakePreconditioner make_preconditioner) {
   for (auto _ : state) {
     Eigen::VectorXd u = flow.initial_guess();
     const double residual_seconds = median_residual_seconds(flow, u);
@@ -147,14 +151,58 @@ void airfoil_newton_krylov_with(benchmark::State& state, const std::string& name
   }
 }
 
+/// Which operator's Jacobian the preconditioner is built from.
+enum class preconditioner_matrix { first_order_jacobian, second_order_jacobian };
+
+/// nkit's solve with the preconditioner `make_preconditioner()` returns, set
+/// up from the first-order operator's Jacobian (five cells per row) or from
+/// the second-order residual's own Jacobian (nine cells per row: the Jacobian
+/// of the equations Newton solves, up to the colored differences' error);
+/// `name` prefixes the history file.
+template <class MakePreconditioner>
+void airfoil_newton_krylov_with(benchmark::State& state, const std::string& name, preconditioner_matrix matrix,
+                                MakePreconditioner make_preconditioner) {
+  const auto flow = make_flow(static_cast<int>(state.range(0)));
+  if (matrix == preconditioner_matrix::first_order_jacobian) {
+    airfoil_newton_krylov_on(state, name, flow, nkit_problems::euler_airfoil_with_first_order_jacobian(flow),
+                             make_preconditioner);
+  } else {
+    airfoil_newton_krylov_on(state, name, flow, flow, make_preconditioner);
+  }
+}
+
 /// Point ILU(0) of the first-order Jacobian.
 void airfoil_newton_krylov(benchmark::State& state) {
-  airfoil_newton_krylov_with(state, "newton_krylov", [] { return nkit::ilu_zero_preconditioner{}; });
+  airfoil_newton_krylov_with(state, "newton_krylov", preconditioner_matrix::first_order_jacobian,
+                             [] { return nkit::ilu_zero_preconditioner{}; });
 }
 
 /// Block ILU(0) of the same matrix, one 4 × 4 block per cell (ρ, ρu, ρv, ρE).
 void airfoil_newton_krylov_block_ilu(benchmark::State& state) {
-  airfoil_newton_krylov_with(state, "newton_krylov_block_ilu", [] { return nkit::block_ilu_zero_preconditioner(4); });
+  airfoil_newton_krylov_with(state, "newton_krylov_block_ilu", preconditioner_matrix::first_order_jacobian,
+                             [] { return nkit::block_ilu_zero_preconditioner(4); });
+}
+
+/// Block ILU(0) of the second-order residual's Jacobian (the exact one, up to
+/// the colored differences' error).
+void airfoil_newton_krylov_block_ilu_second_order(benchmark::State& state) {
+  airfoil_newton_krylov_with(state, "newton_krylov_block_ilu_second_order",
+                             preconditioner_matrix::second_order_jacobian,
+                             [] { return nkit::block_ilu_zero_preconditioner(4); });
+}
+
+/// Sparse LU of the first-order Jacobian: the best any preconditioner of that matrix can do.
+void airfoil_newton_krylov_sparse_lu(benchmark::State& state) {
+  airfoil_newton_krylov_with(state, "newton_krylov_sparse_lu", preconditioner_matrix::first_order_jacobian,
+                             [] { return nkit::sparse_direct_preconditioner{}; });
+}
+
+/// Sparse LU of the second-order Jacobian: Newton's linear systems solved
+/// (almost) exactly, GMRES only removing the colored differences' error.
+void airfoil_newton_krylov_sparse_lu_second_order(benchmark::State& state) {
+  airfoil_newton_krylov_with(state, "newton_krylov_sparse_lu_second_order",
+                             preconditioner_matrix::second_order_jacobian,
+                             [] { return nkit::sparse_direct_preconditioner{}; });
 }
 
 #if defined(NKIT_BENCH_HAS_ODEINT)
@@ -235,6 +283,11 @@ int main(int argc, char** argv) {
   };
   on_three_grids(benchmark::RegisterBenchmark("airfoil_newton_krylov", airfoil_newton_krylov));
   on_three_grids(benchmark::RegisterBenchmark("airfoil_newton_krylov_block_ilu", airfoil_newton_krylov_block_ilu));
+  on_three_grids(benchmark::RegisterBenchmark("airfoil_newton_krylov_block_ilu_second_order",
+                                              airfoil_newton_krylov_block_ilu_second_order));
+  on_three_grids(benchmark::RegisterBenchmark("airfoil_newton_krylov_sparse_lu", airfoil_newton_krylov_sparse_lu));
+  on_three_grids(benchmark::RegisterBenchmark("airfoil_newton_krylov_sparse_lu_second_order",
+                                              airfoil_newton_krylov_sparse_lu_second_order));
 #if defined(NKIT_BENCH_HAS_ODEINT)
   on_three_grids(benchmark::RegisterBenchmark("airfoil_explicit_runge_kutta", airfoil_explicit_runge_kutta));
 #endif

@@ -9,17 +9,17 @@
 // five-point pattern (5 blocks of 4 × 4 per row instead of 9), is cheaper to
 // assemble (fewer colors) and to factor, and is better conditioned (more
 // dissipation), at the price of more GMRES iterations per Newton step with an
-// exact factorisation. Measured on NACA 0012, M = 0.5, α = 2°, 64 × 32 cells,
-// pseudo-transient Newton–GMRES from CFL 50 to 1e-10 (euler_airfoil_solve.hpp),
-// one core of the shared development machine: ILU(0) of the second-order
-// Jacobian 19 Newton steps, 341 GMRES iterations, 0.88 s; ILU(0) of the
-// first-order Jacobian 19 steps, 153 iterations, 0.35 s; sparse LU of the
-// first-order Jacobian 13 steps, 76 iterations, 2.3 s (1.8 s of it factorising).
-// Block ILU(0) of the first-order Jacobian (4 × 4 blocks, one per cell;
-// the same M as point ILU(0) in exact arithmetic) takes the same 19 steps and
-// 153 iterations in 0.327 s against 0.357 s for point ILU(0) in the same run
-// (bench_airfoil_flow, medians of 3, 5 December 2026; setups 0.021 s against
-// 0.041 s, applications 0.017 s against 0.029 s; docs/performance/README.md).
+// exact factorisation. Measured on NACA 0012, M = 0.5, α = 2°, 96 × 48 cells,
+// pseudo-transient Newton–GMRES from CFL 50 to 1e-10 (euler_airfoil_solve.hpp;
+// bench_airfoil_flow, one run, 5 December 2026, one core of the shared
+// development machine; docs/performance/README.md has all three grids):
+// block ILU(0) of this first-order Jacobian 23 Newton steps, 253 GMRES
+// iterations, 0.96 s; block ILU(0) of the second-order (exact) Jacobian 27
+// steps, 1 048 iterations, 4.2 s; sparse LU of the exact Jacobian 15 steps, one
+// GMRES iteration each, 36.9 s (35.2 s of it factorising); sparse LU of the
+// first-order Jacobian 16 steps, 79 iterations, 7.2 s. Block ILU(0) (4 × 4
+// blocks, one per cell) builds the same M as point ILU(0) in exact arithmetic
+// (the same steps and iterations; point ILU(0) 1.05 s in the same run).
 //
 // assemble_jacobian builds it by colored forward differences of the
 // first-order residual (nkit::colored_difference_jacobian, Curtis, Powell &
