@@ -32,7 +32,8 @@
 //
 //   airfoil_flow [--airfoil=0012] [--mach=0.5] [--angle_of_attack_degrees=2] [--cells_around=128]
 //                [--cells_outward=64] [--far_field_radius=20] [--stretching_ratio=0] [--initial_cfl=50]
-//                [--relative_tolerance=1e-10] [--newton_step_budget=200] [--output=airfoil_flow_output]
+//                [--relative_tolerance=1e-10] [--newton_step_budget=200] [--gmres_restart=30]
+//                [--far_field_vortex] [--output=airfoil_flow_output]
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -67,6 +68,7 @@ int run(int argc, char** argv) {
   options.option("initial_cfl", "50", "first pseudo-time step, a CFL number (local time steps)");
   options.option("relative_tolerance", "1e-10", "stop when ||R|| <= this * ||R(free stream)||");
   options.option("newton_step_budget", "200", "pseudo-time (Newton) steps allowed");
+  options.option("gmres_restart", "30", "GMRES restart length (Krylov vectors kept between restarts)");
   options.flag("far_field_vortex",
                "impose at the far field the point vortex of the computed lift (solved again until the lift settles "
                "to 1e-6) instead of the uniform free stream");
@@ -109,6 +111,7 @@ int run(int argc, char** argv) {
       nkit_problems::euler_airfoil_newton_settings(options.number("initial_cfl"), options.number("relative_tolerance"));
   settings.newton_step_budget = options.integer("newton_step_budget");
   settings.stagnation_window = settings.newton_step_budget;
+  settings.linear.restart_length = options.integer("gmres_restart");
   // Block ILU(0) on the 4 × 4 cell blocks (ρ, ρu, ρv, ρE): the same factor as point ILU(0), in
   // less time (docs/performance: block ILU(0) against point ILU(0) on the airfoil).
   const auto solve = [](const euler_airfoil_flow& f, Eigen::VectorXd& state, const nkit::newton_settings& newton) {
