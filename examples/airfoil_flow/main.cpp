@@ -5,7 +5,9 @@
 // pseudo-transient continuation with Newton–GMRES, preconditioned by block
 // ILU(0) (4 × 4 blocks, one per cell) of the first-order operator's Jacobian
 // (problems/flow/euler_airfoil_first_order_jacobian.hpp,
-// euler_airfoil_solve.hpp).
+// euler_airfoil_solve.hpp), set up again every fifth Newton step by default
+// (lagged: half the time of setting it up at every step on these grids;
+// docs/performance/README.md, "Lagging the preconditioner").
 //
 // A CONVERGED RESIDUAL IS NOT A VALIDATED AERODYNAMIC MODEL. The equations
 // are inviscid (no boundary layer, no viscous drag, no separation), the
@@ -33,7 +35,7 @@
 //   airfoil_flow [--airfoil=0012] [--mach=0.5] [--angle_of_attack_degrees=2] [--cells_around=128]
 //                [--cells_outward=64] [--far_field_radius=20] [--stretching_ratio=0] [--initial_cfl=50]
 //                [--relative_tolerance=1e-10] [--newton_step_budget=200] [--gmres_restart=30]
-//                [--far_field_vortex] [--output=airfoil_flow_output]
+//                [--preconditioner_rebuild_every=5] [--far_field_vortex] [--output=airfoil_flow_output]
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -69,6 +71,9 @@ int run(int argc, char** argv) {
   options.option("relative_tolerance", "1e-10", "stop when ||R|| <= this * ||R(free stream)||");
   options.option("newton_step_budget", "200", "pseudo-time (Newton) steps allowed");
   options.option("gmres_restart", "30", "GMRES restart length (Krylov vectors kept between restarts)");
+  options.option("preconditioner_rebuild_every", "5",
+                 "set the preconditioner up again every this many Newton steps (1: every step; more: lagged, "
+                 "cheaper steps)");
   options.flag("far_field_vortex",
                "impose at the far field the point vortex of the computed lift (solved again until the lift settles "
                "to 1e-6) instead of the uniform free stream");
@@ -112,6 +117,7 @@ int run(int argc, char** argv) {
   settings.newton_step_budget = options.integer("newton_step_budget");
   settings.stagnation_window = settings.newton_step_budget;
   settings.linear.restart_length = options.integer("gmres_restart");
+  settings.preconditioner_rebuild.rebuild_every_newton_steps = options.integer("preconditioner_rebuild_every");
   // Block ILU(0) on the 4 × 4 cell blocks (ρ, ρu, ρv, ρE): the same factor as point ILU(0), in
   // less time (docs/performance: block ILU(0) against point ILU(0) on the airfoil).
   const auto solve = [](const euler_airfoil_flow& f, Eigen::VectorXd& state, const nkit::newton_settings& newton) {
