@@ -612,13 +612,17 @@ TEST_CASE("with the far-field vortex the spurious drag with lift and the entropy
   CAPTURE(coarse.drag, refined.drag);
   CHECK(refined.drag > 0.0);
   CHECK(refined.drag < coarse.drag / std::pow(2.0, 1.8));
-  // The entropy error that the drag comes from, in the area-weighted mean
-  // (L1) norm over the domain, falls at the scheme's order too: measured
-  // 1.254e-5 → 2.684e-6 (order 2.22; 7.63e-7 on 256 × 128, order 1.81).
-  // Asked: order ≥ 1.8, as for the drag. Its maximum falls more slowly
+  // The entropy error (numerical entropy production, the source of the
+  // spurious drag in inviscid subsonic flow: common practice), in the
+  // area-weighted mean (L1) norm over the domain, falls at the scheme's order
+  // too: measured 1.254e-5 → 2.684e-6, ratio 4.67 against the 3.48 asked
+  // (order 2.22 against 1.8; a 34 % margin in the ratio). From 128 × 64 to
+  // 256 × 128 the measured order is 1.81 (7.63e-7), right at the bound, so
+  // the check uses the first refinement only. Its maximum falls more slowly
   // (0.0275, 0.0121, 0.0040: orders 1.2, 1.6); it sits in the wall cell at
   // the stagnation point, where the cell-centred scheme's error is largest
-  // (common practice), and is checked only to fall in the test above.
+  // (common practice). The subsonic test above checks only that the maximum
+  // falls, with the uniform far field, from 64 × 32 to 96 × 48.
   CAPTURE(coarse.entropy_l1, refined.entropy_l1);
   CHECK(refined.entropy_l1 > 0.0);
   CHECK(refined.entropy_l1 < coarse.entropy_l1 / std::pow(2.0, 1.8));

@@ -428,10 +428,11 @@ class euler_airfoil_flow {
   nkit::sparsity_pattern first_order_pattern() const { return stencil_pattern(1); }
 
   /// The slip wall's ghost cell (file comment), in primitive variables
-  /// (ρ, u, v, p), from the wall cell's state `wall_cell`, the next cell's
-  /// outward `next_cell` and the wall face's vector `s` (any length, normal to
-  /// the wall): ρ and p log-linearly (ρ_0²/ρ_1), the tangential velocity
-  /// linearly (2v_0 − v_1), the normal velocity reversed (−q_0).
+  /// (ρ, u, v, p), from the states of the wall cell (`wall_cell`) and of the
+  /// next cell away from the wall (`next_cell`) and the wall face's vector `s`
+  /// (any length, normal to the wall): ρ and p log-linearly (ρ_0²/ρ_1), the
+  /// tangential velocity linearly (2v_0 − v_1), the normal velocity reversed
+  /// (−q_0).
   template <class Scalar>
   static state4<Scalar> slip_wall_ghost(const state4<Scalar>& wall_cell, const state4<Scalar>& next_cell, point2 s) {
     const double length_squared = s.x * s.x + s.y * s.y;

@@ -10,10 +10,12 @@
 // problem's jacobian_pattern() (at second order the wide MUSCL stencil, 9
 // cells of 4 unknowns per row), or from the first-order operator's Jacobian
 // with euler_airfoil_first_order_jacobian.hpp (five cells per row). Measured
-// on the 64 × 32 grid: ILU(0) of the first-order Jacobian is the fastest of
-// the combinations tried, and its block form (block_ilu_zero_preconditioner(4),
-// one 4 × 4 block per cell, passed as the last argument) is faster still with
-// the same iterations (figures in that header).
+// on 48 × 24 to 96 × 48 (bench_airfoil_flow): ILU(0) of the first-order
+// Jacobian is the fastest of the combinations tried, and its block form
+// (block_ilu_zero_preconditioner(4), one 4 × 4 block per cell, passed as the
+// last argument) is faster still with the same iterations (figures in that
+// header and in docs/performance/README.md); set up every fifth Newton step
+// (newton_settings::preconditioner_rebuild) it takes half the time again.
 #ifndef NKIT_PROBLEMS_FLOW_EULER_AIRFOIL_SOLVE_HPP
 #define NKIT_PROBLEMS_FLOW_EULER_AIRFOIL_SOLVE_HPP
 
