@@ -56,6 +56,7 @@
 #ifndef NKIT_PROBLEMS_FLOW_KARMAN_TREFFTZ_AIRFOIL_HPP
 #define NKIT_PROBLEMS_FLOW_KARMAN_TREFFTZ_AIRFOIL_HPP
 
+#include <algorithm>
 #include <cmath>
 #include <complex>
 #include <stdexcept>
@@ -164,6 +165,27 @@ class karman_trefftz_airfoil {
     return 0.5 * (at_edge + at_leading);
   }
 
+  /// Circle angle of the section point nearest to p among θ in [θ_a, θ_b]
+  /// (golden-section search of the distance; e.g. a wall-face midpoint with
+  /// the angles of the face's two surface points).
+  double nearest_circle_angle(point2 p, double theta_a, double theta_b) const {
+    const double golden = 0.5 * (std::sqrt(5.0) - 1.0);
+    double low = std::min(theta_a, theta_b), high = std::max(theta_a, theta_b);
+    const auto distance = [this, p](double theta) {
+      const point2 s = surface_point(theta);
+      return std::hypot(s.x - p.x, s.y - p.y);
+    };
+    for (int it = 0; it < 100 && high - low > 1e-15; ++it) {
+      const double left = high - golden * (high - low), right = low + golden * (high - low);
+      if (distance(left) < distance(right)) {
+        high = right;
+      } else {
+        low = left;
+      }
+    }
+    return 0.5 * (low + high);
+  }
+
   /// Circle angles of the n surface points (file comment); n even, >= 8.
   std::vector<double> surface_angles(int n) const {
     if (n < 8 || n % 2 != 0) {
@@ -204,6 +226,15 @@ class karman_trefftz_airfoil {
       }
     }
     return points;
+  }
+
+  /// α_ζ = α − arg A in radians: the free-stream direction in the circle plane.
+  double circle_plane_angle(double angle_of_attack_degrees) const {
+    if (!(std::abs(angle_of_attack_degrees) < 90.0)) {
+      throw std::invalid_argument("karman_trefftz_airfoil: angle_of_attack_degrees must be in (-90, 90) (got " +
+                                  std::to_string(angle_of_attack_degrees) + ")");
+    }
+    return angle_of_attack_degrees * std::acos(-1.0) / 180.0 - std::arg(m_scale);
   }
 
   /// Circulation Γ (clockwise positive) of the Kutta flow at α degrees, V∞ = 1, chord 1.
@@ -254,13 +285,6 @@ class karman_trefftz_airfoil {
   complex map_derivative(complex zeta) const {
     const complex r = power_of_ratio(zeta);
     return 4.0 * m_exponent * m_exponent * r / ((1.0 - r) * (1.0 - r) * (zeta * zeta - 1.0));
-  }
-  double circle_plane_angle(double angle_of_attack_degrees) const {
-    if (!(std::abs(angle_of_attack_degrees) < 90.0)) {
-      throw std::invalid_argument("karman_trefftz_airfoil: angle_of_attack_degrees must be in (-90, 90) (got " +
-                                  std::to_string(angle_of_attack_degrees) + ")");
-    }
-    return angle_of_attack_degrees * std::acos(-1.0) / 180.0 - std::arg(m_scale);
   }
 
   complex m_centre;
