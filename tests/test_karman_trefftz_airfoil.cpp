@@ -24,7 +24,8 @@ using nkit_problems::point2;
 
 namespace {
 
-const double pi = std::acos(-1.0);
+// π (named apart from other test files' `pi`: the unity build joins them in one translation unit).
+const double kt_pi = std::acos(-1.0);
 
 // The section of the Euler comparison: circle centre μ = (−0.07, 0.03),
 // trailing-edge angle 10°. Measured from 400 surface points: 12.0 % thick at
@@ -44,7 +45,7 @@ force_coefficients integrate_pressure(const karman_trefftz_airfoil& section, int
   double fx = 0.0, fy = 0.0;
   for (int k = 0; k < n; ++k) {
     const double ta = angles[static_cast<std::size_t>(k)];
-    const double tb = k + 1 < n ? angles[static_cast<std::size_t>(k + 1)] : angles[0] - 2.0 * pi;
+    const double tb = k + 1 < n ? angles[static_cast<std::size_t>(k + 1)] : angles[0] - 2.0 * kt_pi;
     const point2 a = section.surface_point(ta), b = section.surface_point(tb);
     // Clockwise polygon: the outward normal × length of edge a → b is (−(b − a)_y, (b − a)_x).
     const double nx = -(b.y - a.y), ny = b.x - a.x;
@@ -52,7 +53,7 @@ force_coefficients integrate_pressure(const karman_trefftz_airfoil& section, int
     fx -= c * nx;
     fy -= c * ny;
   }
-  const double alpha = alpha_degrees * pi / 180.0;
+  const double alpha = alpha_degrees * kt_pi / 180.0;
   return {-fx * std::sin(alpha) + fy * std::cos(alpha), fx * std::cos(alpha) + fy * std::sin(alpha)};
 }
 
@@ -64,7 +65,7 @@ TEST_CASE("Kármán–Trefftz section: closed curve, chord (0,0)-(1,0), clockwis
   const double theta_te = section.trailing_edge_circle_angle();
   // Closed: once around the circle the map returns to the trailing edge
   // (checks the branch of q^k; a wrong branch jumps by a factor e^(±2πik)).
-  const point2 start = section.surface_point(theta_te), end = section.surface_point(theta_te - 2.0 * pi);
+  const point2 start = section.surface_point(theta_te), end = section.surface_point(theta_te - 2.0 * kt_pi);
   CHECK(std::hypot(start.x - 1.0, start.y) < 1e-12);
   CHECK(std::hypot(end.x - 1.0, end.y) < 1e-12);
   // Continuity: no jump between neighbours on a fine scan (largest step of
@@ -73,7 +74,7 @@ TEST_CASE("Kármán–Trefftz section: closed curve, chord (0,0)-(1,0), clockwis
   double largest_step = 0.0;
   point2 previous = start;
   for (int s = 1; s <= 4000; ++s) {
-    const point2 p = section.surface_point(theta_te - 2.0 * pi * s / 4000);
+    const point2 p = section.surface_point(theta_te - 2.0 * kt_pi * s / 4000);
     largest_step = std::max(largest_step, std::hypot(p.x - previous.x, p.y - previous.y));
     previous = p;
   }
@@ -89,7 +90,7 @@ TEST_CASE("Kármán–Trefftz section: closed curve, chord (0,0)-(1,0), clockwis
   // point of the fine scan is farther than (0,0) (distance 1) beyond round-off.
   double farthest = 0.0;
   for (int s = 1; s < 4000; ++s) {
-    const point2 p = section.surface_point(theta_te - 2.0 * pi * s / 4000);
+    const point2 p = section.surface_point(theta_te - 2.0 * kt_pi * s / 4000);
     farthest = std::max(farthest, std::hypot(p.x - 1.0, p.y));
   }
   CHECK(farthest <= 1.0 + 1e-14);
@@ -115,9 +116,9 @@ TEST_CASE("Kármán–Trefftz section: closed curve, chord (0,0)-(1,0), clockwis
     const std::vector<point2> p = section.surface_points(count);
     const point2 lower = p[1], upper = p[static_cast<std::size_t>(count - 1)];
     const double a = std::atan2(lower.y, lower.x - 1.0), b = std::atan2(upper.y, upper.x - 1.0);
-    return std::abs(std::remainder(a - b, 2.0 * pi));
+    return std::abs(std::remainder(a - b, 2.0 * kt_pi));
   };
-  const double tau = 10.0 * pi / 180.0;
+  const double tau = 10.0 * kt_pi / 180.0;
   const double error_coarse = std::abs(edge_angle(256) - tau), error_fine = std::abs(edge_angle(1024) - tau);
   CAPTURE(error_coarse, error_fine);
   CHECK(error_fine < error_coarse / 3.0);
@@ -172,13 +173,13 @@ TEST_CASE("Kármán–Trefftz exact flow: tangent to the surface, stagnation whe
   // Milne-Thomson, Theoretical Aerodynamics, chapter 5, from memory). There
   // c_p0 = 1 (Bernoulli, common practice), and nowhere above it.
   const double alpha_circle = section.circle_plane_angle(alpha);
-  const double front = pi + 2.0 * alpha_circle - section.trailing_edge_circle_angle();
+  const double front = kt_pi + 2.0 * alpha_circle - section.trailing_edge_circle_angle();
   CHECK(section.pressure_coefficient(front, alpha) == Approx(1.0).margin(1e-12));
   CHECK(section.pressure_coefficient(section.trailing_edge_circle_angle(), alpha) == 1.0);
   double largest_cp = -1e300;
   for (int s = 1; s < 4000; ++s) {
     largest_cp = std::max(
-        largest_cp, section.pressure_coefficient(section.trailing_edge_circle_angle() - 2.0 * pi * s / 4000, alpha));
+        largest_cp, section.pressure_coefficient(section.trailing_edge_circle_angle() - 2.0 * kt_pi * s / 4000, alpha));
   }
   CHECK(largest_cp <= 1.0 + 1e-12);
   // The front stagnation point lies near the leading edge, on the lower
@@ -200,7 +201,7 @@ TEST_CASE("Kármán–Trefftz exact flow: Kutta condition, finite speed at the t
   double previous_lower = 1e300, previous_upper = 1e300;
   for (const double delta : {1e-2, 1e-4, 1e-6, 1e-8}) {
     const double lower = std::abs(section.velocity(te - delta, alpha));
-    const double upper = std::abs(section.velocity(te - 2.0 * pi + delta, alpha));
+    const double upper = std::abs(section.velocity(te - 2.0 * kt_pi + delta, alpha));
     CAPTURE(delta, lower, upper);
     CHECK(lower < previous_lower);  // falls toward the edge
     CHECK(upper < previous_upper);
@@ -217,7 +218,7 @@ TEST_CASE("Kármán–Trefftz exact flow: Kutta condition, finite speed at the t
   const double at_edge = std::abs(cusp.velocity(cusp_te, alpha));
   CHECK(at_edge > 0.5);
   CHECK(std::abs(std::abs(cusp.velocity(cusp_te - 1e-6, alpha)) - at_edge) < 1e-4);
-  CHECK(std::abs(std::abs(cusp.velocity(cusp_te - 2.0 * pi + 1e-6, alpha)) - at_edge) < 1e-4);
+  CHECK(std::abs(std::abs(cusp.velocity(cusp_te - 2.0 * kt_pi + 1e-6, alpha)) - at_edge) < 1e-4);
 }
 
 TEST_CASE("Kármán–Trefftz exact flow: the surface pressure integrates to c_l0 and zero drag at second order",
@@ -272,8 +273,8 @@ TEST_CASE("Kármán–Trefftz limits: Joukowski map at tau = 0, flat plate, circ
   // condition, e.g. Milne-Thomson, Theoretical Aerodynamics, chapter 6; from memory).
   const karman_trefftz_airfoil plate(0.0, 0.0, 0.0);
   for (const double alpha : {2.0, 10.0}) {
-    const double a = alpha * pi / 180.0;
-    CHECK(plate.lift_coefficient(alpha) == Approx(2.0 * pi * std::sin(a)).epsilon(1e-13));
+    const double a = alpha * kt_pi / 180.0;
+    CHECK(plate.lift_coefficient(alpha) == Approx(2.0 * kt_pi * std::sin(a)).epsilon(1e-13));
     for (const double x : {0.05, 0.3, 0.7, 0.95}) {
       for (const bool upper : {false, true}) {
         const double theta = plate.circle_angle(x, upper);
@@ -294,7 +295,7 @@ TEST_CASE("Kármán–Trefftz limits: Joukowski map at tau = 0, flat plate, circ
   const karman_trefftz_airfoil lens(0.0, 0.0, 20.0);
   const double thickness =
       lens.surface_point(lens.circle_angle(0.5, true)).y - lens.surface_point(lens.circle_angle(0.5, false)).y;
-  CHECK(thickness == Approx(std::tan(20.0 * pi / 180.0 / 4.0)).epsilon(1e-9));
+  CHECK(thickness == Approx(std::tan(20.0 * kt_pi / 180.0 / 4.0)).epsilon(1e-9));
 }
 
 TEST_CASE("Kármán–Trefftz: invalid parameters throw std::invalid_argument", "[karman_trefftz]") {
@@ -371,7 +372,7 @@ surface_comparison compare_with_exact(const karman_trefftz_airfoil& section, int
   comparison.lift = forces.lift_coefficient;
   for (int i = 0; i < n; ++i) {
     const double ta = angles[static_cast<std::size_t>(i)];
-    const double tb = i + 1 < n ? angles[static_cast<std::size_t>(i + 1)] : angles[0] - 2.0 * pi;
+    const double tb = i + 1 < n ? angles[static_cast<std::size_t>(i + 1)] : angles[0] - 2.0 * kt_pi;
     const point2 centre = forces.wall_face_centre[static_cast<std::size_t>(i)];
     const double incompressible = section.pressure_coefficient(section.nearest_circle_angle(centre, ta, tb), alpha);
     const double exact = karman_tsien(incompressible, mach);
