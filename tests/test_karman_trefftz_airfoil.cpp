@@ -141,7 +141,7 @@ TEST_CASE("Kármán–Trefftz exact flow: tangent to the surface, stagnation whe
   // distance s of the edge; the first point's s falls by 16 when n is
   // quadrupled, so the error there falls by about 16^(1/k) = 4.2 (k = 1.944):
   // first order. Measured (α = 2°, n = 256 → 1024): away from the edge
-  // 7.1e-5 → 4.4e-6 (ratio 16), next to it 5.5e-4 → 1.2e-4 (ratio 4.45).
+  // 7.4e-5 → 4.6e-6 (ratio 16.0), next to it 5.5e-4 → 1.2e-4 (ratio 4.45).
   struct normal_velocity {
     double smooth = 0.0, near_edge = 0.0;
   };
@@ -183,7 +183,7 @@ TEST_CASE("Kármán–Trefftz exact flow: tangent to the surface, stagnation whe
   }
   CHECK(largest_cp <= 1.0 + 1e-12);
   // The front stagnation point lies near the leading edge, on the lower
-  // surface at positive lift: within 0.02 chord of (0,0) (measured 0.0024) and below the chord.
+  // surface at positive lift: within 0.02 chord of (0,0) (measured 0.0052) and below the chord.
   const point2 stagnation = section.surface_point(front);
   CAPTURE(stagnation.x, stagnation.y);
   CHECK(std::hypot(stagnation.x, stagnation.y) < 0.02);
@@ -227,7 +227,11 @@ TEST_CASE("Kármán–Trefftz exact flow: the surface pressure integrates to c_l
   // potential flow), reached by a route independent of the circulation
   // formula: the panel midpoint rule on the polygon of the surface points.
   // The polygon and the midpoint rule are second-order accurate: doubling n
-  // divides the errors by about 4.
+  // divides the errors by about 4. Measured (n = 256 → 512, the nine cases
+  // below): lift error ratios 4.00 in every case (e.g. 9.4e-6 → 2.35e-6 for
+  // the moderate section at α = 2°), drag ratios 3.65 to 4.21 (drag 8.9e-7 →
+  // 2.4e-7 there). Asked: lift order >= 1.8 (ratio 3.48), drag order >= 1.7
+  // (ratio 3.25; the smallest measured ratio, 3.65, is order 1.87).
   for (const karman_trefftz_airfoil& section :
        {moderate_section(), karman_trefftz_airfoil(-0.1, 0.0, 20.0), karman_trefftz_airfoil(-0.05, 0.08, 0.0)}) {
     for (const double alpha : {-3.0, 2.0, 8.0}) {
@@ -238,7 +242,7 @@ TEST_CASE("Kármán–Trefftz exact flow: the surface pressure integrates to c_l
       CAPTURE(section.centre(), section.trailing_edge_angle_degrees(), alpha, exact, coarse.lift, fine.lift,
               coarse.drag, fine.drag);
       CHECK(std::abs(fine.lift - exact) < std::abs(coarse.lift - exact) / std::pow(2.0, 1.8));
-      CHECK(std::abs(fine.drag) < std::abs(coarse.drag) / std::pow(2.0, 1.8));
+      CHECK(std::abs(fine.drag) < std::abs(coarse.drag) / std::pow(2.0, 1.7));
       CHECK(std::abs(fine.lift - exact) < 1e-3);
       CHECK(std::abs(fine.drag) < 1e-3);
     }
