@@ -1,6 +1,7 @@
-// A structured body-fitted O-grid around a NACA four-digit airfoil
-// (airfoil_geometry.hpp), generated algebraically, with the cell-centred
-// finite-volume metrics of euler_airfoil.hpp.
+// A structured body-fitted O-grid around an airfoil section given by its
+// surface points (the contract of naca_four_digit_airfoil::surface_points in
+// airfoil_geometry.hpp, which karman_trefftz_airfoil.hpp keeps too), generated
+// algebraically, with the cell-centred finite-volume metrics of euler_airfoil.hpp.
 //
 // Nodes: index i = 0..n−1 runs once around the section (periodic: node n is
 // node 0), starting at the trailing edge along the lower surface
@@ -91,14 +92,36 @@ struct airfoil_grid_settings {
 
 class airfoil_o_grid {
  public:
-  airfoil_o_grid(const naca_four_digit_airfoil& airfoil, airfoil_grid_settings settings) : m_settings(settings) {
+  /// Around a NACA four-digit section (its surface_points(cells_around)).
+  airfoil_o_grid(const naca_four_digit_airfoil& airfoil, airfoil_grid_settings settings)
+      : airfoil_o_grid(checked_surface_points(airfoil, settings), settings) {}
+
+  /// Around the section with these surface points: cells_around of them,
+  /// the trailing edge first, along the lower surface to the leading edge
+  /// (point cells_around/2) and back along the upper surface, clockwise, with
+  /// a sharp trailing edge (the contract of naca_four_digit_airfoil::surface_points).
+  /// Throws std::invalid_argument for a wrong count, non-finite points or a
+  /// counter-clockwise polygon.
+  airfoil_o_grid(const std::vector<point2>& surface, airfoil_grid_settings settings) : m_settings(settings) {
     settings.validate();
-    if (airfoil.open_trailing_edge()) {
-      throw std::invalid_argument("airfoil_o_grid: the O-grid needs a closed trailing edge (open_trailing_edge)");
-    }
     m_n = settings.cells_around;
     m_m = settings.cells_outward;
-    const std::vector<point2> surface = airfoil.surface_points(m_n);
+    if (surface.size() != static_cast<std::size_t>(m_n)) {
+      throw std::invalid_argument("airfoil_o_grid: surface has " + std::to_string(surface.size()) +
+                                  " points but settings.cells_around is " + std::to_string(m_n));
+    }
+    double twice_signed_area = 0.0;
+    for (std::size_t k = 0; k < surface.size(); ++k) {
+      const point2 a = surface[k], b = surface[(k + 1) % surface.size()];
+      if (!(std::isfinite(a.x) && std::isfinite(a.y))) {
+        throw std::invalid_argument("airfoil_o_grid: surface point " + std::to_string(k) + " is not finite");
+      }
+      twice_signed_area += a.x * b.y - b.x * a.y;
+    }
+    if (!(twice_signed_area < 0.0)) {
+      throw std::invalid_argument("airfoil_o_grid: surface points must run clockwise (signed area " +
+                                  std::to_string(0.5 * twice_signed_area) + " >= 0)");
+    }
     const double pi = std::acos(-1.0), radius = settings.far_field_radius, q = settings.stretching_ratio;
     const double blend = settings.wall_normal_blend_distance;
     m_nodes.resize(static_cast<std::size_t>(m_n) * static_cast<std::size_t>(m_m + 1));
@@ -194,6 +217,14 @@ class airfoil_o_grid {
   }
 
  private:
+  static std::vector<point2> checked_surface_points(const naca_four_digit_airfoil& airfoil,
+                                                    const airfoil_grid_settings& settings) {
+    settings.validate();
+    if (airfoil.open_trailing_edge()) {
+      throw std::invalid_argument("airfoil_o_grid: the O-grid needs a closed trailing edge (open_trailing_edge)");
+    }
+    return airfoil.surface_points(settings.cells_around);
+  }
   int wrap(int i) const { return ((i % m_n) + m_n) % m_n; }
   std::size_t node_index(int i, int j) const {
     return static_cast<std::size_t>(i) + static_cast<std::size_t>(m_n) * static_cast<std::size_t>(j);
