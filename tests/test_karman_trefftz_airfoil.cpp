@@ -325,16 +325,18 @@ TEST_CASE("Kármán–Trefftz: invalid parameters throw std::invalid_argument", 
   CHECK_THROWS_WITH(airfoil_o_grid(reversed, grid_settings), Catch::Contains("clockwise"));
   points[5].y = std::nan("");
   CHECK_THROWS_WITH(airfoil_o_grid(points, grid_settings), Catch::Contains("surface point 5 is not finite"));
+  // The Kármán–Tsien rule: the identity at M = 0 (β = 1; algebra), a Mach
+  // number outside [0, 1) refused.
+  CHECK(nkit_problems::karman_tsien_pressure_coefficient(-0.7, 0.0) == -0.7);
+  CHECK_THROWS_WITH(nkit_problems::karman_tsien_pressure_coefficient(0.5, 1.0),
+                    Catch::Contains("mach_number must be in [0, 1) (got 1.0"));
 }
 
 namespace {
 
-// Kármán–Tsien rule: c_p = c_p0 / (β + M²/(1 + β) · c_p0/2), β = √(1 − M²)
-// (H.S. Tsien, "Two-dimensional subsonic flow of compressible fluids",
-// J. Aeronaut. Sci. 6 (1939) 399–407; the form of the formula from memory).
+// Kármán–Tsien rule: karman_trefftz_airfoil.hpp (Tsien 1939, form from memory).
 double karman_tsien(double incompressible, double mach) {
-  const double beta = std::sqrt(1.0 - mach * mach);
-  return incompressible / (beta + mach * mach / (1.0 + beta) * incompressible / 2.0);
+  return nkit_problems::karman_tsien_pressure_coefficient(incompressible, mach);
 }
 
 struct surface_comparison {

@@ -51,6 +51,7 @@
 #include "problems/flow/airfoil_surface_quantities.hpp"
 #include "problems/flow/euler_airfoil_far_field_vortex.hpp"
 #include "problems/flow/euler_airfoil_solve.hpp"
+#include "problems/flow/karman_trefftz_airfoil.hpp"
 
 namespace {
 
@@ -78,6 +79,9 @@ int run(int argc, char** argv) {
   options.flag("far_field_vortex",
                "impose at the far field the point vortex of the computed lift (solved again until the lift settles "
                "to 1e-6) instead of the uniform free stream");
+  options.flag("karman_trefftz",
+               "the Karman-Trefftz section (circle centre (-0.07, 0.03), trailing-edge angle 10 deg: 12 % thick) "
+               "instead of --airfoil, with its exact incompressible c_p, Karman-Tsien-corrected, in the c_p picture");
   options.option("output", "airfoil_flow_output", "folder for CSV, VTK and PNG files");
   if (!options.parse(argc, argv)) return 0;
 
@@ -98,16 +102,26 @@ int run(int argc, char** argv) {
   nkit_problems::euler_airfoil_settings flow_settings;
   flow_settings.mach_number = options.number("mach");
   flow_settings.angle_of_attack_degrees = options.number("angle_of_attack_degrees");
-  const nkit_problems::naca_four_digit_airfoil airfoil(options.text("airfoil"));
-  const euler_airfoil_flow flow(nkit_problems::airfoil_o_grid(airfoil, grid_settings), flow_settings);
+  // The Kármán–Trefftz section of tests/test_karman_trefftz_airfoil.cpp: 12.0 % thick at x ≈ 0.32,
+  // 1.4 % camber, its exact incompressible flow known (karman_trefftz_airfoil.hpp).
+  const bool karman_trefftz = options.is_set("karman_trefftz");
+  const nkit_problems::karman_trefftz_airfoil exact_section(-0.07, 0.03, 10.0);
+  const euler_airfoil_flow flow(
+      karman_trefftz
+          ? nkit_problems::airfoil_o_grid(exact_section.surface_points(grid_settings.cells_around), grid_settings)
+          : nkit_problems::airfoil_o_grid(nkit_problems::naca_four_digit_airfoil(options.text("airfoil")),
+                                          grid_settings),
+      flow_settings);
+  const std::string section_name =
+      karman_trefftz ? std::string("Karman-Trefftz (-0.07, 0.03, 10 deg)") : "NACA " + options.text("airfoil");
   const auto folder = nkit_examples::make_output_folder(options.text("output"));
   const int n = grid_settings.cells_around, m = grid_settings.cells_outward;
 
   std::printf(
-      "NACA %s, M = %g, alpha = %g deg: steady 2-D Euler, Roe + MUSCL/van Albada, O-grid %d x %d cells, far field "
+      "%s, M = %g, alpha = %g deg: steady 2-D Euler, Roe + MUSCL/van Albada, O-grid %d x %d cells, far field "
       "%g chords, stretching %.4f\n"
       "A converged residual is not a validated aerodynamic model (inviscid, %s, algebraic grid).\noptions: %s\n\n",
-      options.text("airfoil").c_str(), flow_settings.mach_number, flow_settings.angle_of_attack_degrees, n, m,
+      section_name.c_str(), flow_settings.mach_number, flow_settings.angle_of_attack_degrees, n, m,
       grid_settings.far_field_radius, grid_settings.stretching_ratio,
       options.is_set("far_field_vortex") ? "far field at a finite distance" : "no far-field vortex correction",
       options.summary().c_str());
@@ -186,6 +200,42 @@ int run(int argc, char** argv) {
                 describe(upper_shock).c_str(), describe(lower_shock).c_str());
   }
 
+  // With --karman_trefftz: the exact incompressible flow (Kutta condition) carried to the Mach number by
+  // the Kármán–Tsien rule for c_p and the Prandtl–Glauert factor 1/β for the lift (karman_trefftz_airfoil.hpp).
+  if (karman_trefftz) {
+    const double alpha = flow_settings.angle_of_attack_degrees, mach = flow_settings.mach_number;
+    const double beta = std::sqrt(1.0 - mach * mach);
+    const std::vector<double> angles = exact_section.surface_angles(n);
+    const double two_pi = 2.0 * std::acos(-1.0);
+    double mean_difference = 0.0;
+    for (int i = 0; i < n; ++i) {
+      const double ta = angles[static_cast<std::size_t>(i)];
+      const double tb = i + 1 < n ? angles[static_cast<std::size_t>(i + 1)] : angles[0] - two_pi;
+      const double theta =
+          exact_section.nearest_circle_angle(forces.wall_face_centre[static_cast<std::size_t>(i)], ta, tb);
+      const double exact =
+          nkit_problems::karman_tsien_pressure_coefficient(exact_section.pressure_coefficient(theta, alpha), mach);
+      mean_difference += std::abs(forces.pressure_coefficient[static_cast<std::size_t>(i)] - exact) / n;
+    }
+    const double exact_lift = exact_section.lift_coefficient(alpha) / beta;
+    std::printf(
+        "exact (Karman-Trefftz, Kutta condition): c_l0 = %.4f, times 1/beta = %.4f (computed c_l %+.1f %%); mean "
+        "|c_p - exact c_p (Karman-Tsien)| over the wall faces %.4f\n",
+        exact_section.lift_coefficient(alpha), exact_lift, 100.0 * (forces.lift_coefficient / exact_lift - 1.0),
+        mean_difference);
+    std::ofstream csv(folder / "exact_surface_pressure.csv");
+    csv << "x_over_chord,pressure_coefficient,surface\n";
+    for (const bool upper : {false, true}) {
+      for (int k = 0; k <= 400; ++k) {
+        const double x = 0.5 * (1.0 - std::cos(0.5 * two_pi * k / 400.0));  // cosine spacing, 0 to 1
+        const double cp0 = exact_section.pressure_coefficient(exact_section.circle_angle(x, upper), alpha);
+        csv << x << ',' << nkit_problems::karman_tsien_pressure_coefficient(cp0, mach) << ','
+            << (upper ? "upper" : "lower") << '\n';
+      }
+      csv << "\n\n";
+    }
+  }
+
   // surface_pressure.csv
   {
     std::ofstream csv(folder / "surface_pressure.csv");
@@ -259,7 +309,7 @@ int run(int argc, char** argv) {
     }
   }
 
-  const std::string case_title = "NACA " + options.text("airfoil") + ", M = " + options.text("mach") +
+  const std::string case_title = section_name + ", M = " + options.text("mach") +
                                  ", {/Symbol a} = " + options.text("angle_of_attack_degrees") + "°, " +
                                  std::to_string(n) + " x " + std::to_string(m) + " cells";
   const std::string mach_script =
@@ -287,6 +337,11 @@ int run(int argc, char** argv) {
       (minimum_cp < 0.7 * cp_critical
            ? std::string(critical_line) + " with lines dt 2 lc rgb 'gray' title '-c_p* (sonic)'"
            : std::string("1/0 notitle")) +
+      (karman_trefftz ? std::string(", 'exact_surface_pressure.csv' index 1 using 1:(-$2) skip 1 with lines lw 1 "
+                                    "lc rgb 'black' title 'exact (Karman-Trefftz, Karman-Tsien)', "
+                                    "'exact_surface_pressure.csv' index 0 using 1:(-$2) skip 1 with lines lw 1 "
+                                    "lc rgb 'black' notitle")
+                      : std::string()) +
       "\n";
   nkit_examples::run_gnuplot(folder, "airfoil_pressure_coefficient.gp", cp_script, std::cout);
   nkit_examples::run_gnuplot(

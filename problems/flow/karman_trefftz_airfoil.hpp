@@ -293,6 +293,20 @@ class karman_trefftz_airfoil {
   complex m_z_le, m_scale;
 };
 
+/// The exact incompressible c_p0 carried to free-stream Mach number M by the
+/// Kármán–Tsien rule, c_p = c_p0 / (β + M²/(1 + β) · c_p0/2), β = √(1 − M²)
+/// (H.S. Tsien, "Two-dimensional subsonic flow of compressible fluids",
+/// J. Aeronaut. Sci. 6 (1939) 399–407; the form of the formula from memory).
+/// Throws std::invalid_argument unless 0 <= M < 1.
+inline double karman_tsien_pressure_coefficient(double incompressible_pressure_coefficient, double mach_number) {
+  if (!(mach_number >= 0.0 && mach_number < 1.0)) {
+    throw std::invalid_argument("karman_tsien_pressure_coefficient: mach_number must be in [0, 1) (got " +
+                                std::to_string(mach_number) + ")");
+  }
+  const double beta = std::sqrt(1.0 - mach_number * mach_number), cp0 = incompressible_pressure_coefficient;
+  return cp0 / (beta + mach_number * mach_number / (1.0 + beta) * cp0 / 2.0);
+}
+
 }  // namespace nkit_problems
 
 #endif  // NKIT_PROBLEMS_FLOW_KARMAN_TREFFTZ_AIRFOIL_HPP
