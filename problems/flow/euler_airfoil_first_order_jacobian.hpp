@@ -11,15 +11,17 @@
 // dissipation), at the price of more GMRES iterations per Newton step with an
 // exact factorisation. Measured on NACA 0012, M = 0.5, α = 2°, 96 × 48 cells,
 // pseudo-transient Newton–GMRES from CFL 50 to 1e-10 (euler_airfoil_solve.hpp;
-// bench_airfoil_flow, one run, 5 December 2026, one core of the shared
-// development machine; docs/performance/README.md has all three grids):
-// block ILU(0) of this first-order Jacobian 23 Newton steps, 253 GMRES
-// iterations, 0.96 s; block ILU(0) of the second-order (exact) Jacobian 27
-// steps, 1 048 iterations, 4.2 s; sparse LU of the exact Jacobian 15 steps, one
-// GMRES iteration each, 36.9 s (35.2 s of it factorising); sparse LU of the
-// first-order Jacobian 16 steps, 79 iterations, 7.2 s. Block ILU(0) (4 × 4
+// bench_airfoil_flow, one run of every configuration, 5 December 2026, one
+// core of the shared development machine; docs/performance/README.md has all
+// three grids), the preconditioner set up at every Newton step: block ILU(0)
+// of this first-order Jacobian 23 Newton steps, 253 GMRES iterations, 0.91 s;
+// block ILU(0) of the second-order (exact) Jacobian 27 steps, 1 048
+// iterations, 3.6 s; sparse LU of the exact Jacobian 15 steps, one GMRES
+// iteration each, 33.9 s (32.3 s of it factorising); sparse LU of the
+// first-order Jacobian 16 steps, 79 iterations, 6.7 s. Block ILU(0) (4 × 4
 // blocks, one per cell) builds the same M as point ILU(0) in exact arithmetic
-// (the same steps and iterations; point ILU(0) 1.05 s in the same run).
+// (the same steps and iterations; point ILU(0) 1.04 s in the same run). Set
+// up every fifth step, block ILU(0) of this matrix took 0.51 s.
 //
 // assemble_jacobian builds it by colored forward differences of the
 // first-order residual (nkit::colored_difference_jacobian, Curtis, Powell &
