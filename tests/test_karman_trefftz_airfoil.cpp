@@ -373,24 +373,21 @@ surface_comparison compare_with_exact(const karman_trefftz_airfoil& section, int
   REQUIRE(result.converged);
   settings.far_field_vortex_lift_coefficient = result.vortex_lift_coefficient;
   const nkit_problems::airfoil_forces forces = euler_airfoil_flow(grid, settings).forces(u);
-  const std::vector<double> angles = section.surface_angles(n);
+  const std::vector<double> exact_incompressible =
+      section.wall_face_pressure_coefficients(forces.wall_face_centre, alpha);
   const double beta = std::sqrt(1.0 - mach * mach);
   surface_comparison comparison;
   comparison.lift = forces.lift_coefficient;
-  for (int i = 0; i < n; ++i) {
-    const double ta = angles[static_cast<std::size_t>(i)];
-    const double tb = i + 1 < n ? angles[static_cast<std::size_t>(i + 1)] : angles[0] - 2.0 * kt_pi;
-    const point2 centre = forces.wall_face_centre[static_cast<std::size_t>(i)];
-    const double incompressible = section.pressure_coefficient(section.nearest_circle_angle(centre, ta, tb), alpha);
+  for (std::size_t i = 0; i < exact_incompressible.size(); ++i) {
+    const double incompressible = exact_incompressible[i];
     const double exact = karman_tsien(incompressible, mach);
-    const double difference = std::abs(forces.pressure_coefficient[static_cast<std::size_t>(i)] - exact);
+    const double difference = std::abs(forces.pressure_coefficient[i] - exact);
     comparison.mean_difference += difference / n;
     comparison.rule_spread += std::abs(exact - incompressible / beta) / n;
-    comparison.uncorrected_mean_difference +=
-        std::abs(forces.pressure_coefficient[static_cast<std::size_t>(i)] - incompressible) / n;
+    comparison.uncorrected_mean_difference += std::abs(forces.pressure_coefficient[i] - incompressible) / n;
     if (difference > comparison.largest_difference) {
       comparison.largest_difference = difference;
-      comparison.largest_at_x = centre.x;
+      comparison.largest_at_x = forces.wall_face_centre[i].x;
     }
   }
   return comparison;

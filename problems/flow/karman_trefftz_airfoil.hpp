@@ -203,6 +203,25 @@ class karman_trefftz_airfoil {
     return angles;
   }
 
+  /// The exact incompressible c_p0 at the wall faces of an O-grid built from
+  /// surface_points(n), n = face_centres.size(): for face i (between surface
+  /// points i and i + 1) at the section point nearest its centre, found
+  /// between the two points' circle angles (α in degrees).
+  std::vector<double> wall_face_pressure_coefficients(const std::vector<point2>& face_centres,
+                                                      double angle_of_attack_degrees) const {
+    const int n = static_cast<int>(face_centres.size());
+    const std::vector<double> angles = surface_angles(n);
+    const double two_pi = 2.0 * std::acos(-1.0);
+    std::vector<double> coefficients(face_centres.size());
+    for (int i = 0; i < n; ++i) {
+      const double ta = angles[static_cast<std::size_t>(i)];
+      const double tb = i + 1 < n ? angles[static_cast<std::size_t>(i + 1)] : angles[0] - two_pi;
+      const double theta = nearest_circle_angle(face_centres[static_cast<std::size_t>(i)], ta, tb);
+      coefficients[static_cast<std::size_t>(i)] = pressure_coefficient(theta, angle_of_attack_degrees);
+    }
+    return coefficients;
+  }
+
   /// n surface points: the contract of naca_four_digit_airfoil::surface_points
   /// (trailing edge (1, 0) first, lower surface to the leading edge (0, 0) at
   /// j = n/2, upper surface back; clockwise). Throws std::invalid_argument when
