@@ -576,6 +576,12 @@ std::vector<invalid_setting> invalid_settings() {
        "nkit: newton_settings.pseudo_transient.maximum_residual_growth must be >= 1 (got 0.5)"},
       {[](newton_settings& s) { s.pseudo_transient.switch_ratio = 1.5; },
        "nkit: newton_settings.pseudo_transient.switch_ratio must be in [0, 1] (got 1.5)"},
+      {[](newton_settings& s) { s.pseudo_transient.largest_useful_linear_residual = 0.0; },
+       "nkit: newton_settings.pseudo_transient.largest_useful_linear_residual must be in (0, 1] (got 0)"},
+      {[=](newton_settings& s) { s.pseudo_transient.largest_useful_linear_residual = nan; },
+       "nkit: newton_settings.pseudo_transient.largest_useful_linear_residual must be in (0, 1] (got nan)"},
+      {[](newton_settings& s) { s.pseudo_transient.maximum_returns_to_pseudo_time = -1; },
+       "nkit: newton_settings.pseudo_transient.maximum_returns_to_pseudo_time must be >= 0 (got -1)"},
       // bound_settings
       {[](newton_settings& s) { s.bounds.boundary_fraction = 1.0; },
        "nkit: newton_settings.bounds.boundary_fraction must be in (0, 1) (got 1)"},
@@ -651,6 +657,8 @@ TEST_CASE("bad input: boundary values of every setting's range are accepted", "[
       [](nkit::newton_settings& s) { s.pseudo_transient.switch_ratio = 1.0; },
       [](nkit::newton_settings& s) { s.pseudo_transient.maximum_residual_growth = 1.0; },
       [](nkit::newton_settings& s) { s.pseudo_transient.maximum_step = infinity; },
+      [](nkit::newton_settings& s) { s.pseudo_transient.largest_useful_linear_residual = 1.0; },
+      [](nkit::newton_settings& s) { s.pseudo_transient.maximum_returns_to_pseudo_time = 0; },
       [](nkit::newton_settings& s) { s.jacobian.residual_relative_noise = 0.0; },
       [](nkit::newton_settings& s) { s.linear.restart_length = s.linear.maximum_iterations = 1; },
   };

@@ -7,7 +7,10 @@
 #include <nkit/jacobian/sparse_jacobian.hpp>
 #include <nkit/nkit.hpp>
 #include <nkit/preconditioners/ilu_zero.hpp>
+#include <sstream>
+#include <vector>
 
+#include "problems/model_problem/model_problem.hpp"
 #include "problems/test_sets/hard_problems.hpp"
 #include "support/matchers.hpp"
 
@@ -112,6 +115,201 @@ TEST_CASE("local pseudo-time steps come from the problem's weights", "[globaliza
   int pseudo_steps = 0;
   for (const auto& record : report.history) pseudo_steps += record.pseudo_time_step > 0.0 ? 1 : 0;
   CHECK(base.weight_calls == pseudo_steps);  // re-evaluated at every pseudo-time step
+}
+
+TEST_CASE("a pseudo-time step with no direction is retried with a smaller step", "[globalization][pseudo_transient]") {
+  // The kernel alone (globalization/pseudo_transient.hpp): attempts with δ above 0.3 give no direction.
+  nkit::pseudo_transient_settings settings;
+  settings.shrink_factor = 0.25;
+  double step = 1.0;
+  std::vector<double> tried;
+  const auto attempt = [&](double delta, int) {
+    tried.push_back(delta);
+    nkit::pseudo_time_trial trial;
+    trial.no_direction = delta > 0.3;
+    trial.residual_norm = trial.no_direction ? 0.0 : 0.5;  // a norm that would pass, were there a direction
+    return trial;
+  };
+  const nkit::pseudo_time_step_result result = nkit::pseudo_time_step_search(settings, step, 1.0, attempt);
+  CHECK(result.accepted);
+  CHECK(result.rejected_trials == 1);
+  CHECK(result.used_step == 0.25);
+  CHECK(tried == std::vector<double>{1.0, 0.25});
+
+  // When no δ above minimum_step gives a direction, the search says so: δ = 4⁻ᵏ for k = 0..9 are tried
+  // (4⁻⁹ ≈ 3.8e-6 >= 1e-6; the next, 4⁻¹⁰ ≈ 9.5e-7, is below minimum_step).
+  settings.minimum_step = 1e-6;
+  step = 1.0;
+  tried.clear();
+  const auto never = [&](double delta, int) {
+    tried.push_back(delta);
+    nkit::pseudo_time_trial trial;
+    trial.no_direction = true;
+    return trial;
+  };
+  const nkit::pseudo_time_step_result failed = nkit::pseudo_time_step_search(settings, step, 1.0, never);
+  CHECK_FALSE(failed.accepted);
+  CHECK(failed.last_without_direction);
+  CHECK(tried.size() == 10);
+  CHECK(failed.rejected_trials == 10);
+}
+
+TEST_CASE("the pseudo-time step on a return, and the phase's end relative to where it resumed",
+          "[globalization][pseudo_transient]") {
+  nkit::pseudo_transient_settings settings;
+  settings.initial_step = 2.0;
+  // δ_0‖R(u0)‖/‖R(u)‖ = 2·10/1 = 20, below the last δ used (50): 20.
+  CHECK(nkit::pseudo_time_step_on_return(settings, 50.0, 10.0, 1.0) == 20.0);
+  // Above the last δ used (5): 5.
+  CHECK(nkit::pseudo_time_step_on_return(settings, 5.0, 10.0, 1.0) == 5.0);
+  // Never below δ_0, even when the last δ used was shrunk below it.
+  CHECK(nkit::pseudo_time_step_on_return(settings, 0.5, 10.0, 1.0) == 2.0);
+  // ‖R(u)‖ = 0 (or an overflowing ratio): the last δ used.
+  CHECK(nkit::pseudo_time_step_on_return(settings, 7.0, 10.0, 0.0) == 7.0);
+  // The phase ends at switch_ratio times the norm where it (re)started, or when δ reaches maximum_step.
+  settings.switch_ratio = 1e-3;
+  CHECK(nkit::pseudo_transient_phase_ends(settings, 0.9e-3, 1.0, 1.0));
+  CHECK_FALSE(nkit::pseudo_transient_phase_ends(settings, 0.9e-3, 1e-2, 1.0));
+  CHECK(nkit::pseudo_transient_phase_ends(settings, 0.9e-5, 1e-2, 1.0));
+  CHECK(nkit::pseudo_transient_phase_ends(settings, 1.0, 1.0, settings.maximum_step));
+}
+
+namespace {
+/// Point Jacobi that refuses to set up without the pseudo-time term (no
+/// preconditioner_context::diagonal_shift): a stand-in for a factorisation
+/// that breaks down on R'(u) alone but not on W/δ + R'(u), whose diagonal the
+/// term strengthens (common practice). Every Newton-phase setup fails.
+struct shift_demanding_jacobi {
+  nkit::jacobi_preconditioner jacobi;
+  int* refused_setups;
+  nkit::setup_status setup(const nkit::preconditioner_context<>& context) {
+    if (context.diagonal_shift == nullptr) {
+      ++*refused_setups;
+      return nkit::setup_status::failed;
+    }
+    return jacobi.build(context.assembled_jacobian());
+  }
+  void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) const { jacobi.apply(r, z); }
+};
+
+/// The nonlinear heat model with exact J·v (AD) and its analytic assembled Jacobian.
+struct heat_model_with_jacobian {
+  nkit_problems::heat_conduction_model_problem problem{16};
+  nkit::residual_with_automatic_differentiation<nkit_problems::heat_conduction_model_problem> differentiated{problem};
+  void operator()(const Eigen::VectorXd& t, Eigen::VectorXd& r) const { problem(t, r); }
+  void jacobian_product(const Eigen::VectorXd& t, const Eigen::VectorXd& v, Eigen::VectorXd& jv) {
+    differentiated.jacobian_product(t, v, jv);
+  }
+  void assemble_jacobian(const Eigen::VectorXd& t, nkit::sparse_matrix& jacobian) const {
+    problem.assemble_jacobian(t, jacobian);
+  }
+};
+
+struct refusing_run {
+  nkit::solve_report report;
+  Eigen::VectorXd temperature = Eigen::VectorXd::Zero(256);
+  int refused_setups = 0;
+  explicit refusing_run(int returns) {
+    nkit::newton_settings settings;
+    settings.globalization = nkit::globalization_strategy::pseudo_transient;
+    settings.pseudo_transient.initial_step = 1.0;
+    settings.pseudo_transient.maximum_returns_to_pseudo_time = returns;
+    settings.relative_tolerance = 1e-10;
+    settings.linear.maximum_iterations = 1000;
+    heat_model_with_jacobian model;
+    nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, shift_demanding_jacobi> solver(
+        settings, {}, shift_demanding_jacobi{{}, &refused_setups});
+    report = solver.solve(model, temperature);
+  }
+};
+}  // namespace
+
+TEST_CASE("a Newton phase whose preconditioner fails goes back to pseudo-time stepping",
+          "[globalization][pseudo_transient]") {
+  // Without returns the solve stops where the pseudo-transient phase ended
+  // (‖R‖ <= switch_ratio·‖R(u0)‖ = 1e-3·‖R(u0)‖), at the Newton phase's first setup.
+  const refusing_run stopped(0);
+  INFO(nkit::name(stopped.report.reason));
+  CHECK(stopped.report.reason == nkit::stop_reason::preconditioner_setup_failed);
+  CHECK(stopped.report.returns_to_pseudo_time == 0);
+  CHECK(stopped.report.final_residual_norm <= 1e-3 * stopped.report.initial_residual_norm);
+  // The state returned is the last iterate, whose residual the report quotes.
+  Eigen::VectorXd r(256);
+  heat_model_with_jacobian{}(stopped.temperature, r);
+  CHECK_THAT(r.norm(), Catch::Matchers::WithinRel(stopped.report.final_residual_norm, 1e-12));
+
+  // With returns the solve goes back to pseudo-time stepping after each failed Newton-phase
+  // setup and converges there (a resumed phase ends only once ‖R‖ falls by switch_ratio from
+  // where it resumed; the step that gets there may also meet the tolerance).
+  const refusing_run returned(3);
+  INFO(nkit::name(returned.report.reason));
+  REQUIRE(returned.report.converged());
+  CHECK(returned.report.returns_to_pseudo_time >= 1);
+  CHECK(returned.report.returns_to_pseudo_time <= 3);
+  CHECK(returned.refused_setups == returned.report.returns_to_pseudo_time);
+  // Each return follows a failed Newton-phase step (no pseudo-time step, not accepted) and is
+  // followed by a pseudo-time step.
+  int failed_newton_steps = 0;
+  for (std::size_t i = 0; i + 1 < returned.report.history.size(); ++i) {
+    const nkit::newton_step_record& record = returned.report.history[i];
+    if (record.accepted) continue;
+    CHECK(record.pseudo_time_step == 0.0);
+    CHECK(returned.report.history[i + 1].pseudo_time_step > 0.0);
+    ++failed_newton_steps;
+  }
+  CHECK(failed_newton_steps == returned.report.returns_to_pseudo_time);
+  // The convergence table says so (and says nothing when there was no return).
+  std::ostringstream with_returns, without_returns;
+  nkit::print_convergence_table(with_returns, returned.report);
+  nkit::print_convergence_table(without_returns, stopped.report);
+  CHECK_THAT(with_returns.str(), Catch::Matchers::Contains("went back to pseudo-time stepping"));
+  CHECK_THAT(without_returns.str(), !Catch::Matchers::Contains("went back to pseudo-time stepping"));
+  // The same solution as exact Newton with Eigen's SparseLU (a general-purpose direct solver):
+  // ‖T − T*‖ <= ‖J⁻¹‖‖R‖ with ‖J⁻¹‖ ≈ 13 (n = 16, see test_newton_preconditioning.cpp) and
+  // ‖R‖ <= 1e-10·q/n: below 1e-9 in the max norm.
+  heat_model_with_jacobian model;
+  nkit::newton_settings exact;
+  exact.relative_tolerance = 1e-12;
+  nkit::newton_krylov_solver<nkit::eigen_vector_space<double>, nkit::sparse_direct_preconditioner> newton(exact);
+  Eigen::VectorXd reference = Eigen::VectorXd::Zero(256);
+  REQUIRE(newton.solve(model, reference).converged());
+  CHECK((returned.temperature - reference).lpNorm<Eigen::Infinity>() < 1e-9);
+}
+
+TEST_CASE("a pseudo-time step whose GMRES stops short of a usable residual is retried",
+          "[globalization][pseudo_transient]") {
+  // One Arnoldi step per solve and a forcing term it cannot meet. One step on
+  // I/δ + R'(u) leaves at least about δ·λ_max/2 of the residual (λ_max ≈ 8 for
+  // this model: the 5-point stencil with conductivities near 1), which is
+  // above 1e-12 for every δ >= 1e-6: with largest_useful_linear_residual =
+  // 1e-12 no δ gives a usable direction; δ shrinks by 4 from 1 until it falls
+  // below 1e-6 (10 attempts, as in the kernel test above), and the stop reason says why.
+  heat_model_with_jacobian model;
+  nkit::newton_settings settings;
+  settings.globalization = nkit::globalization_strategy::pseudo_transient;
+  settings.pseudo_transient.initial_step = 1.0;
+  settings.pseudo_transient.minimum_step = 1e-6;
+  settings.pseudo_transient.largest_useful_linear_residual = 1e-12;
+  settings.forcing.formula = nkit::forcing_term_formula::constant;
+  settings.forcing.constant_value = 1e-8;
+  settings.linear.maximum_iterations = 1;
+  nkit::newton_krylov_solver<> solver(settings);
+  Eigen::VectorXd t = Eigen::VectorXd::Zero(256);
+  const nkit::solve_report report = solver.solve(model, t);
+  CHECK(report.reason == nkit::stop_reason::no_newton_direction);
+  CHECK(report.newton_steps == 0);
+  CHECK(report.linear_iterations == 10);
+  CHECK(report.rejected_trials == 10);
+  CHECK(t.isZero());  // no step was accepted: u0 is returned
+
+  // With the default (0.99) the same one-step solves are usable and the solve makes progress.
+  settings.pseudo_transient.largest_useful_linear_residual = 0.99;
+  settings.newton_step_budget = 5;
+  nkit::newton_krylov_solver<> default_solver(settings);
+  t.setZero();
+  const nkit::solve_report progressing = default_solver.solve(model, t);
+  CHECK(progressing.newton_steps == 5);
+  CHECK(progressing.final_residual_norm < progressing.initial_residual_norm);
 }
 
 TEST_CASE("dogleg points lie on the path at the trust radius", "[globalization][trust_region]") {

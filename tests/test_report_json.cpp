@@ -41,6 +41,7 @@ TEST_CASE("the report's JSON parses and carries every field", "[report][json]") 
   CHECK(json.at("jacobian_assemblies") == report.jacobian_assemblies);
   CHECK(json.at("rejected_trials") == report.rejected_trials);
   CHECK(json.at("non_finite_trials") == report.non_finite_trials);
+  CHECK(json.at("returns_to_pseudo_time") == report.returns_to_pseudo_time);
   CHECK(json.at("inadmissible_trials") == report.inadmissible_trials);
   CHECK(json.at("steps_shortened_by_bounds") == report.steps_shortened_by_bounds);
   // Doubles are written with round-trip precision: equal after parsing.
@@ -51,7 +52,7 @@ TEST_CASE("the report's JSON parses and carries every field", "[report][json]") 
   CHECK(json.at("median_residual_seconds").get<double>() == report.median_residual_seconds);
   CHECK(json.at("work_units").get<double>() == report.work_units());
   CHECK(json.at("workspace_bytes").get<std::size_t>() == report.workspace_bytes);
-  CHECK(json.size() == 30);  // the fields above plus warnings, time, calls, history
+  CHECK(json.size() == 31);  // the fields above plus warnings, time, calls, history
   const nlohmann::json& warnings = json.at("warnings");
   CHECK(warnings.at("residual_magnitude_spread").get<double>() == report.warnings.residual_magnitude_spread);
   CHECK(warnings.at("state_magnitudes_spread_widely") == report.warnings.state_magnitudes_spread_widely);

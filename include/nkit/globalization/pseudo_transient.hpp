@@ -27,6 +27,20 @@
 /// phase (plain Newton with line search follows) once ‖R‖ <= switch_ratio ·
 /// ‖R(u0)‖ or δ reaches maximum_step. The term enters both the J·v product
 /// and the assembled Jacobian handed to preconditioners (as a diagonal shift).
+///
+/// Two safeguards keep a hard solve going (common practice, our own design):
+///   - within the phase, a pseudo-time step whose linear solve gives no
+///     usable direction (GMRES stopped short of its forcing term above
+///     largest_useful_linear_residual, or the preconditioner failed) is
+///     retried with a smaller δ, like a step that raised ‖R‖: the term W/δ
+///     makes W/δ + R'(u) better conditioned and more diagonally dominant;
+///   - after the phase, a Newton step that fails (no direction, no
+///     acceptable step, stagnation, a failed preconditioner) sends the solve
+///     back to pseudo-time stepping, at most maximum_returns_to_pseudo_time
+///     times. δ resumes at δ_0‖R(u0)‖/‖R(u)‖ (the switched-evolution value
+///     from the start without growth caps), not above the last δ the phase
+///     used and not below δ_0; the phase then ends again once ‖R‖ falls by
+///     switch_ratio from where it resumed, or δ reaches maximum_step.
 
 #include <algorithm>
 #include <cmath>
@@ -57,8 +71,16 @@ struct pseudo_transient_settings {
   /// ‖R‖ by more than this factor; a δ too large for the transient shows up
   /// this way (common practice).
   double maximum_residual_growth = 10.0;
-  /// Switch to plain Newton with line search once ‖R‖ <= switch_ratio · ‖R(u0)‖ (0 = never).
+  /// Switch to plain Newton with line search once ‖R‖ <= switch_ratio · ‖R(u0)‖ (0 = never);
+  /// after a return to pseudo-time stepping, relative to ‖R‖ where it resumed.
   double switch_ratio = 1e-3;
+  /// In the pseudo-transient phase, a linear solve that stops short of its
+  /// forcing term with ‖r‖/‖R‖ above this gives no usable direction: δ
+  /// shrinks and the step is retried (1: only when GMRES made no progress).
+  double largest_useful_linear_residual = 0.99;
+  /// How often a failing Newton phase goes back to pseudo-time stepping
+  /// instead of stopping (0 = never: the solve stops with the failure).
+  int maximum_returns_to_pseudo_time = 3;
 
   void validate(std::string_view prefix = "pseudo_transient_settings") const {
     const std::string p(prefix);
@@ -78,6 +100,10 @@ struct pseudo_transient_settings {
       detail::throw_invalid_setting(p + ".maximum_residual_growth", ">= 1", maximum_residual_growth);
     }
     detail::require_closed_interval(p + ".switch_ratio", switch_ratio, 0.0, 1.0);
+    if (!(largest_useful_linear_residual > 0.0 && largest_useful_linear_residual <= 1.0)) {
+      detail::throw_invalid_setting(p + ".largest_useful_linear_residual", "in (0, 1]", largest_useful_linear_residual);
+    }
+    detail::require_at_least(p + ".maximum_returns_to_pseudo_time", maximum_returns_to_pseudo_time, 0);
   }
 };
 
@@ -92,23 +118,27 @@ inline double next_pseudo_time_step(const pseudo_transient_settings& settings, d
 
 /// What one attempt at a pseudo-time step gave.
 struct pseudo_time_trial {
-  bool abandoned = false;      ///< the Newton direction could not be computed: the step ends without a trial
+  bool abandoned = false;  ///< the Newton direction could not be computed and retrying cannot help: the step ends
+  /// No direction for this δ, but a smaller δ may give one: retried like a rejected trial.
+  bool no_direction = false;
   double residual_norm = 0.0;  ///< ‖R‖ at the trial state (+inf or NaN when unusable)
 };
 
 struct pseudo_time_step_result {
   bool accepted = false;
-  bool abandoned = false;      ///< an attempt was abandoned (its cause is the caller's)
-  int rejected_trials = 0;     ///< attempts refused before the accepted one
-  double used_step = 0.0;      ///< δ of the accepted attempt
-  double residual_norm = 0.0;  ///< ‖R‖ at the accepted state
+  bool abandoned = false;               ///< an attempt was abandoned (its cause is the caller's)
+  bool last_without_direction = false;  ///< not accepted, and the last attempt gave no direction
+  int rejected_trials = 0;              ///< attempts refused before the accepted one
+  double used_step = 0.0;               ///< δ of the accepted attempt
+  double residual_norm = 0.0;           ///< ‖R‖ at the accepted state
 };
 
 /// One pseudo-time step with retries, as a kernel: `attempt(δ, k)` (k = 0, 1,
 /// ...) computes the step for pseudo-time step δ and returns ‖R‖ at its trial
 /// state; an attempt is accepted when that norm is finite and at most
-/// maximum_residual_growth·‖R(u)‖, otherwise δ shrinks by shrink_factor and
-/// the step is retried, until δ falls below minimum_step (then not accepted).
+/// maximum_residual_growth·‖R(u)‖, otherwise (or when it found no direction)
+/// δ shrinks by shrink_factor and the step is retried, until δ falls below
+/// minimum_step (then not accepted).
 /// `step` is updated in place: to the next δ by switched evolution
 /// relaxation after acceptance, to the shrunken δ after failure.
 template <class Attempt>
@@ -122,7 +152,8 @@ pseudo_time_step_result pseudo_time_step_search(const pseudo_transient_settings&
       result.rejected_trials = k;
       return result;
     }
-    if (std::isfinite(tried.residual_norm) && tried.residual_norm <= settings.maximum_residual_growth * residual_norm) {
+    if (!tried.no_direction && std::isfinite(tried.residual_norm) &&
+        tried.residual_norm <= settings.maximum_residual_growth * residual_norm) {
       result.accepted = true;
       result.rejected_trials = k;
       result.used_step = step;
@@ -133,16 +164,29 @@ pseudo_time_step_result pseudo_time_step_search(const pseudo_transient_settings&
     step *= settings.shrink_factor;
     if (step < settings.minimum_step) {
       result.rejected_trials = k + 1;
+      result.last_without_direction = tried.no_direction;
       return result;
     }
   }
 }
 
 /// Whether the pseudo-transient phase is over after an accepted step: the
-/// residual fell below switch_ratio·‖R(u0)‖ or δ reached maximum_step.
+/// residual fell below switch_ratio·‖R‖ where the phase began (‖R(u0)‖, or
+/// where it resumed) or δ reached maximum_step.
 inline bool pseudo_transient_phase_ends(const pseudo_transient_settings& settings, double residual_norm,
-                                        double initial_residual_norm, double next_step) {
-  return residual_norm <= settings.switch_ratio * initial_residual_norm || next_step >= settings.maximum_step;
+                                        double phase_start_residual_norm, double next_step) {
+  return residual_norm <= settings.switch_ratio * phase_start_residual_norm || next_step >= settings.maximum_step;
+}
+
+/// δ on returning to pseudo-time stepping at ‖R(u)‖ = residual_norm:
+/// δ_0‖R(u0)‖/‖R(u)‖, at most the last δ the phase used, at least δ_0.
+inline double pseudo_time_step_on_return(const pseudo_transient_settings& settings, double last_used_step,
+                                         double initial_residual_norm, double residual_norm) {
+  double step =
+      residual_norm > 0.0 ? settings.initial_step * (initial_residual_norm / residual_norm) : settings.maximum_step;
+  if (!std::isfinite(step)) step = settings.maximum_step;
+  step = std::min(step, last_used_step);
+  return std::max(step, settings.initial_step);
 }
 
 }  // namespace nkit

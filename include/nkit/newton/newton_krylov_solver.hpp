@@ -387,6 +387,9 @@ class newton_krylov_solver {
       if (phase_ended) {  // Newton with line search from here on
         m_forcing.reset();
         m_linear.schedule().request_rebuild();  // the preconditioner holds the pseudo-time shift
+        // The stagnation window counts Newton-phase steps only (the pseudo-time march may raise ‖R‖ for long).
+        m_stagnation_reference = m_norm;
+        m_steps_since_best = 0;
       }
     } else {
       early = newton_direction(problem, monitor, record);
@@ -400,6 +403,7 @@ class newton_krylov_solver {
     }
     if (early) {
       record_failed_step(record);
+      if (returned_to_pseudo_time(*early)) return std::nullopt;
       return early;
     }
 
@@ -448,10 +452,25 @@ class newton_krylov_solver {
         record.step_norm <= m_settings.negligible_step_size * (1.0 + m_space.norm(m_state))) {
       return stop_reason::negligible_step;
     }
-    if (!m_steps.pseudo_transient() && m_steps_since_best >= m_settings.stagnation_window)
+    if (!m_steps.pseudo_transient() && m_steps_since_best >= m_settings.stagnation_window &&
+        !returned_to_pseudo_time(stop_reason::residual_stagnated)) {
       return stop_reason::residual_stagnated;
+    }
     if (m_linear_budget_spent) return stop_reason::linear_iteration_budget_spent;
     return std::nullopt;
+  }
+
+  /// When a solve that began with pseudo-transient continuation fails in its
+  /// Newton phase: back to pseudo-time stepping from the current state, if
+  /// the step control allows it (globalization/pseudo_transient.hpp).
+  bool returned_to_pseudo_time(stop_reason reason) {
+    if (!m_steps.return_to_pseudo_time(reason, m_norm, m_report.initial_residual_norm, m_access)) return false;
+    ++m_report.returns_to_pseudo_time;
+    m_forcing.reset();
+    m_linear.schedule().request_rebuild();  // the preconditioner must hold the pseudo-time shift again
+    m_stagnation_reference = m_norm;
+    m_steps_since_best = 0;
+    return true;
   }
 
   /// Forcing term, preconditioner, GMRES: leaves x (R'(u) x ≈ R(u)) in m_step.
@@ -495,6 +514,11 @@ class newton_krylov_solver {
     // Recycling GMRES may converge on the recycled subspace alone, with no
     // Arnoldi step: that direction is as good as any.
     if ((linear.iterations == 0 && !linear.converged()) || !(m_achieved_eta < 1.0)) return no_direction_cause();
+    // In pseudo-time stepping too little progress counts as none: the step control retries a smaller δ.
+    if (m_steps.pseudo_transient() && !linear.converged() &&
+        m_achieved_eta > m_settings.pseudo_transient.largest_useful_linear_residual) {
+      return stop_reason::no_newton_direction;
+    }
     m_forcing.record(eta, m_norm, linear.final_residual_norm);
     return std::nullopt;
   }
@@ -552,9 +576,8 @@ class newton_krylov_solver {
   double m_best_norm = 0.0;
   double m_target_norm = 0.0;
   double m_achieved_eta = 0.0;
-  double m_linear_residual_norm = 0.0;
-  double m_step_ratio =
-      0.0;  // component-wise measure of the last accepted step  // ‖R + J s‖ GMRES reached for the last direction
+  double m_linear_residual_norm = 0.0;  // ‖R + J s‖ GMRES reached for the last direction
+  double m_step_ratio = 0.0;            // component-wise measure of the last accepted step
   double m_stagnation_reference = 0.0;
   int m_steps_since_best = 0;
   field_residual_tracker m_field_tracker;  // ‖R_f‖ per field, for problems with field_layout()

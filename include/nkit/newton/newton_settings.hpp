@@ -133,7 +133,10 @@ struct newton_settings {
   double wall_time_budget_seconds = std::numeric_limits<double>::infinity();
   /// Stop (stop_reason::residual_stagnated) when, within this many Newton steps, the
   /// residual norm never fell below stagnation_factor times its value at the
-  /// last such progress (not checked during pseudo-transient steps).
+  /// last such progress (not checked during pseudo-transient steps; the window
+  /// starts afresh when that phase ends, and a stagnating Newton phase after it
+  /// goes back to pseudo-time stepping while returns are left:
+  /// pseudo_transient_settings::maximum_returns_to_pseudo_time).
   int stagnation_window = 10;
   double stagnation_factor = 0.99;
   /// When not null, raising the flag stops the solve before the next residual evaluation.

@@ -72,6 +72,9 @@ class newton_step_control {
       m_space.allocate_like(m_shift, prototype);
       m_space.fill(1, m_weights);
       m_pseudo_time_step = m_pseudo_transient_settings.initial_step;
+      m_last_used_pseudo_time_step = m_pseudo_time_step;
+      m_returns_to_pseudo_time = 0;
+      m_phase_start_norm = -1.0;  // the first phase starts at ‖R(u0)‖
       access.set_diagonal_shift(&m_shift);
     }
     m_trust_radius = m_trust_region.initial_radius;
@@ -188,9 +191,33 @@ class newton_step_control {
     return std::nullopt;
   }
 
+  /// After a failed or stagnating Newton step outside the pseudo-transient
+  /// phase: goes back to pseudo-time stepping at ‖R(u)‖ = residual_norm when
+  /// the solve began with that phase, the failure is one a shifted system can
+  /// cure and returns are left (pseudo_transient_settings::
+  /// maximum_returns_to_pseudo_time). Returns whether it did; the driver
+  /// then resets its forcing term and rebuilds its preconditioner.
+  bool return_to_pseudo_time(stop_reason reason, double residual_norm, double initial_residual_norm,
+                             problem_access<Space>& access) {
+    if (m_globalization != globalization_strategy::pseudo_transient || m_pseudo_transient) return false;
+    if (m_returns_to_pseudo_time >= m_pseudo_transient_settings.maximum_returns_to_pseudo_time) return false;
+    if (!(reason == stop_reason::residual_stagnated || reason == stop_reason::no_acceptable_step ||
+          shifted_system_may_help(reason))) {
+      return false;
+    }
+    ++m_returns_to_pseudo_time;
+    m_pseudo_transient = true;
+    m_pseudo_time_step = pseudo_time_step_on_return(m_pseudo_transient_settings, m_last_used_pseudo_time_step,
+                                                    initial_residual_norm, residual_norm);
+    m_phase_start_norm = residual_norm;
+    access.set_diagonal_shift(&m_shift);
+    return true;
+  }
+
   /// One pseudo-time step: (W/δ + R'(u)) x = R(u), u ← u − x; δ by switched
-  /// evolution relaxation, retried with a smaller δ on failure
-  /// (globalization/pseudo_transient.hpp). `direction()` computes x for the
+  /// evolution relaxation, retried with a smaller δ when ‖R‖ grows too much
+  /// or the linear solve gives no direction (globalization/pseudo_transient.hpp).
+  /// `direction()` computes x for the
   /// current shift (the driver's forcing term, preconditioner and GMRES) and
   /// returns nothing or why it could not. `phase_ended` is set
   /// when the pseudo-transient phase is over (the access's shift is then
@@ -215,7 +242,12 @@ class newton_step_control {
           pseudo_time_trial tried;
           abandoned = direction();
           if (abandoned) {
-            tried.abandoned = true;
+            // A smaller δ may cure these; budgets, a monitor or the clock cannot be cured.
+            if (shifted_system_may_help(*abandoned)) {
+              tried.no_direction = true;
+            } else {
+              tried.abandoned = true;
+            }
             return tried;
           }
           phase_scope scope(in.ledger, trace_phase::globalization, in.record.step);
@@ -228,21 +260,31 @@ class newton_step_control {
           return tried;
         });
     if (result.abandoned) return abandoned;
-    if (!result.accepted) return stop_reason::no_acceptable_step;
+    in.record.rejected_trials = result.rejected_trials;
+    report.rejected_trials += result.rejected_trials;
+    if (!result.accepted) return result.last_without_direction ? abandoned : stop_reason::no_acceptable_step;
     in.record.pseudo_time_step = result.used_step;
+    m_last_used_pseudo_time_step = result.used_step;
     in.record.step_fraction = limit;
     in.record.step_norm = limit * m_space.norm(in.direction);
     in.record.step_shortened_by_bounds = limit < 1.0;
-    in.record.rejected_trials = result.rejected_trials;
-    report.rejected_trials += result.rejected_trials;
     m_trial_norm = result.residual_norm;
-    if (pseudo_transient_phase_ends(m_pseudo_transient_settings, result.residual_norm, report.initial_residual_norm,
+    const double phase_start_norm = m_phase_start_norm >= 0.0 ? m_phase_start_norm : report.initial_residual_norm;
+    if (pseudo_transient_phase_ends(m_pseudo_transient_settings, result.residual_norm, phase_start_norm,
                                     m_pseudo_time_step)) {
       m_pseudo_transient = false;  // Newton with line search from here on
       in.access.set_diagonal_shift(nullptr);
       phase_ended = true;
     }
     return std::nullopt;
+  }
+
+  /// Failures of a linear solve that a pseudo-time shift W/δ can cure: it
+  /// makes W/δ + R'(u) better conditioned for GMRES and more diagonally
+  /// dominant for the preconditioner's setup (common practice).
+  static bool shifted_system_may_help(stop_reason reason) {
+    return reason == stop_reason::no_newton_direction || reason == stop_reason::preconditioner_setup_failed ||
+           reason == stop_reason::preconditioner_output_not_finite;
   }
 
   /// Entries of the work vectors held (for workspace_bytes()).
@@ -275,6 +317,9 @@ class newton_step_control {
   double m_trial_norm = 0.0;
   double m_trust_radius = 0.0;      // trust region
   double m_pseudo_time_step = 0.0;  // pseudo-transient continuation
+  double m_last_used_pseudo_time_step = 0.0;
+  double m_phase_start_norm = -1.0;  // ‖R‖ where the phase resumed (< 0: the first phase, from ‖R(u0)‖)
+  int m_returns_to_pseudo_time = 0;
   bool m_pseudo_transient = false;  // still in the pseudo-transient phase
 };
 

@@ -114,6 +114,7 @@ inline void to_json(nlohmann::json& json, const solve_report& report) {
                         {"non_finite_trials", report.non_finite_trials},
                         {"inadmissible_trials", report.inadmissible_trials},
                         {"steps_shortened_by_bounds", report.steps_shortened_by_bounds},
+                        {"returns_to_pseudo_time", report.returns_to_pseudo_time},
                         {"initial_residual_norm", report.initial_residual_norm},
                         {"target_residual_norm", report.target_residual_norm},
                         {"final_residual_norm", report.final_residual_norm},

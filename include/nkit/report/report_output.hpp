@@ -146,6 +146,12 @@ inline void print_convergence_table(std::ostream& os, const solve_report& report
                 static_cast<long long>(report.jacobian_vector_products),
                 static_cast<long long>(report.preconditioner_setups));
   os << line;
+  if (report.returns_to_pseudo_time > 0) {
+    std::snprintf(line, sizeof line,
+                  "the Newton phase failed and the solve went back to pseudo-time stepping %d time%s\n",
+                  report.returns_to_pseudo_time, report.returns_to_pseudo_time == 1 ? "" : "s");
+    os << line;
+  }
   if (!report.field_residuals.empty()) {
     os << "residual norm per field (initial -> final):\n";
     for (const field_residual_record& field : report.field_residuals) {
