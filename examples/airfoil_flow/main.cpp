@@ -36,7 +36,8 @@
 //   airfoil_flow [--airfoil=0012] [--mach=0.5] [--angle_of_attack_degrees=2] [--cells_around=128]
 //                [--cells_outward=64] [--far_field_radius=20] [--stretching_ratio=0] [--initial_cfl=50]
 //                [--relative_tolerance=1e-10] [--newton_step_budget=200] [--gmres_restart=30]
-//                [--preconditioner_rebuild_every=5] [--far_field_vortex] [--output=airfoil_flow_output]
+//                [--preconditioner_rebuild_every=5] [--maximum_returns_to_pseudo_time=3] [--far_field_vortex]
+//                [--karman_trefftz] [--output=airfoil_flow_output]
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -76,6 +77,8 @@ int run(int argc, char** argv) {
   options.option("preconditioner_rebuild_every", "5",
                  "set the preconditioner up again every this many Newton steps (1: every step; more: lagged, "
                  "cheaper steps)");
+  options.option("maximum_returns_to_pseudo_time", "3",
+                 "times a failing Newton phase may go back to pseudo-time stepping (0: the solve stops instead)");
   options.flag("far_field_vortex",
                "impose at the far field the point vortex of the computed lift (solved again until the lift settles "
                "to 1e-6) instead of the uniform free stream");
@@ -133,6 +136,7 @@ int run(int argc, char** argv) {
   settings.stagnation_window = settings.newton_step_budget;
   settings.linear.restart_length = options.integer("gmres_restart");
   settings.preconditioner_rebuild.rebuild_every_newton_steps = options.integer("preconditioner_rebuild_every");
+  settings.pseudo_transient.maximum_returns_to_pseudo_time = options.integer("maximum_returns_to_pseudo_time");
   // Block ILU(0) on the 4 × 4 cell blocks (ρ, ρu, ρv, ρE): the same factor as point ILU(0), in
   // less time (docs/performance: block ILU(0) against point ILU(0) on the airfoil).
   const auto solve = [](const euler_airfoil_flow& f, Eigen::VectorXd& state, const nkit::newton_settings& newton) {
@@ -143,6 +147,7 @@ int run(int argc, char** argv) {
   // With the far-field vortex, the whole outer iteration's figures (all solves; the reduction
   // against the first solve's free-stream residual); the table and the history: the last solve.
   std::int64_t newton_steps = 0, linear_iterations = 0;
+  int returns_to_pseudo_time = 0;
   double wall_seconds = 0.0, initial_residual = 0.0;
   bool converged = false;
   if (options.is_set("far_field_vortex")) {
@@ -152,6 +157,7 @@ int run(int argc, char** argv) {
     report = outer.last_report;
     newton_steps = outer.newton_steps;
     linear_iterations = outer.linear_iterations;
+    returns_to_pseudo_time = outer.returns_to_pseudo_time;
     wall_seconds = outer.wall_seconds;
     initial_residual = outer.initial_residual_norm;
     converged = outer.converged;
@@ -163,6 +169,7 @@ int run(int argc, char** argv) {
     report = solve(flow, u, settings);
     newton_steps = report.newton_steps;
     linear_iterations = report.linear_iterations;
+    returns_to_pseudo_time = report.returns_to_pseudo_time;
     wall_seconds = report.wall_seconds;
     initial_residual = report.initial_residual_norm;
     converged = report.converged();
@@ -178,6 +185,10 @@ int run(int argc, char** argv) {
       converged ? "converged" : "NOT converged", static_cast<long long>(newton_steps),
       static_cast<long long>(linear_iterations), wall_seconds,
       residual_seconds > 0.0 ? wall_seconds / residual_seconds : 0.0, 1e3 * residual_seconds, reduction);
+  if (returns_to_pseudo_time > 0) {
+    std::printf("%d Newton phase%s failed and went back to pseudo-time stepping (--maximum_returns_to_pseudo_time)\n",
+                returns_to_pseudo_time, returns_to_pseudo_time == 1 ? "" : "s");
+  }
   std::printf("lift coefficient c_l = %.4f, drag coefficient c_d = %.5f (pressure forces of this discretisation)\n",
               forces.lift_coefficient, forces.drag_coefficient);
 

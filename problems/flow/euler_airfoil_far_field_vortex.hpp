@@ -26,6 +26,7 @@ struct far_field_vortex_solve {
   int solves = 0;                        ///< nonlinear solves, the first (uniform far field) included
   std::int64_t newton_steps = 0;         ///< over all solves
   std::int64_t linear_iterations = 0;    ///< GMRES iterations over all solves
+  int returns_to_pseudo_time = 0;        ///< returns of failed Newton phases to pseudo-time stepping, all solves
   double wall_seconds = 0.0;             ///< over all solves
   double initial_residual_norm = 0.0;    ///< ‖R(u0)‖ of the first solve (uniform far field)
   double lift_coefficient = 0.0;         ///< c_l of the last solve
@@ -71,6 +72,7 @@ far_field_vortex_solve solve_euler_airfoil_with_far_field_vortex(const airfoil_o
     ++result.solves;
     result.newton_steps += result.last_report.newton_steps;
     result.linear_iterations += result.last_report.linear_iterations;
+    result.returns_to_pseudo_time += result.last_report.returns_to_pseudo_time;
     result.wall_seconds += result.last_report.wall_seconds;
     if (result.solves == 1) result.initial_residual_norm = result.last_report.initial_residual_norm;
     result.vortex_lift_coefficient = settings.far_field_vortex_lift_coefficient;

@@ -94,7 +94,7 @@ struct newton_step_record {
   linear_solve_status linear_status = linear_solve_status::converged;
   double step_fraction = 0.0;  ///< accepted λ (line search) or 1
   double step_norm = 0.0;      ///< ‖u_k − u_{k−1}‖
-  int rejected_trials = 0;     ///< rejected trial points in this step (and pseudo-time attempts without a direction)
+  int rejected_trials = 0;     ///< rejected trial points in this step (and pseudo-time trials without a direction)
   bool preconditioner_set_up = false;
   /// max_i |Δu_i| / (absolute + relative·|u_i|) of this step when the
   /// component-wise test is enabled (<= 1 passes), else 0.
@@ -168,7 +168,7 @@ struct solve_report {
   std::int64_t preconditioner_applications = 0;
   std::int64_t preconditioner_fallbacks = 0;  ///< setups that returned ready_with_fallback
   std::int64_t jacobian_assemblies = 0;
-  /// Rejected trial points, all steps (pseudo-time steps: also attempts whose linear solve gave no usable direction).
+  /// Rejected trial points, all steps (pseudo-time steps: also trials whose linear solve gave no usable direction).
   std::int64_t rejected_trials = 0;
   std::int64_t non_finite_trials = 0;          ///< trial points whose residual had NaN/Inf
   std::int64_t inadmissible_trials = 0;        ///< trial points rejected by is_admissible (residual not evaluated)
