@@ -3,6 +3,7 @@
 // whose behaviour is explained beside each test.
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <cstdint>
 #include <limits>
 #include <nkit/jacobian/sparse_jacobian.hpp>
 #include <nkit/nkit.hpp>
@@ -192,9 +193,13 @@ struct shift_demanding_jacobi {
   void apply(const Eigen::VectorXd& r, Eigen::VectorXd& z) const { jacobi.apply(r, z); }
 };
 
-/// The nonlinear heat model with exact J·v (AD) and its analytic assembled Jacobian.
+/// The nonlinear heat model with exact J·v (AD) and its analytic assembled
+/// Jacobian; its cells are labelled as two "fields" (the lower and upper
+/// halves of the square), so that the per-field residual norms are tracked.
 struct heat_model_with_jacobian {
   nkit_problems::heat_conduction_model_problem problem{16};
+  nkit::field_layout halves{{{"lower half", 1}, {"upper half", 1}}, 128};
+  const nkit::field_layout& field_layout() const { return halves; }
   nkit::residual_with_automatic_differentiation<nkit_problems::heat_conduction_model_problem> differentiated{problem};
   void operator()(const Eigen::VectorXd& t, Eigen::VectorXd& r) const { problem(t, r); }
   void jacobian_product(const Eigen::VectorXd& t, const Eigen::VectorXd& v, Eigen::VectorXd& jv) {
@@ -209,9 +214,11 @@ struct refusing_run {
   nkit::solve_report report;
   Eigen::VectorXd temperature = Eigen::VectorXd::Zero(256);
   int refused_setups = 0;
-  explicit refusing_run(int returns) {
+  explicit refusing_run(int returns, double switch_ratio = 1e-3,
+                        nkit::globalization_strategy globalization = nkit::globalization_strategy::pseudo_transient) {
     nkit::newton_settings settings;
-    settings.globalization = nkit::globalization_strategy::pseudo_transient;
+    settings.globalization = globalization;
+    settings.pseudo_transient.switch_ratio = switch_ratio;
     settings.pseudo_transient.initial_step = 1.0;
     settings.pseudo_transient.maximum_returns_to_pseudo_time = returns;
     settings.relative_tolerance = 1e-10;
@@ -258,6 +265,18 @@ TEST_CASE("a Newton phase whose preconditioner fails goes back to pseudo-time st
     ++failed_newton_steps;
   }
   CHECK(failed_newton_steps == returned.report.returns_to_pseudo_time);
+  // The returned state's residual is the one the report quotes, and so are its per-field norms: the
+  // fields partition R, Σ_f ‖R_f‖² = ‖R‖² up to rounding (1e-14 relative at 256 entries, common
+  // practice), also with the failed Newton steps' records inside the history.
+  heat_model_with_jacobian{}(returned.temperature, r);
+  CHECK_THAT(r.norm(), Catch::Matchers::WithinRel(returned.report.final_residual_norm, 1e-12));
+  for (const refusing_run* run : {&stopped, &returned}) {
+    const auto& fields = run->report.field_residuals;
+    REQUIRE(fields.size() == 2);
+    CHECK(fields[0].history.size() == run->report.history.size());
+    CHECK_THAT(std::hypot(fields[0].final_residual_norm, fields[1].final_residual_norm),
+               Catch::Matchers::WithinRel(run->report.final_residual_norm, 1e-14));
+  }
   // The convergence table says so (and says nothing when there was no return).
   std::ostringstream with_returns, without_returns;
   nkit::print_convergence_table(with_returns, returned.report);
@@ -265,8 +284,9 @@ TEST_CASE("a Newton phase whose preconditioner fails goes back to pseudo-time st
   CHECK_THAT(with_returns.str(), Catch::Matchers::Contains("went back to pseudo-time stepping"));
   CHECK_THAT(without_returns.str(), !Catch::Matchers::Contains("went back to pseudo-time stepping"));
   // The same solution as exact Newton with Eigen's SparseLU (a general-purpose direct solver):
-  // ‖T − T*‖ <= ‖J⁻¹‖‖R‖ with ‖J⁻¹‖ ≈ 13 (n = 16, see test_newton_preconditioning.cpp) and
-  // ‖R‖ <= 1e-10·q/n: below 1e-9 in the max norm.
+  // ‖T − T*‖ <= ‖J⁻¹‖‖R‖ with ‖J⁻¹‖ <= 1/λ_min ≈ n²/(2π²) ≈ 13 (n = 16, conductivity >= 1; see
+  // test_newton_preconditioning.cpp) and ‖R‖ <= 1e-10·‖R(T0)‖ = 1e-10·q/n = 6.3e-11: at most
+  // 8e-10 in the 2-norm (the reference solve adds 1e-12 relative), so below 1e-9 in the max norm.
   heat_model_with_jacobian model;
   nkit::newton_settings exact;
   exact.relative_tolerance = 1e-12;
@@ -276,20 +296,40 @@ TEST_CASE("a Newton phase whose preconditioner fails goes back to pseudo-time st
   CHECK((returned.temperature - reference).lpNorm<Eigen::Infinity>() < 1e-9);
 }
 
+TEST_CASE("returns to pseudo-time stepping stop at their maximum, and only pseudo-transient solves return",
+          "[globalization][pseudo_transient]") {
+  // switch_ratio 0.9 ends every phase after little progress, so the Newton phase (whose setups all
+  // fail) is reached again and again: after maximum_returns_to_pseudo_time = 2 returns the next
+  // failure stops the solve.
+  const refusing_run exhausted(2, 0.9);
+  INFO(nkit::name(exhausted.report.reason));
+  CHECK(exhausted.report.reason == nkit::stop_reason::preconditioner_setup_failed);
+  CHECK(exhausted.report.returns_to_pseudo_time == 2);
+  CHECK(exhausted.refused_setups == 3);
+  // The trust region never returns (nor would the line search): its first setup fails and the solve stops.
+  const refusing_run trust(3, 1e-3, nkit::globalization_strategy::trust_region);
+  CHECK(trust.report.reason == nkit::stop_reason::preconditioner_setup_failed);
+  CHECK(trust.report.returns_to_pseudo_time == 0);
+  CHECK(trust.report.newton_steps == 0);
+}
+
 TEST_CASE("a pseudo-time step whose GMRES stops short of a usable residual is retried",
           "[globalization][pseudo_transient]") {
-  // One Arnoldi step per solve and a forcing term it cannot meet. One step on
-  // I/δ + R'(u) leaves at least about δ·λ_max/2 of the residual (λ_max ≈ 8 for
-  // this model: the 5-point stencil with conductivities near 1), which is
-  // above 1e-12 for every δ >= 1e-6: with largest_useful_linear_residual =
-  // 1e-12 no δ gives a usable direction; δ shrinks by 4 from 1 until it falls
-  // below 1e-6 (10 attempts, as in the kernel test above), and the stop reason says why.
+  // One Arnoldi step per solve and a forcing term it cannot meet. One GMRES
+  // step on A x = r leaves ‖r‖ sin∠(r, A r) (it minimises ‖r − αAr‖). At T0 = 0
+  // the model's residual is r = −q h²·(1, ..., 1) (model_problem.hpp), and
+  // R'(0) r is nonzero only in the 60 wall cells (interior rows of R'(0) sum
+  // to 0, each wall face adds k(0) + 1 = 2): with A = I/δ + R'(0) the angle's
+  // sine is about δ‖(I − r rᵀ/‖r‖²) R'(0) r‖/‖r‖ = 0.94 δ for small δ, at least
+  // 3.6e-6 for every δ >= 4⁻⁹ tried. So with maximum_useful_relative_linear_residual
+  // = 1e-12 no δ gives a usable direction; δ shrinks by 4 from 1 until it falls
+  // below 1e-6 (10 trials, as in the kernel test above), and the stop reason says why.
   heat_model_with_jacobian model;
   nkit::newton_settings settings;
   settings.globalization = nkit::globalization_strategy::pseudo_transient;
   settings.pseudo_transient.initial_step = 1.0;
   settings.pseudo_transient.minimum_step = 1e-6;
-  settings.pseudo_transient.largest_useful_linear_residual = 1e-12;
+  settings.pseudo_transient.maximum_useful_relative_linear_residual = 1e-12;
   settings.forcing.formula = nkit::forcing_term_formula::constant;
   settings.forcing.constant_value = 1e-8;
   settings.linear.maximum_iterations = 1;
@@ -302,8 +342,18 @@ TEST_CASE("a pseudo-time step whose GMRES stops short of a usable residual is re
   CHECK(report.rejected_trials == 10);
   CHECK(t.isZero());  // no step was accepted: u0 is returned
 
+  // A GMRES solve cut short by the linear-iteration budget is not retried: the budget stops the solve.
+  settings.linear_iteration_budget = 1;
+  nkit::newton_krylov_solver<> budget_solver(settings);
+  t.setZero();
+  const nkit::solve_report cut = budget_solver.solve(model, t);
+  CHECK(cut.reason == nkit::stop_reason::linear_iteration_budget_spent);
+  CHECK(cut.linear_iterations == 1);
+  CHECK(cut.rejected_trials == 0);
+  settings.linear_iteration_budget = std::numeric_limits<std::int64_t>::max();
+
   // With the default (0.99) the same one-step solves are usable and the solve makes progress.
-  settings.pseudo_transient.largest_useful_linear_residual = 0.99;
+  settings.pseudo_transient.maximum_useful_relative_linear_residual = 0.99;
   settings.newton_step_budget = 5;
   nkit::newton_krylov_solver<> default_solver(settings);
   t.setZero();

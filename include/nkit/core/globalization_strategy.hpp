@@ -16,7 +16,7 @@ enum class globalization_strategy {
   line_search,      ///< backtracking with sufficient decrease (line_search.hpp); the robust default
   full_step,        ///< take λ = 1 unless the residual there is not finite (or the state inadmissible)
   trust_region,     ///< dogleg between the Krylov-subspace Cauchy point and the Newton step (trust_region.hpp)
-  pseudo_transient  ///< pseudo-transient continuation (pseudo_transient.hpp), then Newton with line search
+  pseudo_transient  ///< pseudo-transient continuation (pseudo_transient.hpp), then full Newton steps
 };
 
 constexpr std::string_view name(globalization_strategy value) {

@@ -24,23 +24,25 @@
 ///   δ_{k+1} = δ_k ‖R(u_k)‖ / ‖R(u_{k+1})‖,
 /// capped at maximum_step_growth·δ_k and at maximum_step. Kelley & Keyes require
 /// δ → ∞ for fast local convergence; the driver ends the pseudo-transient
-/// phase (plain Newton with line search follows) once ‖R‖ <= switch_ratio ·
-/// ‖R(u0)‖ or δ reaches maximum_step. The term enters both the J·v product
+/// phase once ‖R‖ <= switch_ratio · ‖R(u0)‖ or δ reaches maximum_step. Full
+/// Newton steps follow (cut back only when a trial is non-finite or
+/// inadmissible, as with globalization_strategy::full_step). The term enters both the J·v product
 /// and the assembled Jacobian handed to preconditioners (as a diagonal shift).
 ///
 /// Two safeguards keep a hard solve going (common practice, our own design):
 ///   - within the phase, a pseudo-time step whose linear solve gives no
 ///     usable direction (GMRES stopped short of its forcing term above
-///     largest_useful_linear_residual, or the preconditioner failed) is
+///     maximum_useful_relative_linear_residual, or the preconditioner failed) is
 ///     retried with a smaller δ, like a step that raised ‖R‖: the term W/δ
 ///     makes W/δ + R'(u) better conditioned and more diagonally dominant;
 ///   - after the phase, a Newton step that fails (no direction, no
 ///     acceptable step, stagnation, a failed preconditioner) sends the solve
 ///     back to pseudo-time stepping, at most maximum_returns_to_pseudo_time
 ///     times. δ resumes at δ_0‖R(u0)‖/‖R(u)‖ (the switched-evolution value
-///     from the start without growth caps), not above the last δ the phase
-///     used and not below δ_0; the phase then ends again once ‖R‖ falls by
-///     switch_ratio from where it resumed, or δ reaches maximum_step.
+///     from the start without growth caps), capped at the last δ the phase
+///     used, but never below δ_0 (δ_0 wins when the last δ used was smaller);
+///     the phase then ends again once ‖R‖ falls by switch_ratio from where it
+///     resumed, or δ reaches maximum_step.
 
 #include <algorithm>
 #include <cmath>
@@ -71,13 +73,13 @@ struct pseudo_transient_settings {
   /// ‖R‖ by more than this factor; a δ too large for the transient shows up
   /// this way (common practice).
   double maximum_residual_growth = 10.0;
-  /// Switch to plain Newton with line search once ‖R‖ <= switch_ratio · ‖R(u0)‖ (0 = never);
+  /// Switch to full Newton steps once ‖R‖ <= switch_ratio · ‖R(u0)‖ (0 = never);
   /// after a return to pseudo-time stepping, relative to ‖R‖ where it resumed.
   double switch_ratio = 1e-3;
   /// In the pseudo-transient phase, a linear solve that stops short of its
   /// forcing term with ‖r‖/‖R‖ above this gives no usable direction: δ
   /// shrinks and the step is retried (1: only when GMRES made no progress).
-  double largest_useful_linear_residual = 0.99;
+  double maximum_useful_relative_linear_residual = 0.99;
   /// How often a failing Newton phase goes back to pseudo-time stepping
   /// instead of stopping (0 = never: the solve stops with the failure).
   int maximum_returns_to_pseudo_time = 3;
@@ -100,8 +102,9 @@ struct pseudo_transient_settings {
       detail::throw_invalid_setting(p + ".maximum_residual_growth", ">= 1", maximum_residual_growth);
     }
     detail::require_closed_interval(p + ".switch_ratio", switch_ratio, 0.0, 1.0);
-    if (!(largest_useful_linear_residual > 0.0 && largest_useful_linear_residual <= 1.0)) {
-      detail::throw_invalid_setting(p + ".largest_useful_linear_residual", "in (0, 1]", largest_useful_linear_residual);
+    if (!(maximum_useful_relative_linear_residual > 0.0 && maximum_useful_relative_linear_residual <= 1.0)) {
+      detail::throw_invalid_setting(p + ".maximum_useful_relative_linear_residual", "in (0, 1]",
+                                    maximum_useful_relative_linear_residual);
     }
     detail::require_at_least(p + ".maximum_returns_to_pseudo_time", maximum_returns_to_pseudo_time, 0);
   }
@@ -179,7 +182,8 @@ inline bool pseudo_transient_phase_ends(const pseudo_transient_settings& setting
 }
 
 /// δ on returning to pseudo-time stepping at ‖R(u)‖ = residual_norm:
-/// δ_0‖R(u0)‖/‖R(u)‖, at most the last δ the phase used, at least δ_0.
+/// δ_0‖R(u0)‖/‖R(u)‖, capped at the last δ the phase used, then raised to
+/// δ_0 if below it (δ_0 wins when the last δ used was smaller).
 inline double pseudo_time_step_on_return(const pseudo_transient_settings& settings, double last_used_step,
                                          double initial_residual_norm, double residual_norm) {
   double step =

@@ -34,7 +34,7 @@ class field_residual_tracker {
   void start(const Problem& problem, Eigen::Index unknowns, std::size_t history_capacity,
              std::vector<field_residual_record>& records) {
     m_layout = nullptr;
-    m_best_step = 0;
+    m_entries = m_current_entry = m_best_entry = 0;
     if constexpr (has_field_layout_v<Problem>) {
       static_assert(std::is_same_v<Vector, Eigen::VectorXd>,
                     "nkit: field_layout() is supported on the serial Eigen vector space only");
@@ -74,30 +74,31 @@ class field_residual_tracker {
     }
   }
 
-  /// ‖R_f‖ after a Newton step (one history entry per step record).
+  /// ‖R_f‖ at the state a step record ends at (one history entry per step
+  /// record, failed steps included: those end at the unchanged state).
+  /// `accepted`: the step moved u; `best`: its iterate is the best so far.
   template <class Vector>
-  void record_step(const Vector& residual, std::vector<field_residual_record>& records) {
+  void record_step(const Vector& residual, std::vector<field_residual_record>& records, bool accepted, bool best) {
     if constexpr (std::is_same_v<Vector, Eigen::VectorXd>) {
       if (m_layout == nullptr) return;
       field_residual_norms(*m_layout, residual, m_norms);
       for (std::size_t f = 0; f < m_norms.size(); ++f) records[f].history.push_back(m_norms[f]);
+      ++m_entries;
+      if (accepted) m_current_entry = m_entries;
+      if (best) m_best_entry = m_entries;
     } else {
-      static_cast<void>(residual);
-      static_cast<void>(records);
+      static_cast<void>(residual), static_cast<void>(records), static_cast<void>(accepted), static_cast<void>(best);
     }
   }
 
-  /// The step whose iterate is the best so far (0: u0).
-  void new_best(int step) { m_best_step = step; }
-
-  /// Final values: those of the returned u, which is the last step's iterate,
-  /// or the best one when `returned_best` (a solve that did not converge).
-  void finish(int last_step, bool returned_best, std::vector<field_residual_record>& records) const {
-    const int step = returned_best ? m_best_step : last_step;
+  /// Final values: those of the returned u, which is the last accepted
+  /// step's iterate, or the best one when `returned_best` (a solve that did
+  /// not converge).
+  void finish(bool returned_best, std::vector<field_residual_record>& records) const {
+    const std::size_t entry = returned_best ? m_best_entry : m_current_entry;
     for (field_residual_record& field : records) {
-      field.final_residual_norm = step == 0 || static_cast<std::size_t>(step) > field.history.size()
-                                      ? field.initial_residual_norm
-                                      : field.history[static_cast<std::size_t>(step) - 1];
+      field.final_residual_norm =
+          entry == 0 || entry > field.history.size() ? field.initial_residual_norm : field.history[entry - 1];
     }
   }
 
@@ -111,7 +112,9 @@ class field_residual_tracker {
  private:
   const field_layout* m_layout = nullptr;  // the problem's layout during a solve, or null
   std::vector<double> m_norms;             // ‖R_f‖ scratch, one per field
-  int m_best_step = 0;                     // accepted step of the best iterate (0: u0)
+  std::size_t m_entries = 0;               // history entries recorded in this solve
+  std::size_t m_current_entry = 0;         // entry (1-based) of the last accepted step's iterate (0: u0)
+  std::size_t m_best_entry = 0;            // entry (1-based) of the best iterate (0: u0)
 };
 
 }  // namespace nkit

@@ -343,7 +343,7 @@ class newton_krylov_solver {
       m_norm = m_best_norm;
       m_best_is_current = true;
     }
-    m_field_tracker.finish(m_report.newton_steps, returned_best, m_report.field_residuals);
+    m_field_tracker.finish(returned_best, m_report.field_residuals);
     if (m_state.size() == u.size()) m_access.write_state(m_state, u);
     m_report.final_residual_norm = m_norm;
     m_report.wall_seconds = m_ledger.elapsed_seconds();
@@ -380,16 +380,13 @@ class newton_krylov_solver {
 
     const detail::step_inputs<Space> in{m_access, m_ledger, m_state, m_residual, m_step, m_norm, record};
     std::optional<stop_reason> early;
+    bool phase_ended = false;
     if (m_steps.pseudo_transient()) {
-      bool phase_ended = false;
       early = m_steps.pseudo_time_step(
           problem, in, [&] { return newton_direction(problem, monitor, record); }, m_linear.schedule(), phase_ended);
-      if (phase_ended) {  // Newton with line search from here on
+      if (phase_ended) {  // full Newton steps from here on
         m_forcing.reset();
         m_linear.schedule().request_rebuild();  // the preconditioner holds the pseudo-time shift
-        // The stagnation window counts Newton-phase steps only (the pseudo-time march may raise ‖R‖ for long).
-        m_stagnation_reference = m_norm;
-        m_steps_since_best = 0;
       }
     } else {
       early = newton_direction(problem, monitor, record);
@@ -425,13 +422,14 @@ class newton_krylov_solver {
     std::swap(m_state, m_steps.trial_state());
     std::swap(m_residual, m_steps.trial_residual());
     m_norm = new_norm;
-    if (new_norm < m_best_norm) {
+    const bool new_best = new_norm < m_best_norm;
+    if (new_best) {
       m_best_norm = new_norm;
       m_best_is_current = true;
-      m_field_tracker.new_best(record.step);
     }
     // Stagnation: no new best below stagnation_factor times the last reference.
-    if (new_norm < m_settings.stagnation_factor * m_stagnation_reference) {
+    // The window counts Newton-phase steps only: it starts afresh where the pseudo-transient phase ends.
+    if (phase_ended || new_norm < m_settings.stagnation_factor * m_stagnation_reference) {
       m_stagnation_reference = new_norm;
       m_steps_since_best = 0;
     } else {
@@ -441,7 +439,7 @@ class newton_krylov_solver {
     if (record.step_shortened_by_bounds) ++m_report.steps_shortened_by_bounds;
     m_access.write_state(m_state, u);
 
-    append_to_history(record, new_norm);
+    append_to_history(record, new_norm, new_best);
     m_report.final_residual_norm = new_norm;
     const monitor_decision decision = detail::notify_newton_step_timed(monitor, record, m_ledger);
     m_ledger.trace_newton_step(record, step_scope.start());
@@ -513,12 +511,13 @@ class newton_krylov_solver {
     record.relative_linear_residual = m_achieved_eta;
     // Recycling GMRES may converge on the recycled subspace alone, with no
     // Arnoldi step: that direction is as good as any.
-    if ((linear.iterations == 0 && !linear.converged()) || !(m_achieved_eta < 1.0)) return no_direction_cause();
+    const bool none = (linear.iterations == 0 && !linear.converged()) || !(m_achieved_eta < 1.0);
     // In pseudo-time stepping too little progress counts as none: the step control retries a smaller δ.
-    if (m_steps.pseudo_transient() && !linear.converged() &&
-        m_achieved_eta > m_settings.pseudo_transient.largest_useful_linear_residual) {
-      return stop_reason::no_newton_direction;
-    }
+    const bool too_little = m_steps.pseudo_transient() && !linear.converged() &&
+                            m_achieved_eta > m_settings.pseudo_transient.maximum_useful_relative_linear_residual;
+    if ((none || too_little) && m_linear_budget_spent) return stop_reason::linear_iteration_budget_spent;
+    if (none) return no_direction_cause();
+    if (too_little) return stop_reason::no_newton_direction;
     m_forcing.record(eta, m_norm, linear.final_residual_norm);
     return std::nullopt;
   }
@@ -540,19 +539,19 @@ class newton_krylov_solver {
   void record_failed_step(newton_step_record& record) {
     if (!(record.forcing_term > 0.0)) return;
     record.accepted = false;
-    append_to_history(record, m_norm);
+    append_to_history(record, m_norm, false);
   }
 
   /// Completes `record` with the residual norm it ends at and the counters
   /// so far, and appends it to the report's history.
-  void append_to_history(newton_step_record& record, double residual_norm) {
+  void append_to_history(newton_step_record& record, double residual_norm, bool new_best) {
     record.residual_norm = residual_norm;
     record.relative_residual_norm =
         m_report.initial_residual_norm > 0.0 ? residual_norm / m_report.initial_residual_norm : 0.0;
     record.elapsed_seconds = m_ledger.elapsed_seconds();
     record.residual_evaluations = m_report.residual_evaluations;
     m_report.history.push_back(record);
-    m_field_tracker.record_step(m_residual, m_report.field_residuals);
+    m_field_tracker.record_step(m_residual, m_report.field_residuals, record.accepted, new_best);
   }
 
   // ---- members ------------------------------------------------------------------------

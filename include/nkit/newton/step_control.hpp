@@ -259,9 +259,9 @@ class newton_step_control {
           }
           return tried;
         });
-    if (result.abandoned) return abandoned;
     in.record.rejected_trials = result.rejected_trials;
     report.rejected_trials += result.rejected_trials;
+    if (result.abandoned) return abandoned;
     if (!result.accepted) return result.last_without_direction ? abandoned : stop_reason::no_acceptable_step;
     in.record.pseudo_time_step = result.used_step;
     m_last_used_pseudo_time_step = result.used_step;
@@ -272,7 +272,7 @@ class newton_step_control {
     const double phase_start_norm = m_phase_start_norm >= 0.0 ? m_phase_start_norm : report.initial_residual_norm;
     if (pseudo_transient_phase_ends(m_pseudo_transient_settings, result.residual_norm, phase_start_norm,
                                     m_pseudo_time_step)) {
-      m_pseudo_transient = false;  // Newton with line search from here on
+      m_pseudo_transient = false;  // full Newton steps from here on (globalization/pseudo_transient.hpp)
       in.access.set_diagonal_shift(nullptr);
       phase_ended = true;
     }

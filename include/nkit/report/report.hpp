@@ -85,7 +85,7 @@ struct phase_calls {
 /// accepted = false; its norms are those of the unchanged state.
 struct newton_step_record {
   int step = 0;                           ///< 1-based index of the step
-  bool accepted = true;                   ///< false: the step failed and the solve stopped
+  bool accepted = true;                   ///< false: the step failed (the solve stopped or went back to pseudo-time)
   double residual_norm = 0.0;             ///< ‖R(u_k)‖ after the step
   double relative_residual_norm = 0.0;    ///< ‖R(u_k)‖ / ‖R(u0)‖
   double forcing_term = 0.0;              ///< η requested from GMRES
