@@ -313,6 +313,57 @@ TEST_CASE("returns to pseudo-time stepping stop at their maximum, and only pseud
   CHECK(trust.report.newton_steps == 0);
 }
 
+namespace {
+/// R(u) = u³ − 2u + 2 in one unknown (a textbook cubic for Newton's method; our own test).
+struct scalar_cubic {
+  template <class Scalar>
+  void operator()(const Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& u,
+                  Eigen::Matrix<Scalar, Eigen::Dynamic, 1>& r) const {
+    r.resize(1);
+    r[0] = u[0] * u[0] * u[0] - 2.0 * u[0] + 2.0;
+  }
+};
+}  // namespace
+
+TEST_CASE("a stagnating Newton phase goes back to pseudo-time stepping", "[globalization][pseudo_transient]") {
+  // R(u) = u³ − 2u + 2 from u0 = 3. |R| has a local minimum at u = √(2/3) (R = 0.911, not a root);
+  // the only root is u* = −1.7693. Newton's map N(u) = u − R/R' has the 2-cycle N(0) = 1, N(1) = 0
+  // (direct arithmetic), and full Newton steps started near the minimum wander there. switch_ratio
+  // 0.045 ends the pseudo-transient phase once |R| <= 0.045·23 = 1.035, which happens on the way
+  // down near u = 1, before the minimum is passed: the Newton phase that follows makes no 1 %
+  // progress within stagnation_window = 10 steps.
+  auto problem = nkit::with_automatic_differentiation(scalar_cubic{});
+  nkit::newton_settings settings;
+  settings.globalization = nkit::globalization_strategy::pseudo_transient;
+  settings.pseudo_transient.initial_step = 0.1;
+  settings.pseudo_transient.switch_ratio = 0.045;
+  settings.newton_step_budget = 100;
+
+  settings.pseudo_transient.maximum_returns_to_pseudo_time = 0;
+  nkit::newton_krylov_solver<> stopping(settings);
+  Eigen::VectorXd u = Eigen::VectorXd::Constant(1, 3.0);
+  const nkit::solve_report stopped = stopping.solve(problem, u);
+  CHECK(stopped.reason == nkit::stop_reason::residual_stagnated);
+  // u holds the best iterate, near the local minimum of |R| (|R| >= 0.911 everywhere above the root).
+  Eigen::VectorXd r(1);
+  problem(u, r);
+  CHECK_THAT(std::abs(r[0]), Catch::Matchers::WithinRel(stopped.final_residual_norm, 1e-14));
+  CHECK(stopped.final_residual_norm >= 0.911);
+  CHECK(u[0] > 0.0);
+
+  settings.pseudo_transient.maximum_returns_to_pseudo_time = 3;
+  nkit::newton_krylov_solver<> returning(settings);
+  u.setConstant(3.0);
+  const nkit::solve_report converged = returning.solve(problem, u);
+  REQUIRE(converged.converged());
+  CHECK(converged.returns_to_pseudo_time == 1);
+  // The root by Cardano's formula for t³ + p t + q = 0 (p = −2, q = 2; one real root as
+  // (q/2)² + (p/3)³ = 19/27 > 0). The solve stops at |R| <= 1e-8·|R(u0)| = 2.3e-7 (default
+  // relative_tolerance), so |u − u*| <= 2.3e-7/|R'(u*)| = 3.2e-8 (R'(u*) = 3u*² − 2 = 7.39).
+  const double root = std::cbrt(-1.0 + std::sqrt(19.0 / 27.0)) + std::cbrt(-1.0 - std::sqrt(19.0 / 27.0));
+  CHECK_THAT(u[0], Catch::Matchers::WithinAbs(root, 1e-7));
+}
+
 TEST_CASE("a pseudo-time step whose GMRES stops short of a usable residual is retried",
           "[globalization][pseudo_transient]") {
   // One Arnoldi step per solve and a forcing term it cannot meet. One GMRES
